@@ -1,0 +1,99 @@
+package predict
+
+import (
+	"math"
+	"time"
+)
+
+// Target is a temperature a channel is expected to reach.
+//
+// Exactly one of Celsius or Within is meaningful: a Celsius target is a fixed
+// temperature; a Within target (Celsius is NaN) is reached when the temperature comes
+// within Within °C of the temperature the channel settles toward (the fitted ambient).
+type Target struct {
+	// Name is the target's name, unique per channel (config `targets[].name`).
+	Name string
+	// Celsius is the fixed target temperature, or NaN for a Within target.
+	Celsius float64
+	// Within is the band half-width in °C around the settling temperature, or 0.
+	Within float64
+	// Hold is how long the temperature must stay inside the band (0: no hold).
+	Hold time.Duration
+	// Handling marks a target at which a person may touch the specimen; outputs that
+	// report it reached show the handling cautions.
+	Handling bool
+}
+
+// IsWithin reports whether the target is relative to the settling temperature.
+func (t Target) IsWithin() bool { return math.IsNaN(t.Celsius) }
+
+// State is the forecast state of one target.
+type State string
+
+// The target states.
+const (
+	// StatePredicted has a predicted crossing time with bounds.
+	StatePredicted State = "predicted"
+	// StateReached: the temperature has crossed the target (At is the observed time).
+	StateReached State = "reached"
+	// StateUnreachable: the fitted curve never reaches the target (e.g. it lies beyond
+	// the ambient the specimen settles toward).
+	StateUnreachable State = "unreachable"
+	// StateInsufficient: not enough data for a forecast yet.
+	StateInsufficient State = "insufficient"
+	// StateHolding: inside the band, waiting out the hold time.
+	StateHolding State = "holding"
+)
+
+// Param is one fitted parameter with its standard error (NaN when unknown).
+type Param struct {
+	Name   string  `json:"name"`
+	Value  float64 `json:"value"`
+	StdErr float64 `json:"stderr"`
+	Unit   string  `json:"unit,omitempty"`
+}
+
+// TargetForecast is the forecast for one target.
+type TargetForecast struct {
+	// Target is the target this forecast is for.
+	Target Target
+	// Celsius is the resolved target temperature (for a Within target, the band edge
+	// on the specimen's side of the settling temperature).
+	Celsius float64
+	// State is the forecast state.
+	State State
+	// At is the predicted crossing (StatePredicted, StateHolding: the hold's end) or
+	// the observed one (StateReached); zero otherwise.
+	At time.Time
+	// Earliest and Latest bound At (the interval's lower and upper ends); zero when
+	// State is not StatePredicted or StateHolding.
+	Earliest, Latest time.Time
+}
+
+// Forecast is a channel's fitted model and the forecasts for its targets.
+type Forecast struct {
+	// Model names the fitted model, e.g. "lumped".
+	Model string
+	// Params are the fitted parameters with standard errors.
+	Params []Param
+	// TimeConstant is the fitted time constant (0 when the model has none).
+	TimeConstant time.Duration
+	// Ambient is the temperature the channel settles toward, °C.
+	Ambient float64
+	// RMSE is the root-mean-square residual of the fit, °C.
+	RMSE float64
+	// Biot is the Biot number where the specimen is known, else NaN.
+	Biot float64
+	// Points is how many readings the fit used.
+	Points int
+	// SegmentStart is the time of the first reading of the fitted segment.
+	SegmentStart time.Time
+	// FittedAt is the time of the last reading the fit used.
+	FittedAt time.Time
+	// Notes explain the model choice and any validity concern, one sentence each.
+	Notes []string
+	// Targets holds one forecast per configured target, in configuration order.
+	Targets []TargetForecast
+	// Curve evaluates the fitted model at a time (°C); nil when there is no fit.
+	Curve func(time.Time) float64 `json:"-"`
+}
