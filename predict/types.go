@@ -92,6 +92,9 @@ type Forecast struct {
 	FittedAt time.Time
 	// Notes explain the model choice and any validity concern, one sentence each.
 	Notes []string
+	// OutOfRange is true when the model is used outside its validity range (for example
+	// a lumped fit where the Biot number is 0.1 or more); Notes say why.
+	OutOfRange bool
 	// Targets holds one forecast per configured target, in configuration order.
 	Targets []TargetForecast
 	// Curve evaluates the fitted model at a time (°C); nil when there is no fit.
