@@ -1,0 +1,89 @@
+package surface
+
+import "math"
+
+// Physical constants.
+const (
+	// StandardGravity is g_n, m/s² (CGPM 1901, exact by definition).
+	StandardGravity = 9.80665
+	// ZeroCelsius is 0 °C in kelvin.
+	ZeroCelsius = 273.15
+)
+
+// Rayleigh returns the Rayleigh number Ra = g·β·|Ts − T∞|·Lc³/(ν·α) and the Prandtl
+// number of air at the film temperature Tf = (Ts + T∞)/2, with β = 1/Tf (ideal gas).
+// lengthM is the geometry's characteristic length (plate height, or diameter); the
+// formula is the same for every geometry. Temperatures are in °C. Ra is 0 when
+// Ts = T∞ and NaN when lengthM is not positive.
+func Rayleigh(g Geometry, lengthM, surfaceC, ambientC float64) (Ra, Pr float64) {
+	_ = g // the formula does not depend on shape; g names how lengthM is read.
+	filmK := filmKelvin(surfaceC, ambientC)
+	p := Air(filmK)
+	return rayleigh(p, filmK, lengthM, math.Abs(surfaceC-ambientC)), p.Pr
+}
+
+// rayleigh computes Ra from given air properties at filmK kelvin, a characteristic
+// length in metres and a temperature difference deltaK ≥ 0 in kelvin.
+func rayleigh(p AirProps, filmK, lengthM, deltaK float64) float64 {
+	if !(lengthM > 0) {
+		return math.NaN()
+	}
+	return StandardGravity * deltaK * lengthM * lengthM * lengthM / (filmK * p.Nu * p.Alpha)
+}
+
+// filmKelvin is the film temperature in kelvin from two temperatures in °C.
+func filmKelvin(surfaceC, ambientC float64) float64 {
+	return (surfaceC+ambientC)/2 + ZeroCelsius
+}
+
+// Nusselt returns the average Nusselt number Nu = h·Lc/k of an isothermal body in free
+// convection, from the Rayleigh number Ra ≥ 0 and Prandtl number Pr > 0:
+//
+//   - VerticalPlate: Churchill–Chu (1975), Incropera Eq. 9.26, all Ra:
+//     Nu = {0.825 + 0.387·Ra^(1/6) / [1 + (0.492/Pr)^(9/16)]^(8/27)}²;
+//   - HorizontalCylinder: Churchill–Chu (1975), Incropera Eq. 9.34, Ra ≤ 1e12:
+//     Nu = {0.60 + 0.387·Ra^(1/6) / [1 + (0.559/Pr)^(9/16)]^(8/27)}²;
+//   - Sphere: Churchill (1983), Incropera Eq. 9.35, Ra ≤ 1e11, Pr ≥ 0.7:
+//     Nu = 2 + 0.589·Ra^(1/4) / [1 + (0.469/Pr)^(9/16)]^(4/9).
+//
+// It does not check the ranges (Validity does). It returns NaN for an unknown geometry,
+// a negative Ra or a non-positive Pr.
+func Nusselt(g Geometry, Ra, Pr float64) float64 {
+	if !(Ra >= 0) || !(Pr > 0) {
+		return math.NaN()
+	}
+	switch g {
+	case VerticalPlate:
+		return churchillChu(0.825, 0.492, Ra, Pr)
+	case HorizontalCylinder:
+		return churchillChu(0.60, 0.559, Ra, Pr)
+	case Sphere:
+		return 2 + 0.589*math.Sqrt(math.Sqrt(Ra))/math.Pow(1+math.Pow(0.469/Pr, 9.0/16), 4.0/9)
+	}
+	return math.NaN()
+}
+
+// churchillChu is the common form of the plate and cylinder correlations:
+// {c0 + 0.387·Ra^(1/6) / [1 + (prRef/Pr)^(9/16)]^(8/27)}².
+func churchillChu(c0, prRef, Ra, Pr float64) float64 {
+	root := c0 + 0.387*math.Cbrt(math.Sqrt(Ra))/math.Pow(1+math.Pow(prRef/Pr, 9.0/16), 8.0/27)
+	return root * root
+}
+
+// Convection returns the natural-convection coefficient h = Nu·k/Lc in W/(m²·K) of a
+// body of the given geometry and characteristic length (metres) at surfaceC in still
+// air at ambientC (both °C). Properties are taken at the film temperature and β = 1/Tf.
+// Heating and cooling are symmetric (|ΔT| is used). It returns 0 when ΔT = 0: there is
+// then no flow and no flux (the limit as ΔT → 0 is not 0 but Nu(0)·k/Lc, with
+// Nu(0) = 0.681, 0.36 and 2 for plate, cylinder and sphere; q = h·ΔT vanishes either
+// way). It returns NaN for a non-positive length or an unknown geometry.
+func Convection(g Geometry, lengthM, surfaceC, ambientC float64) float64 {
+	deltaK := math.Abs(surfaceC - ambientC)
+	if deltaK == 0 && g.valid() && lengthM > 0 {
+		return 0
+	}
+	filmK := filmKelvin(surfaceC, ambientC)
+	p := Air(filmK)
+	Ra := rayleigh(p, filmK, lengthM, deltaK)
+	return Nusselt(g, Ra, p.Pr) * p.K / lengthM
+}
