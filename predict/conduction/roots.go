@@ -49,8 +49,12 @@ func characteristic(s Shape, bi, z float64) float64 {
 	case Cylinder:
 		return z*math.J1(z) - bi*math.J0(z)
 	case Sphere:
-		// (z·cos z + (Bi−1)·sin z)/z, finite at z = 0 where it equals Bi.
-		return math.Cos(z) + (bi-1)*sinc(z)
+		// (z·cos z + (Bi−1)·sin z)/z = Bi·sin z/z − (sin z − z·cos z)/z, written so
+		// that small roots (small Bi) suffer no cancellation; it equals Bi at z = 0.
+		if z == 0 {
+			return bi
+		}
+		return bi*sinc(z) - sinMinusZCos(z)/z
 	}
 	return z*math.Sin(z) - bi*math.Cos(z)
 }
