@@ -1,0 +1,222 @@
+package config
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"reflect"
+	"regexp"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/go-viper/mapstructure/v2"
+)
+
+var durationType = reflect.TypeFor[time.Duration]()
+
+// checkValue is the decode hook: it checks that a YAML value fits the Go type it is
+// decoded into and says in plain words what was wanted, and it parses durations.
+// mapstructure calls it for every value, with to being the destination.
+func checkValue(from, to reflect.Value) (any, error) {
+	data := from.Interface()
+	if to.Type() == durationType {
+		return parseDuration(data)
+	}
+	switch to.Kind() {
+	case reflect.String:
+		if _, ok := data.(string); !ok {
+			return nil, wantGot("a string (quote it)", data)
+		}
+	case reflect.Bool:
+		if _, ok := data.(bool); !ok {
+			return nil, wantGot("true or false", data)
+		}
+	case reflect.Int:
+		return wholeNumber(data)
+	case reflect.Float64:
+		if !isNumber(data) {
+			return nil, wantGot("a number", data)
+		}
+	case reflect.Slice:
+		if _, ok := data.([]any); !ok {
+			return nil, wantGot("a list", data)
+		}
+	case reflect.Struct:
+		if _, ok := data.(map[string]any); !ok {
+			return nil, wantGot("a mapping of keys", data)
+		}
+	}
+	return data, nil
+}
+
+// parseDuration accepts Go duration strings ("90m", "2h", "1h30m"). A bare number is
+// refused: mapstructure would read 7200 as 7200 nanoseconds.
+func parseDuration(data any) (any, error) {
+	s, ok := data.(string)
+	if !ok {
+		return nil, wantGot(`a duration with a unit, such as "90m" or "2h"`, data)
+	}
+	d, err := time.ParseDuration(s)
+	if err != nil {
+		return nil, fmt.Errorf(`invalid duration %q: want a number and a unit (s, m, h), such as "90m" or "2h"`, s)
+	}
+	return d, nil
+}
+
+func wholeNumber(data any) (any, error) {
+	switch n := data.(type) {
+	case int, int64, uint64:
+		return n, nil
+	case float64:
+		if n == math.Trunc(n) && math.Abs(n) < 1<<53 {
+			return int(n), nil
+		}
+	}
+	return nil, wantGot("a whole number", data)
+}
+
+func isNumber(data any) bool {
+	switch data.(type) {
+	case int, int64, uint64, float64:
+		return true
+	}
+	return false
+}
+
+func wantGot(want string, data any) error {
+	return fmt.Errorf("want %s, got %s", want, describe(data))
+}
+
+// describe names a YAML value for a message: its text for scalars, its shape for
+// lists and mappings.
+func describe(data any) string {
+	switch v := data.(type) {
+	case string:
+		return strconv.Quote(v)
+	case []any:
+		return "a list"
+	case map[string]any, map[any]any:
+		return "a mapping"
+	case float64:
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	return fmt.Sprint(data)
+}
+
+// decodeProblems turns the errors of viper's UnmarshalExact (mapstructure errors,
+// joined) into problems with our key paths. mapstructure names list items and nested
+// keys as "loggers[0].line.columns[2]" already; an unknown key arrives as
+// "'loggers[0]' has invalid keys: baudrate, speed" (go-viper/mapstructure v2.4.0,
+// decodeStructFromMap), which becomes one problem per key.
+func decodeProblems(err error) []*Problem {
+	var out []*Problem
+	for _, leaf := range leaves(err) {
+		var de *mapstructure.DecodeError
+		if !errors.As(leaf, &de) {
+			out = append(out, &Problem{Msg: leaf.Error()})
+			continue
+		}
+		msg := de.Unwrap().Error()
+		if keys, ok := strings.CutPrefix(msg, "has invalid keys: "); ok {
+			out = append(out, unknownKeys(de.Name(), strings.Split(keys, ", "))...)
+			continue
+		}
+		out = append(out, &Problem{Key: de.Name(), Msg: msg})
+	}
+	return out
+}
+
+func leaves(err error) []error {
+	if joined, ok := err.(interface{ Unwrap() []error }); ok {
+		var out []error
+		for _, e := range joined.Unwrap() {
+			out = append(out, leaves(e)...)
+		}
+		return out
+	}
+	return []error{err}
+}
+
+func unknownKeys(parent string, keys []string) []*Problem {
+	known := strings.Join(knownKeys(parent), ", ")
+	out := make([]*Problem, len(keys))
+	for i, k := range keys {
+		path := k
+		if parent != "" {
+			path = parent + "." + k
+		}
+		out[i] = &Problem{Msg: fmt.Sprintf("unknown key %q (known keys here: %s)", path, known)}
+	}
+	return out
+}
+
+var indexPart = regexp.MustCompile(`\[\d+\]`)
+
+// knownKeys lists the keys allowed at a key path such as "loggers[0].line", read
+// from the mapstructure tags of the schema.
+func knownKeys(path string) []string {
+	t := reflect.TypeFor[Config]()
+	if path != "" {
+		for _, part := range strings.Split(indexPart.ReplaceAllString(path, ""), ".") {
+			f, ok := fieldByTag(t, part)
+			if !ok {
+				return nil
+			}
+			t = f.Type
+			for t.Kind() == reflect.Slice || t.Kind() == reflect.Pointer {
+				t = t.Elem()
+			}
+		}
+	}
+	if t.Kind() != reflect.Struct {
+		return nil
+	}
+	var keys []string
+	for i := range t.NumField() {
+		keys = append(keys, t.Field(i).Tag.Get("mapstructure"))
+	}
+	sort.Strings(keys)
+	return keys
+}
+
+func fieldByTag(t reflect.Type, tag string) (reflect.StructField, bool) {
+	if t.Kind() != reflect.Struct {
+		return reflect.StructField{}, false
+	}
+	for i := range t.NumField() {
+		if t.Field(i).Tag.Get("mapstructure") == tag {
+			return t.Field(i), true
+		}
+	}
+	return reflect.StructField{}, false
+}
+
+// yamlLine matches one located message of go.yaml.in/yaml/v3: "yaml: line 3: …" for
+// syntax errors, "  line 3: …" inside "yaml: unmarshal errors:".
+var yamlLine = regexp.MustCompile(`line (\d+): (.*)`)
+
+// yamlProblems turns a YAML parser error into problems with line numbers.
+func yamlProblems(err error) []*Problem {
+	var out []*Problem
+	for _, text := range strings.Split(err.Error(), "\n") {
+		text = strings.TrimSpace(strings.TrimPrefix(text, "yaml: "))
+		if text == "" || text == "unmarshal errors:" {
+			continue
+		}
+		p := &Problem{Msg: text}
+		if m := yamlLine.FindStringSubmatch(text); m != nil {
+			p.Line, _ = strconv.Atoi(m[1])
+			p.Msg = m[2]
+		}
+		if strings.Contains(p.Msg, "into map[string]interface {}") {
+			p.Msg = "the file must be a mapping of keys (listen, data_dir, loggers, channels)"
+		}
+		out = append(out, p)
+	}
+	if len(out) == 0 {
+		out = append(out, &Problem{Msg: err.Error()})
+	}
+	return out
+}

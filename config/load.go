@@ -1,0 +1,186 @@
+package config
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"sync/atomic"
+
+	"github.com/go-viper/mapstructure/v2"
+	"github.com/spf13/viper"
+)
+
+// Defaults filled in for keys the file leaves out.
+const (
+	// DefaultListen is the HTTP listen address. Loopback, so that a first run exposes
+	// nothing to the network; set listen (or SETTLE_LISTEN) to ":9464" to let a
+	// Prometheus server on another host scrape it.
+	//
+	// Port 9464 was chosen by the team as outside the ports of the common Prometheus
+	// exporters (node 9100, blackbox 9115, …). Beware: 9464 is also the default port of
+	// the OpenTelemetry Prometheus exporter (OTEL_EXPORTER_PROMETHEUS_PORT; see the
+	// opentelemetry-python and @opentelemetry/exporter-prometheus documentation), so a
+	// host that runs an OpenTelemetry SDK with that exporter on its defaults collides
+	// with settle. Change listen on such a host.
+	DefaultListen = "127.0.0.1:9464"
+	// DefaultDataDir holds the journal when data_dir is not given. It is relative to
+	// the working directory, so that a first try in a shell works without root and
+	// leaves its data where it was started. A service should set an absolute path: a
+	// systemd unit with StateDirectory=settle sets SETTLE_DATA_DIR=/var/lib/settle.
+	DefaultDataDir = "settle-data"
+	// DefaultBaud is the line speed of a logger without baud: 9600 baud is the usual
+	// factory setting of serial instruments (common practice).
+	DefaultBaud = 9600
+	// DefaultFormat is the driver of a logger without format.
+	DefaultFormat = "line"
+	// DefaultSeparator splits the fields of a text line when line.separator is absent.
+	DefaultSeparator = ","
+)
+
+// Environment variables that override the file. Only these two exist: viper needs an
+// explicit bind for every key, and list items (loggers, channels) have no stable name
+// to bind.
+const (
+	// EnvListen overrides listen.
+	EnvListen = "SETTLE_LISTEN"
+	// EnvDataDir overrides data_dir.
+	EnvDataDir = "SETTLE_DATA_DIR"
+)
+
+// MaxFileSize bounds a configuration file; a larger file is refused before parsing.
+const MaxFileSize = 1 << 20
+
+// Load reads the YAML file at path, fills in defaults, applies the SETTLE_LISTEN and
+// SETTLE_DATA_DIR environment overrides, decodes with unknown keys rejected and
+// validates. Every problem names the file (as path was given) and the key path or
+// line; all problems are returned together, joined with errors.Join.
+func Load(path string) (*Config, error) {
+	data, err := readFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return Parse(path, data)
+}
+
+// Parse is Load for a configuration already in memory; name stands for the file name
+// in messages. Environment overrides apply here too.
+func Parse(name string, yaml []byte) (*Config, error) {
+	v, problems := readYAML(yaml)
+	if problems != nil {
+		return nil, inFile(name, problems)
+	}
+	var c Config
+	if err := v.UnmarshalExact(&c, decoderOptions); err != nil {
+		return nil, inFile(name, decodeProblems(err))
+	}
+	if problems := c.validate(); len(problems) > 0 {
+		return nil, inFile(name, problems)
+	}
+	return &c, nil
+}
+
+// Reload loads the file at path and, only when it is valid, stores it in current.
+// On any problem current keeps the configuration it had and the problems are
+// returned. Readers use current.Load() and never see a half-made value.
+func Reload(path string, current *atomic.Pointer[Config]) error {
+	if current == nil {
+		return fmt.Errorf("reload %s: no configuration holder", path)
+	}
+	c, err := Load(path)
+	if err != nil {
+		return err
+	}
+	current.Store(c)
+	return nil
+}
+
+func readFile(path string) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("config: %w", err)
+	}
+	defer f.Close()
+	data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
+	if err != nil {
+		return nil, fmt.Errorf("config: read %s: %w", path, err)
+	}
+	if len(data) > MaxFileSize {
+		return nil, &Problem{File: path, Msg: fmt.Sprintf("larger than %d bytes; is this a settle configuration?", MaxFileSize)}
+	}
+	return data, nil
+}
+
+// readYAML parses the YAML into a fresh viper with defaults and environment binds.
+func readYAML(data []byte) (*viper.Viper, []*Problem) {
+	v := viper.New()
+	v.SetConfigType("yaml")
+	v.SetDefault("listen", DefaultListen)
+	v.SetDefault("data_dir", DefaultDataDir)
+	// BindEnv only fails without a key name; these calls always have one.
+	_ = v.BindEnv("listen", EnvListen)
+	_ = v.BindEnv("data_dir", EnvDataDir)
+	if err := v.ReadConfig(bytes.NewReader(data)); err != nil {
+		var pe viper.ConfigParseError
+		if errors.As(err, &pe) {
+			return nil, yamlProblems(pe.Unwrap())
+		}
+		return nil, []*Problem{{Msg: err.Error()}}
+	}
+	fillLoggerDefaults(v)
+	return v, nil
+}
+
+// fillLoggerDefaults adds baud, format and line.separator to every logger that lacks
+// them. viper's defaults cannot reach into list items, and filling them in before
+// decoding (rather than after) keeps an explicit "baud: 0" an error.
+func fillLoggerDefaults(v *viper.Viper) {
+	list, ok := v.Get("loggers").([]any)
+	if !ok {
+		return // absent, or the wrong type: the decoder reports the latter
+	}
+	filled := make([]any, len(list))
+	for i, item := range list {
+		filled[i] = withLoggerDefaults(item)
+	}
+	v.Set("loggers", filled)
+}
+
+func withLoggerDefaults(item any) any {
+	m, ok := item.(map[string]any)
+	if !ok {
+		return item
+	}
+	out := make(map[string]any, len(m)+3)
+	for k, val := range m {
+		out[k] = val
+	}
+	setIfAbsent(out, "baud", DefaultBaud)
+	setIfAbsent(out, "format", DefaultFormat)
+	switch line := out["line"].(type) {
+	case nil:
+		out["line"] = map[string]any{"separator": DefaultSeparator}
+	case map[string]any:
+		withSep := make(map[string]any, len(line)+1)
+		for k, val := range line {
+			withSep[k] = val
+		}
+		setIfAbsent(withSep, "separator", DefaultSeparator)
+		out["line"] = withSep
+	}
+	return out
+}
+
+func setIfAbsent(m map[string]any, key string, val any) {
+	if _, ok := m[key]; !ok {
+		m[key] = val
+	}
+}
+
+// decoderOptions makes decoding strict: no weak conversion ("fast" never becomes a
+// baud rate, 5 never becomes a name) and our own hook for types and durations.
+func decoderOptions(dc *mapstructure.DecoderConfig) {
+	dc.WeaklyTypedInput = false
+	dc.DecodeHook = mapstructure.DecodeHookFuncValue(checkValue)
+}

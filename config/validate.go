@@ -1,0 +1,194 @@
+package config
+
+import (
+	"fmt"
+	"net"
+	"strings"
+)
+
+// Limits on a fixed target temperature, in °C.
+const (
+	// MinCelsius is absolute zero: 0 K = −273.15 °C by the SI definition of the
+	// degree Celsius (from memory).
+	MinCelsius = -273.15
+	// MaxCelsius is a sanity bound just above the highest thermocouple range: the
+	// type B reference function ends at 1820 °C (NIST Monograph 175, via
+	// shared/reference/reference-values.md, type B rows). A larger value is almost
+	// surely a typo.
+	MaxCelsius = 2000.0
+)
+
+// Validate checks the decoded configuration and returns every problem it finds,
+// joined with errors.Join, each with its key path (e.g.
+// "loggers[0].line.columns[2].index: must be ≥ 1"). It returns nil for a valid
+// configuration. Load and Parse call it; call it yourself on a Config built in code.
+func (c *Config) Validate() error {
+	return joinProblems(c.validate())
+}
+
+// checker collects problems.
+type checker struct{ problems []*Problem }
+
+func (k *checker) add(key, format string, args ...any) {
+	k.problems = append(k.problems, &Problem{Key: key, Msg: fmt.Sprintf(format, args...)})
+}
+
+func (c *Config) validate() []*Problem {
+	k := &checker{}
+	if _, _, err := net.SplitHostPort(c.Listen); err != nil {
+		k.add("listen", "want host:port such as %q or %q, got %q", DefaultListen, ":9464", c.Listen)
+	}
+	if strings.TrimSpace(c.DataDir) == "" {
+		k.add("data_dir", "must not be empty")
+	}
+	channels := c.checkChannels(k)
+	c.checkLoggers(k, channels)
+	return k.problems
+}
+
+// checkChannels checks every channel and returns the index of each channel name.
+func (c *Config) checkChannels(k *checker) map[string]int {
+	if len(c.Channels) == 0 {
+		k.add("channels", "at least one channel is needed")
+	}
+	index := map[string]int{}
+	for i, ch := range c.Channels {
+		key := fmt.Sprintf("channels[%d]", i)
+		if ch.Name == "" {
+			k.add(key+".name", "must not be empty")
+			continue
+		}
+		if first, dup := index[ch.Name]; dup {
+			k.add(key+".name", "duplicate channel %q (first at channels[%d])", ch.Name, first)
+			continue
+		}
+		index[ch.Name] = i
+	}
+	for i, ch := range c.Channels {
+		key := fmt.Sprintf("channels[%d]", i)
+		checkAmbient(k, key+".ambient", ch, index)
+		checkTargets(k, key, ch.Targets)
+	}
+	return index
+}
+
+func checkAmbient(k *checker, key string, ch Channel, index map[string]int) {
+	switch {
+	case ch.Ambient == "":
+	case ch.Ambient == ch.Name:
+		k.add(key, "channel %q cannot be its own ambient; name another channel, or leave ambient out to fit it", ch.Name)
+	default:
+		if _, ok := index[ch.Ambient]; !ok {
+			k.add(key, "no channel named %q in channels", ch.Ambient)
+		}
+	}
+}
+
+func checkTargets(k *checker, chKey string, targets []Target) {
+	seen := map[string]int{}
+	for i, t := range targets {
+		key := fmt.Sprintf("%s.targets[%d]", chKey, i)
+		if t.Name == "" {
+			k.add(key+".name", "must not be empty")
+		} else if first, dup := seen[t.Name]; dup {
+			k.add(key+".name", "duplicate target %q (first at %s.targets[%d])", t.Name, chKey, first)
+		} else {
+			seen[t.Name] = i
+		}
+		checkTarget(k, key, t)
+	}
+}
+
+// checkTarget enforces the target forms: {celsius}, {within}, {within, hold} and
+// {celsius, within, hold} (stay within the band around celsius for the hold time).
+func checkTarget(k *checker, key string, t Target) {
+	switch {
+	case t.Celsius == nil && t.Within == nil:
+		k.add(key, "give celsius (a fixed temperature) or within (a band around the settling temperature)")
+	case t.Celsius != nil && t.Within != nil && t.Hold == 0:
+		k.add(key, "celsius and within together need hold (stay within the band around celsius for the hold time); otherwise give only one of them")
+	case t.Celsius != nil && t.Within == nil && t.Hold != 0:
+		k.add(key+".hold", "hold needs within (the band to stay in), e.g. within: 1")
+	}
+	if t.Celsius != nil && !(*t.Celsius >= MinCelsius && *t.Celsius <= MaxCelsius) {
+		k.add(key+".celsius", "must be between %g and %g °C, got %g", MinCelsius, MaxCelsius, *t.Celsius)
+	}
+	if t.Within != nil && !(*t.Within > 0) {
+		k.add(key+".within", "must be > 0 °C, got %g", *t.Within)
+	}
+	if t.Hold < 0 {
+		k.add(key+".hold", "must not be negative, got %s", t.Hold)
+	}
+}
+
+func (c *Config) checkLoggers(k *checker, channels map[string]int) {
+	if len(c.Loggers) == 0 {
+		k.add("loggers", "at least one logger is needed")
+	}
+	names := map[string]int{}
+	readBy := map[string]string{} // channel name → key of the column that reads it
+	for i, l := range c.Loggers {
+		key := fmt.Sprintf("loggers[%d]", i)
+		if l.Name == "" {
+			k.add(key+".name", "must not be empty")
+		} else if first, dup := names[l.Name]; dup {
+			k.add(key+".name", "duplicate logger %q (first at loggers[%d])", l.Name, first)
+		} else {
+			names[l.Name] = i
+		}
+		if strings.TrimSpace(l.Port) == "" {
+			k.add(key+".port", "must not be empty; give the serial device, e.g. a /dev/serial/by-id/… link")
+		}
+		if l.Baud <= 0 {
+			k.add(key+".baud", "must be positive, got %d", l.Baud)
+		}
+		if l.Format != "line" {
+			k.add(key+".format", "unknown format %q; known: line", l.Format)
+			continue
+		}
+		checkLine(k, key+".line", l.Line, channels, readBy)
+	}
+}
+
+func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, readBy map[string]string) {
+	if lf.Separator == "" {
+		k.add(key+".separator", "must not be empty")
+	}
+	if lf.ClockColumn < 0 {
+		k.add(key+".clock_column", "must be ≥ 0 (0: use the host's receive time), got %d", lf.ClockColumn)
+	}
+	if len(lf.Columns) == 0 {
+		k.add(key+".columns", "at least one column is needed")
+	}
+	indexes := map[int]int{}
+	for i, col := range lf.Columns {
+		colKey := fmt.Sprintf("%s.columns[%d]", key, i)
+		switch first, dup := indexes[col.Index]; {
+		case col.Index < 1:
+			k.add(colKey+".index", "must be ≥ 1 (fields count from 1), got %d", col.Index)
+		case col.Index == lf.ClockColumn:
+			k.add(colKey+".index", "field %d is the clock_column", col.Index)
+		case dup:
+			k.add(colKey+".index", "field %d is already mapped by %s.columns[%d]", col.Index, key, first)
+		default:
+			indexes[col.Index] = i
+		}
+		checkColumnChannel(k, colKey+".channel", col.Channel, channels, readBy)
+	}
+}
+
+func checkColumnChannel(k *checker, key, name string, channels map[string]int, readBy map[string]string) {
+	if name == "" {
+		k.add(key, "must not be empty")
+		return
+	}
+	if _, ok := channels[name]; !ok {
+		k.add(key, "no channel named %q in channels", name)
+		return
+	}
+	if other, dup := readBy[name]; dup {
+		k.add(key, "channel %q is already read by %s", name, other)
+		return
+	}
+	readBy[name] = key
+}
