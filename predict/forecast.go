@@ -1,0 +1,213 @@
+package predict
+
+import (
+	"math"
+	"time"
+)
+
+// IntervalSettings tunes the forecast intervals. The zero value is ready to use; each
+// field documents its default.
+type IntervalSettings struct {
+	// Z is the standard-normal quantile of the two-sided interval. Zero means 1.645,
+	// a 90 % interval.
+	Z float64
+	// MaxInflation caps the widening for autocorrelated residuals. Zero means 5.
+	MaxInflation float64
+}
+
+func (s IntervalSettings) withDefaults() IntervalSettings {
+	if s.Z == 0 {
+		s.Z = 1.645
+	}
+	if s.MaxInflation == 0 {
+		s.MaxInflation = 5
+	}
+	return s
+}
+
+// Inflation returns the factor sqrt((1+ρ)/(1−ρ)) by which a standard error computed
+// as if residuals were independent understates it when they follow an AR(1) process
+// with lag-1 autocorrelation ρ (the variance inflation of a mean of AR(1) data; common
+// practice). Negative ρ counts as 0; the factor is capped at limit.
+func Inflation(rho, limit float64) float64 {
+	rho = max(rho, 0)
+	if rho >= 1 {
+		return limit
+	}
+	return min(math.Sqrt((1+rho)/(1-rho)), limit)
+}
+
+// ForecastLumped forecasts each target from a lumped fit (fit may be nil or failed) of
+// the segment data p that started at start. It returns one TargetForecast per target,
+// in order:
+//
+//   - reached: the data since the segment start already cross the target (At is the
+//     first reading across it; with a Hold, the entry into the final run of readings
+//     across it plus the Hold);
+//   - holding: across a target with a Hold whose time has not yet passed;
+//   - unreachable: the target lies on the far side of the ambient, or is a Within band
+//     of zero width;
+//   - insufficient: no usable fit;
+//   - predicted: crossing of the fitted curve, τ·ln(θi/(T − Tamb)), with a delta-method
+//     interval from the fit's covariance, widened by Inflation(fit.Rho) and by the
+//     fit's Misfit (as a level error turned into time through the slope), and never
+//     starting before the last reading.
+//
+// The ambient is assumed to stay at fit.Ambient from the last reading on.
+func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
+	var is IntervalSettings
+	if s != nil {
+		is = *s
+	}
+	f := newForecaster(fit, p, start, is.withDefaults())
+	out := make([]TargetForecast, len(targets))
+	for i, tg := range targets {
+		out[i] = f.target(tg)
+	}
+	return out
+}
+
+// forecaster holds what the per-target forecasts share.
+type forecaster struct {
+	fit     *LumpedResult // nil unless the fit succeeded
+	p       *LumpedProblem
+	start   time.Time
+	side    float64 // +1 settling downward (cooling), −1 upward (heating), 0 unknown
+	ambient float64 // the settling temperature, NaN when unknown
+	s       IntervalSettings
+}
+
+func newForecaster(fit *LumpedResult, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
+	f := &forecaster{p: p, start: start, s: s, ambient: math.NaN()}
+	n := len(p.Celsius)
+	switch {
+	case fit != nil && fit.Status == FitSuccess:
+		f.fit, f.ambient, f.side = fit, fit.Ambient, sign(fit.Excess)
+	case p.Ambient != nil && n > 0:
+		f.ambient = p.Ambient[n-1]
+		f.side = sign(p.Celsius[n-1] - f.ambient)
+	case n > 1:
+		f.side = sign(p.Celsius[0] - p.Celsius[n-1])
+	}
+	return f
+}
+
+func sign(x float64) float64 {
+	switch {
+	case x > 0:
+		return 1
+	case x < 0:
+		return -1
+	}
+	return 0
+}
+
+// target forecasts one target.
+func (f *forecaster) target(tg Target) TargetForecast {
+	out := TargetForecast{Target: tg, Celsius: tg.Celsius, State: StateInsufficient}
+	if tg.IsWithin() {
+		if tg.Within <= 0 {
+			out.State = StateUnreachable
+			return out
+		}
+		out.Celsius = f.ambient + f.side*tg.Within
+	}
+	if f.side == 0 || math.IsNaN(out.Celsius) {
+		out.Celsius = tg.Celsius
+		return out
+	}
+	if entry, ok := f.entry(tg, out.Celsius); ok {
+		return f.observed(out, entry)
+	}
+	if f.fit == nil {
+		return out
+	}
+	excess := out.Celsius - f.fit.Ambient
+	if f.side*excess <= 0 {
+		out.State = StateUnreachable
+		return out
+	}
+	return f.predicted(out, excess)
+}
+
+// entry returns the index of the reading at which the data entered the target's side:
+// the first such reading, or with a Hold the first of the final run of such readings.
+func (f *forecaster) entry(tg Target, level float64) (int, bool) {
+	across := func(i int) bool {
+		l := level
+		if tg.IsWithin() && f.p.Ambient != nil {
+			l = f.p.Ambient[i] + f.side*tg.Within
+		}
+		return f.side*(f.p.Celsius[i]-l) <= 0
+	}
+	n := len(f.p.Celsius)
+	if tg.Hold == 0 {
+		for i := range n {
+			if across(i) {
+				return i, true
+			}
+		}
+		return 0, false
+	}
+	i := n
+	for i > 0 && across(i-1) {
+		i--
+	}
+	return i, i < n
+}
+
+// observed fills a reached or holding forecast from the entry reading.
+func (f *forecaster) observed(out TargetForecast, entry int) TargetForecast {
+	n := len(f.p.Times)
+	at := f.abs(f.p.Times[entry]).Add(out.Target.Hold)
+	out.At, out.State = at, StateReached
+	if at.After(f.abs(f.p.Times[n-1])) {
+		out.State, out.Earliest, out.Latest = StateHolding, at, at
+	}
+	return out
+}
+
+// predicted fills a predicted forecast for a target at excess over the ambient.
+func (f *forecaster) predicted(out TargetForecast, excess float64) TargetForecast {
+	fit := f.fit
+	tStar := fit.Tau * math.Log(fit.Excess/excess)
+	// Gradient of t* = τ·ln(θi/(L − Tamb)) in (Tamb, θi, τ); a Within level moves with
+	// the ambient, so its ambient derivative is zero.
+	g := [3]float64{fit.Tau / excess, fit.Tau / fit.Excess, tStar / fit.Tau}
+	if out.Target.IsWithin() {
+		g[0] = 0
+	}
+	var v float64
+	for a := range 3 {
+		for b := range 3 {
+			v += g[a] * fit.Cov.At(a, b) * g[b]
+		}
+	}
+	sd := math.Sqrt(max(v, 0)) * Inflation(fit.Rho, f.s.MaxInflation)
+	level := fit.Misfit * fit.Tau / math.Abs(excess) // level error through the slope
+	half := f.s.Z * math.Hypot(sd, level)
+	last := f.p.Times[len(f.p.Times)-1]
+	hold := out.Target.Hold
+	out.State = StatePredicted
+	out.At = f.abs(max(tStar, last)).Add(hold)
+	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
+	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
+	return out
+}
+
+// maxOffset bounds forecast offsets (about 31 years) so durations cannot overflow.
+const maxOffset = 1e9
+
+// abs converts seconds from the segment start to a time.
+func (f *forecaster) abs(sec float64) time.Time {
+	return f.start.Add(seconds(sec))
+}
+
+// seconds converts seconds to a Duration, clamped to ±maxOffset.
+func seconds(sec float64) time.Duration {
+	if math.IsNaN(sec) {
+		return 0
+	}
+	sec = math.Max(-maxOffset, math.Min(sec, maxOffset))
+	return time.Duration(sec * float64(time.Second))
+}

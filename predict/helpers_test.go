@@ -1,0 +1,33 @@
+package predict
+
+import (
+	"encoding/csv"
+	"os"
+	"strconv"
+	"testing"
+)
+
+// readRumford reads testdata/predict/rumford.csv: minutes and °F.
+func readRumford(t *testing.T) (minutes, fahrenheit []float64) {
+	t.Helper()
+	f, err := os.Open("../testdata/predict/rumford.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	r := csv.NewReader(f)
+	r.Comment = '#'
+	rows, err := r.ReadAll()
+	if err != nil {
+		t.Fatalf("rumford.csv: %v", err)
+	}
+	for i, row := range rows {
+		m, err1 := strconv.ParseFloat(row[0], 64)
+		temp, err2 := strconv.ParseFloat(row[1], 64)
+		if err1 != nil || err2 != nil {
+			t.Fatalf("rumford.csv row %d: %v %v", i+1, err1, err2)
+		}
+		minutes, fahrenheit = append(minutes, m), append(fahrenheit, temp)
+	}
+	return minutes, fahrenheit
+}
