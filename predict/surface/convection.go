@@ -49,25 +49,43 @@ func filmKelvin(surfaceC, ambientC float64) float64 {
 // It does not check the ranges (Validity does). It returns NaN for an unknown geometry,
 // a negative Ra or a non-positive Pr.
 func Nusselt(g Geometry, Ra, Pr float64) float64 {
-	if !(Ra >= 0) || !(Pr > 0) {
+	if !(Pr > 0) {
 		return math.NaN()
 	}
+	return nusseltFrom(g, Ra, prFactor(g, Pr))
+}
+
+// prFactor is the Prandtl-number denominator of the geometry's correlation:
+// [1 + (0.492/Pr)^(9/16)]^(8/27) (plate), [1 + (0.559/Pr)^(9/16)]^(8/27) (cylinder),
+// [1 + (0.469/Pr)^(9/16)]^(4/9) (sphere); NaN for an unknown geometry.
+func prFactor(g Geometry, Pr float64) float64 {
 	switch g {
 	case VerticalPlate:
-		return churchillChu(0.825, 0.492, Ra, Pr)
+		return math.Pow(1+math.Pow(0.492/Pr, 9.0/16), 8.0/27)
 	case HorizontalCylinder:
-		return churchillChu(0.60, 0.559, Ra, Pr)
+		return math.Pow(1+math.Pow(0.559/Pr, 9.0/16), 8.0/27)
 	case Sphere:
-		return 2 + 0.589*math.Sqrt(math.Sqrt(Ra))/math.Pow(1+math.Pow(0.469/Pr, 9.0/16), 4.0/9)
+		return math.Pow(1+math.Pow(0.469/Pr, 9.0/16), 4.0/9)
 	}
 	return math.NaN()
 }
 
-// churchillChu is the common form of the plate and cylinder correlations:
-// {c0 + 0.387·Ra^(1/6) / [1 + (prRef/Pr)^(9/16)]^(8/27)}².
-func churchillChu(c0, prRef, Ra, Pr float64) float64 {
-	root := c0 + 0.387*math.Cbrt(math.Sqrt(Ra))/math.Pow(1+math.Pow(prRef/Pr, 9.0/16), 8.0/27)
-	return root * root
+// nusseltFrom evaluates the geometry's correlation from Ra and its Prandtl factor.
+func nusseltFrom(g Geometry, Ra, prFac float64) float64 {
+	if !(Ra >= 0) {
+		return math.NaN()
+	}
+	switch g {
+	case VerticalPlate:
+		root := 0.825 + 0.387*math.Cbrt(math.Sqrt(Ra))/prFac
+		return root * root
+	case HorizontalCylinder:
+		root := 0.60 + 0.387*math.Cbrt(math.Sqrt(Ra))/prFac
+		return root * root
+	case Sphere:
+		return 2 + 0.589*math.Sqrt(math.Sqrt(Ra))/prFac
+	}
+	return math.NaN()
 }
 
 // Convection returns the natural-convection coefficient h = Nu·k/Lc in W/(m²·K) of a
@@ -82,8 +100,11 @@ func Convection(g Geometry, lengthM, surfaceC, ambientC float64) float64 {
 	if deltaK == 0 && g.valid() && lengthM > 0 {
 		return 0
 	}
+	if !g.valid() {
+		return math.NaN()
+	}
 	filmK := filmKelvin(surfaceC, ambientC)
-	p := Air(filmK)
+	p, fac := airAt(filmK)
 	Ra := rayleigh(p, filmK, lengthM, deltaK)
-	return Nusselt(g, Ra, p.Pr) * p.K / lengthM
+	return nusseltFrom(g, Ra, fac[g]) * p.K / lengthM
 }
