@@ -1,0 +1,141 @@
+package predict
+
+import (
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/settle-lab/settle/config"
+)
+
+// ChannelSpec describes one channel of a bench: its name, the channel that measures
+// its ambient (empty: the ambient is fitted) and its targets.
+type ChannelSpec struct {
+	Name, Ambient string
+	Targets       []Target
+}
+
+// ChannelState is a snapshot of one channel of a bench.
+type ChannelState struct {
+	// Name and Ambient are as in the ChannelSpec.
+	Name, Ambient string
+	// LastTime and LastCelsius are the latest reading (zero time and NaN before any).
+	LastTime    time.Time
+	LastCelsius float64
+	// Readings counts the readings observed.
+	Readings int
+	// Forecast is a copy of the latest forecast, nil until the first fit of the
+	// current segment.
+	Forecast *Forecast
+}
+
+// Bench holds the trackers of a rack's channels. It is safe for concurrent use: the
+// channel table is fixed at construction and each tracker has its own lock.
+type Bench struct {
+	specs    []ChannelSpec
+	trackers []*Tracker
+	index    map[string]int
+	users    map[string][]int // ambient channel → channels measuring their ambient on it
+}
+
+// NewBench returns a bench with one tracker per spec. A later spec with a name already
+// used is ignored.
+func NewBench(specs []ChannelSpec, opt TrackerOptions) *Bench {
+	b := &Bench{index: map[string]int{}, users: map[string][]int{}}
+	for _, s := range specs {
+		if _, dup := b.index[s.Name]; dup {
+			continue
+		}
+		b.index[s.Name] = len(b.specs)
+		b.specs = append(b.specs, s)
+		b.trackers = append(b.trackers, NewTracker(s.Targets, opt))
+	}
+	for i, s := range b.specs {
+		if s.Ambient != "" {
+			b.users[s.Ambient] = append(b.users[s.Ambient], i)
+		}
+	}
+	return b
+}
+
+// Observe records an OK reading of a channel; readings of unknown channels are
+// ignored. A reading of a channel named as another's Ambient becomes that channel's
+// measured ambient.
+func (b *Bench) Observe(channel string, t time.Time, celsius float64) {
+	for _, i := range b.users[channel] {
+		b.trackers[i].SetAmbient(celsius)
+	}
+	if i, ok := b.index[channel]; ok {
+		b.trackers[i].Add(t, celsius)
+	}
+}
+
+// Snapshot returns the state of every channel, in spec order. The results are copies.
+func (b *Bench) Snapshot() []ChannelState {
+	out := make([]ChannelState, len(b.specs))
+	for i, s := range b.specs {
+		out[i] = b.trackers[i].state()
+		out[i].Name, out[i].Ambient = s.Name, s.Ambient
+	}
+	return out
+}
+
+// state returns the tracker's part of a ChannelState.
+func (tr *Tracker) state() ChannelState {
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	return ChannelState{
+		LastTime:    tr.last,
+		LastCelsius: tr.lastC,
+		Readings:    tr.readings,
+		Forecast:    copyForecast(tr.forecast),
+	}
+}
+
+// SpecsFromConfig builds bench specs from configured channels. A target's nil Celsius
+// becomes NaN (a Within target). It rejects duplicate channel names, an ambient that
+// names no channel or the channel itself, and targets with both or neither of celsius
+// and within set; errors name the key path, e.g. channels[2].targets[0].
+func SpecsFromConfig(cfg []config.Channel) ([]ChannelSpec, error) {
+	names := map[string]bool{}
+	for i, c := range cfg {
+		if names[c.Name] {
+			return nil, fmt.Errorf("predict: channels[%d].name: duplicate channel %q", i, c.Name)
+		}
+		names[c.Name] = true
+	}
+	specs := make([]ChannelSpec, len(cfg))
+	for i, c := range cfg {
+		if c.Ambient != "" && (!names[c.Ambient] || c.Ambient == c.Name) {
+			return nil, fmt.Errorf("predict: channels[%d].ambient: %q is not another configured channel", i, c.Ambient)
+		}
+		specs[i] = ChannelSpec{Name: c.Name, Ambient: c.Ambient}
+		for j, t := range c.Targets {
+			tg, err := targetFromConfig(t)
+			if err != nil {
+				return nil, fmt.Errorf("predict: channels[%d].targets[%d] (%q): %w", i, j, t.Name, err)
+			}
+			specs[i].Targets = append(specs[i].Targets, tg)
+		}
+	}
+	return specs, nil
+}
+
+// targetFromConfig converts one configured target.
+func targetFromConfig(t config.Target) (Target, error) {
+	switch {
+	case t.Celsius != nil && t.Within != nil:
+		return Target{}, fmt.Errorf("both celsius and within set")
+	case t.Celsius == nil && t.Within == nil:
+		return Target{}, fmt.Errorf("neither celsius nor within set")
+	case t.Within != nil && !(*t.Within > 0):
+		return Target{}, fmt.Errorf("within %g °C must be positive", *t.Within)
+	}
+	tg := Target{Name: t.Name, Celsius: math.NaN(), Hold: t.Hold, Handling: t.Handling}
+	if t.Celsius != nil {
+		tg.Celsius = *t.Celsius
+	} else {
+		tg.Within = *t.Within
+	}
+	return tg, nil
+}

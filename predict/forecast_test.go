@@ -1,0 +1,192 @@
+package predict
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+	"time"
+)
+
+var t0 = time.Date(2026, 3, 2, 9, 0, 0, 0, time.UTC)
+
+// secs returns t0 plus s seconds.
+func secs(s float64) time.Time { return t0.Add(seconds(s)) }
+
+// fitAndForecast fits p and forecasts targets from t0.
+func fitAndForecast(t *testing.T, p LumpedProblem, targets ...Target) []TargetForecast {
+	t.Helper()
+	r, _ := FitLumped(p, nil)
+	return ForecastLumped(&r, &p, t0, targets, nil)
+}
+
+// trueCrossing is τ·ln(θi/(T − Tamb)), seconds.
+func trueCrossing(amb, exc, tau, level float64) float64 {
+	return tau * math.Log(exc/(level-amb))
+}
+
+// Incropera 6th ed. Example 5.1 via shared/reference section 2.6: τ = 1 s, Ti = 25 °C,
+// gas at 200 °C; time to reach 199 °C is τ·ln(175/1) = 5.1648 s (section 2.6, CALC
+// row; the FOSSEE companion prints 5.16 s). Readings cover only the first 2 s, so the
+// crossing at 5.16 s is a true forecast, made while heating toward a warmer ambient.
+func TestForecastIncropera51(t *testing.T) {
+	var exact, noisy LumpedProblem
+	rng := rand.New(rand.NewPCG(11, 12))
+	for i := 0; i <= 100; i++ {
+		tt := 0.02 * float64(i)
+		y := 200 - 175*math.Exp(-tt)
+		exact.Times, exact.Celsius = append(exact.Times, tt), append(exact.Celsius, y)
+		yn := 0.1 * math.Round((y+0.05*rng.NormFloat64())/0.1)
+		noisy.Times, noisy.Celsius = append(noisy.Times, tt), append(noisy.Celsius, yn)
+	}
+	target := Target{Name: "199", Celsius: 199}
+	got := fitAndForecast(t, exact, target)[0]
+	at := got.At.Sub(t0).Seconds()
+	if got.State != StatePredicted || math.Abs(at-5.1648) > 0.0005 {
+		t.Errorf("exact curve: %s at %.4f s, want predicted at 5.1648 s (Incropera Ex. 5.1)", got.State, at)
+	}
+	got = fitAndForecast(t, noisy, target)[0]
+	lo, hi := got.Earliest.Sub(t0).Seconds(), got.Latest.Sub(t0).Seconds()
+	if got.State != StatePredicted || lo > 5.1648 || hi < 5.1648 {
+		t.Errorf("noisy curve: %s in [%.3f, %.3f] s, want an interval around 5.1648 s (Incropera Ex. 5.1)", got.State, lo, hi)
+	}
+	if hi-lo > 2 {
+		t.Errorf("noisy curve: interval [%.3f, %.3f] s wider than 2 s", lo, hi)
+	}
+}
+
+// Our own synthetic runs: the 90 % interval must contain the true crossing in about
+// 90 % of replicates (accepting 80–99 %: with 200 replicates the binomial standard
+// error of a 90 % rate is 2.1 %, and the autocorrelation widening is conservative).
+func TestForecastCoverage(t *testing.T) {
+	reps := 200
+	if testing.Short() {
+		reps = 60
+	}
+	cases := []struct {
+		name                string
+		amb, exc, tau, span float64
+		level, noise        float64
+	}{
+		{"cooling", 22, 178, 600, 600, 50, 0.2},
+		{"heating", 23, -30, 300, 400, 18, 0.1},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(13, 14))
+			want := trueCrossing(c.amb, c.exc, c.tau, c.level)
+			inside, worst := 0, 0.0
+			for range reps {
+				p := synth(rng, 200, c.span, c.amb, c.exc, c.tau, c.noise, 0.1)
+				got := fitAndForecast(t, p, Target{Celsius: c.level})[0]
+				if got.State != StatePredicted {
+					t.Fatalf("state %s, want predicted", got.State)
+				}
+				lo, hi := got.Earliest.Sub(t0).Seconds(), got.Latest.Sub(t0).Seconds()
+				if lo <= want && want <= hi {
+					inside++
+				}
+				worst = max(worst, math.Abs(got.At.Sub(t0).Seconds()-want)/want)
+			}
+			rate := float64(inside) / float64(reps)
+			t.Logf("coverage %.3f, worst relative error %.3f", rate, worst)
+			if rate < 0.80 || rate > 0.99 {
+				t.Errorf("coverage %.2f of %d, want 0.80–0.99", rate, reps)
+			}
+			if worst > 0.15 {
+				t.Errorf("worst crossing error %.1f %% of %g s, want ≤ 15 %%", 100*worst, want)
+			}
+		})
+	}
+}
+
+func TestForecastStates(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 16))
+	// Cooling from 200 °C toward 20 °C, τ = 300 s, readings for 10 minutes: the data
+	// fall to 20 + 180·e^−2 ≈ 44.4 °C.
+	cool := synth(rng, 300, 600, 20, 180, 300, 0.1, 0.1)
+	heat := synth(rng, 300, 600, 30, -20, 300, 0.1, 0.1)
+	short := LumpedProblem{Times: []float64{0, 1, 2}, Celsius: []float64{200, 199, 198}}
+	cases := []struct {
+		name   string
+		p      LumpedProblem
+		target Target
+		state  State
+		at     float64 // seconds, NaN: not checked
+	}{
+		{"cooling reached", cool, Target{Celsius: 100}, StateReached, trueCrossing(20, 180, 300, 100)},
+		{"cooling predicted", cool, Target{Celsius: 30}, StatePredicted, trueCrossing(20, 180, 300, 30)},
+		{"cooling below ambient", cool, Target{Celsius: 15}, StateUnreachable, math.NaN()},
+		{"cooling at ambient", cool, Target{Celsius: 20}, StateUnreachable, math.NaN()},
+		{"cooling above start", cool, Target{Celsius: 250}, StateReached, 0},
+		{"heating reached", heat, Target{Celsius: 20}, StateReached, trueCrossing(30, -20, 300, 20)},
+		{"heating predicted", heat, Target{Celsius: 29}, StatePredicted, trueCrossing(30, -20, 300, 29)},
+		{"heating above ambient", heat, Target{Celsius: 31}, StateUnreachable, math.NaN()},
+		{"within predicted", cool, Target{Celsius: math.NaN(), Within: 2}, StatePredicted, trueCrossing(20, 180, 300, 22)},
+		{"within heating", heat, Target{Celsius: math.NaN(), Within: 0.5}, StatePredicted, trueCrossing(30, -20, 300, 29.5)},
+		{"within reached", cool, Target{Celsius: math.NaN(), Within: 30}, StateReached, trueCrossing(20, 180, 300, 50)},
+		{"within zero band", cool, Target{Celsius: math.NaN()}, StateUnreachable, math.NaN()},
+		{"hold predicted", cool, Target{Celsius: 30, Hold: time.Minute}, StatePredicted, trueCrossing(20, 180, 300, 30) + 60},
+		{"hold passed", cool, Target{Celsius: 100, Hold: time.Minute}, StateReached, trueCrossing(20, 180, 300, 100) + 60},
+		{"holding", cool, Target{Celsius: 46, Hold: time.Hour}, StateHolding, trueCrossing(20, 180, 300, 46) + 3600},
+		{"too few points", short, Target{Celsius: 50}, StateInsufficient, math.NaN()},
+		{"too few but reached", short, Target{Celsius: 199.5}, StateReached, 1},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			got := fitAndForecast(t, c.p, c.target)[0]
+			if got.State != c.state {
+				t.Fatalf("state %s, want %s", got.State, c.state)
+			}
+			if math.IsNaN(c.at) {
+				if !got.At.IsZero() {
+					t.Errorf("At = %v, want zero", got.At)
+				}
+				return
+			}
+			// Observed times are within a reading spacing (2 s) plus noise/slope of the
+			// true crossing; predicted ones within 2 %.
+			at := got.At.Sub(t0).Seconds()
+			if tol := max(3, 0.02*c.at); math.Abs(at-c.at) > tol {
+				t.Errorf("At = %.2f s, want %.2f ± %.2f s", at, c.at, tol)
+			}
+			hasBounds := c.state == StatePredicted || c.state == StateHolding
+			ordered := !got.Earliest.After(got.At) && !got.Latest.Before(got.At)
+			if hasBounds != !got.Earliest.IsZero() || hasBounds && !ordered {
+				t.Errorf("bounds [%v, %v] around %v for %s", got.Earliest, got.Latest, got.At, got.State)
+			}
+		})
+	}
+}
+
+// A Within target's edge is on the specimen's side of the fitted ambient.
+func TestForecastWithinEdge(t *testing.T) {
+	rng := rand.New(rand.NewPCG(17, 18))
+	for _, c := range []struct {
+		name     string
+		exc      float64
+		wantEdge float64
+	}{{"cooling", 100, 21 + 1.5}, {"heating", -10, 21 - 1.5}} {
+		p := synth(rng, 300, 600, 21, c.exc, 300, 0.05, 0)
+		got := fitAndForecast(t, p, Target{Celsius: math.NaN(), Within: 1.5})[0]
+		if math.Abs(got.Celsius-c.wantEdge) > 0.05 {
+			t.Errorf("%s: edge %.3f °C, want %.3f", c.name, got.Celsius, c.wantEdge)
+		}
+	}
+}
+
+func TestInflation(t *testing.T) {
+	cases := []struct{ rho, limit, want float64 }{
+		{0, 5, 1},
+		{-0.5, 5, 1},
+		{0.6, 5, 2},  // sqrt(1.6/0.4)
+		{0.8, 5, 3},  // sqrt(1.8/0.2)
+		{0.99, 5, 5}, // capped
+		{1, 5, 5},    // capped
+		{0.5, 10, math.Sqrt(3)},
+	}
+	for _, c := range cases {
+		if got := Inflation(c.rho, c.limit); math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("Inflation(%g, %g) = %g, want %g", c.rho, c.limit, got, c.want)
+		}
+	}
+}

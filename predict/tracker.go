@@ -1,0 +1,253 @@
+package predict
+
+import (
+	"fmt"
+	"math"
+	"sync"
+	"time"
+)
+
+// TrackerOptions tunes a Tracker. The zero value is ready to use; each field documents
+// its default.
+type TrackerOptions struct {
+	// FitEvery is the least reading time between fits. Zero means 10 s.
+	FitEvery time.Duration
+	// MinNewPoints is the least number of new readings between fits. Zero means 5. A
+	// fit runs when both FitEvery and MinNewPoints have been met, whichever is later.
+	MinNewPoints int
+	// MaxPoints caps the readings kept per segment. Zero means 4096; values below 16
+	// count as 16. When full, the oldest half is thinned 2:1 (every other reading
+	// dropped), so old data keep their shape at a coarser spacing.
+	MaxPoints int
+	// Jump is the step between consecutive readings, °C, that starts a new segment.
+	// Zero means 20 °C.
+	Jump float64
+	// Fit tunes the lumped fit.
+	Fit LumpedSettings
+	// Interval tunes the forecast intervals.
+	Interval IntervalSettings
+}
+
+func (o TrackerOptions) withDefaults() TrackerOptions {
+	if o.FitEvery == 0 {
+		o.FitEvery = 10 * time.Second
+	}
+	if o.MinNewPoints == 0 {
+		o.MinNewPoints = 5
+	}
+	if o.MaxPoints == 0 {
+		o.MaxPoints = 4096
+	}
+	o.MaxPoints = max(o.MaxPoints, 16)
+	if o.Jump == 0 {
+		o.Jump = 20
+	}
+	return o
+}
+
+// point is one stored reading: seconds from the segment start, °C, and the measured
+// ambient at that time (NaN when none was known yet).
+type point struct {
+	t, celsius, ambient float64
+}
+
+// Tracker turns one channel's readings into a Forecast with the lumped model. It is
+// safe for concurrent use; a fit runs inside Add, under the tracker's lock, when the
+// schedule in TrackerOptions says one is due.
+//
+// Segmentation is a skeleton: a segment starts at the first reading and a new one at a
+// step of more than Jump between consecutive readings.
+type Tracker struct {
+	mu      sync.Mutex
+	opt     TrackerOptions
+	targets []Target
+
+	pts      []point
+	start    time.Time // first reading of the segment
+	last     time.Time
+	lastC    float64
+	readings int
+	amb      float64 // latest measured ambient, NaN when none
+	fitAt    time.Time
+	newPts   int
+	forecast *Forecast
+}
+
+// NewTracker returns a tracker forecasting the given targets.
+func NewTracker(targets []Target, opt TrackerOptions) *Tracker {
+	return &Tracker{
+		opt:     opt.withDefaults(),
+		targets: append([]Target(nil), targets...),
+		amb:     math.NaN(),
+		lastC:   math.NaN(),
+	}
+}
+
+// SetAmbient records a measured ambient reading; readings added from now on are fitted
+// with the ambient known. Non-finite values are ignored.
+func (tr *Tracker) SetAmbient(celsius float64) {
+	if math.IsNaN(celsius) || math.IsInf(celsius, 0) {
+		return
+	}
+	tr.mu.Lock()
+	tr.amb = celsius
+	tr.mu.Unlock()
+}
+
+// Add records an OK reading and refits when due. Non-finite values and readings older
+// than the last one are ignored.
+func (tr *Tracker) Add(at time.Time, celsius float64) {
+	if math.IsNaN(celsius) || math.IsInf(celsius, 0) {
+		return
+	}
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	if tr.readings > 0 && at.Before(tr.last) {
+		return
+	}
+	if tr.readings == 0 || math.Abs(celsius-tr.lastC) > tr.opt.Jump {
+		tr.newSegment(at)
+	}
+	tr.readings++
+	tr.last, tr.lastC = at, celsius
+	if len(tr.pts) >= tr.opt.MaxPoints {
+		tr.thin()
+	}
+	tr.pts = append(tr.pts, point{at.Sub(tr.start).Seconds(), celsius, tr.amb})
+	tr.newPts++
+	if tr.newPts >= tr.opt.MinNewPoints && at.Sub(tr.fitAt) >= tr.opt.FitEvery {
+		tr.fit()
+	}
+}
+
+// newSegment drops the stored readings and the forecast and starts a segment at at.
+func (tr *Tracker) newSegment(at time.Time) {
+	tr.pts = tr.pts[:0]
+	tr.start, tr.fitAt = at, at
+	tr.newPts = 0
+	tr.forecast = nil
+}
+
+// thin drops every other reading of the oldest half, keeping the first.
+func (tr *Tracker) thin() {
+	half := len(tr.pts) / 2
+	kept := 0
+	for i := 0; i < half; i += 2 {
+		tr.pts[kept] = tr.pts[i]
+		kept++
+	}
+	kept += copy(tr.pts[kept:], tr.pts[half:])
+	tr.pts = tr.pts[:kept]
+}
+
+// Fit refits now, whatever the schedule, and returns the new forecast (nil before
+// the first reading).
+func (tr *Tracker) Fit() *Forecast {
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	if len(tr.pts) == 0 {
+		return nil
+	}
+	tr.fit()
+	return copyForecast(tr.forecast)
+}
+
+// Forecast returns a copy of the latest forecast, nil until the first fit of the
+// current segment.
+func (tr *Tracker) Forecast() *Forecast {
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	return copyForecast(tr.forecast)
+}
+
+// fit runs the lumped fit on the segment and replaces the forecast. Callers hold mu.
+func (tr *Tracker) fit() {
+	p := tr.problem()
+	res, err := FitLumped(p, &tr.opt.Fit)
+	tr.fitAt, tr.newPts = tr.last, 0
+	tr.forecast = tr.build(&res, &p, err)
+}
+
+// problem builds the fit problem from the stored readings. Readings stored before the
+// first ambient reading take the first measured ambient after them; without any, the
+// ambient is fitted.
+func (tr *Tracker) problem() LumpedProblem {
+	n := len(tr.pts)
+	p := LumpedProblem{Times: make([]float64, n), Celsius: make([]float64, n)}
+	for i, pt := range tr.pts {
+		p.Times[i], p.Celsius[i] = pt.t, pt.celsius
+	}
+	if math.IsNaN(tr.amb) {
+		return p
+	}
+	p.Ambient = make([]float64, n)
+	next := tr.amb
+	for i := n - 1; i >= 0; i-- {
+		if a := tr.pts[i].ambient; !math.IsNaN(a) {
+			next = a
+		}
+		p.Ambient[i] = next
+	}
+	return p
+}
+
+// build makes the Forecast of a fit result.
+func (tr *Tracker) build(res *LumpedResult, p *LumpedProblem, err error) *Forecast {
+	n := len(p.Times)
+	f := &Forecast{
+		Model:        "lumped",
+		Biot:         math.NaN(),
+		Ambient:      math.NaN(),
+		RMSE:         math.NaN(),
+		Points:       n,
+		SegmentStart: tr.start,
+		FittedAt:     tr.start.Add(seconds(p.Times[n-1])),
+		Targets:      ForecastLumped(res, p, tr.start, tr.targets, &tr.opt.Interval),
+	}
+	if p.Ambient != nil {
+		f.Notes = append(f.Notes, "The ambient is measured, not fitted.")
+	} else {
+		f.Notes = append(f.Notes, "The ambient is fitted as a constant.")
+	}
+	if err != nil {
+		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
+		return f
+	}
+	f.Ambient, f.RMSE = res.Ambient, res.RMSE
+	f.TimeConstant = seconds(res.Tau)
+	f.Params = []Param{
+		{Name: "ambient_c", Value: res.Ambient, StdErr: measuredNaN(res.AmbientErr, p.Ambient != nil), Unit: "°C"},
+		{Name: "initial_excess_c", Value: res.Excess, StdErr: res.ExcessErr, Unit: "°C"},
+		{Name: "tau_s", Value: res.Tau, StdErr: res.TauErr, Unit: "s"},
+	}
+	if k := Inflation(res.Rho, tr.opt.Interval.withDefaults().MaxInflation); k > 1.5 {
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Residuals are correlated (lag-1 %.2f); intervals are widened %.1f-fold.", res.Rho, k))
+	}
+	f.Notes = append(f.Notes, "The Biot number is unknown without specimen data, so the lumped model's validity (Bi < 0.1) is not checked.")
+	start, amb, exc, tau := tr.start, res.Ambient, res.Excess, res.Tau
+	f.Curve = func(t time.Time) float64 {
+		return amb + exc*math.Exp(-t.Sub(start).Seconds()/tau)
+	}
+	return f
+}
+
+// measuredNaN reports a measured ambient's standard error as NaN: it was not estimated.
+func measuredNaN(se float64, measured bool) float64 {
+	if measured {
+		return math.NaN()
+	}
+	return se
+}
+
+// copyForecast returns a copy of f whose slices the caller may keep (nil for nil).
+func copyForecast(f *Forecast) *Forecast {
+	if f == nil {
+		return nil
+	}
+	c := *f
+	c.Params = append([]Param(nil), f.Params...)
+	c.Notes = append([]string(nil), f.Notes...)
+	c.Targets = append([]TargetForecast(nil), f.Targets...)
+	return &c
+}
