@@ -145,13 +145,14 @@ func EMF(t Type, celsius float64) (mV float64, err error) {
 // inverse polynomial for the range holding mV (where two ranges overlap, types R and S
 // from 1064 °C to 1200 °C, the higher one, which has the smaller error band); where
 // there is none it solves the reference function to within 1e-6 °C (see the package
-// documentation). An EMF outside Type.EMFRange returns a *RangeError.
+// documentation). An EMF more than EdgeSlack outside Type.EMFRange returns a
+// *RangeError.
 func Temperature(t Type, mV float64) (celsius float64, err error) {
 	sp := specs[t]
 	if sp == nil {
 		return 0, unknownType(t)
 	}
-	if !(mV >= sp.eLo && mV <= sp.eHi) {
+	if !(mV >= sp.eLo-EdgeSlack && mV <= sp.eHi+EdgeSlack) {
 		return 0, sp.emfRangeError(mV, sp.eLo, sp.eHi)
 	}
 	if r := sp.inverseFor(mV); r != nil {
@@ -162,13 +163,14 @@ func Temperature(t Type, mV float64) (celsius float64, err error) {
 
 // TemperatureExact returns the temperature in °C at which the reference function of
 // type t equals mV, found by safeguarded Newton iteration to within 1e-6 °C. Its range
-// is E(lowest invertible temperature) to E(upper limit); outside it, a *RangeError.
+// is E(lowest invertible temperature) to E(upper limit), each widened by EdgeSlack
+// (and then giving the end temperature); outside it, a *RangeError.
 func TemperatureExact(t Type, mV float64) (celsius float64, err error) {
 	sp := specs[t]
 	if sp == nil {
 		return 0, unknownType(t)
 	}
-	if !(mV >= sp.exLo && mV <= sp.exHi) {
+	if !(mV >= sp.exLo-EdgeSlack && mV <= sp.exHi+EdgeSlack) {
 		return 0, sp.emfRangeError(mV, sp.exLo, sp.exHi)
 	}
 	return sp.solve(mV), nil
@@ -207,13 +209,26 @@ func (sp *spec) inverseFor(mV float64) *inverseRange {
 	return nil
 }
 
+// EdgeSlack is how far, in mV, an EMF may lie beyond the ends of Type.EMFRange and
+// still be converted, to the end temperature: half the last digit of NIST's 1 °C tables
+// (0.001 mV), so that a table's own end values (type K −6.458 mV at −270 °C, while
+// E(−270 °C) = −6.457738 mV) convert instead of failing.
+const EdgeSlack = 0.0005
+
 // solveTol is the step below which solve stops; the root is then known to well
 // within 1e-6 °C, the documented tolerance.
 const solveTol = 1e-9
 
-// solve finds t in [tInvLo, tHi] with E(t) = mV, for E(tInvLo) ≤ mV ≤ E(tHi), by
-// Newton's method kept inside a shrinking bracket (bisection when a step leaves it).
+// solve finds t in [tInvLo, tHi] with E(t) = mV by Newton's method kept inside a
+// shrinking bracket (bisection when a step leaves it); an mV beyond E(tInvLo) or E(tHi)
+// gives that end temperature.
 func (sp *spec) solve(mV float64) float64 {
+	switch {
+	case mV <= sp.exLo:
+		return sp.tInvLo
+	case mV >= sp.exHi:
+		return sp.tHi
+	}
 	a, b := sp.tInvLo, sp.tHi
 	x := sp.guess(mV)
 	for range 200 {

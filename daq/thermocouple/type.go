@@ -62,7 +62,11 @@ func (t Type) TemperatureRange() (lo, hi float64) {
 	return 0, 0
 }
 
-// EMFRange returns the range in mV over which Temperature is defined for type t.
+// EMFRange returns the range in mV over which Temperature is defined for type t: from
+// the reference function's value at the lowest invertible temperature (or NIST's
+// printed lower inverse limit, if lower) to its value at the upper limit (or NIST's
+// printed upper inverse limit, if higher). Temperature accepts EdgeSlack more at
+// either end.
 func (t Type) EMFRange() (lo, hi float64) {
 	if sp := specs[t]; sp != nil {
 		return sp.eLo, sp.eHi

@@ -115,3 +115,13 @@ func Find(blocks []Block, section string) []Block {
 	}
 	return out
 }
+
+// FromCSV parses a CSV table given as text (for example a copy of a block saved to its
+// own file) as a Block of the given section.
+func FromCSV(section, text string) (Block, error) {
+	b := Block{Section: section, Line: 1, Text: text}
+	if err := b.parse(); err != nil {
+		return Block{}, fmt.Errorf("refmd: section %s: %w", section, err)
+	}
+	return b, nil
+}
