@@ -95,6 +95,10 @@ func nusseltFrom(g Geometry, Ra, prFac float64) float64 {
 // then no flow and no flux (the limit as ΔT → 0 is not 0 but Nu(0)·k/Lc, with
 // Nu(0) = 0.681, 0.36 and 2 for plate, cylinder and sphere; q = h·ΔT vanishes either
 // way). It returns NaN for a non-positive length or an unknown geometry.
+//
+// With the ambient near room temperature, h_conv grows with |ΔT| up to about 600 K;
+// beyond that, for Ra above about 1e6, the film-temperature properties make it level
+// off and fall slowly (about 1 % per 100 K), while Radiation keeps growing.
 func Convection(g Geometry, lengthM, surfaceC, ambientC float64) float64 {
 	deltaK := math.Abs(surfaceC - ambientC)
 	if deltaK == 0 && g.valid() && lengthM > 0 {

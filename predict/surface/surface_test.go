@@ -1,10 +1,7 @@
 package surface
 
 import (
-	"encoding/csv"
 	"math"
-	"os"
-	"path/filepath"
 	"strconv"
 	"testing"
 )
@@ -26,23 +23,11 @@ var formulaGeometry = map[string]Geometry{"NC1": VerticalPlate, "NC3": Horizonta
 // readCheckVectors reads the Nusselt check vectors kept in the repository's testdata.
 func readCheckVectors(t *testing.T) []checkVector {
 	t.Helper()
-	path := filepath.Join("..", "..", "testdata", "surface", "nusselt-checks.csv")
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatalf("open %s: %v", path, err)
-	}
-	defer f.Close()
-	r := csv.NewReader(f)
-	r.Comment = '#'
-	recs, err := r.ReadAll()
-	if err != nil {
-		t.Fatalf("read %s: %v", path, err)
-	}
 	var out []checkVector
-	for i, rec := range recs[1:] {
+	for i, rec := range readCheckVectorRecords(t) {
 		g, ok := formulaGeometry[rec[4]]
 		if !ok {
-			t.Fatalf("%s row %d: formula %q is not NC1/NC3/NC4", path, i+2, rec[4])
+			t.Fatalf("nusselt-checks.csv data row %d: formula %q is not NC1/NC3/NC4", i+1, rec[4])
 		}
 		out = append(out, checkVector{
 			name: rec[0], g: g, Pr: mustFloat(t, rec[1]), Ra: mustFloat(t, rec[2]),
@@ -198,5 +183,17 @@ func BenchmarkCoefficient(b *testing.B) {
 	}
 	if sink == 0 {
 		b.Fatal("no work done")
+	}
+}
+
+// TestRadiationFlux: h_rad·(Ts − T∞) equals the net grey-body exchange
+// ε·σ·(Ts⁴ − T∞⁴) (Stefan–Boltzmann law), heating and cooling alike.
+func TestRadiationFlux(t *testing.T) {
+	for _, c := range [][2]float64{{800, 20}, {20, 800}, {-30, 25}, {100.5, 100}} {
+		ts, ta := c[0]+ZeroCelsius, c[1]+ZeroCelsius
+		want := 0.7 * StefanBoltzmann * (ts*ts*ts*ts - ta*ta*ta*ta)
+		if got := Radiation(0.7, c[0], c[1]) * (c[0] - c[1]); relErr(got, want) > 1e-12 {
+			t.Errorf("Radiation(0.7, %g, %g)·ΔT = %g W/m², want %g", c[0], c[1], got, want)
+		}
 	}
 }
