@@ -38,6 +38,14 @@ type airRow struct {
 // other row is typed from memory of the printed table and NOT checked against the page.
 // The tests guard them with the table's own identities (ν = μ/ρ, α = k/(ρ·cp),
 // Pr = ν/α, ρ·T constant at 1 atm) and against Sutherland's viscosity law.
+//
+// Known disagreement: the public transcription cited in shared/reference (S11, id
+// 20840128848, 100–600 K) has ρ = 1.7740 and 1.4184 kg/m³, ν = 7.47e-6 and 11.25e-6
+// m²/s at 200 and 250 K, and cp = 1039 at 550 K. Those ρ break ρ·T = constant by about
+// 2 %, and its 200 K Pr (0.730) disagrees with its own μ·cp/k (0.737), so the rows here
+// keep the remembered values, which pass the identities. Its 300–600 K rows otherwise
+// agree with these. The cp column from 500 to 1100 K also matches a public property
+// table (engineeringtoolbox.com, as copied in GitHub spugia/aero-codes thermo/air.m).
 var airTable = [...]airRow{
 	{200, AirProps{K: 18.1e-3, Nu: 7.590e-6, Alpha: 10.3e-6, Pr: 0.737, Rho: 1.7458, Cp: 1007, Mu: 132.5e-7}},
 	{250, AirProps{K: 22.3e-3, Nu: 11.44e-6, Alpha: 15.9e-6, Pr: 0.720, Rho: 1.3947, Cp: 1006, Mu: 159.6e-7}},
