@@ -1,0 +1,120 @@
+package predict
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"sync"
+	"testing"
+
+	"github.com/settle-lab/settle/config"
+)
+
+func TestBenchAmbientAndSnapshot(t *testing.T) {
+	b := NewBench([]ChannelSpec{
+		{Name: "s1", Ambient: "room", Targets: []Target{{Name: "handle", Celsius: 50}}},
+		{Name: "room"},
+		{Name: "s2", Targets: []Target{{Name: "settled", Celsius: math.NaN(), Within: 1}}},
+	}, TrackerOptions{})
+	for s := 0.0; s <= 60; s++ {
+		b.Observe("room", secs(s), 20)
+		b.Observe("s1", secs(s), curve(s))
+		b.Observe("s2", secs(s), curve(s)+5)
+		b.Observe("nobody", secs(s), 99) // unknown: ignored
+	}
+	got := b.Snapshot()
+	if len(got) != 3 || got[0].Name != "s1" || got[1].Name != "room" || got[2].Name != "s2" {
+		t.Fatalf("snapshot order %v, want s1, room, s2", got)
+	}
+	s1 := got[0]
+	if s1.Ambient != "room" || s1.Readings != 61 || !s1.LastTime.Equal(secs(60)) || s1.LastCelsius != curve(60) {
+		t.Errorf("s1 state %+v", s1)
+	}
+	// s1's ambient is measured on "room" (exactly 20 °C); s2's is fitted.
+	if f := s1.Forecast; f == nil || f.Params[0].Value != 20 || !math.IsNaN(f.Params[0].StdErr) {
+		t.Errorf("s1 forecast %+v, want measured ambient 20 °C", f)
+	}
+	if f := got[2].Forecast; f == nil || math.Abs(f.Ambient-25) > 0.01 || math.IsNaN(f.Params[0].StdErr) {
+		t.Errorf("s2 forecast %+v, want fitted ambient ≈ 25 °C with a stderr", f)
+	}
+	// Snapshots are copies.
+	got[0].Forecast.Params[0].Value = -1
+	if b.Snapshot()[0].Forecast.Params[0].Value != 20 {
+		t.Error("Snapshot shares forecast storage with the bench")
+	}
+}
+
+// Run with -race: writers per channel and readers at once.
+func TestBenchConcurrent(t *testing.T) {
+	var specs []ChannelSpec
+	for i := range 4 {
+		specs = append(specs, ChannelSpec{Name: fmt.Sprint("c", i), Ambient: "room", Targets: []Target{{Celsius: 40}}})
+	}
+	specs = append(specs, ChannelSpec{Name: "room"})
+	b := NewBench(specs, TrackerOptions{FitEvery: 1})
+	var wg sync.WaitGroup
+	for _, s := range specs {
+		wg.Go(func() {
+			for k := 0.0; k < 200; k++ {
+				v := curve(k)
+				if s.Name == "room" {
+					v = 20
+				}
+				b.Observe(s.Name, secs(k), v)
+			}
+		})
+	}
+	wg.Go(func() {
+		for range 200 {
+			for _, st := range b.Snapshot() {
+				if st.Forecast != nil && len(st.Forecast.Targets) > 0 {
+					_ = st.Forecast.Targets[0].At
+				}
+			}
+		}
+	})
+	wg.Wait()
+	for _, st := range b.Snapshot() {
+		if st.Readings != 200 || st.Forecast == nil && st.Name != "room" {
+			t.Errorf("%s: %d readings, forecast %v; want 200 and a forecast", st.Name, st.Readings, st.Forecast)
+		}
+	}
+}
+
+func TestSpecsFromConfig(t *testing.T) {
+	c, w := 50.0, 1.5
+	zero := 0.0
+	good := []config.Channel{
+		{Name: "s1", Ambient: "room", Targets: []config.Target{{Name: "handle", Celsius: &c, Handling: true}, {Name: "settled", Within: &w}}},
+		{Name: "room"},
+	}
+	specs, err := SpecsFromConfig(good)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tg := specs[0].Targets
+	if len(specs) != 2 || specs[0].Ambient != "room" || tg[0].Celsius != 50 || !tg[0].Handling ||
+		!tg[1].IsWithin() || tg[1].Within != 1.5 || tg[1].Name != "settled" {
+		t.Errorf("specs %+v", specs)
+	}
+	bad := []struct {
+		name string
+		cfg  []config.Channel
+		want string
+	}{
+		{"duplicate", []config.Channel{{Name: "a"}, {Name: "a"}}, `channels[1].name: duplicate channel "a"`},
+		{"unknown ambient", []config.Channel{{Name: "a", Ambient: "b"}}, `channels[0].ambient: "b"`},
+		{"self ambient", []config.Channel{{Name: "a", Ambient: "a"}}, `channels[0].ambient: "a"`},
+		{"both", []config.Channel{{Name: "a"}, {Name: "b", Targets: []config.Target{{Name: "x", Celsius: &c, Within: &w}}}}, `channels[1].targets[0] ("x"): both`},
+		{"neither", []config.Channel{{Name: "a", Targets: []config.Target{{Name: "x"}}}}, `channels[0].targets[0] ("x"): neither`},
+		{"zero band", []config.Channel{{Name: "a", Targets: []config.Target{{Name: "x", Within: &zero}}}}, `channels[0].targets[0] ("x"): within 0`},
+	}
+	for _, c := range bad {
+		t.Run(c.name, func(t *testing.T) {
+			_, err := SpecsFromConfig(c.cfg)
+			if err == nil || !strings.Contains(err.Error(), c.want) {
+				t.Errorf("err = %v, want it to contain %q", err, c.want)
+			}
+		})
+	}
+}

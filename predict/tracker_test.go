@@ -1,0 +1,180 @@
+package predict
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+	"time"
+)
+
+// curve is our own synthetic cooling run: 20 °C ambient, 180 °C initial excess, τ = 300 s.
+func curve(s float64) float64 { return 20 + 180*math.Exp(-s/300) }
+
+func TestTrackerSchedule(t *testing.T) {
+	cases := []struct {
+		name    string
+		every   float64 // seconds between readings
+		fitsAt  []float64
+		readFor float64
+	}{
+		// 1 Hz: FitEvery (10 s) is the later condition.
+		{"time bound", 1, []float64{10, 20, 30}, 35},
+		// One reading per 5 s: MinNewPoints (5) is the later condition: the first fit
+		// needs readings at 0..20 s, the next five more.
+		{"count bound", 5, []float64{20, 45, 70}, 80},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			tr := NewTracker(nil, TrackerOptions{})
+			var fits []float64
+			last := time.Time{}
+			for s := 0.0; s <= c.readFor; s += c.every {
+				tr.Add(secs(s), curve(s))
+				if f := tr.Forecast(); f != nil && !f.FittedAt.Equal(last) {
+					last = f.FittedAt
+					fits = append(fits, f.FittedAt.Sub(t0).Seconds())
+				}
+			}
+			if len(fits) != len(c.fitsAt) {
+				t.Fatalf("fits at %v s, want %v", fits, c.fitsAt)
+			}
+			for i := range fits {
+				if fits[i] != c.fitsAt[i] {
+					t.Errorf("fits at %v s, want %v", fits, c.fitsAt)
+				}
+			}
+		})
+	}
+}
+
+func TestTrackerForecast(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 22))
+	targets := []Target{{Name: "handle", Celsius: 50, Handling: true}, {Name: "settled", Celsius: math.NaN(), Within: 1}}
+	tr := NewTracker(targets, TrackerOptions{})
+	for s := 0.0; s <= 300; s++ {
+		tr.Add(secs(s), 0.1*math.Round((curve(s)+0.1*rng.NormFloat64())/0.1))
+	}
+	f := tr.Fit()
+	if f == nil || f.Model != "lumped" || f.Points != 301 || !f.SegmentStart.Equal(t0) || !f.FittedAt.Equal(secs(300)) {
+		t.Fatalf("forecast %+v, want lumped over 301 points from t0 to t0+300 s", f)
+	}
+	names := []string{"ambient_c", "initial_excess_c", "tau_s"}
+	want := []float64{20, 180, 300}
+	for i, p := range f.Params {
+		if p.Name != names[i] || !within(p.Value, want[i], p.StdErr, 4*Inflation(0.9, 5)) {
+			t.Errorf("param %d = %+v, want %s ≈ %g", i, p, names[i], want[i])
+		}
+	}
+	if math.Abs(f.TimeConstant.Seconds()-300) > 15 || math.Abs(f.Ambient-20) > 1 || !math.IsNaN(f.Biot) {
+		t.Errorf("tau %v, ambient %g, Biot %g; want ≈300 s, ≈20 °C, NaN", f.TimeConstant, f.Ambient, f.Biot)
+	}
+	if got := f.Curve(secs(600)); math.Abs(got-curve(600)) > 0.5 {
+		t.Errorf("Curve(600 s) = %g, want %g", got, curve(600))
+	}
+	wantAt := []float64{trueCrossing(20, 180, 300, 50), trueCrossing(20, 180, 300, 21)}
+	for i, tf := range f.Targets {
+		at := tf.At.Sub(t0).Seconds()
+		if tf.State != StatePredicted || tf.Target.Name != targets[i].Name || math.Abs(at-wantAt[i]) > 0.05*wantAt[i] {
+			t.Errorf("target %s: %s at %.0f s, want predicted ≈ %.0f s", tf.Target.Name, tf.State, at, wantAt[i])
+		}
+	}
+	// The returned forecast is a copy: changing it leaves the tracker's alone.
+	f.Targets[0].State = StateReached
+	if tr.Forecast().Targets[0].State != StatePredicted {
+		t.Error("Forecast shares its Targets with the tracker")
+	}
+}
+
+func TestTrackerMeasuredAmbient(t *testing.T) {
+	tr := NewTracker([]Target{{Celsius: 30}}, TrackerOptions{})
+	for s := 0.0; s <= 200; s++ {
+		if s == 50 {
+			tr.SetAmbient(20) // readings before it take this first measured value
+		}
+		tr.Add(secs(s), curve(s))
+	}
+	f := tr.Fit()
+	if f.Params[0].Value != 20 || !math.IsNaN(f.Params[0].StdErr) {
+		t.Errorf("ambient param %+v, want measured 20 with NaN stderr", f.Params[0])
+	}
+	if math.Abs(f.Params[2].Value-300) > 1e-3 {
+		t.Errorf("tau = %g s on exact data, want 300", f.Params[2].Value)
+	}
+	if !strings.Contains(strings.Join(f.Notes, " "), "measured") {
+		t.Errorf("notes %q do not say the ambient is measured", f.Notes)
+	}
+}
+
+func TestTrackerSegments(t *testing.T) {
+	tr := NewTracker([]Target{{Celsius: 50}}, TrackerOptions{})
+	for s := 0.0; s <= 60; s++ {
+		tr.Add(secs(s), curve(s))
+	}
+	if f := tr.Forecast(); f == nil || !f.SegmentStart.Equal(t0) {
+		t.Fatalf("forecast %v, want one from t0", f)
+	}
+	// A fresh specimen at 200 °C is a step of more than 20 °C: a new segment.
+	tr.Add(secs(61), 200)
+	if f := tr.Forecast(); f != nil {
+		t.Fatalf("forecast from %v survived a new segment", f.SegmentStart)
+	}
+	for s := 62.0; s <= 81; s++ {
+		tr.Add(secs(s), curve(s-61))
+	}
+	// Scheduled fits of the new segment ran at 71 s and 81 s (every 10 s).
+	f := tr.Forecast()
+	if f == nil || !f.SegmentStart.Equal(secs(61)) || !f.FittedAt.Equal(secs(81)) || f.Points != 21 {
+		t.Fatalf("forecast from %v fitted at %v over %d points, want from 61 s, at 81 s over 21",
+			f.SegmentStart.Sub(t0), f.FittedAt.Sub(t0), f.Points)
+	}
+	// Out-of-order and non-finite readings are ignored.
+	tr.Add(secs(10), 100)
+	tr.Add(secs(82), math.NaN())
+	if s := tr.state(); s.Readings != 82 || s.LastCelsius != curve(20) {
+		t.Errorf("readings %d, last %g; want 82, %g", s.Readings, s.LastCelsius, curve(20))
+	}
+}
+
+func TestTrackerThinning(t *testing.T) {
+	tr := NewTracker(nil, TrackerOptions{MaxPoints: 16, FitEvery: time.Hour})
+	for s := 0.0; s < 100; s++ {
+		tr.Add(secs(s), curve(s))
+	}
+	if n := len(tr.pts); n > 16 || n < 8 {
+		t.Fatalf("%d points kept, want 8..16", n)
+	}
+	if tr.pts[0].t != 0 || tr.pts[len(tr.pts)-1].t != 99 {
+		t.Errorf("kept %v..%v s, want the first (0) and last (99) readings", tr.pts[0].t, tr.pts[len(tr.pts)-1].t)
+	}
+	for i := 1; i < len(tr.pts); i++ {
+		if tr.pts[i].t <= tr.pts[i-1].t {
+			t.Fatalf("thinned points out of order at %d: %v", i, tr.pts)
+		}
+	}
+	// The oldest readings are the sparsest.
+	if first, last := tr.pts[1].t-tr.pts[0].t, tr.pts[len(tr.pts)-1].t-tr.pts[len(tr.pts)-2].t; first <= last {
+		t.Errorf("spacing %v s at the start, %v s at the end: want coarser at the start", first, last)
+	}
+}
+
+// Mug of hot water (mosaicData CoolingWater via shared/realdata/README.md): not a single
+// exponential. The README's independent quick fit leaves about 1.5 K rms and a time
+// constant of about 48 minutes; the fit must find the misfit and say so.
+func TestTrackerMugMisfit(t *testing.T) {
+	minutes, temp := readMug(t)
+	tr := NewTracker([]Target{{Celsius: 40}}, TrackerOptions{})
+	for i := range minutes {
+		tr.Add(t0.Add(time.Duration(minutes[i]*float64(time.Minute))), temp[i])
+	}
+	f := tr.Fit()
+	if f.RMSE < 1 || f.RMSE > 2 {
+		t.Errorf("RMSE %.2f K, want about 1.5 (shared/realdata README)", f.RMSE)
+	}
+	if tau := f.TimeConstant.Minutes(); tau < 40 || tau > 56 {
+		t.Errorf("tau %.1f min, want about 48 (shared/realdata README)", tau)
+	}
+	if !strings.Contains(strings.Join(f.Notes, " "), "correlated") {
+		t.Errorf("notes %q do not flag the correlated residuals", f.Notes)
+	}
+}
