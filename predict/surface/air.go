@@ -34,12 +34,12 @@ type airRow struct {
 // Transfer", 6th ed., Table A.4 (air at 1 atm), columns converted to SI base units.
 //
 // Provenance: the 300, 350 and 400 K rows are those of shared/reference section 3.1
-// (PARTIAL there: book value from memory, identical in a public transcription). Every
+// (PARTIAL there: book value from memory, identical in a public copy of the table). Every
 // other row is typed from memory of the printed table and NOT checked against the page.
 // The tests guard them with the table's own identities (ν = μ/ρ, α = k/(ρ·cp),
 // Pr = ν/α, ρ·T constant at 1 atm) and against Sutherland's viscosity law.
 //
-// Known disagreement: the public transcription cited in shared/reference (S11, id
+// Known disagreement: the public copy of the table cited in shared/reference (S11, id
 // 20840128848, 100–600 K) has ρ = 1.7740 and 1.4184 kg/m³, ν = 7.47e-6 and 11.25e-6
 // m²/s at 200 and 250 K, and cp = 1039 at 550 K. Those ρ break ρ·T = constant by about
 // 2 %, and its 200 K Pr (0.730) disagrees with its own μ·cp/k (0.737), so the rows here
