@@ -30,14 +30,14 @@ type RangeError struct {
 	Note string
 }
 
-// Error names the type, the value and the valid range.
+// Error names the type, the value (to 8 significant digits) and the valid range.
 func (e *RangeError) Error() string {
 	unit, prec := "°C", -1
 	if e.Quantity == "EMF" {
 		unit, prec = "mV", 4
 	}
 	msg := fmt.Sprintf("thermocouple type %v: %s %s %s is outside the valid range %s to %s %s",
-		e.Type, e.Quantity, strconv.FormatFloat(e.Value, 'g', -1, 64), unit,
+		e.Type, e.Quantity, strconv.FormatFloat(e.Value, 'g', 8, 64), unit,
 		strconv.FormatFloat(e.Lo, 'f', prec, 64), strconv.FormatFloat(e.Hi, 'f', prec, 64), unit)
 	if e.Note != "" {
 		msg += " (" + e.Note + ")"
