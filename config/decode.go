@@ -128,13 +128,23 @@ func decodeProblems(err error) []*Problem {
 	return out
 }
 
+// leaves flattens the error tree of a decode: mapstructure wraps its errors.Join of
+// DecodeErrors in one fmt.Errorf ("decoding failed due to the following error(s)").
 func leaves(err error) []error {
-	if joined, ok := err.(interface{ Unwrap() []error }); ok {
+	if _, ok := err.(*mapstructure.DecodeError); ok {
+		return []error{err}
+	}
+	switch e := err.(type) {
+	case interface{ Unwrap() []error }:
 		var out []error
-		for _, e := range joined.Unwrap() {
-			out = append(out, leaves(e)...)
+		for _, inner := range e.Unwrap() {
+			out = append(out, leaves(inner)...)
 		}
 		return out
+	case interface{ Unwrap() error }:
+		if inner := e.Unwrap(); inner != nil && errors.As(inner, new(*mapstructure.DecodeError)) {
+			return leaves(inner)
+		}
 	}
 	return []error{err}
 }
@@ -198,7 +208,13 @@ func fieldByTag(t reflect.Type, tag string) (reflect.StructField, bool) {
 var yamlLine = regexp.MustCompile(`line (\d+): (.*)`)
 
 // yamlProblems turns a YAML parser error into problems with line numbers.
+//
+// For a syntax error go.yaml.in/yaml/v3 (v3.0.4, decode.go, parser.fail) reports the
+// line where the enclosing block starts, not the line of the mistake, which is often
+// a few lines further down; such a line is marked "near". The lines of "unmarshal
+// errors" (such as a key given twice) are exact.
 func yamlProblems(err error) []*Problem {
+	approx := !strings.HasPrefix(err.Error(), "yaml: unmarshal errors:")
 	var out []*Problem
 	for _, text := range strings.Split(err.Error(), "\n") {
 		text = strings.TrimSpace(strings.TrimPrefix(text, "yaml: "))
@@ -209,6 +225,7 @@ func yamlProblems(err error) []*Problem {
 		if m := yamlLine.FindStringSubmatch(text); m != nil {
 			p.Line, _ = strconv.Atoi(m[1])
 			p.Msg = m[2]
+			p.near = approx
 		}
 		if strings.Contains(p.Msg, "into map[string]interface {}") {
 			p.Msg = "the file must be a mapping of keys (listen, data_dir, loggers, channels)"

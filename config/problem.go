@@ -12,21 +12,27 @@ import (
 type Problem struct {
 	// File is the file name as given to Load or Parse; empty from Validate alone.
 	File string
-	// Line is the 1-based line in File, when known (YAML syntax errors); else 0.
+	// Line is the 1-based line in File, when known (YAML errors); else 0. For a
+	// syntax error it is where the parser noticed, at or above the mistake.
 	Line int
 	// Key is the key path, such as "loggers[0].line.columns[2].index"; empty when the
 	// problem concerns the whole file or the message names the key itself.
 	Key string
 	// Msg says what is wrong and, where it helps, what is wanted.
 	Msg string
+
+	near bool // Line is where the YAML parser noticed, not where the mistake is
 }
 
 // Error formats the problem as "FILE: line N: KEY: MSG", leaving out the parts that
-// are empty.
+// are empty; "near line N" for a YAML syntax error, whose line is approximate.
 func (p *Problem) Error() string {
 	var b strings.Builder
 	if p.File != "" {
 		b.WriteString(p.File + ": ")
+	}
+	if p.near {
+		b.WriteString("near ")
 	}
 	if p.Line > 0 {
 		fmt.Fprintf(&b, "line %d: ", p.Line)
