@@ -3,8 +3,8 @@
 //
 //   - systemd/settle.service: a hardened unit running `settle run` as the unprivileged
 //     user settle (group dialout for the serial ports), with the journal in
-//     /var/lib/settle (StateDirectory) and the config in /etc/settle; systemd/settle.sysusers
-//     creates the user.
+//     /var/lib/settle (StateDirectory) and the config in /etc/settle. systemd/settle.sysusers
+//     creates the user and systemd/settle-modules.conf loads the USB serial drivers at boot.
 //   - udev/99-settle-logger.rules: an example that gives each logger's USB adapter a
 //     stable name, /dev/settle/<rack>.
 //   - examples/*.yaml: example configurations for one bench and for a furnace room.

@@ -130,3 +130,25 @@ func TestSystemdAnalyzeSecurity(t *testing.T) {
 		t.Fatalf("systemd-analyze security %s: exposure above 2.5 or error: %v\n%s", unitPath, err, out)
 	}
 }
+
+// TestModulesLoadCoversDeviceAllow checks that every USB serial driver the unit allows by
+// name is loaded at boot by settle-modules.conf, so systemd finds its name in
+// /proc/devices when the service starts. (ttyS is built into common kernels.)
+func TestModulesLoadCoversDeviceAllow(t *testing.T) {
+	const modulesPath = "systemd/settle-modules.conf"
+	var modules []string
+	for line := range strings.Lines(readFile(t, modulesPath)) {
+		if line = strings.TrimSpace(line); line != "" && !strings.HasPrefix(line, "#") {
+			modules = append(modules, line)
+		}
+	}
+	// Driver name in /proc/devices → kernel module that registers it (Linux drivers
+	// usb/serial and usb/class/cdc-acm; from memory).
+	needs := map[string]string{"char-ttyUSB rw": "usbserial", "char-ttyACM rw": "cdc_acm"}
+	allowed := unitSettings(t, unitPath)["Service.DeviceAllow"]
+	for allow, module := range needs {
+		if slices.Contains(allowed, allow) && !slices.Contains(modules, module) {
+			t.Errorf("%s allows %q but %s does not load %s (has %v)", unitPath, allow, modulesPath, module, modules)
+		}
+	}
+}
