@@ -6,10 +6,14 @@
 // above 0 °C). Temperature evaluates NIST's inverse polynomials t(E), whose deviation
 // from the exact inverse stays within NIST's stated error bands (at most 0.06 °C, type K
 // above 500 °C). Where NIST gives no inverse polynomial but the reference function is
-// defined and monotonic (types E, K, N and T from −270 °C to −200 °C, and the last
-// fraction of a microvolt below the upper limits, which NIST prints truncated),
-// Temperature solves E(t) = E by safeguarded Newton iteration on the reference
-// function instead, to within 1e-6 °C. TemperatureExact always does the latter.
+// defined and monotonic (types E, K, N and T from −270 °C to −200 °C, and the
+// fraction of a microvolt between NIST's printed upper inverse limits, given to
+// 0.001 mV, and the reference function's value at the upper limit, e.g. type S from
+// 18.693 mV to E(1768.1 °C) = 18.69354 mV), Temperature solves E(t) = E by safeguarded
+// Newton iteration on the reference function instead, to within 1e-6 °C.
+// TemperatureExact always does the latter. An EMF up to EdgeSlack (0.0005 mV, half the
+// last digit of NIST's tables) beyond either end converts to the end temperature, so
+// that a table's own end values convert.
 //
 // Type B has no inverse below 250 °C: NIST gives none, and its reference function is
 // not monotonic below about 42 °C (E = 0 at 0 °C and again near 42 °C), so a type B

@@ -193,7 +193,7 @@ func Compensated(t Type, measuredMV, coldJunctionC float64) (float64, error) {
 
 func (sp *spec) emfRangeError(mV, lo, hi float64) error {
 	e := &RangeError{Type: sp.typ, Quantity: "EMF", Value: mV, Lo: lo, Hi: hi}
-	if sp.tInvLo > sp.tLo {
+	if sp.tInvLo > sp.tLo && mV < lo {
 		e.Note = fmt.Sprintf("no inverse below %g °C: the reference function is not monotonic there", sp.tInvLo)
 	}
 	return e

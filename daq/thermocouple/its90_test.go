@@ -277,6 +277,14 @@ func TestRangeErrors(t *testing.T) {
 	}
 }
 
+// TestRangeNoteOnlyBelow: type B's note on its missing low inverse belongs to low EMFs.
+func TestRangeNoteOnlyBelow(t *testing.T) {
+	_, err := Temperature(B, 14)
+	if !errors.Is(err, ErrOutOfRange) || strings.Contains(err.Error(), "no inverse") {
+		t.Errorf("Temperature(B, 14): error %v, want ErrOutOfRange without the low-end note", err)
+	}
+}
+
 // TestRangeLimitsInside checks that both ends of every range are accepted.
 func TestRangeLimitsInside(t *testing.T) {
 	for _, ty := range Types() {
