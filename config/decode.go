@@ -27,7 +27,7 @@ func checkValue(from, to reflect.Value) (any, error) {
 	switch to.Kind() {
 	case reflect.String:
 		if _, ok := data.(string); !ok {
-			return nil, wantGot("a string (quote it)", data)
+			return nil, wantString(data)
 		}
 	case reflect.Bool:
 		if _, ok := data.(bool); !ok {
@@ -83,6 +83,16 @@ func isNumber(data any) bool {
 		return true
 	}
 	return false
+}
+
+// wantString explains a non-string value where text belongs: a number or true/false
+// becomes text when quoted (name: "7"); a list or mapping cannot.
+func wantString(data any) error {
+	switch data.(type) {
+	case []any, map[string]any, map[any]any:
+		return wantGot("a string", data)
+	}
+	return wantGot("a string (put it in quotes)", data)
 }
 
 func wantGot(want string, data any) error {
@@ -157,7 +167,11 @@ func unknownKeys(parent string, keys []string) []*Problem {
 		if parent != "" {
 			path = parent + "." + k
 		}
-		out[i] = &Problem{Msg: fmt.Sprintf("unknown key %q (known keys here: %s)", path, known)}
+		msg := fmt.Sprintf("unknown key %q (known keys here: %s)", path, known)
+		if strings.Contains(k, ".") {
+			msg += "; write a dotted key as nested keys"
+		}
+		out[i] = &Problem{Msg: msg}
 	}
 	return out
 }

@@ -9,7 +9,7 @@ import (
 
 // FuzzParse feeds any bytes to Parse: it must never panic, a success must be a
 // configuration that validates, and every problem must name the file. The seed
-// corpus is every config under testdata/config plus testdata/fuzz/FuzzParse.
+// corpus is every config under the repository's testdata/config and the example.
 func FuzzParse(f *testing.F) {
 	seeds, _ := filepath.Glob(filepath.Join(testdataDir, "*", "*.yaml"))
 	for _, s := range seeds {

@@ -203,8 +203,9 @@ func TestProblems(t *testing.T) {
 	if len(ps) != 2 {
 		t.Fatalf("Problems = %v, want 2", ps)
 	}
-	if ps[0].Key != "channels" || ps[1].Key != "loggers" || ps[0].File != "p.yaml" {
-		t.Errorf("Problems keys = %q, %q in %q; want channels, loggers in p.yaml", ps[0].Key, ps[1].Key, ps[0].File)
+	// In the order of the file's keys: loggers before channels.
+	if ps[0].Key != "loggers" || ps[1].Key != "channels" || ps[0].File != "p.yaml" {
+		t.Errorf("Problems keys = %q, %q in %q; want loggers, channels in p.yaml", ps[0].Key, ps[1].Key, ps[0].File)
 	}
 	if got := Problems(errors.New("plain")); len(got) != 1 || got[0].Msg != "plain" {
 		t.Errorf("Problems(plain error) = %v", got)

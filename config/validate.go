@@ -41,35 +41,38 @@ func (c *Config) validate() []*Problem {
 	if strings.TrimSpace(c.DataDir) == "" {
 		k.add("data_dir", "must not be empty")
 	}
-	channels := c.checkChannels(k)
-	c.checkLoggers(k, channels)
+	index := c.channelIndex()
+	c.checkLoggers(k, index)
+	c.checkChannels(k, index)
 	return k.problems
 }
 
-// checkChannels checks every channel and returns the index of each channel name.
-func (c *Config) checkChannels(k *checker) map[string]int {
+// channelIndex maps each channel name to the index of its first channel.
+func (c *Config) channelIndex() map[string]int {
+	index := map[string]int{}
+	for i, ch := range c.Channels {
+		if _, dup := index[ch.Name]; !dup && ch.Name != "" {
+			index[ch.Name] = i
+		}
+	}
+	return index
+}
+
+// checkChannels checks every channel; index is from channelIndex.
+func (c *Config) checkChannels(k *checker, index map[string]int) {
 	if len(c.Channels) == 0 {
 		k.add("channels", "at least one channel is needed")
 	}
-	index := map[string]int{}
 	for i, ch := range c.Channels {
 		key := fmt.Sprintf("channels[%d]", i)
 		if ch.Name == "" {
 			k.add(key+".name", "must not be empty")
-			continue
-		}
-		if first, dup := index[ch.Name]; dup {
+		} else if first := index[ch.Name]; first != i {
 			k.add(key+".name", "duplicate channel %q (first at channels[%d])", ch.Name, first)
-			continue
 		}
-		index[ch.Name] = i
-	}
-	for i, ch := range c.Channels {
-		key := fmt.Sprintf("channels[%d]", i)
 		checkAmbient(k, key+".ambient", ch, index)
 		checkTargets(k, key, ch.Targets)
 	}
-	return index
 }
 
 func checkAmbient(k *checker, key string, ch Channel, index map[string]int) {
