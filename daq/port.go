@@ -1,0 +1,201 @@
+package daq
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"log/slog"
+	"syscall"
+	"time"
+
+	"go.bug.st/serial"
+)
+
+// Port handling defaults.
+const (
+	// DefaultBaud is the line speed used when config.Logger.Baud is 0.
+	DefaultBaud = 9600
+	// MaxLineBytes bounds one text line; a longer line is discarded and counted as a
+	// parse error (a logger at the wrong baud rate sends long runs without newlines).
+	MaxLineBytes = 4096
+	// readTimeout bounds one Read so that the loop sees its context end promptly.
+	readTimeout = 200 * time.Millisecond
+	// backoffMin and backoffMax bound the wait before reopening a lost port.
+	backoffMin = 100 * time.Millisecond
+	backoffMax = 5 * time.Second
+	// selectFDLimit is FD_SETSIZE: go.bug.st/serial waits with select(), whose fd_set
+	// holds descriptors below 1024 only; a larger one makes its Read panic.
+	selectFDLimit = 1024
+	// portFDs is how many descriptors serial.Open takes: the device and a pipe pair.
+	portFDs = 3
+)
+
+// errSelectLimit reports that opening a port would give a descriptor select() cannot
+// watch.
+var errSelectLimit = errors.New("daq: too many open files for select() (descriptor would be >= 1024)")
+
+// portOpener opens a serial port; tests substitute a fake.
+type portOpener func(path string, mode *serial.Mode) (serial.Port, error)
+
+// openSerial opens a real serial port after checking the select() headroom.
+//
+// go.bug.st/serial does not expose the port's descriptor, so the guard is twofold:
+// before opening, probe the lowest free descriptor (the kernel hands out the lowest
+// free one, so the port and its pipe get this one and the next ones) and refuse when
+// they would reach 1024; and safeRead turns a panic from Read into an error, should
+// another goroutine's open race the probe.
+func openSerial(path string, mode *serial.Mode) (serial.Port, error) {
+	if err := checkSelectHeadroom(); err != nil {
+		return nil, err
+	}
+	return serial.Open(path, mode)
+}
+
+// checkSelectHeadroom returns errSelectLimit when the next portFDs descriptors would
+// not all be below selectFDLimit.
+func checkSelectHeadroom() error {
+	fd, err := syscall.Open("/dev/null", syscall.O_RDONLY|syscall.O_CLOEXEC, 0)
+	if err != nil {
+		return nil // cannot probe; safeRead still guards
+	}
+	syscall.Close(fd)
+	if fd+portFDs > selectFDLimit {
+		return fmt.Errorf("%w: lowest free descriptor is %d", errSelectLimit, fd)
+	}
+	return nil
+}
+
+// safeRead calls p.Read and turns a panic (the select() descriptor limit) into an error.
+func safeRead(p serial.Port, buf []byte) (n int, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			n, err = 0, fmt.Errorf("%w: read panicked: %v", errSelectLimit, r)
+		}
+	}()
+	return p.Read(buf)
+}
+
+// backoff is an exponential wait: min, 2·min, … capped at max; reset after success.
+type backoff struct {
+	min, max, next time.Duration
+}
+
+// Next returns the wait before the next attempt and doubles the one after it.
+func (b *backoff) Next() time.Duration {
+	d := max(b.next, b.min)
+	b.next = min(2*d, b.max)
+	return d
+}
+
+// Reset makes the next wait the minimum again.
+func (b *backoff) Reset() { b.next = 0 }
+
+// lineSplitter cuts a byte stream into lines of at most limit bytes (without the '\n').
+type lineSplitter struct {
+	buf        []byte
+	limit      int
+	discarding bool // inside an overlong line: skip to the next '\n'
+}
+
+// Feed splits p into lines, calling emit for each complete one (the slice is only valid
+// during the call), and returns how many overlong lines it discarded.
+func (s *lineSplitter) Feed(p []byte, emit func(line []byte)) (overlong int) {
+	for len(p) > 0 {
+		i := bytes.IndexByte(p, '\n')
+		chunk := p
+		if i >= 0 {
+			chunk = p[:i]
+		}
+		if !s.discarding {
+			if len(s.buf)+len(chunk) > s.limit {
+				s.buf = s.buf[:0]
+				s.discarding = true
+				overlong++
+			} else {
+				s.buf = append(s.buf, chunk...)
+			}
+		}
+		if i < 0 {
+			return overlong
+		}
+		if !s.discarding {
+			emit(s.buf)
+		}
+		s.buf = s.buf[:0]
+		s.discarding = false
+		p = p[i+1:]
+	}
+	return overlong
+}
+
+// serialLines reads text lines from one serial port and survives its loss: on any
+// error it closes the port, marks it down, backs off and reopens.
+type serialLines struct {
+	path   string
+	baud   int
+	open   portOpener
+	status *portStatus
+	log    *slog.Logger
+}
+
+// Run reads until ctx ends, calling handle for each line with the host receive time.
+// It returns ctx.Err() and nothing else.
+func (s *serialLines) Run(ctx context.Context, handle func(line []byte, received time.Time)) error {
+	bo := backoff{min: backoffMin, max: backoffMax}
+	for attempt := 0; ; attempt++ {
+		if attempt > 0 {
+			s.status.reconnect()
+		}
+		gotData, err := s.session(ctx, handle)
+		s.status.setUp(false)
+		if ctx.Err() != nil {
+			return ctx.Err()
+		}
+		s.status.readError()
+		if gotData {
+			bo.Reset()
+		}
+		wait := bo.Next()
+		s.log.Warn("serial port down; will reopen", "port", s.path, "err", err, "retry_in", wait)
+		select {
+		case <-ctx.Done():
+			return ctx.Err()
+		case <-time.After(wait):
+		}
+	}
+}
+
+// session opens the port once and reads lines until an error or the end of ctx. It
+// reports whether any data arrived.
+func (s *serialLines) session(ctx context.Context, handle func([]byte, time.Time)) (gotData bool, err error) {
+	port, err := s.open(s.path, &serial.Mode{BaudRate: s.baud})
+	if err != nil {
+		return false, fmt.Errorf("open serial port %s: %w", s.path, err)
+	}
+	defer port.Close()
+	if err := port.SetReadTimeout(readTimeout); err != nil {
+		return false, fmt.Errorf("set read timeout on %s: %w", s.path, err)
+	}
+	_ = port.ResetInputBuffer() // stale bytes from before the open are not worth a line
+	s.status.setUp(true)
+	s.log.Info("serial port open", "port", s.path, "baud", s.baud)
+	buf := make([]byte, 1024)
+	split := lineSplitter{limit: MaxLineBytes}
+	for ctx.Err() == nil {
+		n, err := safeRead(port, buf)
+		if err != nil {
+			return gotData, fmt.Errorf("read serial port %s: %w", s.path, err)
+		}
+		if n == 0 {
+			continue // read timed out: no data yet
+		}
+		gotData = true
+		now := time.Now()
+		if dropped := split.Feed(buf[:n], func(line []byte) { handle(line, now) }); dropped > 0 {
+			s.status.parseErrors(uint64(dropped))
+			s.log.Warn("overlong line discarded", "port", s.path, "limit_bytes", MaxLineBytes)
+		}
+	}
+	return gotData, nil
+}
