@@ -1,0 +1,138 @@
+package exporter
+
+import (
+	"encoding/json"
+	"math"
+	"net/http"
+	"time"
+
+	"github.com/settle-lab/settle/predict"
+)
+
+// HandlingCautions are shown wherever settle reports a specimen ready to handle.
+var HandlingCautions = []string{
+	"This is an estimate from a fitted model, not a measurement of the whole specimen.",
+	"Verify the temperature with a contact thermometer before handling.",
+	"Wear protective gloves.",
+	"The core lags the surface: the inside can be much hotter than the thermocouple reads.",
+	"Your lab's own rules and local regulations take precedence.",
+}
+
+// ChannelsResponse is the body of GET /api/v1/channels.
+type ChannelsResponse struct {
+	GeneratedAt time.Time     `json:"generated_at"`
+	Channels    []ChannelJSON `json:"channels"`
+}
+
+// ChannelJSON is one channel in the API.
+type ChannelJSON struct {
+	Name     string        `json:"name"`
+	Ambient  string        `json:"ambient,omitempty"`
+	Latest   *ReadingJSON  `json:"latest"`
+	Forecast *ForecastJSON `json:"forecast"`
+	Targets  []TargetJSON  `json:"targets"`
+	Cautions []string      `json:"cautions,omitempty"`
+}
+
+// ReadingJSON is a channel's newest reading.
+type ReadingJSON struct {
+	Time    time.Time `json:"time"`
+	Celsius *float64  `json:"celsius"`
+	Status  string    `json:"status"`
+	Raw     string    `json:"raw,omitempty"`
+}
+
+// ForecastJSON is the fitted model of a channel.
+type ForecastJSON struct {
+	Model         string          `json:"model"`
+	Parameters    []predict.Param `json:"parameters"`
+	TimeConstantS *float64        `json:"time_constant_s"`
+	AmbientC      *float64        `json:"ambient_c"`
+	RMSEC         *float64        `json:"rmse_c"`
+	Biot          *float64        `json:"biot"`
+	OutOfRange    bool            `json:"out_of_range"`
+	Points        int             `json:"points"`
+	SegmentStart  time.Time       `json:"segment_start"`
+	FittedAt      time.Time       `json:"fitted_at"`
+	Notes         []string        `json:"notes"`
+}
+
+// TargetJSON is one target's forecast. Times are null where there is none.
+type TargetJSON struct {
+	Name     string     `json:"name"`
+	Kind     string     `json:"kind"`
+	Celsius  *float64   `json:"celsius"`
+	State    string     `json:"state"`
+	At       *time.Time `json:"at"`
+	Earliest *time.Time `json:"earliest"`
+	Latest   *time.Time `json:"latest"`
+}
+
+// Channels builds the API view of every channel from s.
+func Channels(s State, now time.Time) ChannelsResponse {
+	resp := ChannelsResponse{GeneratedAt: now.UTC(), Channels: []ChannelJSON{}}
+	if s.Bench == nil {
+		return resp
+	}
+	for _, ch := range s.Bench.Snapshot() {
+		resp.Channels = append(resp.Channels, channelJSON(s, ch))
+	}
+	return resp
+}
+
+func channelJSON(s State, ch predict.ChannelState) ChannelJSON {
+	out := ChannelJSON{Name: ch.Name, Ambient: ch.Ambient, Targets: []TargetJSON{}}
+	if s.Latest != nil {
+		if r, ok := s.Latest.Get(ch.Name); ok {
+			out.Latest = &ReadingJSON{Time: r.Time.UTC(), Status: r.Status.String(), Raw: r.Raw}
+			if r.OK() {
+				out.Latest.Celsius = num(r.Celsius)
+			}
+		}
+	}
+	f := ch.Forecast
+	if f == nil {
+		return out
+	}
+	out.Forecast = &ForecastJSON{
+		Model: f.Model, Parameters: f.Params, TimeConstantS: num(f.TimeConstant.Seconds()),
+		AmbientC: num(f.Ambient), RMSEC: num(f.RMSE), Biot: num(f.Biot),
+		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
+		FittedAt: f.FittedAt.UTC(), Notes: append([]string{}, f.Notes...),
+	}
+	for _, tf := range f.Targets {
+		out.Targets = append(out.Targets, TargetJSON{
+			Name: tf.Target.Name, Kind: TargetKind(tf.Target), Celsius: num(tf.Celsius),
+			State: string(tf.State), At: when(tf.At), Earliest: when(tf.Earliest), Latest: when(tf.Latest),
+		})
+		if tf.Target.Handling {
+			out.Cautions = HandlingCautions
+		}
+	}
+	return out
+}
+
+// num returns a pointer to v, or nil for NaN and infinities (JSON has no NaN).
+func num(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func when(t time.Time) *time.Time {
+	if t.IsZero() {
+		return nil
+	}
+	u := t.UTC()
+	return &u
+}
+
+func writeJSON(w http.ResponseWriter, status int, v any) {
+	w.Header().Set("Content-Type", "application/json; charset=utf-8")
+	w.Header().Set("Cache-Control", "no-store")
+	w.WriteHeader(status)
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	_ = enc.Encode(v) // the client may have gone; nothing useful to do with the error
+}
