@@ -1,0 +1,157 @@
+package journal
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"iter"
+	"math"
+	"time"
+
+	"github.com/settle-lab/settle/daq"
+)
+
+const readingCols = "c.logger, c.name, r.t, r.celsius, r.status, r.raw"
+
+// scanReading reads one row of readingCols.
+func scanReading(rows interface{ Scan(...any) error }) (daq.Reading, error) {
+	var (
+		r  daq.Reading
+		ns int64
+		c  sql.NullFloat64
+		st string
+	)
+	if err := rows.Scan(&r.Logger, &r.Channel, &ns, &c, &st, &r.Raw); err != nil {
+		return r, err
+	}
+	r.Time = time.Unix(0, ns)
+	r.Celsius = math.NaN()
+	if c.Valid {
+		r.Celsius = c.Float64
+	}
+	s, ok := daq.ParseStatus(st)
+	if !ok {
+		s = daq.Status(255) // String() gives "unknown"
+	}
+	r.Status = s
+	return r, nil
+}
+
+// Readings yields the committed readings of channel with from <= Time < to, oldest
+// first. A zero from or to leaves that end open. The error, if any, comes with a zero
+// reading as the last pair.
+func (j *Journal) Readings(channel string, from, to time.Time) iter.Seq2[daq.Reading, error] {
+	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
+		" WHERE c.name = ? AND r.t >= ? AND r.t < ? ORDER BY r.t, r.seq"
+	return j.query(fmt.Sprintf("readings of %s", channel), q, channel, lo(from), hi(to))
+}
+
+// Replay calls fn with every committed reading with Time >= since, of all channels, in
+// time order, so a restarted daemon can rebuild its trackers.
+func (j *Journal) Replay(since time.Time, fn func(daq.Reading)) error {
+	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
+		" WHERE r.t >= ? ORDER BY r.t, r.seq"
+	for r, err := range j.query("replay", q, lo(since)) {
+		if err != nil {
+			return err
+		}
+		fn(r)
+	}
+	return nil
+}
+
+// Latest returns the newest committed reading of every channel, by channel name.
+func (j *Journal) Latest() (map[string]daq.Reading, error) {
+	q := "SELECT " + readingCols + " FROM channels c JOIN readings r ON r.seq = " +
+		"(SELECT seq FROM readings WHERE channel_id = c.id ORDER BY t DESC, seq DESC LIMIT 1)"
+	out := map[string]daq.Reading{}
+	for r, err := range j.query("latest readings", q) {
+		if err != nil {
+			return nil, err
+		}
+		if old, ok := out[r.Channel]; !ok || r.Time.After(old.Time) {
+			out[r.Channel] = r
+		}
+	}
+	return out, nil
+}
+
+// Count returns the number of committed readings of channel (all channels when empty).
+func (j *Journal) Count(channel string) (int64, error) {
+	db, err := j.reader()
+	if err != nil {
+		return 0, err
+	}
+	q, args := "SELECT count(*) FROM readings", []any{}
+	if channel != "" {
+		q += " WHERE channel_id IN (SELECT id FROM channels WHERE name = ?)"
+		args = append(args, channel)
+	}
+	var n int64
+	if err := db.QueryRow(q, args...).Scan(&n); err != nil {
+		return 0, fmt.Errorf("journal %s: count readings: %w", j.path, err)
+	}
+	return n, nil
+}
+
+func (j *Journal) query(what, q string, args ...any) iter.Seq2[daq.Reading, error] {
+	return func(yield func(daq.Reading, error) bool) {
+		db, err := j.reader()
+		if err != nil {
+			yield(daq.Reading{}, err)
+			return
+		}
+		ctx, cancel := context.WithCancel(context.Background())
+		defer cancel()
+		rows, err := db.QueryContext(ctx, q, args...)
+		if err != nil {
+			yield(daq.Reading{}, fmt.Errorf("journal %s: %s: %w", j.path, what, err))
+			return
+		}
+		defer rows.Close()
+		for rows.Next() {
+			r, err := scanReading(rows)
+			if err != nil {
+				yield(daq.Reading{}, fmt.Errorf("journal %s: %s: %w", j.path, what, err))
+				return
+			}
+			if !yield(r, nil) {
+				return
+			}
+		}
+		if err := rows.Err(); err != nil {
+			yield(daq.Reading{}, fmt.Errorf("journal %s: %s: %w", j.path, what, err))
+		}
+	}
+}
+
+// lo and hi turn an optional time bound into Unix nanoseconds.
+func lo(t time.Time) int64 {
+	if t.IsZero() {
+		return math.MinInt64
+	}
+	return t.UnixNano()
+}
+
+func hi(t time.Time) int64 {
+	if t.IsZero() {
+		return math.MaxInt64
+	}
+	return t.UnixNano()
+}
+
+// nsTime turns a nullable Unix-nanosecond column into a time (zero for NULL).
+func nsTime(v sql.NullInt64) time.Time {
+	if !v.Valid {
+		return time.Time{}
+	}
+	return time.Unix(0, v.Int64)
+}
+
+// nsNull stores a zero time as NULL.
+func nsNull(t time.Time) sql.NullInt64 {
+	if t.IsZero() {
+		return sql.NullInt64{}
+	}
+	return sql.NullInt64{Int64: t.UnixNano(), Valid: true}
+}

@@ -1,0 +1,361 @@
+package journal
+
+import (
+	"context"
+	"database/sql"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+	"time"
+)
+
+// ErrRunActive is returned by StartRun when the channel already has an active run.
+var ErrRunActive = errors.New("journal: channel already has an active run")
+
+// ErrNoRun is returned when a run id or an active run does not exist.
+var ErrNoRun = errors.New("journal: no such run")
+
+// RunSpec describes a run to start.
+type RunSpec struct {
+	// ID names the run; empty means one made of the start time and the channel.
+	ID string `json:"id,omitempty"`
+	// Channel is the channel the specimen's thermocouple is on (required).
+	Channel string `json:"channel"`
+	// Specimen identifies the specimen (required), e.g. a lab sample number.
+	Specimen string `json:"specimen"`
+	// Description is free text.
+	Description string `json:"description,omitempty"`
+	// SpecimenSpec is the specimen description the models use (shape, size,
+	// material), as YAML or JSON text; stored as given.
+	SpecimenSpec string `json:"specimen_spec,omitempty"`
+	// Targets is the run's targets as a JSON array; stored as given.
+	Targets json.RawMessage `json:"targets,omitempty"`
+	// Origin says who started the run: "config", "cli", "api" or "auto".
+	Origin string `json:"origin,omitempty"`
+	// Start is the run's start; zero means now.
+	Start time.Time `json:"start,omitzero"`
+}
+
+// Run is a span of time during which a channel measures one specimen.
+type Run struct {
+	ID           string          `json:"id"`
+	Channel      string          `json:"channel"`
+	Specimen     string          `json:"specimen"`
+	Description  string          `json:"description,omitempty"`
+	SpecimenSpec string          `json:"specimen_spec,omitempty"`
+	Targets      json.RawMessage `json:"targets,omitempty"`
+	Origin       string          `json:"origin,omitempty"`
+	Started      time.Time       `json:"started"`
+	// Stopped is zero while the run is active.
+	Stopped time.Time `json:"stopped,omitzero"`
+	// Summary is computed when the run stops and kept after retention thins the
+	// readings; nil while active.
+	Summary *Summary `json:"summary,omitempty"`
+	// Pruned is "", "thinned" or "dropped": what retention did to the raw readings.
+	Pruned string `json:"pruned,omitempty"`
+}
+
+// Active reports whether the run has not stopped.
+func (r Run) Active() bool { return r.Stopped.IsZero() }
+
+// Summary condenses a run's readings.
+type Summary struct {
+	Readings int64     `json:"readings"`
+	Faults   int64     `json:"faults"`
+	First    time.Time `json:"first,omitzero"`
+	Last     time.Time `json:"last,omitzero"`
+	// The temperatures are of OK readings only; null without any.
+	FirstCelsius *float64 `json:"first_celsius"`
+	LastCelsius  *float64 `json:"last_celsius"`
+	MinCelsius   *float64 `json:"min_celsius"`
+	MaxCelsius   *float64 `json:"max_celsius"`
+}
+
+// RunFilter selects runs; zero fields do not filter.
+type RunFilter struct {
+	// Channel keeps the runs of one channel.
+	Channel string
+	// ActiveOnly keeps runs that have not stopped.
+	ActiveOnly bool
+	// From and To keep runs overlapping [From, To).
+	From, To time.Time
+	// Limit caps the number of runs, newest first. Zero means 1000.
+	Limit int
+}
+
+const runCols = "id, channel, specimen, description, specimen_spec, targets, origin, started, stopped, summary, pruned"
+
+func scanRun(row interface{ Scan(...any) error }) (Run, error) {
+	var (
+		r        Run
+		targets  string
+		started  int64
+		stopped  sql.NullInt64
+		summary  string
+		specText string
+	)
+	err := row.Scan(&r.ID, &r.Channel, &r.Specimen, &r.Description, &specText, &targets, &r.Origin, &started, &stopped, &summary, &r.Pruned)
+	if err != nil {
+		return r, err
+	}
+	r.SpecimenSpec = specText
+	if targets != "" {
+		r.Targets = json.RawMessage(targets)
+	}
+	r.Started, r.Stopped = time.Unix(0, started), nsTime(stopped)
+	if summary != "" {
+		r.Summary = new(Summary)
+		if err := json.Unmarshal([]byte(summary), r.Summary); err != nil {
+			return r, fmt.Errorf("run %s summary: %w", r.ID, err)
+		}
+	}
+	return r, nil
+}
+
+// StartRun starts a run. It fails with ErrRunActive when the channel has one.
+func (j *Journal) StartRun(spec RunSpec) (Run, error) {
+	if err := checkSpec(&spec); err != nil {
+		return Run{}, err
+	}
+	db, err := j.writeDB()
+	if err != nil {
+		return Run{}, err
+	}
+	ctx := context.Background()
+	tx, err := db.BeginTx(ctx, nil)
+	if err != nil {
+		return Run{}, fmt.Errorf("journal %s: start run: %w", j.path, err)
+	}
+	defer tx.Rollback()
+	var active string
+	switch err := tx.QueryRowContext(ctx, "SELECT id FROM runs WHERE channel = ? AND stopped IS NULL", spec.Channel).Scan(&active); {
+	case err == nil:
+		return Run{}, fmt.Errorf("start run on %s: run %s is active: %w", spec.Channel, active, ErrRunActive)
+	case !errors.Is(err, sql.ErrNoRows):
+		return Run{}, fmt.Errorf("journal %s: start run: %w", j.path, err)
+	}
+	id, err := freeID(ctx, tx, spec)
+	if err != nil {
+		return Run{}, fmt.Errorf("journal %s: start run: %w", j.path, err)
+	}
+	_, err = tx.ExecContext(ctx, "INSERT INTO runs (id, channel, specimen, description, specimen_spec, targets, origin, started) VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
+		id, spec.Channel, spec.Specimen, spec.Description, spec.SpecimenSpec, string(spec.Targets), spec.Origin, spec.Start.UnixNano())
+	if err != nil {
+		return Run{}, fmt.Errorf("journal %s: start run %s: %w", j.path, id, err)
+	}
+	if err := tx.Commit(); err != nil {
+		return Run{}, fmt.Errorf("journal %s: start run %s: %w", j.path, id, err)
+	}
+	return j.Run(id)
+}
+
+func checkSpec(spec *RunSpec) error {
+	switch {
+	case strings.TrimSpace(spec.Channel) == "":
+		return errors.New("start run: channel is empty")
+	case strings.TrimSpace(spec.Specimen) == "":
+		return errors.New("start run: specimen is empty")
+	case len(spec.Targets) > 0 && !json.Valid(spec.Targets):
+		return fmt.Errorf("start run on %s: targets are not valid JSON", spec.Channel)
+	}
+	if spec.Start.IsZero() {
+		spec.Start = time.Now()
+	}
+	return nil
+}
+
+// freeID returns spec.ID, or a new id "20060102T150405Z-channel" with a suffix when
+// taken.
+func freeID(ctx context.Context, tx *sql.Tx, spec RunSpec) (string, error) {
+	base := spec.ID
+	if base == "" {
+		base = spec.Start.UTC().Format("20060102T150405Z") + "-" + slug(spec.Channel)
+	}
+	for i := 1; i < 1000; i++ {
+		id := base
+		if i > 1 {
+			id = fmt.Sprintf("%s-%d", base, i)
+		}
+		var n int
+		if err := tx.QueryRowContext(ctx, "SELECT count(*) FROM runs WHERE id = ?", id).Scan(&n); err != nil {
+			return "", err
+		}
+		if n == 0 {
+			return id, nil
+		}
+		if spec.ID != "" {
+			return "", fmt.Errorf("run id %q is taken", id)
+		}
+	}
+	return "", fmt.Errorf("no free run id for %q", base)
+}
+
+// slug keeps letters, digits, '-', '_' and '.', replacing anything else with '_'.
+func slug(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r == '-' || r == '_' || r == '.' || r >= '0' && r <= '9' || r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z' {
+			return r
+		}
+		return '_'
+	}, s)
+}
+
+// StopRun stops the run id at the time at (zero: now), commits the readings queued so
+// far and stores the run's summary.
+func (j *Journal) StopRun(id string, at time.Time) (Run, error) {
+	if at.IsZero() {
+		at = time.Now()
+	}
+	run, err := j.Run(id)
+	if err != nil {
+		return Run{}, err
+	}
+	if !run.Active() {
+		return run, fmt.Errorf("stop run %s: stopped at %s already: %w", id, run.Stopped.Format(time.RFC3339), ErrNoRun)
+	}
+	if at.Before(run.Started) {
+		return Run{}, fmt.Errorf("stop run %s: stop time %s is before its start", id, at.Format(time.RFC3339))
+	}
+	_ = j.flush() // include what is queued; a failure is already in Health
+	run.Stopped = at
+	sum, err := j.summarize(run)
+	if err != nil {
+		return Run{}, err
+	}
+	if err := j.saveStop(run, sum); err != nil {
+		return Run{}, err
+	}
+	j.forgetForecasts(id)
+	return j.Run(id)
+}
+
+func (j *Journal) saveStop(run Run, sum Summary) error {
+	db, err := j.writeDB()
+	if err != nil {
+		return err
+	}
+	b, err := json.Marshal(sum)
+	if err != nil {
+		return fmt.Errorf("stop run %s: %w", run.ID, err)
+	}
+	_, err = db.Exec("UPDATE runs SET stopped = ?, summary = ? WHERE id = ? AND stopped IS NULL", run.Stopped.UnixNano(), string(b), run.ID)
+	if err != nil {
+		return fmt.Errorf("journal %s: stop run %s: %w", j.path, run.ID, err)
+	}
+	return nil
+}
+
+// summarize condenses the readings of run between its start and stop.
+func (j *Journal) summarize(run Run) (Summary, error) {
+	var s Summary
+	for r, err := range j.Readings(run.Channel, run.Started, run.Stopped.Add(1)) {
+		if err != nil {
+			return s, fmt.Errorf("summarize run %s: %w", run.ID, err)
+		}
+		s.add(r.Time, r.Celsius, r.OK())
+	}
+	return s, nil
+}
+
+func (s *Summary) add(t time.Time, c float64, ok bool) {
+	s.Readings++
+	if s.First.IsZero() {
+		s.First = t
+	}
+	s.Last = t
+	if !ok {
+		s.Faults++
+		return
+	}
+	v := c
+	if s.FirstCelsius == nil {
+		s.FirstCelsius, s.MinCelsius, s.MaxCelsius = &v, ptr(v), ptr(v)
+	}
+	s.LastCelsius = ptr(v)
+	*s.MinCelsius = math.Min(*s.MinCelsius, v)
+	*s.MaxCelsius = math.Max(*s.MaxCelsius, v)
+}
+
+func ptr(v float64) *float64 { return &v }
+
+// Run returns the run id, or an error wrapping ErrNoRun.
+func (j *Journal) Run(id string) (Run, error) {
+	db, err := j.reader()
+	if err != nil {
+		return Run{}, err
+	}
+	r, err := scanRun(db.QueryRow("SELECT "+runCols+" FROM runs WHERE id = ?", id))
+	if errors.Is(err, sql.ErrNoRows) {
+		return Run{}, fmt.Errorf("run %q: %w", id, ErrNoRun)
+	}
+	if err != nil {
+		return Run{}, fmt.Errorf("journal %s: run %s: %w", j.path, id, err)
+	}
+	return r, nil
+}
+
+// ActiveRun returns the active run of channel, or an error wrapping ErrNoRun.
+func (j *Journal) ActiveRun(channel string) (Run, error) {
+	runs, err := j.Runs(RunFilter{Channel: channel, ActiveOnly: true, Limit: 1})
+	if err != nil {
+		return Run{}, err
+	}
+	if len(runs) == 0 {
+		return Run{}, fmt.Errorf("no active run on channel %s: %w", channel, ErrNoRun)
+	}
+	return runs[0], nil
+}
+
+// Runs returns the runs matching f, newest first.
+func (j *Journal) Runs(f RunFilter) ([]Run, error) {
+	db, err := j.reader()
+	if err != nil {
+		return nil, err
+	}
+	q := "SELECT " + runCols + " FROM runs WHERE started < ? AND (stopped IS NULL OR stopped >= ?)"
+	args := []any{hi(f.To), lo(f.From)}
+	if f.Channel != "" {
+		q += " AND channel = ?"
+		args = append(args, f.Channel)
+	}
+	if f.ActiveOnly {
+		q += " AND stopped IS NULL"
+	}
+	if f.Limit <= 0 {
+		f.Limit = 1000
+	}
+	q += " ORDER BY started DESC, id LIMIT ?"
+	args = append(args, f.Limit)
+	rows, err := db.Query(q, args...)
+	if err != nil {
+		return nil, fmt.Errorf("journal %s: list runs: %w", j.path, err)
+	}
+	defer rows.Close()
+	var out []Run
+	for rows.Next() {
+		r, err := scanRun(rows)
+		if err != nil {
+			return nil, fmt.Errorf("journal %s: list runs: %w", j.path, err)
+		}
+		out = append(out, r)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("journal %s: list runs: %w", j.path, err)
+	}
+	return out, nil
+}
+
+// writeDB returns the write pool, or an error when the journal is read-only or not
+// open.
+func (j *Journal) writeDB() (*sql.DB, error) {
+	if j.opt.ReadOnly {
+		return nil, fmt.Errorf("%w: %s", ErrReadOnly, j.path)
+	}
+	db := j.writer()
+	if db == nil {
+		return nil, fmt.Errorf("%w: %s", ErrUnavailable, j.path)
+	}
+	return db, nil
+}
