@@ -64,3 +64,65 @@ func BenchmarkNewSeries(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkFitSeries2000 fits the constant-h series model to a 2,000-point noisy
+// curve (concrete, Bi = 2, Fo up to 1, ambient fitted). Goal (issue 4): < 2 ms.
+func BenchmarkFitSeries2000(b *testing.B) {
+	for _, c := range []struct {
+		shape  Shape
+		sensor Position
+	}{{Slab, Centre}, {Cylinder, Surface}, {Sphere, Centre}, {ShortCylinder, Surface}, {Cuboid, Centre}} {
+		b.Run(fmt.Sprintf("%v/%v", c.shape, c.sensor), func(b *testing.B) {
+			sp := concrete(c.shape, c.sensor)
+			until := sp.Size * sp.Size / sp.Diffusivity()
+			times, y := curve(truth(sp, 2, 200, 20, c.sensor), 2000, until, 0.2, 1)
+			for b.Loop() {
+				if _, err := FitSeries(sp, times, y, math.NaN()); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkFitFV2000 fits the FV model with h(Ts) to a 2,000-point noisy curve of
+// the hot concrete cylinder (600 °C, four hours, Bi from above 2 to below 0.5).
+// Goal (issue 4): < 50 ms.
+func BenchmarkFitFV2000(b *testing.B) {
+	for _, sensor := range []Position{Centre, Surface} {
+		for _, fitAmb := range []bool{false, true} {
+			b.Run(fmt.Sprintf("%v/fitted-ambient=%v", sensor, fitAmb), func(b *testing.B) {
+				sp := hotCylinder(sensor)
+				m := &FV{Shape: sp.Shape, Size: sp.Size, Conductivity: sp.Conductivity, Diffusivity: sp.Diffusivity(),
+					Ambient: 20, H: NaturalH(sp, 1.3, 20), Cells: 48}
+				tr, err := m.Run(600, 4*3600)
+				if err != nil {
+					b.Fatal(err)
+				}
+				times, y := curve(func(t float64) float64 { return tr.At(sensor, t) }, 2000, 4*3600, 0.3, 2)
+				amb := 20.0
+				if fitAmb {
+					amb = math.NaN()
+				}
+				for b.Loop() {
+					if _, err := FitFV(sp, times, y, amb); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
+
+// BenchmarkFVRun is one FV run of the hot cylinder over four hours at the default
+// grid (the unit of FitFV's cost).
+func BenchmarkFVRun(b *testing.B) {
+	sp := hotCylinder(Centre)
+	m := &FV{Shape: sp.Shape, Size: sp.Size, Conductivity: sp.Conductivity, Diffusivity: sp.Diffusivity(),
+		Ambient: 20, H: NaturalH(sp, 1, 20)}
+	for b.Loop() {
+		if _, err := m.Run(600, 4*3600); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

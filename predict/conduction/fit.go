@@ -108,9 +108,9 @@ func checkReadings(sp Specimen, times, celsius []float64, ambient float64) error
 //
 // For a fixed Bi the model is linear in the initial excess and the ambient, so
 // those are solved by linear least squares and only ln Bi is searched (variable
-// projection, DESIGN.md physics section 1): a half-decade grid over [MinFitBi,
-// MaxFitBi] and Brent's minimiser on a thinned copy of the curve (at most 256
-// points), then Brent again on the full curve near that minimum. Standard errors
+// projection, DESIGN.md physics section 1): a one-per-decade grid over
+// [MinFitBi, MaxFitBi] and Brent's minimiser on a thinned copy of the curve (at
+// most 256 points), then one parabolic step on the full curve. Standard errors
 // come from the Jacobian at the solution (central difference in ln Bi).
 func FitSeries(sp Specimen, times, celsius []float64, ambient float64) (*SeriesFit, error) {
 	if err := checkReadings(sp, times, celsius, ambient); err != nil {
@@ -123,7 +123,7 @@ func FitSeries(sp Specimen, times, celsius []float64, ambient float64) (*SeriesF
 	pr := &projector{sp: sp, fo: fo, y: celsius, ambient: ambient, minFo: minPositive(fo)}
 	u, atBound := pr.search()
 	f := &SeriesFit{Specimen: sp, N: len(times), AtBound: atBound}
-	pr.finish(f, u)
+	pr.finish(f, u, pr.slope)
 	return f, nil
 }
 
@@ -134,14 +134,15 @@ type projector struct {
 	ambient float64 // NaN: fitted
 	minFo   float64
 	theta   []float64 // scratch
+	slope   []float64 // dθ/d(ln Bi) from the parabolic step, nil if none
 	evals   int
 }
 
 // linear returns, for θ/θi values th, the least-squares ambient and initial excess
-// and the residual sum of squares over the readings idx (nil: all).
+// and the residual sum of squares over every stride-th reading.
 func (pr *projector) linear(th []float64, stride int) (amb, exc, ssr float64) {
 	var n, st, sy, stt, sty float64
-	for i := 0; i < len(th); i += stride {
+	for i := stride - 1; i < len(th); i += stride {
 		t, y := th[i], pr.y[i]
 		if !math.IsNaN(pr.ambient) {
 			y -= pr.ambient
@@ -165,23 +166,28 @@ func (pr *projector) linear(th []float64, stride int) (amb, exc, ssr float64) {
 		}
 		amb, exc = pr.ambient, sty/stt
 	}
-	for i := 0; i < len(th); i += stride {
+	for i := stride - 1; i < len(th); i += stride {
 		r := pr.y[i] - amb - exc*th[i]
 		ssr += r * r
 	}
 	return amb, exc, ssr
 }
 
-// thetaAt fills pr.theta with the sensor's θ/θi at every stride-th reading for Bi
-// = e^u and returns the model.
+// thetaAt fills pr.theta with the sensor's θ/θi at every stride-th reading (from
+// index stride−1, so a thinned curve skips the earliest readings and needs fewer
+// terms) for Bi = e^u and returns the model.
 func (pr *projector) thetaAt(u float64, stride int) seriesModel {
 	pr.evals++
-	m := newSeriesModel(pr.sp, math.Exp(u), pr.minFo, DefaultTerms)
+	minFo := pr.minFo
+	if stride > 1 {
+		minFo = math.Max(minFo, pr.fo[stride-1])
+	}
+	m := newSeriesModel(pr.sp, math.Exp(u), minFo, DefaultTerms)
 	c := m.curve(pr.sp.Sensor)
 	if pr.theta == nil {
 		pr.theta = make([]float64, len(pr.fo))
 	}
-	for i := 0; i < len(pr.fo); i += stride {
+	for i := stride - 1; i < len(pr.fo); i += stride {
 		pr.theta[i] = c.theta(pr.fo[i])
 	}
 	return m
@@ -194,11 +200,13 @@ func (pr *projector) ssr(u float64, stride int) float64 {
 	return s
 }
 
-// search returns the best ln Bi and whether it lies at the end of the range.
+// search returns the best ln Bi and whether it lies at the end of the range: a
+// one-per-decade grid and Brent's minimiser on a thinned curve (every stride-th
+// reading, at most 256), then one parabolic step on the full curve.
 func (pr *projector) search() (u float64, atBound bool) {
 	lo, hi := math.Log(MinFitBi), math.Log(MaxFitBi)
 	stride := max(1, (len(pr.fo)+255)/256)
-	step := math.Log(10) / 2
+	step := math.Log(10)
 	best, bestS := lo, math.Inf(1)
 	for v := lo; v <= hi+1e-9; v += step {
 		if s := pr.ssr(v, stride); s < bestS {
@@ -206,25 +214,51 @@ func (pr *projector) search() (u float64, atBound bool) {
 		}
 	}
 	a, b := math.Max(lo, best-step), math.Min(hi, best+step)
-	u = fmin(func(v float64) float64 { return pr.ssr(v, stride) }, a, b, 1e-4)
+	u = fmin(func(v float64) float64 { return pr.ssr(v, stride) }, a, b, 1e-3)
 	if stride > 1 {
-		u = fmin(func(v float64) float64 { return pr.ssr(v, 1) }, math.Max(lo, u-0.05), math.Min(hi, u+0.05), 1e-6)
+		u = pr.parabola(u, 0.02, lo, hi)
 	}
 	return u, u-lo < 1e-3 || hi-u < 1e-3
 }
 
+// parabola returns the vertex of the parabola through the full-curve objective at
+// u − d, u, u + d, kept within d of u and within [lo, hi]. It keeps the central
+// difference dθ/du in pr.slope for the standard errors: the vertex is within d of
+// u, and a slope from there changes the errors by far less than they are known to.
+func (pr *projector) parabola(u, d, lo, hi float64) float64 {
+	fm := pr.ssr(u-d, 1)
+	pr.slope = append(pr.slope[:0], pr.theta...)
+	fp := pr.ssr(u+d, 1)
+	for i, v := range pr.theta {
+		pr.slope[i] = (v - pr.slope[i]) / (2 * d)
+	}
+	f0 := pr.ssr(u, 1)
+	curv := fp + fm - 2*f0
+	if !(curv > 0) {
+		return u
+	}
+	v := u - d*(fp-fm)/(2*curv)
+	return math.Max(lo, math.Min(hi, math.Max(u-d, math.Min(u+d, v))))
+}
+
 // finish fills f from the solution u = ln Bi: parameters, standard errors, RMSE and
-// the curves for Temperature.
-func (pr *projector) finish(f *SeriesFit, u float64) {
+// the curves for Temperature. slope is dθ/d(ln Bi) near u, or nil to compute it
+// here by a central difference.
+func (pr *projector) finish(f *SeriesFit, u float64, slope []float64) {
+	if slope == nil {
+		const du = 1e-4
+		pr.thetaAt(u+du, 1)
+		slope = append([]float64(nil), pr.theta...)
+		pr.thetaAt(u-du, 1)
+		for i, v := range pr.theta {
+			slope[i] = (slope[i] - v) / (2 * du)
+		}
+	}
 	m := pr.thetaAt(u, 1)
-	th := append([]float64(nil), pr.theta...)
+	th := pr.theta
 	amb, exc, ssr := pr.linear(th, 1)
 	n := len(th)
-	// Jacobian columns: ln Bi (central difference), T0, and T∞ when fitted.
-	const du = 1e-4
-	pr.thetaAt(u+du, 1)
-	up := append([]float64(nil), pr.theta...)
-	pr.thetaAt(u-du, 1)
+	// Jacobian columns: ln Bi, T0, and T∞ when fitted.
 	cols := 2
 	if math.IsNaN(pr.ambient) {
 		cols = 3
@@ -232,7 +266,7 @@ func (pr *projector) finish(f *SeriesFit, u float64) {
 	jac := mat.NewDense(n, cols, nil)
 	r := make([]float64, n)
 	for i := range th {
-		jac.Set(i, 0, exc*(up[i]-pr.theta[i])/(2*du))
+		jac.Set(i, 0, exc*slope[i])
 		jac.Set(i, 1, th[i])
 		if cols == 3 {
 			jac.Set(i, 2, 1-th[i])
