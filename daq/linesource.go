@@ -30,7 +30,8 @@ var (
 const parseWarnEvery = 10 * time.Second
 
 // NewLineSource checks cfg and returns a source for it; nothing is opened until Run.
-// A nil log discards log output.
+// Log lines name the port; the caller adds the logger name to log (as NewSource's
+// callers do with log.With("logger", name)). A nil log discards log output.
 func NewLineSource(cfg config.Logger, log *slog.Logger) (*LineSource, error) {
 	if cfg.Format != "line" {
 		return nil, fmt.Errorf("logger %q: format %q: the line source reads format \"line\"", cfg.Name, cfg.Format)
@@ -48,7 +49,6 @@ func NewLineSource(cfg config.Logger, log *slog.Logger) (*LineSource, error) {
 	if log == nil {
 		log = slog.New(slog.DiscardHandler)
 	}
-	log = log.With("logger", cfg.Name)
 	baud := cfg.Baud
 	if baud == 0 {
 		baud = DefaultBaud
