@@ -221,13 +221,14 @@ func (r *LumpedResult) Value(t float64) float64 {
 const minExcessSE = 3
 
 // FitLumped fits the lumped-capacitance curve by variable projection: for a fixed τ
-// the ambient and θi enter linearly and are solved by least squares (QR, gonum/mat),
-// so only τ is searched. The search brackets the optimum on a grid in log τ and
-// refines it by golden-section search. It returns the result and result.Err().
+// the ambient and θi enter linearly and have a closed form (centred normal equations),
+// so only τ is searched: Gauss–Newton steps in ln τ from a three-window estimate,
+// with a grid in ln τ, regula falsi on the derivative and golden-section search as
+// the fallbacks. It returns the result and result.Err().
 //
 // The 1-D search is written here because gonum/optimize has no scalar minimiser (its
-// line searches need gradients and a descent direction); golden section needs neither
-// and is robust once the grid has bracketed the minimum.
+// line searches need gradients and a descent direction) and because one Gauss–Newton
+// step of the projected problem costs a single pass over the readings.
 func FitLumped(p LumpedProblem, settings *LumpedSettings) (LumpedResult, error) {
 	p.check()
 	var s LumpedSettings
@@ -251,6 +252,7 @@ func FitLumped(p LumpedProblem, settings *LumpedSettings) (LumpedResult, error) 
 		return res, res.Err()
 	}
 	v := newProjection(&p)
+	defer v.release()
 	tau, ok := v.search(s)
 	res.Evaluations = v.evals
 	res.Tau = tau
@@ -268,13 +270,13 @@ func FitLumped(p LumpedProblem, settings *LumpedSettings) (LumpedResult, error) 
 
 // finish fills the residual statistics and the covariance at the optimum.
 func (r *LumpedResult) finish(v *projection, p *LumpedProblem) {
-	amb, exc, ssr := v.solve(r.Tau)
-	res := v.residuals(amb, exc, r.Tau, nil)
-	r.RMSE = math.Sqrt(ssr / float64(r.N))
-	r.Sigma = math.Sqrt(ssr / float64(r.N-r.Free))
-	r.Rho = lag1(res)
-	r.Misfit = math.Sqrt(max(0, r.RMSE*r.RMSE-vonNeumann(res)))
-	cov, ok := covariance(p, amb, exc, r.Tau, r.Sigma)
+	amb, exc, _ := v.solve(r.Tau)
+	st := v.stats(amb, exc, r.Tau)
+	r.RMSE = math.Sqrt(st.ssr / float64(r.N))
+	r.Sigma = math.Sqrt(st.ssr / float64(r.N-r.Free))
+	r.Rho = st.rho
+	r.Misfit = math.Sqrt(max(0, r.RMSE*r.RMSE-st.vonNeumann))
+	cov, ok := covariance(v, p, exc, r.Tau, r.Sigma)
 	if !ok {
 		r.Status = FitSingular
 		return
@@ -289,61 +291,70 @@ func (r *LumpedResult) finish(v *projection, p *LumpedProblem) {
 
 func stdErr(cov *mat.SymDense, i int) float64 { return math.Sqrt(cov.At(i, i)) }
 
-// lag1 returns the lag-1 autocorrelation of r (0 when undefined).
-func lag1(r []float64) float64 {
-	var num, den float64
-	for i, x := range r {
-		den += x * x
+// residualStats summarises residuals in time order.
+type residualStats struct {
+	ssr        float64 // sum of squares
+	rho        float64 // lag-1 autocorrelation (0 when undefined)
+	vonNeumann float64 // half the mean squared successive difference (0 when undefined)
+}
+
+// stats computes the residual statistics of the curve (amb, exc, τ) in one pass.
+func (v *projection) stats(amb, exc, tau float64) residualStats {
+	v.decay(tau)
+	var st residualStats
+	var lag, diff, prev float64
+	for i, y := range v.y {
+		r := y - amb - exc*v.e[i]
+		st.ssr += r * r
 		if i > 0 {
-			num += x * r[i-1]
+			lag += r * prev
+			diff += (r - prev) * (r - prev)
 		}
+		prev = r
 	}
-	if den == 0 {
-		return 0
+	if st.ssr > 0 {
+		st.rho = lag / st.ssr
 	}
-	return num / den
+	if n := len(v.y); n > 1 {
+		st.vonNeumann = diff / float64(2*(n-1))
+	}
+	return st
 }
 
-// vonNeumann returns half the mean squared successive difference of r (0 when undefined).
-func vonNeumann(r []float64) float64 {
-	if len(r) < 2 {
-		return 0
+// covariance returns σ²·(JᵀJ)⁻¹ embedded in the 3×3 order ambient, excess, tau. JᵀJ is
+// summed directly from the Jacobian columns 1, e and θi·e·t/τ², and scaled to a unit
+// diagonal before the inversion for conditioning.
+func covariance(v *projection, p *LumpedProblem, exc, tau, sigma float64) (*mat.SymDense, bool) {
+	v.decay(tau)
+	var s1, se, see, sd, sed, sdd float64
+	c := exc / (tau * tau)
+	for i, e := range v.e {
+		d := c * e * p.Times[i]
+		se += e
+		see += e * e
+		sd += d
+		sed += e * d
+		sdd += d * d
 	}
-	var sum float64
-	for i := 1; i < len(r); i++ {
-		d := r[i] - r[i-1]
-		sum += d * d
-	}
-	return sum / float64(2*(len(r)-1))
-}
-
-// covariance returns σ²·(JᵀJ)⁻¹ embedded in the 3×3 order ambient, excess, tau. The
-// Jacobian columns are scaled to unit norm before the inversion for conditioning.
-func covariance(p *LumpedProblem, amb, exc, tau, sigma float64) (*mat.SymDense, bool) {
+	s1 = float64(len(v.e))
+	g := [3][3]float64{{s1, se, sd}, {se, see, sed}, {sd, sed, sdd}}
 	idx := freeIndexes(p)
-	n, k := len(p.Times), len(idx)
-	j := mat.NewDense(n, k, nil)
-	for i, t := range p.Times {
-		e := math.Exp(-t / tau)
-		d := [3]float64{1, e, exc * e * t / (tau * tau)}
-		for c, pi := range idx {
-			j.Set(i, c, d[pi])
-		}
-	}
+	k := len(idx)
 	scale := make([]float64, k)
-	for c := range k {
-		scale[c] = mat.Norm(j.ColView(c), 2)
-		if scale[c] == 0 || math.IsNaN(scale[c]) {
+	jtj := mat.NewSymDense(k, nil)
+	for a, pa := range idx {
+		scale[a] = math.Sqrt(g[pa][pa])
+		if scale[a] == 0 || math.IsNaN(scale[a]) {
 			return nil, false
 		}
-		for i := range n {
-			j.Set(i, c, j.At(i, c)/scale[c])
+	}
+	for a, pa := range idx {
+		for b := a; b < k; b++ {
+			jtj.SetSym(a, b, g[pa][idx[b]]/(scale[a]*scale[b]))
 		}
 	}
-	var jtj mat.SymDense
-	jtj.SymOuterK(1, j.T())
 	var ch mat.Cholesky
-	if !ch.Factorize(&jtj) {
+	if !ch.Factorize(jtj) {
 		return nil, false
 	}
 	var inv mat.SymDense

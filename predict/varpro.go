@@ -1,133 +1,433 @@
 package predict
 
 import (
-	"errors"
 	"math"
-
-	"gonum.org/v1/gonum/mat"
+	"sort"
+	"sync"
 )
 
 // projection evaluates the variable-projection objective of a LumpedProblem: for a
-// given τ it solves the linear parameters by least squares and returns the residual
-// sum of squares. Its matrices are reused across evaluations.
+// given τ the linear parameters (ambient and θi, or θi alone) have a closed form from
+// a few sums, so an evaluation is one pass to fill exp(−t/τ) and one pass for the
+// sums — no matrix is built. The sums are taken about the means (centred data), which
+// keeps the 2×2 normal equations of the constant-plus-exponential case well
+// conditioned: the centred form is the Schur complement of the constant column and
+// never subtracts two large, nearly equal totals.
 type projection struct {
-	p     *LumpedProblem
-	y     []float64 // readings, minus the ambient when it is known
-	e     []float64 // exp(−t/τ) at the last τ solved
-	tau   float64   // the τ of e
-	a     *mat.Dense
-	rhs   *mat.VecDense
-	x     *mat.VecDense
-	qr    mat.QR
-	evals int
+	p       *LumpedProblem
+	buf     []float64 // backing store of y, e and yc
+	y       []float64 // readings, minus the ambient when it is known
+	yc      []float64 // y minus its mean (fitted ambient only)
+	syy     float64   // Σ yc² (fitted ambient) or Σ y² (measured ambient)
+	ybar    float64   // mean of y
+	tbar    float64   // mean of the times
+	step    float64   // the common spacing of the times, 0 when they are not equally spaced
+	e       []float64 // exp(−t/τ) at the last τ filled
+	tau     float64   // the τ of e
+	last    projected // the latest evaluation, at lastTau
+	lastTau float64
+	evals   int
 }
 
+// projected is the outcome of one evaluation at a τ.
+type projected struct {
+	amb, exc float64 // the linear parameters (amb is 0 when the ambient is known)
+	ssr      float64 // residual sum of squares
+	slope    float64 // d ssr / d ln τ at the linear optimum
+	curv     float64 // Gauss–Newton approximation of d² ssr / d ln τ² (Kaufman 1975)
+}
+
+// buffers recycles the projection's work slices between fits, so a tracker refitting
+// every few seconds does not allocate three slices of its segment length each time.
+var buffers sync.Pool
+
+// newProjection prepares the objective of p. Call release when done with it.
 func newProjection(p *LumpedProblem) *projection {
 	n := len(p.Times)
-	v := &projection{p: p, y: make([]float64, n), e: make([]float64, n), tau: math.NaN()}
-	for i, c := range p.Celsius {
-		v.y[i] = c
-		if p.Ambient != nil {
-			v.y[i] -= p.Ambient[i]
+	var buf []float64
+	if b, ok := buffers.Get().(*[]float64); ok && cap(*b) >= 3*n {
+		buf = (*b)[:3*n]
+	} else {
+		buf = make([]float64, 3*n)
+	}
+	v := &projection{p: p, buf: buf, y: buf[:n:n], e: buf[n : 2*n : 2*n], yc: buf[2*n:], tau: math.NaN(), lastTau: math.NaN()}
+	copy(v.y, p.Celsius)
+	if p.Ambient != nil {
+		for i, a := range p.Ambient {
+			v.y[i] -= a
 		}
 	}
-	if k := p.free() - 1; k > 0 {
-		v.a = mat.NewDense(n, k, nil)
-		v.rhs = mat.NewVecDense(n, v.y)
-		v.x = mat.NewVecDense(k, nil)
+	v.ybar = mean(v.y)
+	v.tbar, v.step = spacing(p.Times)
+	switch p.free() {
+	case 3:
+		for i, y := range v.y {
+			d := y - v.ybar
+			v.yc[i] = d
+			v.syy += d * d
+		}
+	case 2:
+		for _, y := range v.y {
+			v.syy += y * y
+		}
 	}
 	return v
 }
 
-// solve returns the linear parameters for τ (the ambient is 0 when it is known, as y
-// already excludes it) and the residual sum of squares.
+// release hands the work slices back for reuse; v must not be used afterwards.
+func (v *projection) release() {
+	buf := v.buf
+	buffers.Put(&buf)
+	v.buf, v.y, v.e, v.yc = nil, nil, nil, nil
+}
+
+// solve returns the linear parameters for τ and the residual sum of squares.
 func (v *projection) solve(tau float64) (amb, exc, ssr float64) {
+	r := v.eval(tau)
+	return r.amb, r.exc, r.ssr
+}
+
+// eval solves the linear parameters at τ in closed form and returns them with the
+// residual sum of squares and its derivative in ln τ. By the variable-projection
+// theorem (Golub & Pereyra 1973) the derivative of the projected objective is the
+// partial derivative in τ with the linear parameters held at their optimum:
+// d ssr/d ln τ = −2·θi·Σ rᵢ·eᵢ·tᵢ/τ.
+func (v *projection) eval(tau float64) projected {
+	if tau == v.lastTau {
+		return v.last
+	}
 	v.evals++
 	v.decay(tau)
 	switch v.p.free() {
-	case 1:
-		exc = v.p.Excess
-	case 2:
-		for i, e := range v.e {
-			v.a.Set(i, 0, e)
-		}
-		if !v.lstsq() {
-			return 0, 0, math.Inf(1)
-		}
-		exc = v.x.AtVec(0)
 	case 3:
-		for i, e := range v.e {
-			v.a.Set(i, 0, 1)
-			v.a.Set(i, 1, e)
-		}
-		if !v.lstsq() {
-			return 0, 0, math.Inf(1)
-		}
-		amb, exc = v.x.AtVec(0), v.x.AtVec(1)
+		v.last = v.evalAmbient(tau)
+	case 2:
+		v.last = v.evalExcess(tau)
+	default:
+		v.last = v.evalFixed(tau)
 	}
-	for i, y := range v.y {
-		r := y - amb - exc*v.e[i]
-		ssr += r * r
-	}
-	return amb, exc, ssr
+	v.lastTau = tau
+	return v.last
 }
 
-// decay fills v.e with exp(−t/τ) unless it already holds it.
+// evalAmbient: constant ambient and θi fitted (centred 2×2 normal equations). The
+// decay values are taken about K = exp(−t̄/τ), which is close to their
+// mean, so the shifted sums lose no precision, and the readings are centred once in
+// newProjection.
+func (v *projection) evalAmbient(tau float64) projected {
+	k := math.Exp(-v.tbar / tau)
+	var s1, s2, sdy, set, seet, syet, seett float64
+	for i, e := range v.e {
+		t := v.p.Times[i]
+		d := e - k
+		s1 += d
+		s2 += d * d
+		sdy += d * v.yc[i]
+		et := e * t
+		set += et
+		seet += e * et
+		syet += v.yc[i] * et
+		seett += et * et
+	}
+	n := float64(len(v.y))
+	sxx := s2 - s1*s1/n
+	if !(sxx > 0) {
+		return projected{amb: v.ybar, ssr: v.syy}
+	}
+	ebar := k + s1/n
+	b := sdy / sxx
+	// ∂e/∂ln τ = e·t/τ projected off the columns 1 and e, for the Gauss–Newton curvature.
+	cross := seet - ebar*set
+	perp := seett - set*set/n - cross*cross/sxx
+	return projected{
+		amb:   v.ybar - b*ebar,
+		exc:   b,
+		ssr:   max(v.syy-b*sdy, 0),
+		slope: -2 * b * (syet - b*cross) / tau,
+		curv:  2 * b * b * perp / (tau * tau),
+	}
+}
+
+// evalExcess: ambient known, θi fitted (1×1 normal equation).
+func (v *projection) evalExcess(tau float64) projected {
+	var see, sey, syt, set, sett float64
+	for i, e := range v.e {
+		t := v.p.Times[i]
+		et := e * t
+		see += e * e
+		sey += e * v.y[i]
+		syt += v.y[i] * et
+		set += e * et
+		sett += et * et
+	}
+	if !(see > 0) {
+		return projected{ssr: v.syy}
+	}
+	b := sey / see
+	perp := sett - set*set/see
+	return projected{
+		exc:   b,
+		ssr:   max(v.syy-b*sey, 0),
+		slope: -2 * b * (syt - b*set) / tau,
+		curv:  2 * b * b * perp / (tau * tau),
+	}
+}
+
+// evalFixed: ambient and θi given, τ alone fitted.
+func (v *projection) evalFixed(tau float64) projected {
+	b := v.p.Excess
+	var ssr, s, sett float64
+	for i, e := range v.e {
+		et := e * v.p.Times[i]
+		r := v.y[i] - b*e
+		ssr += r * r
+		s += r * et
+		sett += et * et
+	}
+	return projected{exc: b, ssr: ssr, slope: -2 * b * s / tau, curv: 2 * b * b * sett / (tau * tau)}
+}
+
+// resync is how many consecutive decay factors are chained by multiplication before
+// exp(−t/τ) is computed afresh; it bounds the accumulated rounding to about
+// resync·2⁻⁵³ relative.
+const resync = 64
+
+// spacing returns the mean of ts and their common spacing, or 0 for the spacing when
+// successive differences vary by more than 1e-9 relative (beyond rounding of the times).
+func spacing(ts []float64) (avg, step float64) {
+	n := len(ts)
+	if n < 2 {
+		return mean(ts), 0
+	}
+	step = (ts[n-1] - ts[0]) / float64(n-1)
+	var sum float64
+	for i, t := range ts {
+		sum += t
+		if i > 0 && math.Abs(t-ts[i-1]-step) > 1e-9*step {
+			step = 0
+		}
+	}
+	return sum / float64(n), step
+}
+
+// decay fills v.e with exp(−t/τ) unless it already holds it. Equally spaced readings
+// (the usual case) take a factor exp(−Δt/τ) per step in four interleaved chains, so a
+// pass costs a multiplication per reading instead of an exp; other readings get one
+// exp each.
 func (v *projection) decay(tau float64) {
 	if tau == v.tau {
 		return
 	}
-	for i, t := range v.p.Times {
-		v.e[i] = math.Exp(-t / tau)
-	}
 	v.tau = tau
-}
-
-// lstsq solves a·x ≈ rhs; an ill-conditioned but solved system counts as solved.
-func (v *projection) lstsq() bool {
-	v.qr.Factorize(v.a)
-	err := v.qr.SolveVecTo(v.x, false, v.rhs)
-	var c mat.Condition
-	return err == nil || errors.As(err, &c)
-}
-
-// residuals writes y − amb − exc·exp(−t/τ) into dst (allocated when nil).
-func (v *projection) residuals(amb, exc, tau float64, dst []float64) []float64 {
-	if dst == nil {
-		dst = make([]float64, len(v.y))
+	ts, e := v.p.Times, v.e
+	if v.step == 0 || len(ts) < 8 {
+		for i, t := range ts {
+			e[i] = math.Exp(-t / tau)
+		}
+		return
 	}
-	v.decay(tau)
-	for i, y := range v.y {
-		dst[i] = y - amb - exc*v.e[i]
+	q4 := math.Exp(-4 * v.step / tau)
+	for i := 0; i < len(ts); i += resync {
+		end := min(i+resync, len(ts))
+		for j := i; j < min(i+4, end); j++ {
+			e[j] = math.Exp(-ts[j] / tau)
+		}
+		for j := i + 4; j+3 < end; j += 4 {
+			e[j], e[j+1], e[j+2], e[j+3] = e[j-4]*q4, e[j-3]*q4, e[j-2]*q4, e[j-1]*q4
+		}
+		for j := max(i+4, end-(end-i-4)%4); j < end; j++ {
+			e[j] = e[j-4] * q4
+		}
 	}
-	return dst
 }
 
 // search returns the τ minimising the projected residual sum of squares within
-// [TauMin, TauMax]; ok is false when the grid minimum sits at an end of the range.
+// [TauMin, TauMax]; ok is false when the minimum sits at an end of the range.
+//
+// It starts from a guess from the data (guess) and takes Gauss–Newton steps in ln τ
+// (newton). Should those not converge, it walks from the guess in ln τ until the objective's
+// derivative changes sign, and refines that bracket by regula falsi (Illinois
+// variant). When there is no guess or the walk leaves the range, a grid in ln τ
+// brackets the minimum instead.
 func (v *projection) search(s LumpedSettings) (tau float64, ok bool) {
 	lo, hi := math.Log(s.TauMin), math.Log(s.TauMax)
-	steps := max(2, int(math.Ceil((hi-lo)/math.Ln10*float64(s.GridPerDecade))))
-	best, bestSSR := 0, math.Inf(1)
-	for i := 0; i <= steps; i++ {
-		u := lo + (hi-lo)*float64(i)/float64(steps)
-		if _, _, ssr := v.solve(math.Exp(u)); ssr < bestSSR {
-			best, bestSSR = i, ssr
+	if u0, good := v.guess(); good && u0 > lo && u0 < hi {
+		if u, ok := v.newton(u0, lo, hi, s.TauTol); ok {
+			return math.Exp(u), true
+		}
+		if br, found := v.walk(u0, lo, hi); found {
+			if u, ok := v.illinois(br, s.TauTol); ok {
+				return math.Exp(u), true
+			}
 		}
 	}
+	return v.grid(lo, hi, s)
+}
+
+// guess estimates ln τ from the means of three equal time windows: for an exponential
+// sampled evenly, successive differences of the window means fall by exp(−w/τ) for
+// windows of width w, whatever the (constant) ambient. ok is false when the data do
+// not decay monotonically.
+func (v *projection) guess() (float64, bool) {
+	ts := v.p.Times
+	n := len(ts)
+	if n < 6 {
+		return 0, false
+	}
+	w := (ts[n-1] - ts[0]) / 3
+	i1 := sort.SearchFloat64s(ts, ts[0]+w)
+	i2 := sort.SearchFloat64s(ts, ts[0]+2*w)
+	if i1 == 0 || i2 == i1 || i2 == n {
+		return 0, false
+	}
+	m0, m1, m2 := mean(v.y[:i1]), mean(v.y[i1:i2]), mean(v.y[i2:])
+	ratio := (m1 - m2) / (m0 - m1)
+	if !(ratio > 0 && ratio < 1) {
+		return 0, false
+	}
+	return math.Log(-w / math.Log(ratio)), true
+}
+
+// mean returns the mean of xs (0 when empty).
+func mean(xs []float64) float64 {
+	if len(xs) == 0 {
+		return 0
+	}
+	var s float64
+	for _, x := range xs {
+		s += x
+	}
+	return s / float64(len(xs))
+}
+
+// maxNewton bounds the Gauss–Newton steps; from a good guess a small-residual fit
+// converges in two or three.
+const maxNewton = 8
+
+// newton takes Gauss–Newton steps on the projected objective in u = ln τ from u0
+// (each step at most 0.5 in u) until a step is under tol; ok is false when it has not
+// converged within maxNewton steps, leaves (lo, hi), or the objective's curvature is
+// not positive.
+func (v *projection) newton(u0, lo, hi, tol float64) (float64, bool) {
+	u := u0
+	for range maxNewton {
+		r := v.eval(math.Exp(u))
+		if !(r.curv > 0) {
+			return 0, false
+		}
+		du := max(-0.5, min(-r.slope/r.curv, 0.5))
+		if math.Abs(du) <= tol {
+			return u, true // within tol of the next step: keep the evaluated point
+		}
+		u += du
+		if !(u > lo && u < hi) {
+			return 0, false
+		}
+	}
+	return 0, false
+}
+
+// bracket is an interval [a, b] in u = ln τ with the objective's derivative fa < 0
+// at a and fb > 0 at b.
+type bracket struct{ a, b, fa, fb float64 }
+
+// firstStep is the walk's first step in ln τ: the guess is usually within a few
+// per cent, and the step doubles until the bracket is found.
+const firstStep = 0.02
+
+// walk steps from u0 in ln τ, doubling the step, until the objective's derivative goes
+// from negative to positive, and returns that bracket; found is false when the walk
+// reaches lo or hi first.
+func (v *projection) walk(u0, lo, hi float64) (bracket, bool) {
+	f := v.eval(math.Exp(u0)).slope
+	step := firstStep
+	if f > 0 {
+		step = -step
+	}
+	u := u0
+	for range 40 {
+		next := u + step
+		if next <= lo || next >= hi {
+			return bracket{}, false
+		}
+		fn := v.eval(math.Exp(next)).slope
+		switch {
+		case step > 0 && f < 0 && fn > 0:
+			return bracket{u, next, f, fn}, true
+		case step < 0 && fn < 0 && f > 0:
+			return bracket{next, u, fn, f}, true
+		}
+		u, f, step = next, fn, 2*step
+	}
+	return bracket{}, false
+}
+
+// grid brackets the minimum on a grid in ln τ over [lo, hi] and refines it; ok is
+// false when the grid minimum sits at an end of the range.
+func (v *projection) grid(lo, hi float64, s LumpedSettings) (tau float64, ok bool) {
+	steps := max(2, int(math.Ceil((hi-lo)/math.Ln10*float64(s.GridPerDecade))))
 	at := func(i int) float64 { return lo + (hi-lo)*float64(i)/float64(steps) }
+	best, bestSSR := 0, math.Inf(1)
+	for i := 0; i <= steps; i++ {
+		if r := v.eval(math.Exp(at(i))); r.ssr < bestSSR {
+			best, bestSSR = i, r.ssr
+		}
+	}
 	if best == 0 || best == steps {
 		return math.Exp(at(best)), false
 	}
-	u := v.golden(at(best-1), at(best+1), s.TauTol)
-	return math.Exp(u), true
+	a, b := at(best-1), at(best+1)
+	br := bracket{a, b, v.eval(math.Exp(a)).slope, v.eval(math.Exp(b)).slope}
+	if u, ok := v.illinois(br, s.TauTol); ok {
+		return math.Exp(u), true
+	}
+	return math.Exp(v.golden(a, b, s.TauTol)), true
+}
+
+// illinois finds the root of the objective's derivative in u = ln τ within the
+// bracket to an absolute tolerance tol in u; ok is false when the derivative does not
+// go from negative to positive across the bracket.
+func (v *projection) illinois(br bracket, tol float64) (float64, bool) {
+	a, b, fa, fb := br.a, br.b, br.fa, br.fb
+	if !(fa < 0 && fb > 0) {
+		return 0, false
+	}
+	side, prev := 0, math.NaN()
+	for range 200 {
+		c := (a*fb - b*fa) / (fb - fa)
+		if !(c > a && c < b) {
+			c = (a + b) / 2
+		}
+		fc := v.eval(math.Exp(c)).slope
+		switch {
+		case fc == 0:
+			return c, true
+		case fc < 0:
+			a, fa = c, fc
+			if side == -1 {
+				fb /= 2
+			}
+			side = -1
+		default:
+			b, fb = c, fc
+			if side == 1 {
+				fa /= 2
+			}
+			side = 1
+		}
+		if b-a <= tol || math.Abs(c-prev) <= tol/8 {
+			return c, true
+		}
+		prev = c
+	}
+	return (a + b) / 2, true
 }
 
 // golden minimises the objective over u = ln τ in [a, b] by golden-section search to
 // an absolute tolerance tol in u (a relative tolerance in τ).
 func (v *projection) golden(a, b, tol float64) float64 {
 	const r = 0.6180339887498949 // (√5 − 1)/2
-	f := func(u float64) float64 { _, _, ssr := v.solve(math.Exp(u)); return ssr }
+	f := func(u float64) float64 { return v.eval(math.Exp(u)).ssr }
 	c, d := b-r*(b-a), a+r*(b-a)
 	fc, fd := f(c), f(d)
 	for b-a > tol {
