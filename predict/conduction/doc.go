@@ -23,4 +23,24 @@
 //
 // The one-term form (OneTerm) is the cheap path for Fo > 0.2 (common practice; the
 // one-term error at Fo = 0.2 is below about 1.5 %, see the reference values).
+//
+// # Finite volume
+//
+// FV solves the slab, cylinder or sphere numerically (vertex-centred grid,
+// Crank–Nicolson after four backward-Euler steps, a hand-written tridiagonal solve)
+// with a surface coefficient that may depend on the surface temperature; NaturalH
+// gives the natural-convection-plus-radiation h(Ts) of predict/surface times a
+// scale factor. It is the model for hot and thick specimens, where h changes
+// several-fold during the cooling and Bi is not small.
+//
+// # Fitting
+//
+// A Specimen holds the shape (all five: Slab, Cylinder, Sphere, ShortCylinder,
+// Cuboid), its half-dimensions, ρ, c, k, ε and the sensor Position. FitSeries fits
+// the constant-h series (or product) model — Bi, the initial temperature and,
+// when not measured, the ambient — by variable projection on ln Bi. FitFV fits the
+// FV model's h scale, initial temperature and ambient by Levenberg–Marquardt,
+// starting from FitSeries. Both return a Fit: the temperature at any position and
+// time (so a surface thermocouple yields a core forecast) and Hottest, the point a
+// handling target must be judged on.
 package conduction
