@@ -148,6 +148,12 @@ func TestLineSourceFakePort(t *testing.T) {
 			t.Fatalf("got %d readings, want %d", len(got), 2*perSession)
 		}
 	}
+	// Each session has a short line and an overlong one; each ends in a read error, and
+	// the first reopen failed: wait for the second session to finish.
+	waitFor(t, "two sessions are over", func() bool {
+		st := src.Stats()
+		return st.ParseErrors >= 4 && st.ReadErrors >= 3
+	})
 	cancel()
 	if err := <-done; !errors.Is(err, context.Canceled) {
 		t.Errorf("Run returned %v, want context.Canceled", err)
@@ -158,11 +164,9 @@ func TestLineSourceFakePort(t *testing.T) {
 	if got[6].Status != StatusUnparsable || got[6].Raw != "OPEN" {
 		t.Errorf("third line S1 = %+v, want unparsable OPEN kept", got[6])
 	}
-	st := src.Stats()
-	// Two sessions, each with one short line and one overlong line; the third session
-	// may have started before cancel, so the counts are at least these.
-	if st.ParseErrors < 4 || st.Reconnects < 2 || st.ReadErrors < 3 || st.Up {
-		t.Errorf("stats = %+v, want ≥4 parse errors, ≥2 reconnects, ≥3 read errors, down", st)
+	// A third session may have started before cancel, so counts are lower bounds.
+	if st := src.Stats(); st.Reconnects < 2 || st.Up {
+		t.Errorf("stats = %+v, want ≥2 reconnects and down", st)
 	}
 	for i, p := range opener.ports {
 		if i < len(opener.ports)-1 && !p.closed {
