@@ -1,0 +1,21 @@
+package sim_test
+
+import (
+	"context"
+	"os"
+	"time"
+
+	"github.com/settle-lab/settle/daq/sim"
+)
+
+// Six physical seconds of the demo rack, written as fast as possible.
+func ExampleRun() {
+	s := sim.NewSim(sim.DemoScenario(), 2*time.Second, 1)
+	_ = sim.Run(context.Background(), os.Stdout, s, sim.Options{Duration: 6 * time.Second})
+	// Output:
+	// # t_s,steel-cyl-a,brass-sphere-b,alu-plate-c,alumina-tile-d,rack2-ambient
+	// 0.0,850.1,450.0,200.0,80.0,21.4
+	// 2.0,840.4,449.2,199.5,79.6,21.5
+	// 4.0,831.4,448.3,199.0,79.8,21.5
+	// 6.0,822.6,447.8,198.5,79.5,21.6
+}
