@@ -153,11 +153,13 @@ func (s *serialLines) Run(ctx context.Context, handle func(line []byte, received
 			return ctx.Err()
 		}
 		s.status.readError()
-		if gotData {
+		level := slog.LevelDebug // repeated failures while the cable is out: quiet
+		if gotData || attempt == 0 {
 			bo.Reset()
+			level = slog.LevelWarn
 		}
 		wait := bo.Next()
-		s.log.Warn("serial port down; will reopen", "port", s.path, "err", err, "retry_in", wait)
+		s.log.Log(ctx, level, "serial port down; will reopen", "port", s.path, "err", err, "retry_in", wait)
 		select {
 		case <-ctx.Done():
 			return ctx.Err()
