@@ -15,16 +15,14 @@ import (
 // Defaults filled in for keys the file leaves out.
 const (
 	// DefaultListen is the HTTP listen address. Loopback, so that a first run exposes
-	// nothing to the network; set listen (or SETTLE_LISTEN) to ":9464" to let a
+	// nothing to the network; set listen (or SETTLE_LISTEN) to ":8391" to let a
 	// Prometheus server on another host scrape it.
 	//
-	// Port 9464 was chosen by the team as outside the ports of the common Prometheus
-	// exporters (node 9100, blackbox 9115, …). Beware: 9464 is also the default port of
-	// the OpenTelemetry Prometheus exporter (OTEL_EXPORTER_PROMETHEUS_PORT; see the
-	// opentelemetry-python and @opentelemetry/exporter-prometheus documentation), so a
-	// host that runs an OpenTelemetry SDK with that exporter on its defaults collides
-	// with settle. Change listen on such a host.
-	DefaultListen = "127.0.0.1:9464"
+	// Port 8391: the Prometheus exporter range 9100–9999 is fully allocated, so settle
+	// sits outside it, on a port that no widely used exporter or server takes as its
+	// default, to the team's knowledge (from memory, not checked against a published
+	// list). Change listen where something else already uses it.
+	DefaultListen = "127.0.0.1:8391"
 	// DefaultDataDir holds the journal when data_dir is not given. It is relative to
 	// the working directory, so that a first try in a shell works without root and
 	// leaves its data where it was started. A service should set an absolute path: a

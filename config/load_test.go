@@ -83,13 +83,13 @@ func TestGoodConfigs(t *testing.T) {
 		want Config
 	}{
 		{"minimal.yaml", Config{
-			Listen:   "127.0.0.1:9464",
+			Listen:   "127.0.0.1:8391",
 			DataDir:  "settle-data",
 			Loggers:  []Logger{{Name: "bench-a", Port: "/dev/ttyUSB0", Baud: 9600, Format: "line", Line: oneColumn}},
 			Channels: []Channel{{Name: "plate-1"}},
 		}},
 		{"full.yaml", Config{
-			Listen:  ":19464",
+			Listen:  ":18391",
 			DataDir: "/var/lib/settle",
 			Loggers: []Logger{
 				{Name: "oven-rack", Port: "/dev/serial/by-id/usb-rack-if00-port0", Baud: 19200, Format: "line",
@@ -158,7 +158,7 @@ func TestEnvOverrides(t *testing.T) {
 	// An override is validated like the file.
 	t.Setenv(EnvListen, "nonsense")
 	_, err := Load(filepath.Join(testdataDir, "good", "minimal.yaml"))
-	want := `../testdata/config/good/minimal.yaml: listen: want host:port such as "127.0.0.1:9464" or ":9464", got "nonsense"`
+	want := `../testdata/config/good/minimal.yaml: listen: want host:port such as "127.0.0.1:8391" or ":8391", got "nonsense"`
 	if err == nil || err.Error() != want {
 		t.Errorf("bad SETTLE_LISTEN: err = %v, want %s", err, want)
 	}

@@ -36,7 +36,7 @@ func (k *checker) add(key, format string, args ...any) {
 func (c *Config) validate() []*Problem {
 	k := &checker{}
 	if _, _, err := net.SplitHostPort(c.Listen); err != nil {
-		k.add("listen", "want host:port such as %q or %q, got %q", DefaultListen, ":9464", c.Listen)
+		k.add("listen", "want host:port such as %q or %q, got %q", DefaultListen, ":8391", c.Listen)
 	}
 	if strings.TrimSpace(c.DataDir) == "" {
 		k.add("data_dir", "must not be empty")

@@ -15,5 +15,5 @@
 // The package has no API; its tests run promtool (check rules, test rules, check config)
 // and systemd-analyze (verify, security) when they are installed. A missing promtool
 // skips those tests locally and fails them when CI=true, so CI proves they ran.
-// ci-packages.txt lists the Debian packages CI installs for them, one per line.
+// .ci/packages.txt (at the top of the repository) lists the Debian packages CI installs for them, one per line.
 package deploy

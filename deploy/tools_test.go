@@ -9,7 +9,7 @@ import (
 
 // requireTool returns the path of an outside tool the tests run. A missing tool skips
 // the test locally; when CI=true it fails the test, so CI proves the check ran.
-// ciPackage names the Debian package that provides it (it must be in ci-packages.txt).
+// ciPackage names the Debian package that provides it (it must be in .ci/packages.txt).
 func requireTool(t *testing.T, name, ciPackage string) string {
 	t.Helper()
 	path, err := exec.LookPath(name)
@@ -17,7 +17,7 @@ func requireTool(t *testing.T, name, ciPackage string) string {
 		return path
 	}
 	if os.Getenv("CI") == "true" {
-		t.Fatalf("%s not found but CI=true: install Debian package %q (listed in deploy/ci-packages.txt): %v",
+		t.Fatalf("%s not found but CI=true: install Debian package %q (listed in .ci/packages.txt): %v",
 			name, ciPackage, err)
 	}
 	t.Skipf("%s not found (install Debian package %q to run this check; with CI=true this is a failure)",

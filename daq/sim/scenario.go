@@ -24,7 +24,7 @@ const (
 	// DemoLogger is the logger name used by DemoConfig.
 	DemoLogger = "rack2"
 	// DemoListen is a placeholder listen address; the wiring may override it.
-	DemoListen = "127.0.0.1:9464"
+	DemoListen = "127.0.0.1:8391"
 	// HandlingC is the demo's safe-to-handle target in °C (common practice for bare-hand
 	// contact with metal is lower still; this is an estimate, see the safety notes).
 	HandlingC = 50

@@ -357,7 +357,7 @@ func TestDemoConfig(t *testing.T) {
 	if lg.Name != "rack2" || lg.Port != "/dev/pts/9" || lg.Format != "line" || lg.Line.ClockColumn != 1 || lg.Line.Separator != "," {
 		t.Errorf("logger = %+v", lg)
 	}
-	if cfg.Listen != "127.0.0.1:9464" || cfg.DataDir != "" || len(cfg.Channels) != 5 {
+	if cfg.Listen != "127.0.0.1:8391" || cfg.DataDir != "" || len(cfg.Channels) != 5 {
 		t.Errorf("listen %q data_dir %q, %d channels; want placeholder listen, empty data dir, 5 channels", cfg.Listen, cfg.DataDir, len(cfg.Channels))
 	}
 	for _, ch := range cfg.Channels[:4] {
