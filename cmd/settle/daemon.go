@@ -1,0 +1,127 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"log/slog"
+	"net"
+	"net/http"
+	"sync"
+	"time"
+
+	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/predict"
+)
+
+// daemon wires acquisition, tracking and the HTTP endpoints together. It holds no logic
+// of its own beyond moving readings from the sources to the latest-reading table and
+// the bench.
+type daemon struct {
+	cfg     *config.Config
+	log     *slog.Logger
+	sources []daq.Source
+	bench   *predict.Bench
+	latest  *exporter.Latest
+	ln      net.Listener
+	srv     *http.Server
+}
+
+// newDaemon builds every source and the bench from cfg and binds the listen address, so
+// that configuration and port-in-use errors surface before anything starts running.
+func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
+	d := &daemon{cfg: cfg, log: log, latest: exporter.NewLatest()}
+	specs, err := predict.SpecsFromConfig(cfg.Channels)
+	if err != nil {
+		return nil, err
+	}
+	d.bench = predict.NewBench(specs, predict.TrackerOptions{})
+	for _, lc := range cfg.Loggers {
+		src, err := daq.NewSource(lc, log.With("logger", lc.Name))
+		if err != nil {
+			return nil, err
+		}
+		d.sources = append(d.sources, src)
+	}
+	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
+	d.srv = &http.Server{
+		Handler:           exporter.NewHandler(state, exporter.NewRegistry(state)),
+		ReadHeaderTimeout: 5 * time.Second,
+		ReadTimeout:       10 * time.Second,
+		WriteTimeout:      30 * time.Second,
+		IdleTimeout:       60 * time.Second,
+		MaxHeaderBytes:    16 << 10,
+	}
+	d.ln, err = net.Listen("tcp", cfg.Listen)
+	if err != nil {
+		return nil, fmt.Errorf("listen on %s (config key listen): %w", cfg.Listen, err)
+	}
+	return d, nil
+}
+
+// Addr is the address the HTTP server listens on.
+func (d *daemon) Addr() string { return d.ln.Addr().String() }
+
+func (d *daemon) portStats() []daq.PortStats {
+	var out []daq.PortStats
+	for _, s := range d.sources {
+		if r, ok := s.(daq.StatsReporter); ok {
+			out = append(out, r.Stats())
+		}
+	}
+	return out
+}
+
+// Run serves until ctx ends, then stops the sources, drains the readings already
+// received and shuts the HTTP server down with a timeout.
+func (d *daemon) Run(ctx context.Context) error {
+	readings := make(chan daq.Reading, 1024)
+	srcCtx, stopSources := context.WithCancel(ctx)
+	defer stopSources()
+	var wg sync.WaitGroup
+	for _, s := range d.sources {
+		wg.Add(1)
+		go func(s daq.Source) {
+			defer wg.Done()
+			if err := s.Run(srcCtx, readings); err != nil && !errors.Is(err, context.Canceled) {
+				d.log.Error("logger stopped", "logger", s.Name(), "err", err)
+			}
+		}(s)
+	}
+	go func() { wg.Wait(); close(readings) }()
+
+	httpErr := make(chan error, 1)
+	go func() { httpErr <- d.srv.Serve(d.ln) }()
+	d.log.Info("serving", "addr", d.Addr(), "loggers", len(d.sources), "channels", len(d.cfg.Channels))
+
+	consumed := make(chan struct{})
+	go func() { d.consume(readings); close(consumed) }()
+
+	var err error
+	select {
+	case <-ctx.Done():
+	case err = <-httpErr:
+		err = fmt.Errorf("http server on %s: %w", d.Addr(), err)
+	}
+	stopSources()
+	<-consumed
+	shutCtx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	if serr := d.srv.Shutdown(shutCtx); serr != nil && err == nil {
+		err = fmt.Errorf("http shutdown: %w", serr)
+	}
+	d.log.Info("stopped")
+	return err
+}
+
+// consume moves readings to the latest-reading table and, when valid, to the bench.
+func (d *daemon) consume(readings <-chan daq.Reading) {
+	for r := range readings {
+		d.latest.Record(r)
+		if r.OK() {
+			d.bench.Observe(r.Channel, r.Time, r.Celsius)
+		}
+	}
+}
