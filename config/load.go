@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"sync/atomic"
+	"time"
 
 	"github.com/go-viper/mapstructure/v2"
 	"github.com/spf13/viper"
@@ -37,7 +38,7 @@ const (
 	DefaultSeparator = ","
 )
 
-// Environment variables that override the file. Only these two exist: viper needs an
+// Environment variables that override the file. Only these exist: viper needs an
 // explicit bind for every key, and list items (loggers, channels) have no stable name
 // to bind.
 const (
@@ -45,7 +46,12 @@ const (
 	EnvListen = "SETTLE_LISTEN"
 	// EnvDataDir overrides data_dir.
 	EnvDataDir = "SETTLE_DATA_DIR"
+	// EnvToken overrides http.token, so the secret need not sit in the file.
+	EnvToken = "SETTLE_TOKEN"
 )
+
+// DefaultCommitInterval is the journal's default commit interval.
+const DefaultCommitInterval = time.Second
 
 // MaxFileSize bounds a configuration file; a larger file is refused before parsing.
 const MaxFileSize = 1 << 20
@@ -119,6 +125,9 @@ func readYAML(data []byte) (*viper.Viper, []*Problem) {
 	// BindEnv only fails without a key name; these calls always have one.
 	_ = v.BindEnv("listen", EnvListen)
 	_ = v.BindEnv("data_dir", EnvDataDir)
+	_ = v.BindEnv("http.token", EnvToken)
+	v.SetDefault("journal.commit_interval", DefaultCommitInterval.String())
+	v.SetDefault("display.units", "C")
 	if err := v.ReadConfig(bytes.NewReader(data)); err != nil {
 		var pe viper.ConfigParseError
 		if errors.As(err, &pe) {

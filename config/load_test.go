@@ -75,6 +75,9 @@ func TestBadConfigs(t *testing.T) {
 
 func ptr(f float64) *float64 { return &f }
 
+// defaultJournal is the journal section a file without one decodes to.
+var defaultJournal = Journal{CommitInterval: DefaultCommitInterval}
+
 func TestGoodConfigs(t *testing.T) {
 	clearEnv(t)
 	oneColumn := LineFormat{Separator: ",", Columns: []Column{{Index: 1, Channel: "plate-1"}}}
@@ -87,6 +90,8 @@ func TestGoodConfigs(t *testing.T) {
 			DataDir:  "settle-data",
 			Loggers:  []Logger{{Name: "bench-a", Port: "/dev/ttyUSB0", Baud: 9600, Format: "line", Line: oneColumn}},
 			Channels: []Channel{{Name: "plate-1"}},
+			Journal:  defaultJournal,
+			Display:  Display{Units: "C"},
 		}},
 		{"full.yaml", Config{
 			Listen:  ":18391",
@@ -108,6 +113,8 @@ func TestGoodConfigs(t *testing.T) {
 					{Name: "test", Celsius: ptr(-18), Within: ptr(0.5), Hold: 90 * time.Minute},
 				}},
 			},
+			Journal: defaultJournal,
+			Display: Display{Units: "C"},
 		}},
 	}
 	for _, tt := range tests {

@@ -12,6 +12,58 @@ type Config struct {
 	Loggers []Logger `mapstructure:"loggers"`
 	// Channels describe what each channel measures and its targets.
 	Channels []Channel `mapstructure:"channels"`
+	// Journal tunes the record of readings (commit interval, retention).
+	Journal Journal `mapstructure:"journal"`
+	// HTTP secures the HTTP server (token for state-changing requests, TLS).
+	HTTP HTTP `mapstructure:"http"`
+	// Notify lists where notifications go.
+	Notify Notify `mapstructure:"notify"`
+	// Display sets how the status page shows values.
+	Display Display `mapstructure:"display"`
+}
+
+// Journal tunes the SQLite record of readings in data_dir.
+type Journal struct {
+	// CommitInterval is the longest a reading waits before it is committed; a crash
+	// loses at most this much (default 1s).
+	CommitInterval time.Duration `mapstructure:"commit_interval"`
+	// Retention is the age after which raw readings of finished runs are thinned; 0
+	// keeps everything (run summaries are always kept).
+	Retention time.Duration `mapstructure:"retention"`
+}
+
+// HTTP secures the HTTP server.
+type HTTP struct {
+	// Token is the bearer token that requests changing state (start or stop a run,
+	// annotate) must carry. Empty: such requests are refused. SETTLE_TOKEN overrides it.
+	Token string `mapstructure:"token"`
+	// TLSCert and TLSKey are PEM files; when both are set the server speaks HTTPS.
+	TLSCert string `mapstructure:"tls_cert"`
+	TLSKey  string `mapstructure:"tls_key"`
+}
+
+// Notify lists notification receivers.
+type Notify struct {
+	// Webhooks receive a JSON POST per event.
+	Webhooks []Webhook `mapstructure:"webhooks"`
+}
+
+// Webhook is one HTTP receiver of notifications.
+type Webhook struct {
+	// Name identifies the webhook in logs and metrics.
+	Name string `mapstructure:"name"`
+	// URL is where events are POSTed (http or https).
+	URL string `mapstructure:"url"`
+	// LeadTime sends a "soon" event when a forecast falls below it (0: no such event).
+	LeadTime time.Duration `mapstructure:"lead_time"`
+	// Events selects the event kinds: reached, soon, fault (empty: all).
+	Events []string `mapstructure:"events"`
+}
+
+// Display sets how the status page shows values; metrics stay in base units.
+type Display struct {
+	// Units is "C" (default) or "F".
+	Units string `mapstructure:"units"`
 }
 
 // Logger is one data logger on one serial port.
@@ -58,15 +110,16 @@ type Channel struct {
 	Targets []Target `mapstructure:"targets"`
 }
 
-// Target is a temperature to forecast: either a fixed Celsius value or a band Within
-// °C of the settling temperature.
+// Target is a temperature to forecast: a fixed Celsius value, a band Within °C of the
+// settling temperature, or (with Hold) a band Within °C of Celsius held for Hold.
 type Target struct {
 	// Name identifies the target within its channel.
 	Name string `mapstructure:"name"`
-	// Celsius is a fixed target temperature (nil when Within is used).
+	// Celsius is a fixed target temperature. With Within and Hold it is the centre of
+	// a band the channel must stay in for the hold time.
 	Celsius *float64 `mapstructure:"celsius"`
-	// Within is a band half-width in °C around the settling temperature (nil when
-	// Celsius is used).
+	// Within is a band half-width in °C: around Celsius when that is given, else
+	// around the temperature the channel settles toward.
 	Within *float64 `mapstructure:"within"`
 	// Hold is how long the temperature must stay in the band (optional).
 	Hold time.Duration `mapstructure:"hold"`

@@ -44,6 +44,7 @@ func (c *Config) validate() []*Problem {
 	index := c.channelIndex()
 	c.checkLoggers(k, index)
 	c.checkChannels(k, index)
+	c.checkServices(k)
 	return k.problems
 }
 
