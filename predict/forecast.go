@@ -55,11 +55,20 @@ func Inflation(rho, limit float64) float64 {
 //
 // The ambient is assumed to stay at fit.Ambient from the last reading on.
 func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
+	var m fitted
+	if fit != nil && fit.Status == FitSuccess {
+		m = lumpedFitted{fit}
+	}
+	return forecastTargets(m, p, start, targets, s)
+}
+
+// forecastTargets forecasts each target from a fitted model (nil when there is none).
+func forecastTargets(m fitted, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
 	var is IntervalSettings
 	if s != nil {
 		is = *s
 	}
-	f := newForecaster(fit, p, start, is.withDefaults())
+	f := newForecaster(m, p, start, is.withDefaults())
 	out := make([]TargetForecast, len(targets))
 	for i, tg := range targets {
 		out[i] = f.target(tg)
@@ -67,9 +76,51 @@ func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, target
 	return out
 }
 
+// fitted is what the forecaster needs of a successful fit.
+type fitted interface {
+	// ambient is the settling temperature, °C; side is +1 cooling, −1 heating.
+	ambient() float64
+	side() float64
+	// crossing returns the time the curve reaches level (°C), the gradient-based
+	// variance of that time from the parameter covariance (a Within level moves with
+	// the ambient), and the curve's rate |dT/dt| there; ok is false when the curve
+	// never reaches it.
+	crossing(level float64, within bool) (t, variance, rate float64, ok bool)
+	// residuals returns the lag-1 autocorrelation and the misfit of the residuals.
+	residuals() (rho, misfit float64)
+}
+
+// lumpedFitted adapts a successful LumpedResult.
+type lumpedFitted struct{ r *LumpedResult }
+
+func (l lumpedFitted) ambient() float64                 { return l.r.Ambient }
+func (l lumpedFitted) side() float64                    { return sign(l.r.Excess) }
+func (l lumpedFitted) residuals() (rho, misfit float64) { return l.r.Rho, l.r.Misfit }
+
+func (l lumpedFitted) crossing(level float64, within bool) (t, variance, rate float64, ok bool) {
+	fit := l.r
+	excess := level - fit.Ambient
+	if sign(excess) != sign(fit.Excess) {
+		return 0, 0, 0, false
+	}
+	tStar := fit.Tau * math.Log(fit.Excess/excess)
+	// Gradient of t* = τ·ln(θi/(L − Tamb)) in (Tamb, θi, τ); a Within level moves with
+	// the ambient, so its ambient derivative is zero.
+	g := [3]float64{fit.Tau / excess, fit.Tau / fit.Excess, tStar / fit.Tau}
+	if within {
+		g[0] = 0
+	}
+	for a := range 3 {
+		for b := range 3 {
+			variance += g[a] * fit.Cov.At(a, b) * g[b]
+		}
+	}
+	return tStar, variance, math.Abs(excess) / fit.Tau, true
+}
+
 // forecaster holds what the per-target forecasts share.
 type forecaster struct {
-	fit     *LumpedResult // nil unless the fit succeeded
+	fit     fitted // nil unless the fit succeeded
 	p       *LumpedProblem
 	start   time.Time
 	side    float64 // +1 settling downward (cooling), −1 upward (heating), 0 unknown
@@ -77,12 +128,12 @@ type forecaster struct {
 	s       IntervalSettings
 }
 
-func newForecaster(fit *LumpedResult, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
+func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
 	f := &forecaster{p: p, start: start, s: s, ambient: math.NaN()}
 	n := len(p.Celsius)
 	switch {
-	case fit != nil && fit.Status == FitSuccess:
-		f.fit, f.ambient, f.side = fit, fit.Ambient, sign(fit.Excess)
+	case fit != nil:
+		f.fit, f.ambient, f.side = fit, fit.ambient(), fit.side()
 	case p.Ambient != nil && n > 0:
 		f.ambient = p.Ambient[n-1]
 		f.side = sign(p.Celsius[n-1] - f.ambient)
@@ -122,12 +173,7 @@ func (f *forecaster) target(tg Target) TargetForecast {
 	if f.fit == nil {
 		return out
 	}
-	excess := out.Celsius - f.fit.Ambient
-	if f.side*excess <= 0 {
-		out.State = StateUnreachable
-		return out
-	}
-	return f.predicted(out, excess)
+	return f.predicted(out)
 }
 
 // entry returns the index of the reading at which the data entered the target's side:
@@ -167,24 +213,16 @@ func (f *forecaster) observed(out TargetForecast, entry int) TargetForecast {
 	return out
 }
 
-// predicted fills a predicted forecast for a target at excess over the ambient.
-func (f *forecaster) predicted(out TargetForecast, excess float64) TargetForecast {
-	fit := f.fit
-	tStar := fit.Tau * math.Log(fit.Excess/excess)
-	// Gradient of t* = τ·ln(θi/(L − Tamb)) in (Tamb, θi, τ); a Within level moves with
-	// the ambient, so its ambient derivative is zero.
-	g := [3]float64{fit.Tau / excess, fit.Tau / fit.Excess, tStar / fit.Tau}
-	if out.Target.IsWithin() {
-		g[0] = 0
+// predicted fills a predicted (or unreachable) forecast.
+func (f *forecaster) predicted(out TargetForecast) TargetForecast {
+	tStar, v, rate, ok := f.fit.crossing(out.Celsius, out.Target.IsWithin())
+	if !ok {
+		out.State = StateUnreachable
+		return out
 	}
-	var v float64
-	for a := range 3 {
-		for b := range 3 {
-			v += g[a] * fit.Cov.At(a, b) * g[b]
-		}
-	}
-	sd := math.Sqrt(max(v, 0)) * Inflation(fit.Rho, f.s.MaxInflation)
-	level := fit.Misfit * fit.Tau / math.Abs(excess) // level error through the slope
+	rho, misfit := f.fit.residuals()
+	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
+	level := misfit / rate // level error through the slope
 	half := f.s.Z * math.Hypot(sd, level)
 	last := f.p.Times[len(f.p.Times)-1]
 	hold := out.Target.Hold

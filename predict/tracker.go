@@ -1,7 +1,6 @@
 package predict
 
 import (
-	"fmt"
 	"math"
 	"sync"
 	"time"
@@ -24,6 +23,9 @@ type TrackerOptions struct {
 	Jump float64
 	// Fit tunes the lumped fit.
 	Fit LumpedSettings
+	// Specimen, when non-nil, describes the channel's specimen (surface law of the
+	// h(T) model, Biot number); nil assumes DefaultSurfaceLaw.
+	Specimen *Specimen
 	// Interval tunes the forecast intervals.
 	Interval IntervalSettings
 }
@@ -55,8 +57,10 @@ type point struct {
 // safe for concurrent use; a fit runs inside Add, under the tracker's lock, when the
 // schedule in TrackerOptions says one is due.
 //
-// Segmentation is a skeleton: a segment starts at the first reading and a new one at a
-// step of more than Jump between consecutive readings.
+// Segments: a segment starts at the first reading and a new one at a step of more
+// than Jump that the next reading confirms (a single outlying reading is dropped as a
+// spike instead). Within a segment the fit starts at the Onset (the peak a freshly
+// placed specimen reads its way up to), and spikes are left out (Prepare).
 type Tracker struct {
 	mu      sync.Mutex
 	opt     TrackerOptions
@@ -66,6 +70,8 @@ type Tracker struct {
 	start    time.Time // first reading of the segment
 	last     time.Time
 	lastC    float64
+	pending  *point // a reading that jumped by more than Jump, awaiting confirmation
+	pendAt   time.Time
 	readings int
 	amb      float64 // latest measured ambient, NaN when none
 	fitAt    time.Time
@@ -105,10 +111,21 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 	if tr.readings > 0 && at.Before(tr.last) {
 		return
 	}
-	if tr.readings == 0 || math.Abs(celsius-tr.lastC) > tr.opt.Jump {
-		tr.newSegment(at)
-	}
 	tr.readings++
+	switch {
+	case len(tr.pts) == 0 && tr.pending == nil:
+		tr.newSegment(at)
+	case tr.pending != nil && math.Abs(celsius-tr.pending.celsius) <= tr.opt.Jump:
+		// The jump holds: a new specimen or a disturbance; start a segment at it.
+		p := *tr.pending
+		tr.newSegment(tr.pendAt)
+		tr.pts = append(tr.pts, point{0, p.celsius, p.ambient})
+	case math.Abs(celsius-tr.lastC) > tr.opt.Jump && tr.pending == nil:
+		tr.pending, tr.pendAt = &point{celsius: celsius, ambient: tr.amb}, at
+		tr.last = at
+		return
+	}
+	tr.pending = nil
 	tr.last, tr.lastC = at, celsius
 	if len(tr.pts) >= tr.opt.MaxPoints {
 		tr.thin()
@@ -160,12 +177,18 @@ func (tr *Tracker) Forecast() *Forecast {
 	return copyForecast(tr.forecast)
 }
 
-// fit runs the lumped fit on the segment and replaces the forecast. Callers hold mu.
+// fit runs Analyze on the segment and replaces the forecast. Callers hold mu.
 func (tr *Tracker) fit() {
-	p := tr.problem()
-	res, err := FitLumped(p, &tr.opt.Fit)
+	all := tr.problem()
+	p, onset, _ := Prepare(all.Times, all.Celsius, all.Ambient)
 	tr.fitAt, tr.newPts = tr.last, 0
-	tr.forecast = tr.build(&res, &p, err)
+	if len(p.Times) == 0 {
+		tr.forecast = nil
+		return
+	}
+	tr.forecast = Analyze(p, tr.start.Add(seconds(onset)), tr.targets, AnalyzeOptions{
+		Specimen: tr.opt.Specimen, Fit: tr.opt.Fit, Interval: tr.opt.Interval,
+	})
 }
 
 // problem builds the fit problem from the stored readings. Readings stored before the
@@ -189,47 +212,6 @@ func (tr *Tracker) problem() LumpedProblem {
 		p.Ambient[i] = next
 	}
 	return p
-}
-
-// build makes the Forecast of a fit result.
-func (tr *Tracker) build(res *LumpedResult, p *LumpedProblem, err error) *Forecast {
-	n := len(p.Times)
-	f := &Forecast{
-		Model:        "lumped",
-		Biot:         math.NaN(),
-		Ambient:      math.NaN(),
-		RMSE:         math.NaN(),
-		Points:       n,
-		SegmentStart: tr.start,
-		FittedAt:     tr.start.Add(seconds(p.Times[n-1])),
-		Targets:      ForecastLumped(res, p, tr.start, tr.targets, &tr.opt.Interval),
-	}
-	if p.Ambient != nil {
-		f.Notes = append(f.Notes, "The ambient is measured, not fitted.")
-	} else {
-		f.Notes = append(f.Notes, "The ambient is fitted as a constant.")
-	}
-	if err != nil {
-		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
-		return f
-	}
-	f.Ambient, f.RMSE = res.Ambient, res.RMSE
-	f.TimeConstant = seconds(res.Tau)
-	f.Params = []Param{
-		{Name: "ambient_c", Value: res.Ambient, StdErr: measuredNaN(res.AmbientErr, p.Ambient != nil), Unit: "°C"},
-		{Name: "initial_excess_c", Value: res.Excess, StdErr: res.ExcessErr, Unit: "°C"},
-		{Name: "tau_s", Value: res.Tau, StdErr: res.TauErr, Unit: "s"},
-	}
-	if k := Inflation(res.Rho, tr.opt.Interval.withDefaults().MaxInflation); k > 1.5 {
-		f.Notes = append(f.Notes, fmt.Sprintf(
-			"Residuals are correlated (lag-1 %.2f); intervals are widened %.1f-fold.", res.Rho, k))
-	}
-	f.Notes = append(f.Notes, "The Biot number is unknown without specimen data, so the lumped model's validity (Bi < 0.1) is not checked.")
-	start, amb, exc, tau := tr.start, res.Ambient, res.Excess, res.Tau
-	f.Curve = func(t time.Time) float64 {
-		return amb + exc*math.Exp(-t.Sub(start).Seconds()/tau)
-	}
-	return f
 }
 
 // measuredNaN reports a measured ambient's standard error as NaN: it was not estimated.

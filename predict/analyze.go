@@ -1,0 +1,187 @@
+package predict
+
+import (
+	"fmt"
+	"math"
+	"time"
+)
+
+// Model names reported in Forecast.Model.
+const (
+	// ModelLumped is the lumped exponential, T = T∞ + θi·exp(−t/τ).
+	ModelLumped = "lumped"
+	// ModelLumpedH is the lumped model with the temperature-dependent surface
+	// coefficient h(T) of predict/surface, integrated as an ODE.
+	ModelLumpedH = "lumped-h(T)"
+)
+
+// AnalyzeOptions tunes Analyze. The zero value is ready to use.
+type AnalyzeOptions struct {
+	// Specimen, when non-nil, gives the surface law of the h(T) model and the data for
+	// the Biot number; nil assumes DefaultSurfaceLaw and leaves Biot unknown.
+	Specimen *Specimen
+	// Fit tunes the lumped fit.
+	Fit LumpedSettings
+	// Interval tunes the forecast intervals.
+	Interval IntervalSettings
+}
+
+// minPointsH is the fewest readings for which the h(T) model is tried.
+const minPointsH = 12
+
+// Analyze fits the models to one segment p (times in seconds from start), chooses
+// between them and forecasts the targets. It is the engine behind both the Tracker
+// and `settle fit`.
+//
+// Model choice: the lumped exponential and the h(T) model are both fitted; the h(T)
+// model is kept unless the lumped fit's Akaike information criterion is lower by more
+// than 2 (the physics of a specimen in still air is the default on a tie). The notes
+// say which was chosen and why, and flag structured residuals (model mismatch), which
+// also widen the intervals.
+func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOptions) *Forecast {
+	n := len(p.Times)
+	f := &Forecast{
+		Model: ModelLumped, Biot: math.NaN(), Ambient: math.NaN(), RMSE: math.NaN(),
+		Points: n, SegmentStart: start,
+	}
+	if n > 0 {
+		f.FittedAt = start.Add(seconds(p.Times[n-1]))
+	}
+	if p.Ambient != nil {
+		f.Notes = append(f.Notes, "The ambient is measured, not fitted.")
+	} else {
+		f.Notes = append(f.Notes, "The ambient is fitted as a constant.")
+	}
+	lr, err := FitLumped(p, &opt.Fit)
+	if err != nil {
+		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
+		f.Targets = forecastTargets(nil, &p, start, targets, &opt.Interval)
+		return f
+	}
+	var hr *HResult
+	if n >= minPointsH {
+		law := DefaultSurfaceLaw
+		if opt.Specimen != nil {
+			law = opt.Specimen.law()
+		}
+		r, err := FitH(HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}, &lr)
+		if err == nil {
+			hr = &r
+		}
+	}
+	var m fitted = lumpedFitted{&lr}
+	if hr != nil && chooseH(&lr, hr, f) {
+		m = hFitted{hr}
+		describeH(f, hr, start, opt.Specimen)
+	} else {
+		describeLumped(f, &lr, start, p.Ambient != nil, opt.Specimen)
+	}
+	noteResiduals(f, m, opt.Interval)
+	f.Targets = forecastTargets(m, &p, start, targets, &opt.Interval)
+	return f
+}
+
+// aic is Akaike's information criterion for Gaussian residuals, n·ln(SSR/n) + 2k.
+func aic(n, k int, rmse float64) float64 {
+	return float64(n)*math.Log(max(rmse*rmse, 1e-300)) + 2*float64(k)
+}
+
+// chooseH reports whether the h(T) model is kept, with a note saying why.
+func chooseH(lr *LumpedResult, hr *HResult, f *Forecast) bool {
+	al, ah := aic(lr.N, lr.Free, lr.RMSE), aic(hr.N, hr.Free, hr.RMSE)
+	if al < ah-2 {
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Model: lumped exponential (constant h); it fits better than the h(T) model (AIC lower by %.1f; rms %.3g vs %.3g K), as in a liquid bath or forced air.",
+			ah-al, lr.RMSE, hr.RMSE))
+		return false
+	}
+	f.Notes = append(f.Notes, fmt.Sprintf(
+		"Model: lumped with h(T) from natural convection and radiation (AIC %+.1f against the constant-h exponential; rms %.3g vs %.3g K).",
+		ah-al, hr.RMSE, lr.RMSE))
+	return true
+}
+
+// describeLumped fills the forecast fields of a lumped fit.
+func describeLumped(f *Forecast, r *LumpedResult, start time.Time, measured bool, sp *Specimen) {
+	f.Model, f.Ambient, f.RMSE = ModelLumped, r.Ambient, r.RMSE
+	f.TimeConstant = seconds(r.Tau)
+	f.Params = []Param{
+		{Name: "ambient_c", Value: r.Ambient, StdErr: measuredNaN(r.AmbientErr, measured), Unit: "°C"},
+		{Name: "initial_excess_c", Value: r.Excess, StdErr: r.ExcessErr, Unit: "°C"},
+		{Name: "tau_s", Value: r.Tau, StdErr: r.TauErr, Unit: "s"},
+	}
+	if sp != nil {
+		// τ = ρcV/(hA): the fitted τ gives the effective constant h.
+		h := sp.HeatCapacityPerArea() / r.Tau
+		f.Params = append(f.Params, Param{Name: "h_w_m2k", Value: h, StdErr: h * r.TauErr / r.Tau, Unit: "W/(m²·K)"})
+		noteBiot(f, sp, h, "the fitted constant h")
+	} else {
+		noteNoSpecimen(f)
+	}
+	amb, exc, tau := r.Ambient, r.Excess, r.Tau
+	f.Curve = func(t time.Time) float64 { return amb + exc*math.Exp(-t.Sub(start).Seconds()/tau) }
+}
+
+// describeH fills the forecast fields of an h(T) fit.
+func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
+	f.Model, f.Ambient, f.RMSE = ModelLumpedH, r.Ambient, r.RMSE
+	last := r.Value(f.FittedAt.Sub(start).Seconds())
+	// The local time constant C/h(T) at the last reading.
+	f.TimeConstant = seconds(r.Capacity / r.HAt(last))
+	f.Params = []Param{
+		{Name: "ambient_c", Value: r.Ambient, StdErr: measuredNaN(r.AmbientErr, r.Free < 3), Unit: "°C"},
+		{Name: "initial_c", Value: r.Initial, StdErr: r.InitialErr, Unit: "°C"},
+	}
+	if sp != nil {
+		c := sp.HeatCapacityPerArea()
+		scale := c / r.Capacity
+		f.Params = append(f.Params, Param{Name: "h_scale", Value: scale, StdErr: scale * r.CapacityErr / r.Capacity})
+		noteBiot(f, sp, scale*r.HAt(r.Initial), "h at the segment's start temperature")
+	} else {
+		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g, and the heat capacity per unit area ρcV/A is fitted instead of a scale on h.",
+			r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity))
+		noteNoSpecimen(f)
+	}
+	f.Curve = func(t time.Time) float64 { return r.Value(t.Sub(start).Seconds()) }
+}
+
+// noteBiot sets the Biot number and flags a lumped model used at Bi ≥ 0.1.
+func noteBiot(f *Forecast, sp *Specimen, h float64, what string) {
+	f.Biot = sp.Biot(h)
+	if f.Biot >= 0.1 {
+		f.OutOfRange = true
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Biot number %.2g (from %s) is 0.1 or more: the specimen is not uniform in temperature and a lumped model is outside its validity range; the %s lags the %s.",
+			f.Biot, what, map[bool]string{true: "surface reading leads the core, which", false: "centre"}[sp.Sensor == "surface"],
+			map[bool]string{true: "reading", false: "surface"}[sp.Sensor == "surface"]))
+		return
+	}
+	f.Notes = append(f.Notes, fmt.Sprintf("Biot number %.2g (from %s): the lumped model is valid (Bi < 0.1).", f.Biot, what))
+}
+
+func noteNoSpecimen(f *Forecast) {
+	f.Notes = append(f.Notes, "The Biot number is unknown without specimen data, so the lumped model's validity (Bi < 0.1) is not checked.")
+}
+
+// noteResiduals flags correlated residuals and a model that does not fit.
+func noteResiduals(f *Forecast, m fitted, s IntervalSettings) {
+	rho, misfit := m.residuals()
+	if k := Inflation(rho, s.withDefaults().MaxInflation); k > 1.5 {
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Residuals are correlated (lag-1 %.2f); intervals are widened %.1f-fold.", rho, k))
+	}
+	noise := math.Sqrt(max(f.RMSE*f.RMSE-misfit*misfit, 0))
+	if misfit > 0.2 && misfit > 2*noise {
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Model mismatch: the residuals have a smooth structure of %.2g K rms beside %.2g K of noise, so the curve is not the model's shape; intervals are widened for it — treat the forecast as rough.",
+			misfit, noise))
+	}
+}
+
+// law returns the specimen's surface law.
+func (s *Specimen) law() SurfaceLaw {
+	g, l := s.Convection()
+	return SurfaceLaw{Geometry: g, LengthM: l, Emissivity: s.Material.Emissivity}
+}

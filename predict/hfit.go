@@ -1,0 +1,251 @@
+package predict
+
+import (
+	"errors"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// HProblem is the data for FitH: the lumped model with a temperature-dependent
+// surface coefficient, C·dT/dt = −h(T)·(T − T∞).
+type HProblem struct {
+	// Times (seconds from the segment start, non-decreasing) and Celsius are the
+	// readings, as in LumpedProblem.
+	Times, Celsius []float64
+	// Ambient, when non-nil, is the measured ambient at each time; the model then uses
+	// its last value as T∞ and shifts each reading by the ambient's change since (a
+	// slowly drifting ambient). When nil, T∞ is fitted.
+	Ambient []float64
+	// Law is the surface law h(T).
+	Law SurfaceLaw
+}
+
+// hMaxIter bounds the Levenberg–Marquardt iterations of FitH.
+const hMaxIter = 60
+
+// FitH fits the h(T) model by Levenberg–Marquardt (written here: gonum/optimize has no
+// least-squares solver) in the parameters Φ0 (fixing the initial temperature),
+// q = 1/C and, without a measured ambient, T∞. It starts from a successful lumped fit
+// of the same data (start), whose ambient, excess and τ give the first guess. It
+// returns the result and its error (the Status's sentinel).
+func FitH(p HProblem, start *LumpedResult) (HResult, error) {
+	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
+	if p.Ambient != nil {
+		res.Free = 2
+	}
+	if start == nil || start.Status != FitSuccess || start.Excess == 0 {
+		return res, res.Status.Err()
+	}
+	m := &hModel{ts: p.Times, law: p.Law, side: sign(start.Excess), measured: p.Ambient != nil}
+	m.y = append([]float64(nil), p.Celsius...)
+	amb := start.Ambient
+	if m.measured {
+		amb = p.Ambient[len(p.Ambient)-1]
+		for i := range m.y {
+			m.y[i] += amb - p.Ambient[i]
+		}
+	}
+	m.amb = amb
+	for _, y := range m.y {
+		m.tmax = max(m.tmax, math.Abs(y-amb))
+	}
+	m.tmax = 2*max(m.tmax, math.Abs(start.Excess)) + 50
+	w0 := math.Log(math.Abs(start.Excess))
+	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
+	lm := levmar{m: m, x: []float64{w0, q, amb}, free: res.Free}
+	if !lm.run() {
+		res.Status = FitSingular
+		return res, res.Status.Err()
+	}
+	lm.finish(&res)
+	return res, res.Status.Err()
+}
+
+// levmar is the Levenberg–Marquardt state of an h(T) fit.
+type levmar struct {
+	m    *hModel
+	x    []float64 // w0, q, amb
+	free int
+	tb   *phiTable
+	r    []float64
+	jac  *mat.Dense
+	ssr  float64
+}
+
+// ambDelta is the finite-difference step of the ambient column, K.
+const ambDelta = 0.01
+
+// jacobian evaluates residuals and the Jacobian at lm.x.
+func (lm *levmar) jacobian() {
+	n := len(lm.m.ts)
+	if lm.r == nil {
+		lm.r = make([]float64, n)
+		lm.jac = mat.NewDense(n, lm.free, nil)
+	}
+	lm.tb = newPhiTable(lm.m.law, lm.x[2], lm.m.side, lm.m.tmax)
+	lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac)
+	if lm.free < 3 {
+		return
+	}
+	tb := newPhiTable(lm.m.law, lm.x[2]+ambDelta, lm.m.side, lm.m.tmax)
+	phi0 := tb.at(lm.x[0])
+	hint := -1
+	for i, t := range lm.m.ts {
+		w, _ := tb.invert(phi0-lm.x[1]*t, &hint)
+		shifted := tb.amb + lm.m.side*math.Exp(w)
+		lm.jac.Set(i, 2, (shifted-(lm.m.y[i]-lm.r[i]))/ambDelta)
+	}
+}
+
+// ssrAt returns the residual sum of squares at x.
+func (lm *levmar) ssrAt(x []float64) float64 {
+	if !(x[1] > 0) || !(x[0] < math.Log(lm.m.tmax)) {
+		return math.Inf(1)
+	}
+	tb := newPhiTable(lm.m.law, x[2], lm.m.side, lm.m.tmax)
+	r := make([]float64, len(lm.m.ts))
+	return lm.m.residuals(tb, x[0], x[1], r, nil)
+}
+
+// run iterates to convergence; false when the normal equations are singular.
+func (lm *levmar) run() bool {
+	lambda := 1e-3
+	k := lm.free
+	for range hMaxIter {
+		lm.jacobian()
+		var jtj mat.SymDense
+		jtj.SymOuterK(1, lm.jac.T())
+		g := mat.NewVecDense(k, nil)
+		g.MulVec(lm.jac.T(), mat.NewVecDense(len(lm.r), lm.r))
+		improved := false
+		for range 12 {
+			a := mat.NewSymDense(k, nil)
+			a.CopySym(&jtj)
+			for i := range k {
+				a.SetSym(i, i, jtj.At(i, i)*(1+lambda))
+			}
+			var ch mat.Cholesky
+			if !ch.Factorize(a) {
+				lambda *= 10
+				continue
+			}
+			var dx mat.VecDense
+			if err := ch.SolveVecTo(&dx, g); err != nil {
+				lambda *= 10
+				continue
+			}
+			next := append([]float64(nil), lm.x...)
+			for i := range k {
+				next[i] += dx.AtVec(i)
+			}
+			if s := lm.ssrAt(next); s < lm.ssr {
+				converged := lm.ssr-s <= 1e-12*lm.ssr
+				copy(lm.x, next)
+				lambda = max(lambda/10, 1e-12)
+				improved = true
+				if converged {
+					lm.jacobian()
+					return true
+				}
+				break
+			}
+			lambda *= 10
+		}
+		if !improved {
+			lm.jacobian()
+			return true // no step reduces the sum: at the optimum to rounding
+		}
+	}
+	lm.jacobian()
+	return true
+}
+
+// finish fills the result from the converged state.
+func (lm *levmar) finish(res *HResult) {
+	st := statsOf(lm.r)
+	n := float64(len(lm.r))
+	res.w0, res.q, res.Ambient, res.table, res.tmax = lm.x[0], lm.x[1], lm.x[2], lm.tb, lm.m.tmax
+	res.phi0 = lm.tb.at(res.w0)
+	res.RMSE = math.Sqrt(st.ssr / n)
+	res.Sigma = math.Sqrt(st.ssr / (n - float64(lm.free)))
+	res.Rho = st.rho
+	res.Misfit = math.Sqrt(max(0, res.RMSE*res.RMSE-st.vonNeumann))
+	res.Capacity = 1 / res.q
+	theta0 := lm.m.side * math.Exp(res.w0)
+	res.Initial = res.Ambient + theta0
+	cov, ok := scaledInverse(lm.jac, res.Sigma)
+	if !ok {
+		res.Status = FitSingular
+		return
+	}
+	full := mat.NewSymDense(3, nil)
+	for a := range lm.free {
+		for b := a; b < lm.free; b++ {
+			full.SetSym(a, b, cov.At(a, b))
+		}
+	}
+	res.Cov = full
+	res.InitialErr = math.Abs(theta0) * math.Sqrt(full.At(0, 0))
+	res.CapacityErr = math.Sqrt(full.At(1, 1)) / (res.q * res.q)
+	res.AmbientErr = math.Sqrt(full.At(2, 2))
+	res.Status = FitSuccess
+}
+
+// statsOf summarises residuals in time order.
+func statsOf(r []float64) residualStats {
+	var st residualStats
+	var lag, diff float64
+	for i, x := range r {
+		st.ssr += x * x
+		if i > 0 {
+			lag += x * r[i-1]
+			diff += (x - r[i-1]) * (x - r[i-1])
+		}
+	}
+	if st.ssr > 0 {
+		st.rho = lag / st.ssr
+	}
+	if len(r) > 1 {
+		st.vonNeumann = diff / float64(2*(len(r)-1))
+	}
+	return st
+}
+
+// scaledInverse returns σ²·(JᵀJ)⁻¹, inverting with the columns scaled to unit norm.
+func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
+	_, k := j.Dims()
+	var jtj mat.SymDense
+	jtj.SymOuterK(1, j.T())
+	scale := make([]float64, k)
+	for i := range k {
+		scale[i] = math.Sqrt(jtj.At(i, i))
+		if !(scale[i] > 0) {
+			return nil, false
+		}
+	}
+	a := mat.NewSymDense(k, nil)
+	for i := range k {
+		for l := i; l < k; l++ {
+			a.SetSym(i, l, jtj.At(i, l)/(scale[i]*scale[l]))
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(a) {
+		return nil, false
+	}
+	var inv mat.SymDense
+	if err := ch.InverseTo(&inv); err != nil {
+		var c mat.Condition
+		if !errors.As(err, &c) {
+			return nil, false
+		}
+	}
+	out := mat.NewSymDense(k, nil)
+	for i := range k {
+		for l := i; l < k; l++ {
+			out.SetSym(i, l, sigma*sigma*inv.At(i, l)/(scale[i]*scale[l]))
+		}
+	}
+	return out, true
+}

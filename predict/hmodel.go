@@ -1,0 +1,219 @@
+package predict
+
+import (
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/settle-lab/settle/predict/surface"
+)
+
+// SurfaceLaw is how the surface coefficient depends on the surface temperature:
+// free convection by geometry and characteristic length plus grey-body radiation
+// (predict/surface.Coefficient).
+type SurfaceLaw struct {
+	// Geometry and LengthM select the convection correlation (see predict/surface).
+	Geometry surface.Geometry
+	LengthM  float64
+	// Emissivity is the grey-body emissivity, 0..1.
+	Emissivity float64
+}
+
+// DefaultSurfaceLaw is assumed when the specimen is unknown: a vertical plate 0.1 m
+// high with emissivity 0.8 (an oxidised metal or a ceramic; common practice as a
+// middle value, not a measurement). The fitted heat capacity per unit area absorbs
+// most of the error of a wrong guess.
+var DefaultSurfaceLaw = SurfaceLaw{Geometry: surface.VerticalPlate, LengthM: 0.1, Emissivity: 0.8}
+
+// minH keeps the coefficient positive where a correlation gives 0 (zero excess and no
+// radiation), W/(m²·K).
+const minH = 1e-3
+
+// H returns the surface coefficient, W/(m²·K), at surfaceC in an ambient at ambientC.
+func (l SurfaceLaw) H(surfaceC, ambientC float64) float64 {
+	h := surface.Coefficient(l.Geometry, l.LengthM, l.Emissivity, surfaceC, ambientC)
+	if !(h > minH) {
+		return minH
+	}
+	return h
+}
+
+// The h(T) model: C·dT/dt = −h(T)·(T − T∞), C = ρcV/A the heat capacity per unit area.
+// With w = ln|T − T∞| the ODE separates: dw/dt = −h/C. So with
+//
+//	Φ(w) = ∫ dw / h(T∞ ± e^w)
+//
+// tabulated once per ambient, the solution is Φ(w(t)) = Φ(w0) − t/C: evaluating the
+// integrated ODE at any time is a table inversion, and a crossing time is a table
+// look-up, t* = C·(Φ(w0) − Φ(wL)). The table integrates the ODE exactly up to the
+// quadrature of Φ (cubic Hermite with the known derivative 1/h at every node).
+
+// phiLow and phiStep fix the Φ table's grid in w = ln|θ|: it starts at θ = 1e-3 K so
+// that Φ's origin does not depend on the data.
+const (
+	phiLow  = -6.907755278982137 // ln 1e-3
+	phiStep = 0.02
+)
+
+// phiTable tabulates Φ(w) for one ambient and side (+1 above the ambient, −1 below).
+type phiTable struct {
+	amb, side float64
+	law       SurfaceLaw
+	phi       []float64 // Φ at w = phiLow + i·phiStep
+	inv       []float64 // 1/h at the nodes (dΦ/dw)
+}
+
+func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64) *phiTable {
+	n := int(math.Ceil((math.Log(max(thetaMax, 1))-phiLow)/phiStep)) + 2
+	tb := &phiTable{amb: amb, side: side, law: law, phi: make([]float64, n), inv: make([]float64, n)}
+	for i := range n {
+		w := phiLow + float64(i)*phiStep
+		tb.inv[i] = 1 / law.H(amb+side*math.Exp(w), amb)
+	}
+	// Midpoint values make each cell's integral Simpson's rule.
+	for i := 1; i < n; i++ {
+		wm := phiLow + (float64(i)-0.5)*phiStep
+		mid := 1 / law.H(amb+side*math.Exp(wm), amb)
+		tb.phi[i] = tb.phi[i-1] + phiStep*(tb.inv[i-1]+4*mid+tb.inv[i])/6
+	}
+	return tb
+}
+
+// at returns Φ(w), with the end slopes continued beyond the table.
+func (tb *phiTable) at(w float64) float64 {
+	x := (w - phiLow) / phiStep
+	n := len(tb.phi)
+	switch {
+	case x <= 0:
+		return tb.phi[0] + (w-phiLow)*tb.inv[0]
+	case x >= float64(n-1):
+		return tb.phi[n-1] + (w-phiLow-float64(n-1)*phiStep)*tb.inv[n-1]
+	}
+	i := int(x)
+	return tb.hermite(i, x-float64(i))
+}
+
+// hermite evaluates the cubic Hermite interpolant of cell i at fraction s.
+func (tb *phiTable) hermite(i int, s float64) float64 {
+	s2, s3 := s*s, s*s*s
+	return (2*s3-3*s2+1)*tb.phi[i] + (s3-2*s2+s)*phiStep*tb.inv[i] +
+		(-2*s3+3*s2)*tb.phi[i+1] + (s3-s2)*phiStep*tb.inv[i+1]
+}
+
+// invert returns the w with Φ(w) = f and h there; hint is a cell index to start
+// from (the previous answer when walking a time series), updated in place.
+func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
+	n := len(tb.phi)
+	if f <= tb.phi[0] {
+		return phiLow + (f-tb.phi[0])/tb.inv[0], 1 / tb.inv[0]
+	}
+	if f >= tb.phi[n-1] {
+		return phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1], 1 / tb.inv[n-1]
+	}
+	i := *hint
+	if i < 0 || i >= n-1 || !(tb.phi[i] <= f && f <= tb.phi[i+1]) {
+		if i >= 0 && i < n-2 && tb.phi[i+1] <= f && f <= tb.phi[i+2] {
+			i++
+		} else if i > 0 && i < n && tb.phi[i-1] <= f && f <= tb.phi[i] {
+			i--
+		} else {
+			i = max(0, min(sort.SearchFloat64s(tb.phi, f)-1, n-2))
+		}
+	}
+	*hint = i
+	// Newton on the cell's cubic from the linear estimate; Φ' = 1/h > 0.
+	s := (f - tb.phi[i]) / (tb.phi[i+1] - tb.phi[i])
+	for range 4 {
+		d := tb.hermite(i, s) - f
+		ds := tb.slope(i, s)
+		s = max(0, min(1, s-d/ds))
+	}
+	w = phiLow + (float64(i)+s)*phiStep
+	return w, tb.law.H(tb.amb+tb.side*math.Exp(w), tb.amb)
+}
+
+// slope returns dΦ/ds of cell i's cubic (s the cell fraction).
+func (tb *phiTable) slope(i int, s float64) float64 {
+	s2 := s * s
+	return (6*s2-6*s)*tb.phi[i] + (3*s2-4*s+1)*phiStep*tb.inv[i] +
+		(-6*s2+6*s)*tb.phi[i+1] + (3*s2-2*s)*phiStep*tb.inv[i+1]
+}
+
+// HResult is the outcome of FitH, the lumped model with a temperature-dependent
+// surface coefficient.
+type HResult struct {
+	// Status says whether the fit succeeded.
+	Status FitStatus
+	// Law is the surface law used.
+	Law SurfaceLaw
+	// Ambient is the settling temperature, °C (fitted, or the measured reference).
+	Ambient float64
+	// Initial is the fitted temperature at t = 0, °C.
+	Initial float64
+	// Capacity is the fitted heat capacity per unit area C = ρcV/A divided by the
+	// coefficient's scale factor, J/(m²·K); CapacityErr its standard error.
+	Capacity, CapacityErr float64
+	// InitialErr and AmbientErr are standard errors (AmbientErr 0 when measured).
+	InitialErr, AmbientErr float64
+	// Cov is the covariance of (w0 = ln|T0 − T∞|, q = 1/C, ambient); rows of a
+	// measured ambient are 0.
+	Cov *mat.SymDense
+	// N, Free, RMSE, Sigma, Rho, Misfit are as in LumpedResult.
+	N, Free                 int
+	RMSE, Sigma, Rho, Misfit float64
+
+	w0, phi0, q float64
+	table       *phiTable
+	tmax    float64
+}
+
+// Value evaluates the fitted curve at t seconds from the segment start.
+func (r *HResult) Value(t float64) float64 {
+	hint := -1
+	w, _ := r.table.invert(r.phi0-r.q*t, &hint)
+	return r.Ambient + r.table.side*math.Exp(w)
+}
+
+// HAt returns the fitted model's surface coefficient h(T)/scale at a temperature: the
+// coefficient that, with the true ρcV/A, reproduces the fitted rates.
+func (r *HResult) HAt(celsius float64) float64 {
+	return r.Law.H(celsius, r.Ambient)
+}
+
+// crossing returns the time the fitted curve reaches an excess θL (same side as the
+// fit) over the ambient of table tb, with parameters phi0, q.
+func crossingH(tb *phiTable, phi0, q, thetaL float64) float64 {
+	return (phi0 - tb.at(math.Log(math.Abs(thetaL)))) / q
+}
+
+// hModel evaluates the h(T) model and its Jacobian for a problem.
+type hModel struct {
+	ts, y    []float64 // times and readings (adjusted to the reference ambient when measured)
+	law      SurfaceLaw
+	side     float64
+	tmax     float64 // table extent, K
+	measured bool
+	amb      float64 // the measured reference ambient
+}
+
+// residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
+// rows with ∂model/∂(w0, q) (the ambient column is filled by the caller).
+func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense) float64 {
+	var ssr float64
+	phi0 := tb.at(w0)
+	h0 := tb.law.H(tb.amb+tb.side*math.Exp(w0), tb.amb)
+	hint := -1
+	for i, t := range m.ts {
+		w, h := tb.invert(phi0-q*t, &hint)
+		theta := m.side * math.Exp(w)
+		r[i] = m.y[i] - (tb.amb + theta)
+		ssr += r[i] * r[i]
+		if jac != nil {
+			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
+			jac.Set(i, 0, theta*h/h0)
+			jac.Set(i, 1, -theta*h*t)
+		}
+	}
+	return ssr
+}
