@@ -5,8 +5,8 @@ import "math"
 // hFitted adapts a successful HResult for the forecaster.
 type hFitted struct{ r *HResult }
 
-func (h hFitted) ambient() float64                { return h.r.Ambient }
-func (h hFitted) side() float64                   { return h.r.table.side }
+func (h hFitted) ambient() float64                 { return h.r.Ambient }
+func (h hFitted) side() float64                    { return h.r.table.side }
 func (h hFitted) residuals() (rho, misfit float64) { return h.r.Rho, h.r.Misfit }
 
 // crossing is t* = (Φ(w0) − Φ(ln|θL|))/q with the delta-method variance in

@@ -160,12 +160,12 @@ type HResult struct {
 	// measured ambient are 0.
 	Cov *mat.SymDense
 	// N, Free, RMSE, Sigma, Rho, Misfit are as in LumpedResult.
-	N, Free                 int
+	N, Free                  int
 	RMSE, Sigma, Rho, Misfit float64
 
 	w0, phi0, q float64
 	table       *phiTable
-	tmax    float64
+	tmax        float64
 }
 
 // Value evaluates the fitted curve at t seconds from the segment start.
