@@ -1,6 +1,9 @@
 package exporter
 
 import (
+	"context"
+	"errors"
+	"net"
 	"net/http"
 	"time"
 
@@ -38,3 +41,39 @@ func NewHandler(s State, reg *prometheus.Registry) http.Handler {
 	})
 	return mux
 }
+
+// Server is the daemon's HTTP server with the timeouts a long-running lab service
+// needs against slow or hostile clients.
+type Server struct {
+	srv *http.Server
+}
+
+// ServerOptions configures NewServer.
+type ServerOptions struct {
+	// TLSCert and TLSKey are PEM files; when both are set Serve speaks HTTPS.
+	TLSCert, TLSKey string
+}
+
+// NewServer returns a server for h.
+func NewServer(h http.Handler, opt ServerOptions) *Server {
+	return &Server{srv: &http.Server{
+		Handler:           h,
+		ReadHeaderTimeout: 5 * time.Second,
+		ReadTimeout:       10 * time.Second,
+		WriteTimeout:      30 * time.Second,
+		IdleTimeout:       60 * time.Second,
+		MaxHeaderBytes:    16 << 10,
+	}}
+}
+
+// Serve accepts connections on ln until Shutdown.
+func (s *Server) Serve(ln net.Listener) error {
+	err := s.srv.Serve(ln)
+	if errors.Is(err, http.ErrServerClosed) {
+		return nil
+	}
+	return err
+}
+
+// Shutdown stops accepting connections and waits for requests in flight until ctx ends.
+func (s *Server) Shutdown(ctx context.Context) error { return s.srv.Shutdown(ctx) }

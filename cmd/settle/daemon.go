@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"log/slog"
 	"net"
-	"net/http"
 	"sync"
 	"time"
 
@@ -26,7 +25,7 @@ type daemon struct {
 	bench   *predict.Bench
 	latest  *exporter.Latest
 	ln      net.Listener
-	srv     *http.Server
+	srv     *exporter.Server
 }
 
 // newDaemon builds every source and the bench from cfg and binds the listen address, so
@@ -46,14 +45,8 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		d.sources = append(d.sources, src)
 	}
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
-	d.srv = &http.Server{
-		Handler:           exporter.NewHandler(state, exporter.NewRegistry(state)),
-		ReadHeaderTimeout: 5 * time.Second,
-		ReadTimeout:       10 * time.Second,
-		WriteTimeout:      30 * time.Second,
-		IdleTimeout:       60 * time.Second,
-		MaxHeaderBytes:    16 << 10,
-	}
+	d.srv = exporter.NewServer(exporter.NewHandler(state, exporter.NewRegistry(state)),
+		exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
 	d.ln, err = net.Listen("tcp", cfg.Listen)
 	if err != nil {
 		return nil, fmt.Errorf("listen on %s (config key listen): %w", cfg.Listen, err)
