@@ -1,0 +1,431 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"os"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+
+	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/predict"
+)
+
+func init() { subcommands = append(subcommands, newFitCmd) }
+
+// fitRequest is one `settle fit` invocation.
+type fitRequest struct {
+	file         string
+	asJSON       bool
+	until        float64
+	hasUntil     bool
+	targets      []string
+	band         float64
+	specimenPath string
+	plotPath     string
+}
+
+// handlingMaxC is the highest fixed target that `settle fit` treats as a handling
+// temperature when the target's name does not say so: about where brief contact with
+// a hot metal surface starts to burn (common practice; EN ISO 13732-1 puts the burn
+// threshold for a few seconds' contact with bare metal in the 50–70 °C range — from
+// memory, not re-checked).
+const handlingMaxC = 60
+
+func newFitCmd() *cobra.Command {
+	var r fitRequest
+	cmd := &cobra.Command{
+		Use:   "fit FILE [--json] [--until S] [--target NAME=CELSIUS]... [--settle-band C] [--specimen SPEC.yaml] [--plot OUT.png]",
+		Short: "Fit a recorded curve and forecast its targets, as the daemon would",
+		Long: `Fit a recorded temperature curve offline with the same engine the daemon uses
+(segment onset, spike removal, model choice between the lumped exponential and the
+lumped model with a temperature-dependent surface coefficient, intervals) and forecast
+when it reaches its targets.
+
+FILE is a CSV with a header naming t_s (seconds) and temp_c, and optionally
+ambient_c (a measured ambient). An empty or non-numeric cell is a missing reading.
+
+--until S uses only rows with t_s <= S: the forecast as it would have been live at S.
+--target NAME=CELSIUS adds a fixed target (repeatable); --settle-band C adds a target
+named "settled": within C °C of the temperature the curve settles toward.
+--specimen SPEC.yaml describes the specimen (shape slab|cylinder|sphere, size_m,
+length_m, sensor center|surface, material with density_kg_m3, specific_heat_j_kgk,
+conductivity_w_mk, emissivity, or a built-in material name).
+--plot OUT.png draws the readings, the fitted curve, the targets and their intervals.
+
+Times in the output are on the file's own time axis. A target named like "handle" or
+a fixed target at or below 60 °C on a cooling curve counts as a handling temperature;
+the summary then shows the handling cautions. Forecasts are estimates.`,
+		Example: "  settle fit run.csv --target handle=50 --settle-band 1\n  settle fit run.csv --json --until 600 --specimen bar.yaml --plot run.png",
+		Args:    cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			r.file = args[0]
+			r.hasUntil = cmd.Flags().Changed("until")
+			res, err := r.run()
+			if err != nil {
+				return fmt.Errorf("fit: %w", err)
+			}
+			if r.plotPath != "" {
+				if err := res.plot(r.plotPath); err != nil {
+					return fmt.Errorf("fit: --plot %s: %w", r.plotPath, err)
+				}
+			}
+			if r.asJSON {
+				return res.writeJSON(cmd.OutOrStdout())
+			}
+			return res.writeText(cmd.OutOrStdout())
+		},
+	}
+	fl := cmd.Flags()
+	fl.BoolVar(&r.asJSON, "json", false, "print one JSON object instead of a summary")
+	fl.Float64Var(&r.until, "until", 0, "use only rows with t_s <= S seconds")
+	fl.StringArrayVar(&r.targets, "target", nil, "a fixed target NAME=CELSIUS (repeatable)")
+	fl.Float64Var(&r.band, "settle-band", 0, "add a target \"settled\": within C °C of the settling temperature")
+	fl.StringVar(&r.specimenPath, "specimen", "", "specimen description YAML")
+	fl.StringVar(&r.plotPath, "plot", "", "write a PNG figure of the fit")
+	return cmd
+}
+
+// fitResult is the outcome of `settle fit`: the curve used, the forecast and how to
+// map its times back onto the file's axis.
+type fitResult struct {
+	curve    predict.CurveFile
+	until    float64
+	forecast *predict.Forecast
+	origin   time.Time // the file's t_s = 0
+	dropped  int
+}
+
+// fitOrigin anchors the file's time axis to absolute times for the engine.
+var fitOrigin = time.Date(2000, 1, 1, 0, 0, 0, 0, time.UTC)
+
+// run reads the file, the specimen and the targets, and analyses the curve.
+func (r fitRequest) run() (*fitResult, error) {
+	targets, err := r.parseTargets()
+	if err != nil {
+		return nil, err
+	}
+	var opt predict.AnalyzeOptions
+	if r.specimenPath != "" {
+		sp, err := predict.LoadSpecimen(r.specimenPath)
+		if err != nil {
+			return nil, fmt.Errorf("--specimen: %w", err)
+		}
+		opt.Specimen = &sp
+	}
+	f, err := os.Open(r.file)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	curve, err := predict.ReadCurveCSV(f, r.file)
+	if err != nil {
+		return nil, err
+	}
+	if r.hasUntil {
+		curve = curve.Until(r.until)
+	}
+	if len(curve.Times) == 0 {
+		return nil, fmt.Errorf("%s: no rows with a time%s", r.file, map[bool]string{true: " at or before --until", false: ""}[r.hasUntil])
+	}
+	res := &fitResult{curve: curve, until: curve.Times[len(curve.Times)-1], origin: fitOrigin}
+	if r.hasUntil {
+		res.until = r.until
+	}
+	p, onset, dropped := predict.Prepare(curve.Times, curve.Celsius, fillAmbient(curve.Ambient))
+	res.dropped = dropped
+	res.forecast = predict.Analyze(p, fitOrigin.Add(secondsDur(onset)), markHandling(targets, curve), opt)
+	if dropped > 0 {
+		res.forecast.Notes = append(res.forecast.Notes, fmt.Sprintf("%d readings were left out as missing, non-numeric or spikes.", dropped))
+	}
+	return res, nil
+}
+
+// parseTargets turns --target and --settle-band into targets, in that order.
+func (r fitRequest) parseTargets() ([]predict.Target, error) {
+	var out []predict.Target
+	seen := map[string]bool{}
+	for _, s := range r.targets {
+		name, val, ok := strings.Cut(s, "=")
+		name = strings.TrimSpace(name)
+		c, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
+		if !ok || name == "" || err != nil || math.IsNaN(c) || math.IsInf(c, 0) {
+			return nil, fmt.Errorf("--target %q: want NAME=CELSIUS, e.g. handle=50", s)
+		}
+		if seen[name] {
+			return nil, fmt.Errorf("--target %q: target %q given twice", s, name)
+		}
+		seen[name] = true
+		out = append(out, predict.Target{Name: name, Celsius: c})
+	}
+	if r.band < 0 || math.IsNaN(r.band) {
+		return nil, fmt.Errorf("--settle-band %g: must be positive", r.band)
+	}
+	if r.band > 0 {
+		if seen["settled"] {
+			return nil, errors.New("--settle-band: a --target is already named \"settled\"")
+		}
+		out = append(out, predict.Target{Name: "settled", Celsius: math.NaN(), Within: r.band})
+	}
+	return out, nil
+}
+
+// markHandling flags handling targets: a name that says so, or a fixed target at or
+// below handlingMaxC on a curve that cools.
+func markHandling(ts []predict.Target, c predict.CurveFile) []predict.Target {
+	cooling := false
+	var first, last float64 = math.NaN(), math.NaN()
+	for _, v := range c.Celsius {
+		if !math.IsNaN(v) {
+			if math.IsNaN(first) {
+				first = v
+			}
+			last = v
+		}
+	}
+	cooling = first > last
+	for i := range ts {
+		n := strings.ToLower(ts[i].Name)
+		if strings.Contains(n, "handl") || strings.Contains(n, "touch") ||
+			!ts[i].IsWithin() && cooling && ts[i].Celsius <= handlingMaxC {
+			ts[i].Handling = true
+		}
+	}
+	return ts
+}
+
+// fillAmbient carries the last measured ambient over missing cells (the first
+// measured value backwards); nil when there is no ambient column or no value in it.
+func fillAmbient(a []float64) []float64 {
+	if a == nil {
+		return nil
+	}
+	out := make([]float64, len(a))
+	last := math.NaN()
+	for i, v := range a {
+		if !math.IsNaN(v) {
+			last = v
+		}
+		out[i] = last
+	}
+	if math.IsNaN(last) {
+		return nil
+	}
+	for i := len(out) - 1; i >= 0; i-- {
+		if math.IsNaN(out[i]) {
+			out[i] = out[i+1]
+		}
+	}
+	return out
+}
+
+// secondsDur converts seconds to a Duration.
+func secondsDur(s float64) time.Duration { return time.Duration(s * float64(time.Second)) }
+
+// fileTime converts an engine time back to the file's t_s.
+func (res *fitResult) fileTime(t time.Time) float64 { return t.Sub(res.origin).Seconds() }
+
+// fitJSON is the JSON contract of `settle fit --json`.
+type fitJSON struct {
+	Model      string             `json:"model"`
+	UntilS     float64            `json:"until_s"`
+	Parameters map[string]float64 `json:"parameters"`
+	Biot       *float64           `json:"biot"`
+	Notes      []string           `json:"notes"`
+	Targets    []targetJSON       `json:"targets"`
+}
+
+// targetJSON is one target in the JSON output; times are on the file's axis.
+type targetJSON struct {
+	Name      string   `json:"name"`
+	Celsius   *float64 `json:"celsius"`
+	State     string   `json:"state"`
+	TS        *float64 `json:"t_s"`
+	EarliestS *float64 `json:"earliest_s"`
+	LatestS   *float64 `json:"latest_s"`
+}
+
+// finite returns &v, or nil for NaN and infinities (JSON null).
+func finite(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+// toJSON builds the JSON object.
+func (res *fitResult) toJSON() fitJSON {
+	f := res.forecast
+	out := fitJSON{
+		Model: f.Model, UntilS: res.until, Parameters: map[string]float64{},
+		Biot: finite(f.Biot), Notes: append([]string{}, f.Notes...), Targets: []targetJSON{},
+	}
+	for _, p := range f.Params {
+		if !math.IsNaN(p.Value) {
+			out.Parameters[p.Name] = p.Value
+		}
+	}
+	for _, tg := range f.Targets {
+		j := targetJSON{Name: tg.Target.Name, Celsius: finite(tg.Celsius), State: string(tg.State)}
+		if !tg.At.IsZero() {
+			j.TS = finite(res.fileTime(tg.At))
+		}
+		if tg.State == predict.StatePredicted || tg.State == predict.StateHolding {
+			j.EarliestS, j.LatestS = finite(res.fileTime(tg.Earliest)), finite(res.fileTime(tg.Latest))
+		}
+		out.Targets = append(out.Targets, j)
+	}
+	return out
+}
+
+func (res *fitResult) writeJSON(w io.Writer) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	enc.SetEscapeHTML(false)
+	return enc.Encode(res.toJSON())
+}
+
+// writeText prints the human-readable summary.
+func (res *fitResult) writeText(w io.Writer) error {
+	f := res.forecast
+	var b strings.Builder
+	fmt.Fprintf(&b, "model %s over %d readings (t_s %s to %s), rms residual %.3g °C\n",
+		f.Model, f.Points, num(res.fileTime(f.SegmentStart)), num(res.until), f.RMSE)
+	names := make([]string, 0, len(f.Params))
+	for _, p := range f.Params {
+		names = append(names, fmt.Sprintf("  %s = %.5g ± %.2g %s", p.Name, p.Value, p.StdErr, p.Unit))
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		fmt.Fprintln(&b, strings.TrimRight(n, " "))
+	}
+	if !math.IsNaN(f.Biot) {
+		fmt.Fprintf(&b, "  Biot number %.3g\n", f.Biot)
+	}
+	handling := false
+	for _, tg := range f.Targets {
+		fmt.Fprintf(&b, "target %s (%.4g °C): %s\n", tg.Target.Name, tg.Celsius, res.describe(tg))
+		handling = handling || tg.Target.Handling
+	}
+	for _, n := range f.Notes {
+		fmt.Fprintf(&b, "note: %s\n", n)
+	}
+	if handling {
+		fmt.Fprintln(&b, "Handling cautions:")
+		for _, c := range exporter.HandlingCautions {
+			fmt.Fprintf(&b, "  - %s\n", c)
+		}
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// describe says one target's state in words.
+func (res *fitResult) describe(tg predict.TargetForecast) string {
+	at := func(t time.Time) string { return fmt.Sprintf("t_s %.0f", res.fileTime(t)) }
+	switch tg.State {
+	case predict.StatePredicted:
+		return fmt.Sprintf("predicted at %s (90 %% interval %.0f to %.0f s), an estimate",
+			at(tg.At), res.fileTime(tg.Earliest), res.fileTime(tg.Latest))
+	case predict.StateReached:
+		return "reached at " + at(tg.At)
+	case predict.StateHolding:
+		return fmt.Sprintf("holding, %.0f s left (until %s)", tg.At.Sub(res.origin).Seconds()-res.until, at(tg.At))
+	case predict.StateUnreachable:
+		return "unreachable: the curve settles before it"
+	}
+	return "insufficient data for a forecast"
+}
+
+// plot writes a PNG: the readings, the fitted curve from the segment start to past the
+// last forecast, each target's level, and its interval as a shaded band.
+func (res *fitResult) plot(path string) error {
+	p := plot.New()
+	p.Title.Text = "settle fit: " + res.forecast.Model
+	p.X.Label.Text = "t_s (s)"
+	p.Y.Label.Text = "°C"
+	var pts plotter.XYs
+	for i, t := range res.curve.Times {
+		if c := res.curve.Celsius[i]; !math.IsNaN(c) {
+			pts = append(pts, plotter.XY{X: t, Y: c})
+		}
+	}
+	if len(pts) == 0 {
+		return errors.New("no readings to plot")
+	}
+	sc, err := plotter.NewScatter(pts)
+	if err != nil {
+		return err
+	}
+	sc.GlyphStyle.Radius = vg.Points(1.2)
+	p.Add(sc)
+	p.Legend.Add("readings", sc)
+	end := res.until
+	for _, tg := range res.forecast.Targets {
+		if !tg.Latest.IsZero() {
+			end = max(end, res.fileTime(tg.Latest))
+		}
+	}
+	if err := res.plotTargets(p, end); err != nil {
+		return err
+	}
+	if c := res.forecast.Curve; c != nil {
+		start := res.fileTime(res.forecast.SegmentStart)
+		fn := plotter.NewFunction(func(x float64) float64 {
+			if x < start {
+				return math.NaN()
+			}
+			return c(res.origin.Add(secondsDur(x)))
+		})
+		fn.Samples = 400
+		fn.Color = color.RGBA{R: 200, A: 255}
+		fn.Width = vg.Points(1.5)
+		p.Add(fn)
+		p.Legend.Add("fitted "+res.forecast.Model, fn)
+	}
+	p.X.Max = max(p.X.Max, end*1.05)
+	return p.Save(16*vg.Centimeter, 10*vg.Centimeter, path)
+}
+
+// plotTargets draws each target's level and its interval band.
+func (res *fitResult) plotTargets(p *plot.Plot, end float64) error {
+	for _, tg := range res.forecast.Targets {
+		if math.IsNaN(tg.Celsius) {
+			continue
+		}
+		line, err := plotter.NewLine(plotter.XYs{{X: 0, Y: tg.Celsius}, {X: end, Y: tg.Celsius}})
+		if err != nil {
+			return err
+		}
+		line.Dashes = []vg.Length{vg.Points(3), vg.Points(3)}
+		line.Color = color.Gray{Y: 100}
+		p.Add(line)
+		if tg.State != predict.StatePredicted {
+			continue
+		}
+		lo, hi := res.fileTime(tg.Earliest), res.fileTime(tg.Latest)
+		d := 0.02 * (p.Y.Max - p.Y.Min + 1)
+		band, err := plotter.NewPolygon(plotter.XYs{
+			{X: lo, Y: tg.Celsius - d}, {X: hi, Y: tg.Celsius - d}, {X: hi, Y: tg.Celsius + d}, {X: lo, Y: tg.Celsius + d},
+		})
+		if err != nil {
+			return err
+		}
+		band.Color = color.RGBA{B: 220, A: 90}
+		band.LineStyle.Width = 0
+		p.Add(band)
+		p.Legend.Add(fmt.Sprintf("%s: 90 %% interval", tg.Target.Name), band)
+	}
+	return nil
+}
