@@ -17,6 +17,12 @@ var ErrRunActive = errors.New("journal: channel already has an active run")
 // ErrNoRun is returned when a run id or an active run does not exist.
 var ErrNoRun = errors.New("journal: no such run")
 
+// ErrStopped is returned by StopRun for a run that has stopped already.
+var ErrStopped = errors.New("journal: run stopped already")
+
+// ErrInvalid wraps the errors of a run spec or stop time that can never succeed.
+var ErrInvalid = errors.New("journal: invalid run request")
+
 // RunSpec describes a run to start.
 type RunSpec struct {
 	// ID names the run; empty means one made of the start time and the channel.
@@ -154,11 +160,11 @@ func (j *Journal) StartRun(spec RunSpec) (Run, error) {
 func checkSpec(spec *RunSpec) error {
 	switch {
 	case strings.TrimSpace(spec.Channel) == "":
-		return errors.New("start run: channel is empty")
+		return fmt.Errorf("start run: channel is empty: %w", ErrInvalid)
 	case strings.TrimSpace(spec.Specimen) == "":
-		return errors.New("start run: specimen is empty")
+		return fmt.Errorf("start run: specimen is empty: %w", ErrInvalid)
 	case len(spec.Targets) > 0 && !json.Valid(spec.Targets):
-		return fmt.Errorf("start run on %s: targets are not valid JSON", spec.Channel)
+		return fmt.Errorf("start run on %s: targets are not valid JSON: %w", spec.Channel, ErrInvalid)
 	}
 	if spec.Start.IsZero() {
 		spec.Start = time.Now()
@@ -186,7 +192,7 @@ func freeID(ctx context.Context, tx *sql.Tx, spec RunSpec) (string, error) {
 			return id, nil
 		}
 		if spec.ID != "" {
-			return "", fmt.Errorf("run id %q is taken", id)
+			return "", fmt.Errorf("run id %q is taken: %w", id, ErrInvalid)
 		}
 	}
 	return "", fmt.Errorf("no free run id for %q", base)
@@ -213,10 +219,10 @@ func (j *Journal) StopRun(id string, at time.Time) (Run, error) {
 		return Run{}, err
 	}
 	if !run.Active() {
-		return run, fmt.Errorf("stop run %s: stopped at %s already: %w", id, run.Stopped.Format(time.RFC3339), ErrNoRun)
+		return run, fmt.Errorf("stop run %s: stopped at %s: %w", id, run.Stopped.Format(time.RFC3339), ErrStopped)
 	}
 	if at.Before(run.Started) {
-		return Run{}, fmt.Errorf("stop run %s: stop time %s is before its start", id, at.Format(time.RFC3339))
+		return Run{}, fmt.Errorf("stop run %s: stop time %s is before its start: %w", id, at.Format(time.RFC3339), ErrInvalid)
 	}
 	_ = j.flush() // include what is queued; a failure is already in Health
 	run.Stopped = at

@@ -45,8 +45,8 @@ func TestRunLifecycle(t *testing.T) {
 	if _, err := j.ActiveRun("c1"); !errors.Is(err, ErrNoRun) {
 		t.Errorf("ActiveRun after stop: %v, want ErrNoRun", err)
 	}
-	if _, err := j.StopRun(run.ID, time.Time{}); !errors.Is(err, ErrNoRun) {
-		t.Errorf("second stop: %v, want ErrNoRun", err)
+	if _, err := j.StopRun(run.ID, time.Time{}); !errors.Is(err, ErrStopped) {
+		t.Errorf("second stop: %v, want ErrStopped", err)
 	}
 	again, err := j.StartRun(RunSpec{Channel: "c1", Specimen: "S-20", Start: t0.Add(2 * time.Second)})
 	if err != nil || again.ID != "20260314T090002Z-c1-2" {
@@ -73,8 +73,8 @@ func TestStartRunRejects(t *testing.T) {
 		{Channel: "c1"},
 		{Channel: "c1", Specimen: "x", Targets: json.RawMessage(`[{`)},
 	} {
-		if _, err := j.StartRun(spec); err == nil {
-			t.Errorf("StartRun(%+v) succeeded", spec)
+		if _, err := j.StartRun(spec); !errors.Is(err, ErrInvalid) {
+			t.Errorf("StartRun(%+v): %v, want ErrInvalid", spec, err)
 		}
 	}
 	if _, err := j.Run("nope"); !errors.Is(err, ErrNoRun) {

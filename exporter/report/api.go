@@ -1,0 +1,294 @@
+package report
+
+import (
+	"bytes"
+	"crypto/subtle"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"log/slog"
+	"net/http"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/predict"
+)
+
+// MaxBodyBytes caps the size of a request body of the runs API.
+const MaxBodyBytes = 64 << 10
+
+// LiveForecast returns the daemon's current forecast of a channel, or nil.
+type LiveForecast func(channel string) *predict.Forecast
+
+// RunsAPI serves runs over HTTP:
+//
+//	GET  /api/v1/runs[?channel=C&active=true&limit=N]  list, newest first
+//	GET  /api/v1/runs/{id}                             a run, its forecast history and crossings
+//	GET  /api/v1/runs/{id}/readings.csv                its readings as CSV
+//	GET  /api/v1/runs/{id}/summary.json                its report summary
+//	GET  /api/v1/runs/{id}/figure.png                  its report figure
+//	POST /api/v1/runs                                  start a run (journal.RunSpec as JSON)
+//	POST /api/v1/runs/{id}/stop                        stop a run (optional {"at": time})
+//
+// POST needs "Authorization: Bearer <token>"; with an empty token, POST is refused.
+// Bodies are capped at MaxBodyBytes and unknown JSON fields are rejected. Errors are
+// JSON {"error": "..."}. live (may be nil) gives the model for reports of active runs;
+// stopped runs are refitted from the journal.
+func RunsAPI(j *journal.Journal, token string, live LiveForecast) http.Handler {
+	a := &api{j: j, token: token, live: live, log: slog.Default()}
+	mux := http.NewServeMux()
+	mux.HandleFunc("GET /api/v1/runs", a.list)
+	mux.HandleFunc("GET /api/v1/runs/{id}", a.show)
+	mux.HandleFunc("GET /api/v1/runs/{id}/readings.csv", a.csv)
+	mux.HandleFunc("GET /api/v1/runs/{id}/summary.json", a.summary)
+	mux.HandleFunc("GET /api/v1/runs/{id}/figure.png", a.figure)
+	mux.HandleFunc("POST /api/v1/runs", a.auth(a.start))
+	mux.HandleFunc("POST /api/v1/runs/{id}/stop", a.auth(a.stop))
+	return mux
+}
+
+type api struct {
+	j     *journal.Journal
+	token string
+	live  LiveForecast
+	log   *slog.Logger
+}
+
+// RunDetail is the body of GET /api/v1/runs/{id}.
+type RunDetail struct {
+	Run       journal.Run             `json:"run"`
+	Forecasts []journal.ForecastPoint `json:"forecasts"`
+	Crossings map[string]time.Time    `json:"crossings"`
+}
+
+// StopRequest is the optional body of POST /api/v1/runs/{id}/stop.
+type StopRequest struct {
+	At time.Time `json:"at,omitzero"`
+}
+
+func (a *api) auth(next http.HandlerFunc) http.HandlerFunc {
+	return func(w http.ResponseWriter, r *http.Request) {
+		if a.token == "" {
+			writeError(w, http.StatusForbidden, "run changes over HTTP are disabled: the daemon has no API token")
+			return
+		}
+		got, ok := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer ")
+		if !ok || subtle.ConstantTimeCompare([]byte(got), []byte(a.token)) != 1 {
+			w.Header().Set("WWW-Authenticate", `Bearer realm="settle"`)
+			writeError(w, http.StatusUnauthorized, "missing or wrong bearer token")
+			return
+		}
+		next(w, r)
+	}
+}
+
+func (a *api) list(w http.ResponseWriter, r *http.Request) {
+	q := r.URL.Query()
+	f := journal.RunFilter{Channel: q.Get("channel"), ActiveOnly: q.Get("active") == "true"}
+	if s := q.Get("limit"); s != "" {
+		n, err := strconv.Atoi(s)
+		if err != nil || n < 1 {
+			writeError(w, http.StatusBadRequest, fmt.Sprintf("limit %q: want a positive integer", s))
+			return
+		}
+		f.Limit = n
+	}
+	runs, err := a.j.Runs(f)
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	if runs == nil {
+		runs = []journal.Run{}
+	}
+	writeJSON(w, http.StatusOK, map[string]any{"runs": runs})
+}
+
+func (a *api) show(w http.ResponseWriter, r *http.Request) {
+	run, err := a.j.Run(r.PathValue("id"))
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	d := RunDetail{Run: run, Forecasts: []journal.ForecastPoint{}}
+	if h, err := a.j.ForecastHistory(run.ID); err == nil && h != nil {
+		d.Forecasts = h
+	} else if err != nil {
+		a.fail(w, err)
+		return
+	}
+	if d.Crossings, err = a.j.Crossings(run.ID); err != nil {
+		a.fail(w, err)
+		return
+	}
+	writeJSON(w, http.StatusOK, d)
+}
+
+func (a *api) start(w http.ResponseWriter, r *http.Request) {
+	var spec journal.RunSpec
+	if !decode(w, r, &spec, false) {
+		return
+	}
+	if spec.Origin == "" {
+		spec.Origin = "api"
+	}
+	if len(spec.Targets) > 0 {
+		if _, err := ParseTargets(spec.Targets); err != nil {
+			writeError(w, http.StatusBadRequest, err.Error())
+			return
+		}
+	}
+	run, err := a.j.StartRun(spec)
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	a.log.Info("run started", "run", run.ID, "channel", run.Channel, "specimen", run.Specimen, "origin", run.Origin)
+	w.Header().Set("Location", "/api/v1/runs/"+run.ID)
+	writeJSON(w, http.StatusCreated, run)
+}
+
+func (a *api) stop(w http.ResponseWriter, r *http.Request) {
+	var req StopRequest
+	if !decode(w, r, &req, true) {
+		return
+	}
+	run, err := a.j.StopRun(r.PathValue("id"), req.At)
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	a.log.Info("run stopped", "run", run.ID, "channel", run.Channel)
+	writeJSON(w, http.StatusOK, run)
+}
+
+// forecast is the model for a report of run: live for an active run, else a refit.
+func (a *api) forecast(run journal.Run) *predict.Forecast {
+	if run.Active() && a.live != nil {
+		if fc := a.live(run.Channel); fc != nil {
+			return fc
+		}
+	}
+	fc, err := Refit(a.j, run, predict.TrackerOptions{})
+	if err != nil {
+		a.log.Warn("refit for report failed", "run", run.ID, "err", err)
+		return nil
+	}
+	return fc
+}
+
+func (a *api) csv(w http.ResponseWriter, r *http.Request) {
+	run, err := a.j.Run(r.PathValue("id"))
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	rs, err := RunReadings(a.j, run)
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	var buf bytes.Buffer
+	if _, err := WriteCSV(&buf, slice(rs), run.Started); err != nil {
+		a.fail(w, err)
+		return
+	}
+	w.Header().Set("Content-Type", "text/csv; charset=utf-8")
+	w.Header().Set("Content-Disposition", fmt.Sprintf(`attachment; filename="%s-readings.csv"`, fileSafe(run.ID)))
+	_, _ = w.Write(buf.Bytes())
+}
+
+func (a *api) summary(w http.ResponseWriter, r *http.Request) {
+	run, err := a.j.Run(r.PathValue("id"))
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	s, err := Build(a.j, run, a.forecast(run), time.Now())
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	writeJSON(w, http.StatusOK, s)
+}
+
+func (a *api) figure(w http.ResponseWriter, r *http.Request) {
+	run, err := a.j.Run(r.PathValue("id"))
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	rs, err := RunReadings(a.j, run)
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	fc := a.forecast(run)
+	s, err := Build(a.j, run, fc, time.Now())
+	if err != nil {
+		a.fail(w, err)
+		return
+	}
+	var buf bytes.Buffer
+	if err := WritePNG(&buf, s, rs, fc); err != nil {
+		a.fail(w, err)
+		return
+	}
+	w.Header().Set("Content-Type", "image/png")
+	_, _ = w.Write(buf.Bytes())
+}
+
+// decode reads a JSON body into v; an empty body is fine when optional.
+func decode(w http.ResponseWriter, r *http.Request, v any, optional bool) bool {
+	r.Body = http.MaxBytesReader(w, r.Body, MaxBodyBytes)
+	dec := json.NewDecoder(r.Body)
+	dec.DisallowUnknownFields()
+	err := dec.Decode(v)
+	var tooBig *http.MaxBytesError
+	switch {
+	case err == nil:
+		return true
+	case optional && errors.Is(err, io.EOF):
+		return true
+	case errors.As(err, &tooBig):
+		writeError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf("body larger than %d bytes", MaxBodyBytes))
+	default:
+		writeError(w, http.StatusBadRequest, "bad JSON body: "+err.Error())
+	}
+	return false
+}
+
+// fail maps a journal error to an HTTP status; details of unexpected errors are logged,
+// not shown.
+func (a *api) fail(w http.ResponseWriter, err error) {
+	switch {
+	case errors.Is(err, journal.ErrNoRun):
+		writeError(w, http.StatusNotFound, err.Error())
+	case errors.Is(err, journal.ErrRunActive), errors.Is(err, journal.ErrStopped):
+		writeError(w, http.StatusConflict, err.Error())
+	case errors.Is(err, journal.ErrInvalid):
+		writeError(w, http.StatusBadRequest, err.Error())
+	case errors.Is(err, journal.ErrUnavailable), errors.Is(err, journal.ErrReadOnly):
+		writeError(w, http.StatusServiceUnavailable, "the journal is not available; see the daemon log")
+		a.log.Warn("runs API: journal unavailable", "err", err)
+	default:
+		a.log.Error("runs API", "err", err)
+		writeError(w, http.StatusInternalServerError, "internal error; see the daemon log")
+	}
+}
+
+func writeError(w http.ResponseWriter, status int, msg string) {
+	writeJSON(w, status, map[string]string{"error": msg})
+}
+
+func writeJSON(w http.ResponseWriter, status int, v any) {
+	w.Header().Set("Content-Type", "application/json; charset=utf-8")
+	w.Header().Set("Cache-Control", "no-store")
+	w.WriteHeader(status)
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	_ = enc.Encode(v) // the client may have gone; nothing useful to do with the error
+}

@@ -1,0 +1,228 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"image/png"
+	"io"
+	"log/slog"
+	"math"
+	"math/rand/v2"
+	"os"
+	"strconv"
+	"testing"
+	"time"
+
+	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/predict"
+)
+
+var t0 = time.Date(2026, 3, 14, 9, 0, 0, 0, time.UTC)
+
+// The demo run: our own invented scenario of a steel specimen cooling in still air,
+// Newton cooling from 180 °C toward 22 °C with a 600 s time constant, read every 2 s
+// with ±0.1 °C noise for 40 min. The handling target (45 °C) is crossed at
+// 600·ln(158/23) ≈ 1156.3 s.
+const (
+	demoAmbient = 22.0
+	demoInitial = 180.0
+	demoTau     = 600.0
+	demoSpan    = 2400
+)
+
+var demoCrossing = demoTau * math.Log((demoInitial-demoAmbient)/(45-demoAmbient))
+
+const demoTargets = `[{"name":"handle","celsius":45,"handling":true},{"name":"settled","within":2}]`
+
+func openJournal(t testing.TB) *journal.Journal {
+	t.Helper()
+	j, err := journal.Open(t.TempDir(), journal.Options{CommitInterval: time.Hour, Logger: slog.New(slog.NewTextHandler(io.Discard, nil))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { j.Close() })
+	return j
+}
+
+// demoRun records the demo run in j the way the daemon does: readings appended, the
+// tracker fed, forecasts recorded after each reading; it returns the run and the last
+// forecast.
+func demoRun(t testing.TB, j *journal.Journal) (journal.Run, *predict.Forecast) {
+	t.Helper()
+	run, err := j.StartRun(journal.RunSpec{Channel: "rack-3", Specimen: "S-2026-041", Description: "quenched bar, air cooling",
+		SpecimenSpec: "shape: cylinder\ndiameter_mm: 25\nlength_mm: 100\nmaterial: steel\n", Targets: json.RawMessage(demoTargets), Origin: "cli", Start: t0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	targets, err := ParseTargets(run.Targets)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tr := predict.NewTracker(targets, predict.TrackerOptions{FitEvery: time.Minute})
+	rng := rand.New(rand.NewPCG(4, 1))
+	for s := 0; s <= demoSpan; s += 2 {
+		at := t0.Add(time.Duration(s) * time.Second)
+		c := demoAmbient + (demoInitial-demoAmbient)*math.Exp(-float64(s)/demoTau) + (rng.Float64()-0.5)*0.2
+		r := daq.Reading{Logger: "bench-a", Channel: "rack-3", Time: at, Celsius: c, Status: daq.StatusOK}
+		if s == 600 {
+			r = daq.Reading{Logger: "bench-a", Channel: "rack-3", Time: at, Celsius: math.NaN(), Status: daq.StatusOpen, Raw: "=OPEN"}
+		}
+		j.Append(r)
+		if r.OK() {
+			tr.Add(r.Time, r.Celsius)
+			RecordForecasts(j, run.ID, tr.Forecast())
+		}
+	}
+	if err := j.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	run, err = j.StopRun(run.ID, t0.Add(demoSpan*time.Second))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return run, tr.Forecast()
+}
+
+func TestWriteDemoReport(t *testing.T) {
+	j := openJournal(t)
+	run, fc := demoRun(t, j)
+	dir := t.TempDir()
+	if keep := os.Getenv("SETTLE_KEEP_REPORT"); keep != "" { // to look at the demo report by hand
+		dir = keep
+	}
+	paths, err := Write(dir, j, run.ID, fc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkCSV(t, paths.CSV, demoSpan/2+1)
+	s := checkSummary(t, paths.JSON)
+	if s.Run.Summary == nil || s.Run.Summary.Readings != demoSpan/2+1 || s.Run.Summary.Faults != 1 {
+		t.Errorf("run summary %+v, want %d readings with 1 fault", s.Run.Summary, demoSpan/2+1)
+	}
+	checkPNG(t, paths.PNG)
+}
+
+func checkCSV(t *testing.T, path string, rows int) {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatalf("CSV %s does not parse: %v", path, err)
+	}
+	if len(recs) != rows+1 || !equal(recs[0], CSVHeader) {
+		t.Fatalf("CSV has %d rows (header %v), want %d plus the header", len(recs), recs[0], rows)
+	}
+	first, err := time.Parse(time.RFC3339, recs[1][0])
+	if err != nil || !first.Equal(t0) || recs[1][1] != "0.000" {
+		t.Errorf("first row time %q elapsed %q (%v), want %s and 0.000", recs[1][0], recs[1][1], err, t0)
+	}
+	c, err := strconv.ParseFloat(recs[1][4], 64)
+	if err != nil || math.Abs(c-demoInitial) > 0.1 {
+		t.Errorf("first row °C %q, want %v ± 0.1", recs[1][4], demoInitial)
+	}
+	fault := recs[301] // t = 600 s
+	if fault[4] != "" || fault[5] != "open" || fault[6] != "'=OPEN" {
+		t.Errorf("fault row %v: want empty °C, status open and the raw text defused as '=OPEN", fault)
+	}
+}
+
+func checkSummary(t *testing.T, path string) Summary {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var s Summary
+	if err := json.Unmarshal(b, &s); err != nil {
+		t.Fatalf("summary %s: %v", path, err)
+	}
+	if s.Model == nil || s.Model.Name != "lumped" || s.Model.TimeConstantS == nil || math.Abs(*s.Model.TimeConstantS-demoTau) > 0.02*demoTau {
+		t.Fatalf("model %+v, want lumped with τ = %v s ± 2 %%", s.Model, demoTau)
+	}
+	if s.Model.HWm2K != nil || s.Model.Biot != nil {
+		t.Errorf("h %v and Biot %v without specimen data, want null", s.Model.HWm2K, s.Model.Biot)
+	}
+	if len(s.Targets) != 2 || s.Targets[0].Name != "handle" || len(s.Cautions) == 0 {
+		t.Fatalf("targets %+v cautions %v", s.Targets, s.Cautions)
+	}
+	h := s.Targets[0]
+	if h.Actual == nil || math.Abs(h.Actual.Sub(t0).Seconds()-demoCrossing) > 4 {
+		t.Errorf("handle actual %v, want t0 + %.1f s ± 4 s (one reading either side)", h.Actual, demoCrossing)
+	}
+	if len(h.History) < 3 || h.ConvergedAt == nil || h.ConvergedAt.After(*h.Actual) {
+		t.Errorf("handle history %d points, converged at %v, want several points and convergence before the crossing", len(h.History), h.ConvergedAt)
+	}
+	last := h.History[len(h.History)-1]
+	if last.State != "reached" {
+		t.Errorf("last history point %+v, want reached", last)
+	}
+	return s
+}
+
+func checkPNG(t *testing.T, path string) {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatalf("PNG %s: %v", path, err)
+	}
+	if b := img.Bounds(); b.Dx() != 960 || b.Dy() != 768 {
+		t.Errorf("PNG is %dx%d, want 960x768 (10 × 8 in at 96 dpi)", b.Dx(), b.Dy())
+	}
+}
+
+func TestRefitMatchesDemo(t *testing.T) {
+	j := openJournal(t)
+	run, _ := demoRun(t, j)
+	fc, err := Refit(j, run, predict.TrackerOptions{})
+	if err != nil || fc == nil {
+		t.Fatalf("Refit: %v, %v", fc, err)
+	}
+	if math.Abs(fc.TimeConstant.Seconds()-demoTau) > 0.02*demoTau || math.Abs(fc.Ambient-demoAmbient) > 0.5 {
+		t.Errorf("refit τ %v ambient %v, want %v s and %v °C", fc.TimeConstant, fc.Ambient, demoTau, demoAmbient)
+	}
+	var buf bytes.Buffer
+	s, err := Build(j, run, nil, t0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Model != nil || len(s.Targets) != 2 || s.Targets[1].Within == nil || *s.Targets[1].Within != 2 {
+		t.Errorf("summary without a model: %+v", s)
+	}
+	if err := WritePNG(&buf, s, nil, nil); err != nil {
+		t.Errorf("PNG of a run without readings or model: %v", err)
+	}
+}
+
+func TestSafeCell(t *testing.T) {
+	for in, want := range map[string]string{
+		"": "", "ok": "ok", "-12.5": "-12.5", "+3": "+3", "=1+1": "'=1+1", "@SUM(A1)": "'@SUM(A1)",
+		"-cmd": "'-cmd", "\tx": "'\tx", "OPEN": "OPEN",
+	} {
+		if got := safeCell(in); got != want {
+			t.Errorf("safeCell(%q) = %q, want %q", in, got, want)
+		}
+	}
+}
+
+func equal(a, b []string) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}

@@ -1,0 +1,241 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"time"
+
+	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/predict"
+)
+
+// Summary is the JSON summary of a run. Numbers that are unknown are null.
+type Summary struct {
+	// Run is the run as recorded: channel, specimen, description, specimen
+	// description, targets, start, stop and reading statistics.
+	Run journal.Run `json:"run"`
+	// Model is the fitted model; null when there is no fit.
+	Model *Model `json:"model"`
+	// Targets are the run's targets with forecast, observed crossing and history.
+	Targets []TargetSummary `json:"targets"`
+	// Cautions are shown when a target marks a specimen safe to handle.
+	Cautions []string `json:"cautions,omitempty"`
+	// GeneratedAt is when the report was made.
+	GeneratedAt time.Time `json:"generated_at"`
+}
+
+// Model is the fitted model of a run.
+type Model struct {
+	Name          string     `json:"name"`
+	Parameters    []ParamOut `json:"parameters"`
+	TimeConstantS *float64   `json:"time_constant_s"`
+	AmbientC      *float64   `json:"ambient_c"`
+	RMSEC         *float64   `json:"rmse_c"`
+	// HWm2K is the surface heat transfer coefficient h, W/(m²·K), when the model
+	// reports it (a parameter named h or with unit W/m²K); null otherwise.
+	HWm2K        *float64  `json:"h_w_m2k"`
+	Biot         *float64  `json:"biot"`
+	Points       int       `json:"points"`
+	SegmentStart time.Time `json:"segment_start"`
+	FittedAt     time.Time `json:"fitted_at"`
+	OutOfRange   bool      `json:"out_of_range"`
+	Notes        []string  `json:"notes"`
+}
+
+// ParamOut is a fitted parameter; stderr is null when unknown.
+type ParamOut struct {
+	Name   string   `json:"name"`
+	Value  *float64 `json:"value"`
+	StdErr *float64 `json:"stderr"`
+	Unit   string   `json:"unit,omitempty"`
+}
+
+// TargetSummary is one target of a run.
+type TargetSummary struct {
+	Name     string   `json:"name"`
+	Celsius  *float64 `json:"celsius"`
+	Within   *float64 `json:"within,omitempty"`
+	Handling bool     `json:"handling,omitempty"`
+	// State, PredictedAt, Earliest and Latest are the final forecast (null without
+	// one).
+	State       string     `json:"state,omitempty"`
+	PredictedAt *time.Time `json:"predicted_at"`
+	Earliest    *time.Time `json:"earliest"`
+	Latest      *time.Time `json:"latest"`
+	// Actual is the observed crossing, null when not reached (or not recorded).
+	Actual *time.Time `json:"actual"`
+	// ActualElapsedS is Actual in seconds since the run's start.
+	ActualElapsedS *float64 `json:"actual_elapsed_s"`
+	// History is how the forecast converged: each stored forecast, with its error
+	// against the observed crossing when there is one.
+	History []HistoryPoint `json:"history"`
+	// ConvergedAt is the forecast time from which every later prediction was within
+	// 5 % of the then-remaining time (and at least 60 s) of the observed crossing —
+	// our own convergence criterion; null when not reached or never converged.
+	ConvergedAt *time.Time `json:"converged_at"`
+}
+
+// HistoryPoint is one stored forecast of a target.
+type HistoryPoint struct {
+	Time        time.Time  `json:"time"`
+	State       string     `json:"state"`
+	PredictedAt *time.Time `json:"predicted_at"`
+	Earliest    *time.Time `json:"earliest"`
+	Latest      *time.Time `json:"latest"`
+	// ErrorS is PredictedAt − Actual in seconds (null without both).
+	ErrorS *float64 `json:"error_s"`
+	// Covered says whether the interval held the observed crossing (null without
+	// both).
+	Covered *bool `json:"covered"`
+}
+
+// Build assembles the summary of run from the journal and fc (nil: no model).
+func Build(j *journal.Journal, run journal.Run, fc *predict.Forecast, now time.Time) (Summary, error) {
+	s := Summary{Run: run, Model: modelOf(fc), GeneratedAt: now.UTC(), Targets: []TargetSummary{}}
+	hist, err := j.ForecastHistory(run.ID)
+	if err != nil {
+		return s, err
+	}
+	cross, err := j.Crossings(run.ID)
+	if err != nil {
+		return s, err
+	}
+	targets, err := runTargets(run, fc)
+	if err != nil {
+		return s, err
+	}
+	for _, tg := range targets {
+		ts := targetSummary(tg, fc, run.Started, cross[tg.Name], hist)
+		if tg.Handling {
+			s.Cautions = exporter.HandlingCautions
+		}
+		s.Targets = append(s.Targets, ts)
+	}
+	return s, nil
+}
+
+// runTargets are the live forecast's targets, else the run's stored ones.
+func runTargets(run journal.Run, fc *predict.Forecast) ([]predict.Target, error) {
+	if fc != nil && len(fc.Targets) > 0 {
+		out := make([]predict.Target, len(fc.Targets))
+		for i, tf := range fc.Targets {
+			out[i] = tf.Target
+		}
+		return out, nil
+	}
+	ts, err := ParseTargets(run.Targets)
+	if err != nil {
+		return nil, fmt.Errorf("run %s: %w", run.ID, err)
+	}
+	return ts, nil
+}
+
+func modelOf(fc *predict.Forecast) *Model {
+	if fc == nil {
+		return nil
+	}
+	m := &Model{
+		Name: fc.Model, TimeConstantS: num(fc.TimeConstant.Seconds()), AmbientC: num(fc.Ambient),
+		RMSEC: num(fc.RMSE), Biot: num(fc.Biot), Points: fc.Points, SegmentStart: fc.SegmentStart.UTC(),
+		FittedAt: fc.FittedAt.UTC(), OutOfRange: fc.OutOfRange, Notes: append([]string{}, fc.Notes...),
+		Parameters: []ParamOut{},
+	}
+	if fc.TimeConstant == 0 {
+		m.TimeConstantS = nil
+	}
+	for _, p := range fc.Params {
+		m.Parameters = append(m.Parameters, ParamOut{Name: p.Name, Value: num(p.Value), StdErr: num(p.StdErr), Unit: p.Unit})
+		if p.Name == "h" || strings.HasPrefix(p.Name, "h_") || strings.ReplaceAll(p.Unit, " ", "") == "W/m²K" {
+			m.HWm2K = num(p.Value)
+		}
+	}
+	if m.HWm2K == nil {
+		m.Notes = append(m.Notes, "h is not reported: the model gives it only with the specimen's geometry and material.")
+	}
+	return m
+}
+
+func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.Time, hist []journal.ForecastPoint) TargetSummary {
+	ts := TargetSummary{Name: tg.Name, Celsius: num(tg.Celsius), Handling: tg.Handling, History: []HistoryPoint{}}
+	if tg.IsWithin() {
+		ts.Within = num(tg.Within)
+	}
+	if fc != nil {
+		for _, tf := range fc.Targets {
+			if tf.Target.Name == tg.Name {
+				ts.Celsius, ts.State = num(tf.Celsius), string(tf.State)
+				ts.PredictedAt, ts.Earliest, ts.Latest = when(tf.At), when(tf.Earliest), when(tf.Latest)
+				if tf.State == predict.StateReached && actual.IsZero() {
+					actual = tf.At
+				}
+			}
+		}
+	}
+	ts.Actual = when(actual)
+	if !actual.IsZero() {
+		ts.ActualElapsedS = num(actual.Sub(start).Seconds())
+	}
+	for _, p := range hist {
+		if p.Target == tg.Name {
+			ts.History = append(ts.History, historyPoint(p, actual))
+		}
+	}
+	ts.ConvergedAt = convergedAt(ts.History, actual)
+	return ts
+}
+
+func historyPoint(p journal.ForecastPoint, actual time.Time) HistoryPoint {
+	h := HistoryPoint{Time: p.Time.UTC(), State: p.State, PredictedAt: when(p.At), Earliest: when(p.Earliest), Latest: when(p.Latest)}
+	if actual.IsZero() || p.At.IsZero() || p.State == journal.StateReached {
+		return h
+	}
+	h.ErrorS = num(p.At.Sub(actual).Seconds())
+	if !p.Earliest.IsZero() && !p.Latest.IsZero() {
+		in := !actual.Before(p.Earliest) && !actual.After(p.Latest)
+		h.Covered = &in
+	}
+	return h
+}
+
+// convergedAt is the first history time after which every prediction made before the
+// crossing was within max(60 s, 5 % of the remaining time) of it.
+func convergedAt(hist []HistoryPoint, actual time.Time) *time.Time {
+	if actual.IsZero() {
+		return nil
+	}
+	var from *time.Time
+	for i := range hist {
+		h := hist[i]
+		if h.ErrorS == nil || h.Time.After(actual) {
+			continue
+		}
+		tol := math.Max(60, 0.05*actual.Sub(h.Time).Seconds())
+		if math.Abs(*h.ErrorS) > tol {
+			from = nil
+			continue
+		}
+		if from == nil {
+			t := h.Time
+			from = &t
+		}
+	}
+	return from
+}
+
+// num returns a pointer to v, or nil for NaN and infinities (JSON has no NaN).
+func num(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func when(t time.Time) *time.Time {
+	if t.IsZero() {
+		return nil
+	}
+	u := t.UTC()
+	return &u
+}
