@@ -146,22 +146,33 @@ func (c *Config) checkLoggers(k *checker, channels map[string]int) {
 		if l.Baud <= 0 {
 			k.add(key+".baud", "must be positive, got %d", l.Baud)
 		}
-		if l.Format != "line" {
-			k.add(key+".format", "unknown format %q; known: line", l.Format)
+		own := map[string]bool{} // channels this logger reads
+		switch l.Format {
+		case "line":
+			checkLine(k, key+".line", l.Line, channels, readBy, own)
+		case "query":
+			checkQuery(k, key+".query", l.Query, channels, readBy, own)
+		case "modbus":
+			checkModbus(k, key+".modbus", l.Modbus, channels, readBy, own)
+		default:
+			k.add(key+".format", "unknown format %q; known: %s", l.Format, strings.Join(Formats, ", "))
 			continue
 		}
-		checkLine(k, key+".line", l.Line, channels, readBy)
+		checkInputs(k, key+".inputs", l.Inputs, own)
+		checkOpen(k, key+".open", l.Open)
+		checkCleaning(k, key+".clean", l.Clean)
 	}
 }
 
-func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, readBy map[string]string) {
-	if lf.Separator == "" {
-		k.add(key+".separator", "must not be empty")
-	}
+func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, readBy map[string]string, own map[string]bool) {
+	fields := checkLineSplit(k, key, lf)
 	if lf.ClockColumn < 0 {
 		k.add(key+".clock_column", "must be ≥ 0 (0: use the host's receive time), got %d", lf.ClockColumn)
 	}
-	if len(lf.Columns) == 0 {
+	if _, ok := ClockLayout(lf.ClockFormat); !ok {
+		k.add(key+".clock_format", "want seconds, unix, rfc3339 or a Go time layout such as %q, got %q", "2006-01-02 15:04:05", lf.ClockFormat)
+	}
+	if len(lf.Columns) == 0 && len(fields.named) == 0 {
 		k.add(key+".columns", "at least one column is needed")
 	}
 	indexes := map[int]int{}
@@ -174,10 +185,19 @@ func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, r
 			k.add(colKey+".index", "field %d is the clock_column", col.Index)
 		case dup:
 			k.add(colKey+".index", "field %d is already mapped by %s.columns[%d]", col.Index, key, first)
+		case fields.namedIndex[col.Index] != "":
+			k.add(colKey+".index", "field %d is the regexp group %q", col.Index, fields.namedIndex[col.Index])
+		case fields.groups > 0 && col.Index > fields.groups:
+			k.add(colKey+".index", "field %d: the regexp has only %d groups", col.Index, fields.groups)
 		default:
 			indexes[col.Index] = i
 		}
 		checkColumnChannel(k, colKey+".channel", col.Channel, channels, readBy)
+		own[col.Channel] = true
+	}
+	for _, name := range fields.named {
+		checkColumnChannel(k, key+".regexp", name, channels, readBy)
+		own[name] = true
 	}
 }
 
