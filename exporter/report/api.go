@@ -20,8 +20,21 @@ import (
 // MaxBodyBytes caps the size of a request body of the runs API.
 const MaxBodyBytes = 64 << 10
 
-// LiveForecast returns the daemon's current forecast of a channel, or nil.
-type LiveForecast func(channel string) *predict.Forecast
+// APIOptions configures RunsAPI. The zero value serves reads and refuses changes.
+type APIOptions struct {
+	// Token is the bearer token POST requests must carry; empty refuses every POST.
+	Token string
+	// Live returns the daemon's current forecast of a channel, or nil; reports of
+	// active runs use it. Nil: reports always refit from the journal.
+	Live func(channel string) *predict.Forecast
+	// Channel returns a channel's configured targets and whether the channel exists;
+	// a run started without targets gets these, and a run on an unknown channel is
+	// refused. Nil: any channel, no default targets.
+	Channel func(channel string) ([]predict.Target, bool)
+	// Logger receives run start/stop lines and unexpected errors. Nil means
+	// slog.Default().
+	Logger *slog.Logger
+}
 
 // RunsAPI serves runs over HTTP:
 //
@@ -35,10 +48,12 @@ type LiveForecast func(channel string) *predict.Forecast
 //
 // POST needs "Authorization: Bearer <token>"; with an empty token, POST is refused.
 // Bodies are capped at MaxBodyBytes and unknown JSON fields are rejected. Errors are
-// JSON {"error": "..."}. live (may be nil) gives the model for reports of active runs;
-// stopped runs are refitted from the journal.
-func RunsAPI(j *journal.Journal, token string, live LiveForecast) http.Handler {
-	a := &api{j: j, token: token, live: live, log: slog.Default()}
+// JSON {"error": "..."}. Reports of stopped runs refit the recorded readings.
+func RunsAPI(j *journal.Journal, opt APIOptions) http.Handler {
+	if opt.Logger == nil {
+		opt.Logger = slog.Default()
+	}
+	a := &api{j: j, token: opt.Token, live: opt.Live, channel: opt.Channel, log: opt.Logger}
 	mux := http.NewServeMux()
 	mux.HandleFunc("GET /api/v1/runs", a.list)
 	mux.HandleFunc("GET /api/v1/runs/{id}", a.show)
@@ -51,10 +66,11 @@ func RunsAPI(j *journal.Journal, token string, live LiveForecast) http.Handler {
 }
 
 type api struct {
-	j     *journal.Journal
-	token string
-	live  LiveForecast
-	log   *slog.Logger
+	j       *journal.Journal
+	token   string
+	live    func(string) *predict.Forecast
+	channel func(string) ([]predict.Target, bool)
+	log     *slog.Logger
 }
 
 // RunDetail is the body of GET /api/v1/runs/{id}.
@@ -139,6 +155,21 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 		if _, err := ParseTargets(spec.Targets); err != nil {
 			writeError(w, http.StatusBadRequest, err.Error())
 			return
+		}
+	}
+	if a.channel != nil {
+		targets, ok := a.channel(spec.Channel)
+		if !ok {
+			writeError(w, http.StatusBadRequest, fmt.Sprintf("unknown channel %q: not in the daemon's configuration", spec.Channel))
+			return
+		}
+		if len(spec.Targets) == 0 && len(targets) > 0 {
+			b, err := TargetsJSON(targets)
+			if err != nil {
+				a.fail(w, err)
+				return
+			}
+			spec.Targets = b
 		}
 	}
 	run, err := a.j.StartRun(spec)

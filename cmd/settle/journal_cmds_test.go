@@ -1,0 +1,204 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"image/png"
+	"io"
+	"log/slog"
+	"math"
+	"net/http/httptest"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/exporter/report"
+)
+
+var journalT0 = time.Date(2026, 3, 14, 9, 0, 0, 0, time.UTC)
+
+// execute runs the root command with args as a user would and returns its output.
+func executeJournalCmd(t *testing.T, args ...string) (string, error) {
+	t.Helper()
+	root := newRootCmd()
+	var out bytes.Buffer
+	root.SetOut(&out)
+	root.SetErr(&out)
+	root.SetArgs(args)
+	err := root.Execute()
+	return out.String(), err
+}
+
+// writerJournal opens a writing journal in a new data directory, as the daemon does.
+func writerJournal(t *testing.T) (*journal.Journal, string) {
+	t.Helper()
+	dir := t.TempDir()
+	j, err := journal.Open(dir, journal.Options{CommitInterval: 20 * time.Millisecond, Logger: slog.New(slog.NewTextHandler(io.Discard, nil))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { j.Close() })
+	return j, dir
+}
+
+// recordCooling appends a specimen cooling from 150 °C toward 21 °C (τ = 300 s),
+// read every 5 s for 20 min, on channel rack-2, plus a fault at 100 s; our own
+// invented demo scenario.
+func recordCooling(t *testing.T, j *journal.Journal) {
+	t.Helper()
+	for s := 0; s <= 1200; s += 5 {
+		r := daq.Reading{Logger: "bench", Channel: "rack-2", Time: journalT0.Add(time.Duration(s) * time.Second),
+			Celsius: 21 + 129*math.Exp(-float64(s)/300), Status: daq.StatusOK}
+		if s == 100 {
+			r.Status, r.Celsius, r.Raw = daq.StatusOpen, math.NaN(), "OPEN"
+		}
+		j.Append(r)
+	}
+	if err := j.Flush(); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func TestExportCSV(t *testing.T) {
+	j, dir := writerJournal(t)
+	recordCooling(t, j)
+	out := filepath.Join(t.TempDir(), "rack-2.csv")
+	msg, err := executeJournalCmd(t, "export", "--data-dir", dir, "--channel", "rack-2",
+		"--from", "2026-03-14T09:01:00Z", "--to", "2026-03-14T09:02:00Z", "--out", out)
+	if err != nil {
+		t.Fatalf("export: %v\n%s", err, msg)
+	}
+	f, err := os.Open(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	// [60 s, 120 s) every 5 s: 12 readings, the one at 100 s a fault.
+	if len(recs) != 13 || strings.Join(recs[0], ",") != "time,elapsed_s,channel,logger,celsius,status,raw" {
+		t.Fatalf("%d rows, header %v; want 12 readings and the header", len(recs)-1, recs[0])
+	}
+	if recs[1][0] != "2026-03-14T09:01:00.000Z" || recs[1][1] != "0.000" || recs[9][5] != "open" || recs[9][4] != "" {
+		t.Errorf("rows %v ... %v", recs[1], recs[9])
+	}
+	if !strings.Contains(msg, "12 readings of rack-2 written to "+out) {
+		t.Errorf("message %q", msg)
+	}
+}
+
+func TestExportErrors(t *testing.T) {
+	_, dir := writerJournal(t)
+	t.Setenv("SETTLE_DATA_DIR", "")
+	for _, tc := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"export", "--channel", "x"}, "--data-dir"},
+		{[]string{"export", "--data-dir", dir, "--channel", "x", "--from", "yesterday"}, `--from "yesterday"`},
+		{[]string{"export", "--data-dir", t.TempDir(), "--channel", "x"}, journal.FileName},
+		{[]string{"report", "nope", "--data-dir", dir}, "no such run"},
+	} {
+		if _, err := executeJournalCmd(t, tc.args...); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%v: %v, want an error mentioning %q", tc.args, err, tc.want)
+		}
+	}
+}
+
+// TestReportOfflineWhileDaemonWrites makes a report from the journal file while a
+// writer (standing in for the daemon) keeps appending to it.
+func TestReportOfflineWhileDaemonWrites(t *testing.T) {
+	j, dir := writerJournal(t)
+	run, err := j.StartRun(journal.RunSpec{Channel: "rack-2", Specimen: "S-1", Start: journalT0,
+		Targets: json.RawMessage(`[{"name":"handle","celsius":45,"handling":true}]`)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	recordCooling(t, j)
+	if _, err := j.StopRun(run.ID, journalT0.Add(20*time.Minute)); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan struct{})
+	go func() { // the daemon goes on writing another channel
+		defer close(done)
+		for i := range 200 {
+			j.Append(daq.Reading{Channel: "rack-5", Time: journalT0.Add(time.Hour + time.Duration(i)*time.Second), Celsius: 20, Status: daq.StatusOK})
+			time.Sleep(time.Millisecond)
+		}
+	}()
+	out := t.TempDir()
+	msg, err := executeJournalCmd(t, "report", run.ID, "--data-dir", dir, "--out", out)
+	<-done
+	if err != nil {
+		t.Fatalf("report: %v\n%s", err, msg)
+	}
+	var s report.Summary
+	b, err := os.ReadFile(filepath.Join(out, run.ID+"-summary.json"))
+	if err != nil || json.Unmarshal(b, &s) != nil {
+		t.Fatalf("summary: %v\n%s", err, b)
+	}
+	// 21 + 129·exp(−t/300) = 45 at t = 300·ln(129/24) ≈ 504.5 s; the refit forecast
+	// reports the observed crossing, the first reading at or below 45 °C (505 s).
+	if s.Model == nil || math.Abs(*s.Model.TimeConstantS-300) > 3 || len(s.Targets) != 1 || s.Targets[0].Actual == nil ||
+		math.Abs(s.Targets[0].Actual.Sub(journalT0).Seconds()-504.5) > 5 {
+		t.Errorf("summary model %+v targets %+v", s.Model, s.Targets)
+	}
+	f, err := os.Open(filepath.Join(out, run.ID+".png"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if _, err := png.Decode(f); err != nil {
+		t.Errorf("figure: %v", err)
+	}
+	if !strings.Contains(msg, run.ID+"-readings.csv") {
+		t.Errorf("output %q does not list the files", msg)
+	}
+	list, err := executeJournalCmd(t, "runs", "--data-dir", dir)
+	if err != nil || !strings.HasPrefix(list, run.ID+"\track-2\tS-1\t") {
+		t.Errorf("runs: %q, %v", list, err)
+	}
+}
+
+func TestRunStartStopOverHTTP(t *testing.T) {
+	j, _ := writerJournal(t)
+	srv := httptest.NewServer(report.RunsAPI(j, report.APIOptions{Token: "tok", Logger: slog.New(slog.NewTextHandler(io.Discard, nil))}))
+	defer srv.Close()
+	specFile := filepath.Join(t.TempDir(), "specimen.yaml")
+	if err := os.WriteFile(specFile, []byte("shape: sphere\ndiameter_mm: 40\nmaterial: aluminium\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--token", "bad", "--channel", "rack-2", "--specimen", "S-7"); err == nil || !strings.Contains(err.Error(), "HTTP 401") {
+		t.Errorf("wrong token: %v, want HTTP 401", err)
+	}
+	t.Setenv("SETTLE_TOKEN", "tok")
+	out, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "rack-2", "--specimen", "S-7",
+		"--description", "ball", "--specimen-file", specFile, "--targets", `[{"name":"cool","celsius":30}]`)
+	if err != nil || !strings.Contains(out, "started run") {
+		t.Fatalf("run-start: %q, %v", out, err)
+	}
+	run, err := j.ActiveRun("rack-2")
+	if err != nil || run.Specimen != "S-7" || run.Origin != "cli" || !strings.Contains(run.SpecimenSpec, "sphere") || !strings.Contains(string(run.Targets), "cool") {
+		t.Fatalf("active run %+v, %v", run, err)
+	}
+	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "rack-2", "--specimen", "S-8"); err == nil || !strings.Contains(err.Error(), "HTTP 409") {
+		t.Errorf("second start: %v, want HTTP 409", err)
+	}
+	out, err = executeJournalCmd(t, "run-stop", "--addr", srv.URL, "--channel", "rack-2")
+	if err != nil || !strings.Contains(out, "stopped run "+run.ID) {
+		t.Fatalf("run-stop: %q, %v", out, err)
+	}
+	if _, err := executeJournalCmd(t, "run-stop", "--addr", srv.URL, "--channel", "rack-2"); err == nil || !strings.Contains(err.Error(), "no active run") {
+		t.Errorf("second stop: %v", err)
+	}
+	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "x", "--specimen", "y", "--targets", `[{"name":"a"}]`); err == nil || !strings.Contains(err.Error(), "--targets") {
+		t.Errorf("bad targets: %v", err)
+	}
+}
