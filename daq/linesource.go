@@ -42,7 +42,7 @@ func NewLineSource(cfg config.Logger, log *slog.Logger) (*LineSource, error) {
 	if cfg.Baud < 0 {
 		return nil, fmt.Errorf("logger %q: baud %d: must be positive", cfg.Name, cfg.Baud)
 	}
-	parser, err := NewLineParser(cfg.Name, cfg.Line)
+	parser, err := NewLineParserFor(cfg)
 	if err != nil {
 		return nil, err
 	}
