@@ -17,6 +17,12 @@ var factories = map[string]Factory{
 	"line": func(cfg config.Logger, log *slog.Logger) (Source, error) {
 		return NewLineSource(cfg, log)
 	},
+	"query": func(cfg config.Logger, log *slog.Logger) (Source, error) {
+		return NewQuerySource(cfg, log)
+	},
+	"modbus": func(cfg config.Logger, log *slog.Logger) (Source, error) {
+		return NewModbusSource(cfg, log)
+	},
 }
 
 // Register makes a driver available under a format name. It panics if the name is
