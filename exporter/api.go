@@ -31,6 +31,7 @@ type ChannelJSON struct {
 	Latest   *ReadingJSON  `json:"latest"`
 	Forecast *ForecastJSON `json:"forecast"`
 	Targets  []TargetJSON  `json:"targets"`
+	Fault    *FaultJSON    `json:"fault"`
 	Cautions []string      `json:"cautions,omitempty"`
 }
 
@@ -44,17 +45,26 @@ type ReadingJSON struct {
 
 // ForecastJSON is the fitted model of a channel.
 type ForecastJSON struct {
-	Model         string          `json:"model"`
-	Parameters    []predict.Param `json:"parameters"`
-	TimeConstantS *float64        `json:"time_constant_s"`
-	AmbientC      *float64        `json:"ambient_c"`
-	RMSEC         *float64        `json:"rmse_c"`
-	Biot          *float64        `json:"biot"`
-	OutOfRange    bool            `json:"out_of_range"`
-	Points        int             `json:"points"`
-	SegmentStart  time.Time       `json:"segment_start"`
-	FittedAt      time.Time       `json:"fitted_at"`
-	Notes         []string        `json:"notes"`
+	Model         string      `json:"model"`
+	Parameters    []ParamJSON `json:"parameters"`
+	TimeConstantS *float64    `json:"time_constant_s"`
+	AmbientC      *float64    `json:"ambient_c"`
+	RMSEC         *float64    `json:"rmse_c"`
+	Biot          *float64    `json:"biot"`
+	OutOfRange    bool        `json:"out_of_range"`
+	Points        int         `json:"points"`
+	SegmentStart  time.Time   `json:"segment_start"`
+	FittedAt      time.Time   `json:"fitted_at"`
+	Notes         []string    `json:"notes"`
+}
+
+// ParamJSON is one fitted parameter; StdErr is null where it is unknown (for
+// example an ambient that was measured rather than fitted).
+type ParamJSON struct {
+	Name   string   `json:"name"`
+	Value  *float64 `json:"value"`
+	StdErr *float64 `json:"stderr"`
+	Unit   string   `json:"unit,omitempty"`
 }
 
 // TargetJSON is one target's forecast. Times are null where there is none.
@@ -75,13 +85,14 @@ func Channels(s State, now time.Time) ChannelsResponse {
 		return resp
 	}
 	for _, ch := range s.Bench.Snapshot() {
-		resp.Channels = append(resp.Channels, channelJSON(s, ch))
+		resp.Channels = append(resp.Channels, channelJSON(s, ch, now))
 	}
 	return resp
 }
 
-func channelJSON(s State, ch predict.ChannelState) ChannelJSON {
-	out := ChannelJSON{Name: ch.Name, Ambient: ch.Ambient, Targets: []TargetJSON{}}
+func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
+	out := ChannelJSON{Name: ch.Name, Ambient: ch.Ambient, Targets: []TargetJSON{},
+		Fault: channelFault(s, ch.Name, now)}
 	if s.Latest != nil {
 		if r, ok := s.Latest.Get(ch.Name); ok {
 			out.Latest = &ReadingJSON{Time: r.Time.UTC(), Status: r.Status.String(), Raw: r.Raw}
@@ -95,7 +106,7 @@ func channelJSON(s State, ch predict.ChannelState) ChannelJSON {
 		return out
 	}
 	out.Forecast = &ForecastJSON{
-		Model: f.Model, Parameters: f.Params, TimeConstantS: num(f.TimeConstant.Seconds()),
+		Model: f.Model, Parameters: paramsJSON(f.Params), TimeConstantS: num(f.TimeConstant.Seconds()),
 		AmbientC: num(f.Ambient), RMSEC: num(f.RMSE), Biot: num(f.Biot),
 		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
 		FittedAt: f.FittedAt.UTC(), Notes: append([]string{}, f.Notes...),
@@ -108,6 +119,14 @@ func channelJSON(s State, ch predict.ChannelState) ChannelJSON {
 		if tf.Target.Handling {
 			out.Cautions = HandlingCautions
 		}
+	}
+	return out
+}
+
+func paramsJSON(ps []predict.Param) []ParamJSON {
+	out := make([]ParamJSON, 0, len(ps))
+	for _, p := range ps {
+		out = append(out, ParamJSON{Name: p.Name, Value: num(p.Value), StdErr: num(p.StdErr), Unit: p.Unit})
 	}
 	return out
 }

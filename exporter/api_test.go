@@ -6,10 +6,11 @@ import (
 	"net/http/httptest"
 	"path/filepath"
 	"testing"
+	"time"
 )
 
 func TestChannelsGolden(t *testing.T) {
-	body, err := json.MarshalIndent(Channels(testState(), t0.Add(9*60e9)), "", "  ")
+	body, err := json.MarshalIndent(Channels(testState(), t0.Add(8*time.Minute+5*time.Second)), "", "  ")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -35,7 +36,7 @@ func TestChannelsCautionsOnHandlingTargets(t *testing.T) {
 
 func TestHandlerRoutes(t *testing.T) {
 	s := testState()
-	srv := httptest.NewServer(NewHandler(s, NewRegistry(s)))
+	srv := httptest.NewServer(NewHandler(s, NewRegistry(s), Options{}))
 	defer srv.Close()
 	cases := []struct {
 		method, path string
@@ -45,7 +46,7 @@ func TestHandlerRoutes(t *testing.T) {
 		{"GET", "/api/v1/channels", 200},
 		{"GET", "/healthz", 200},
 		{"GET", "/", 200},
-		{"POST", "/api/v1/channels", 405},
+		{"POST", "/api/v1/channels", 403}, // no token configured: refused before routing
 		{"GET", "/api/v1/../../etc/passwd", 404},
 		{"GET", "/nope", 404},
 	}

@@ -24,6 +24,9 @@ type State struct {
 	Latest *Latest
 	// Ports returns the counters of every open logger.
 	Ports func() []daq.PortStats
+	// StaleAfter is the shortest silence after which a channel is reported stale
+	// (0: DefaultStaleAfter).
+	StaleAfter time.Duration
 }
 
 // Collector is a prometheus.Collector that builds every settle metric from State at

@@ -43,6 +43,7 @@ func testState() State {
 		},
 	}
 	latest := NewLatest()
+	latest.now = func() time.Time { return t0.Add(8 * time.Minute) } // arrival on time
 	latest.Record(daq.Reading{Channel: "steel", Time: t0.Add(8 * time.Minute), Celsius: 182.4})
 	latest.Record(daq.Reading{Channel: "tile", Time: t0.Add(8 * time.Minute), Status: daq.StatusOpen, Raw: "OPEN"})
 	return State{

@@ -45,8 +45,9 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		d.sources = append(d.sources, src)
 	}
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
-	d.srv = exporter.NewServer(exporter.NewHandler(state, exporter.NewRegistry(state)),
-		exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
+	d.srv = exporter.NewServer(exporter.NewHandler(state, exporter.NewRegistry(state), exporter.Options{
+		Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
+	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
 	d.ln, err = net.Listen("tcp", cfg.Listen)
 	if err != nil {
 		return nil, fmt.Errorf("listen on %s (config key listen): %w", cfg.Listen, err)

@@ -1,0 +1,254 @@
+package exporter
+
+import (
+	"crypto/subtle"
+	"encoding/json"
+	"errors"
+	"io"
+	"log/slog"
+	"net/http"
+	"strings"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/exporter/notify"
+)
+
+// MaxBodyBytes caps every request body the daemon reads.
+const MaxBodyBytes = 64 << 10
+
+// Options configures NewHandler; the zero value serves read-only endpoints in °C
+// with no runs API and no notifications.
+type Options struct {
+	// Token is the bearer token every state-changing request (any method other than
+	// GET, HEAD and OPTIONS) must carry. Empty: such requests are refused.
+	Token string
+	// Display sets the status page's units (metrics and the API stay in °C).
+	Display config.Display
+	// Runs, when set, serves /api/v1/runs and everything below it.
+	Runs http.Handler
+	// Webhooks receive notifications (config notify.webhooks).
+	Webhooks []config.Webhook
+	// Notify tunes the notifier (retries, client); its Registerer and Cautions are set
+	// by NewHandler.
+	Notify notify.Options
+	// Log receives the server's own problems (default: slog.Default()).
+	Log *slog.Logger
+	// PollInterval is how often forecasts and faults are checked for changes that the
+	// event stream and the notifications report (default 1 s).
+	PollInterval time.Duration
+	// Heartbeat is how often an idle event stream sends a heartbeat (default 15 s).
+	Heartbeat time.Duration
+	// ClientBuffer is how many events a stream client may fall behind before it is
+	// dropped (default DefaultClientBuffer).
+	ClientBuffer int
+	// MaxStreams caps concurrent event-stream clients (default DefaultMaxStreams).
+	MaxStreams int
+	// Now replaces the wall clock in tests (default time.Now).
+	Now func() time.Time
+}
+
+// Handler is the daemon's HTTP handler:
+//
+//	GET  /                                   status page (embedded assets under /static/)
+//	GET  /metrics                            Prometheus metrics
+//	GET  /healthz                            liveness
+//	GET  /api/v1/channels                    every channel with its forecast
+//	GET  /api/v1/channels/{name}             one channel with the fit in full
+//	GET  /api/v1/channels/{name}/series      readings and fitted curve, downsampled
+//	GET  /api/v1/events                      server-sent events
+//	POST /api/v1/notify/test                 send a test notification (token)
+//	     /api/v1/runs[/...]                  the runs API, when Options.Runs is set
+//
+// Its Run method polls for forecast and fault changes; NewServer runs it.
+type Handler struct {
+	state    State
+	opt      Options
+	mux      *http.ServeMux
+	broker   *broker
+	notifier *notify.Notifier
+	unsub    func()
+}
+
+// NewHandler returns the handler over s. Counters of the notifications are registered
+// with reg, which also serves /metrics.
+func NewHandler(s State, reg *prometheus.Registry, opt Options) *Handler {
+	opt = handlerDefaults(opt)
+	h := &Handler{state: s, opt: opt, mux: http.NewServeMux(),
+		broker: newBroker(opt.ClientBuffer, opt.MaxStreams)}
+	nopt := opt.Notify
+	nopt.Registerer, nopt.Cautions = reg, HandlingCautions
+	if nopt.Log == nil {
+		nopt.Log = opt.Log
+	}
+	h.notifier = notify.New(opt.Webhooks, nopt)
+	if s.Latest != nil {
+		h.unsub = s.Latest.subscribe(func(r daq.Reading) { h.broker.publish("reading", readingEvent(r)) })
+	}
+	h.routes(reg)
+	return h
+}
+
+func handlerDefaults(opt Options) Options {
+	if opt.Log == nil {
+		opt.Log = slog.Default()
+	}
+	if opt.PollInterval <= 0 {
+		opt.PollInterval = time.Second
+	}
+	if opt.Heartbeat <= 0 {
+		opt.Heartbeat = DefaultHeartbeat
+	}
+	if opt.ClientBuffer <= 0 {
+		opt.ClientBuffer = DefaultClientBuffer
+	}
+	if opt.MaxStreams <= 0 {
+		opt.MaxStreams = DefaultMaxStreams
+	}
+	if opt.Now == nil {
+		opt.Now = time.Now
+	}
+	return opt
+}
+
+func (h *Handler) routes(reg *prometheus.Registry) {
+	m := h.mux
+	m.Handle("GET /metrics", promhttp.HandlerFor(reg, promhttp.HandlerOpts{
+		Registry: reg, MaxRequestsInFlight: 4, Timeout: 10 * time.Second,
+	}))
+	m.HandleFunc("GET /healthz", func(w http.ResponseWriter, r *http.Request) {
+		writeJSON(w, http.StatusOK, map[string]string{"status": "ok"})
+	})
+	m.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
+		writeJSON(w, http.StatusOK, Channels(h.state, h.opt.Now()))
+	})
+	m.HandleFunc("GET /api/v1/channels/{name}", h.serveDetail)
+	m.HandleFunc("GET /api/v1/channels/{name}/series", h.serveSeries)
+	m.HandleFunc("GET /api/v1/events", h.serveEvents)
+	m.HandleFunc("POST /api/v1/notify/test", h.serveNotifyTest)
+	if h.opt.Runs != nil {
+		m.Handle("/api/v1/runs", h.opt.Runs)
+		m.Handle("/api/v1/runs/", h.opt.Runs)
+	}
+	m.HandleFunc("GET /{$}", h.servePage)
+	m.Handle("GET /static/", staticHandler())
+	m.HandleFunc("/", func(w http.ResponseWriter, r *http.Request) {
+		writeError(w, http.StatusNotFound, "no such page: "+r.URL.Path)
+	})
+}
+
+// ServeHTTP checks the token of state-changing requests, caps request bodies and
+// dispatches.
+func (h *Handler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
+	w.Header().Set("X-Content-Type-Options", "nosniff")
+	if r.Body != nil {
+		r.Body = http.MaxBytesReader(w, r.Body, MaxBodyBytes)
+	}
+	switch r.Method {
+	case http.MethodGet, http.MethodHead, http.MethodOptions:
+	default:
+		if status, msg := checkToken(h.opt.Token, r.Header.Get("Authorization")); status != 0 {
+			w.Header().Set("WWW-Authenticate", `Bearer realm="settle"`)
+			writeError(w, status, msg)
+			return
+		}
+	}
+	h.mux.ServeHTTP(w, r)
+}
+
+// checkToken returns 0 when the Authorization header carries token, else the status and
+// message to answer with: 401 when the credentials are missing, 403 when they are wrong
+// or when no token is configured (state-changing requests are then refused).
+func checkToken(token, header string) (int, string) {
+	if token == "" {
+		return http.StatusForbidden, "this server has no token configured (http.token or SETTLE_TOKEN), so it refuses requests that change state"
+	}
+	got, ok := strings.CutPrefix(header, "Bearer ")
+	if !ok || got == "" {
+		return http.StatusUnauthorized, "this request changes state: send Authorization: Bearer <token>"
+	}
+	if subtle.ConstantTimeCompare([]byte(got), []byte(token)) != 1 {
+		return http.StatusForbidden, "wrong token"
+	}
+	return 0, ""
+}
+
+func (h *Handler) serveDetail(w http.ResponseWriter, r *http.Request) {
+	name := r.PathValue("name")
+	d, ok := Detail(h.state, name, h.opt.Now())
+	if !ok {
+		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
+		return
+	}
+	writeJSON(w, http.StatusOK, d)
+}
+
+func (h *Handler) serveSeries(w http.ResponseWriter, r *http.Request) {
+	name := r.PathValue("name")
+	if _, ok := findChannel(h.state, name); !ok {
+		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
+		return
+	}
+	var newest time.Time
+	if h.state.Latest != nil {
+		if rd, ok := h.state.Latest.Get(name); ok {
+			newest = rd.Time
+		}
+	}
+	q, err := ParseSeriesQuery(r.URL.Query().Get, newest)
+	if err != nil {
+		writeError(w, http.StatusBadRequest, err.Error())
+		return
+	}
+	s, _ := Series(h.state, name, q)
+	writeJSON(w, http.StatusOK, s)
+}
+
+// NotifyTestRequest is the optional body of POST /api/v1/notify/test.
+type NotifyTestRequest struct {
+	// Webhook names one webhook; empty sends to every webhook.
+	Webhook string `json:"webhook"`
+}
+
+func (h *Handler) serveNotifyTest(w http.ResponseWriter, r *http.Request) {
+	var req NotifyTestRequest
+	dec := json.NewDecoder(r.Body)
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&req); err != nil && !errors.Is(err, io.EOF) {
+		var tooBig *http.MaxBytesError
+		if errors.As(err, &tooBig) {
+			writeError(w, http.StatusRequestEntityTooLarge, "request body over 64 KiB")
+			return
+		}
+		writeError(w, http.StatusBadRequest, "body: "+err.Error())
+		return
+	}
+	n, err := h.notifier.Test(req.Webhook, h.opt.Now())
+	if err != nil {
+		writeError(w, http.StatusNotFound, err.Error())
+		return
+	}
+	writeJSON(w, http.StatusAccepted, map[string]int{"queued": n})
+}
+
+// ErrorJSON is the body of every error answer.
+type ErrorJSON struct {
+	Error string `json:"error"`
+}
+
+func writeError(w http.ResponseWriter, status int, msg string) {
+	writeJSON(w, status, ErrorJSON{Error: msg})
+}
+
+// quote quotes s for an error message, capped so a hostile name cannot flood the log.
+func quote(s string) string {
+	if len(s) > 80 {
+		s = s[:80] + "…"
+	}
+	b, _ := json.Marshal(s)
+	return string(b)
+}
