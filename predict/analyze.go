@@ -53,24 +53,28 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		f.Notes = append(f.Notes, "The ambient is fitted as a constant.")
 	}
 	lr, err := FitLumped(p, &opt.Fit)
-	if err != nil {
+	var hr *HResult
+	if n >= minPointsH {
+		start := &lr
+		if err != nil {
+			start = roughStart(p)
+		}
+		if start != nil {
+			hr = fitHBest(p, start, opt.Specimen)
+		}
+	}
+	if err != nil && hr == nil {
 		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
 		f.Targets = forecastTargets(nil, &p, start, targets, &opt.Interval)
 		return f
 	}
-	var hr *HResult
-	if n >= minPointsH {
-		law := DefaultSurfaceLaw
-		if opt.Specimen != nil {
-			law = opt.Specimen.law()
-		}
-		r, err := FitH(HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}, &lr)
-		if err == nil {
-			hr = &r
-		}
-	}
 	var m fitted = lumpedFitted{&lr}
-	if hr != nil && chooseH(&lr, hr, f) {
+	if err != nil {
+		f.Notes = append(f.Notes, fmt.Sprintf(
+			"Model: lumped with h(T) from natural convection and radiation; the exponential alone is not resolved yet (%v).", err))
+		m = hFitted{hr}
+		describeH(f, hr, start, opt.Specimen)
+	} else if hr != nil && chooseH(&lr, hr, f) {
 		m = hFitted{hr}
 		describeH(f, hr, start, opt.Specimen)
 	} else {
@@ -79,6 +83,72 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	noteResiduals(f, m, opt.Interval)
 	f.Targets = forecastTargets(m, &p, start, targets, &opt.Interval)
 	return f
+}
+
+// Room ambient prior for the h(T) fit when the ambient is not measured: 22 ± 8 °C, a
+// lab room (our assumption, stated in the notes); the data override it once the
+// curve has bent toward its settling temperature.
+const (
+	roomPrior   = 22.0
+	roomPriorSD = 8.0
+)
+
+// unknownEmissivities are tried when the specimen is unknown; the best fit is kept.
+var unknownEmissivities = []float64{0.1, 0.4, 0.8}
+
+// fitHBest fits the h(T) model: with the specimen's law when known, else with the
+// default geometry at each of unknownEmissivities, keeping the lowest residual. It
+// returns nil when no fit succeeds.
+func fitHBest(p LumpedProblem, lr *LumpedResult, sp *Specimen) *HResult {
+	laws := []SurfaceLaw{}
+	if sp != nil {
+		laws = append(laws, sp.law())
+	} else {
+		for _, e := range unknownEmissivities {
+			l := DefaultSurfaceLaw
+			l.Emissivity = e
+			laws = append(laws, l)
+		}
+	}
+	var best *HResult
+	for _, law := range laws {
+		hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}
+		if p.Ambient == nil {
+			hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
+		}
+		r, err := FitH(hp, lr)
+		if err == nil && (best == nil || r.RMSE < best.RMSE) {
+			best = &r
+		}
+	}
+	return best
+}
+
+// roughStart makes a starting point for FitH when the exponential is not resolved
+// (early, nearly straight data): the measured ambient or the room prior, the first
+// reading's excess over it, and τ from the mean slope. Nil when the readings do not
+// move away from the ambient's side.
+func roughStart(p LumpedProblem) *LumpedResult {
+	n := len(p.Times)
+	amb := roomPrior
+	if p.Ambient != nil {
+		amb = p.Ambient[n-1]
+	}
+	exc := p.Celsius[0] - amb
+	span := p.Times[n-1] - p.Times[0]
+	slope := (p.Celsius[n-1] - p.Celsius[0]) / span
+	if exc == 0 || !(span > 0) || sign(slope) != -sign(exc) {
+		return nil
+	}
+	var ss float64
+	for i := 1; i < n; i++ {
+		d := p.Celsius[i] - p.Celsius[i-1]
+		ss += d * d
+	}
+	return &LumpedResult{
+		Status: FitSuccess, Ambient: amb, Excess: exc, Tau: math.Abs(exc / slope),
+		Sigma: math.Sqrt(ss / float64(2*(n-1))), N: n, Free: 3,
+	}
 }
 
 // aic is Akaike's information criterion for Gaussian residuals, n·ln(SSR/n) + 2k.
@@ -140,7 +210,7 @@ func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 	} else {
 		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
 		f.Notes = append(f.Notes, fmt.Sprintf(
-			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g, and the heat capacity per unit area ρcV/A is fitted instead of a scale on h.",
+			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g (best of 0.1, 0.4, 0.8), and the heat capacity per unit area ρcV/A is fitted instead of a scale on h; the fitted ambient leans on a room prior of 22 ± 8 °C.",
 			r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity))
 		noteNoSpecimen(f)
 	}

@@ -91,3 +91,29 @@ func (c CurveFile) Until(s float64) CurveFile {
 	}
 	return out
 }
+
+// FilledAmbient returns the ambient column with each missing cell taking the last
+// measured value before it (the first measured value for leading gaps); nil when the
+// file has no ambient column or no value in it.
+func (c CurveFile) FilledAmbient() []float64 {
+	if c.Ambient == nil {
+		return nil
+	}
+	out := make([]float64, len(c.Ambient))
+	last := math.NaN()
+	for i, v := range c.Ambient {
+		if !math.IsNaN(v) {
+			last = v
+		}
+		out[i] = last
+	}
+	if math.IsNaN(last) {
+		return nil
+	}
+	for i := len(out) - 2; i >= 0; i-- {
+		if math.IsNaN(out[i]) {
+			out[i] = out[i+1]
+		}
+	}
+	return out
+}

@@ -19,6 +19,10 @@ type HProblem struct {
 	Ambient []float64
 	// Law is the surface law h(T).
 	Law SurfaceLaw
+	// AmbientPrior and AmbientPriorSD, when AmbientPriorSD > 0 and the ambient is
+	// fitted, add a Gaussian prior on T∞ (a penalty (T∞ − prior)²·σ²/SD² with σ the
+	// residual scale): early in a long cooling the data barely fix the ambient.
+	AmbientPrior, AmbientPriorSD float64
 }
 
 // hMaxIter bounds the Levenberg–Marquardt iterations of FitH.
@@ -54,6 +58,10 @@ func FitH(p HProblem, start *LumpedResult) (HResult, error) {
 	w0 := math.Log(math.Abs(start.Excess))
 	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
 	lm := levmar{m: m, x: []float64{w0, q, amb}, free: res.Free}
+	if res.Free == 3 && p.AmbientPriorSD > 0 {
+		lm.priorAmb = p.AmbientPrior
+		lm.priorW2 = math.Pow(max(start.Sigma, 0.05)/p.AmbientPriorSD, 2)
+	}
 	if !lm.run() {
 		res.Status = FitSingular
 		return res, res.Status.Err()
@@ -71,6 +79,13 @@ type levmar struct {
 	r    []float64
 	jac  *mat.Dense
 	ssr  float64
+
+	priorAmb, priorW2 float64 // the ambient prior's mean and weight (0: none)
+}
+
+// penalty is the ambient prior's term of the objective at ambient amb.
+func (lm *levmar) penalty(amb float64) float64 {
+	return lm.priorW2 * (amb - lm.priorAmb) * (amb - lm.priorAmb)
 }
 
 // ambDelta is the finite-difference step of the ambient column, K.
@@ -118,12 +133,31 @@ func (lm *levmar) run() bool {
 		jtj.SymOuterK(1, lm.jac.T())
 		g := mat.NewVecDense(k, nil)
 		g.MulVec(lm.jac.T(), mat.NewVecDense(len(lm.r), lm.r))
+		if lm.priorW2 > 0 {
+			jtj.SetSym(2, 2, jtj.At(2, 2)+lm.priorW2)
+			g.SetVec(2, g.AtVec(2)+lm.priorW2*(lm.priorAmb-lm.x[2]))
+		}
+		cur := lm.ssr + lm.penalty(lm.x[2])
+		dscale := make([]float64, k)
+		for i := range k {
+			dscale[i] = math.Sqrt(jtj.At(i, i))
+			if !(dscale[i] > 0) {
+				return false
+			}
+		}
 		improved := false
-		for range 12 {
+		for range 6 {
+			// Solve in variables scaled by sqrt(diag JᵀJ) (Marquardt's scaling): the
+			// parameters differ by many orders of magnitude, and unscaled normal
+			// equations would be too ill-conditioned to factorise at small λ.
 			a := mat.NewSymDense(k, nil)
-			a.CopySym(&jtj)
+			gs := mat.NewVecDense(k, nil)
 			for i := range k {
-				a.SetSym(i, i, jtj.At(i, i)*(1+lambda))
+				for j := i; j < k; j++ {
+					a.SetSym(i, j, jtj.At(i, j)/(dscale[i]*dscale[j]))
+				}
+				a.SetSym(i, i, 1+lambda)
+				gs.SetVec(i, g.AtVec(i)/dscale[i])
 			}
 			var ch mat.Cholesky
 			if !ch.Factorize(a) {
@@ -131,16 +165,22 @@ func (lm *levmar) run() bool {
 				continue
 			}
 			var dx mat.VecDense
-			if err := ch.SolveVecTo(&dx, g); err != nil {
+			if err := ch.SolveVecTo(&dx, gs); err != nil {
 				lambda *= 10
 				continue
 			}
+			for i := range k {
+				dx.SetVec(i, dx.AtVec(i)/dscale[i])
+			}
 			next := append([]float64(nil), lm.x...)
+			small := true
 			for i := range k {
 				next[i] += dx.AtVec(i)
+				small = small && math.Abs(dx.AtVec(i)) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
 			}
-			if s := lm.ssrAt(next); s < lm.ssr {
-				converged := lm.ssr-s <= 1e-12*lm.ssr
+			s := lm.ssrAt(next) + lm.penalty(next[2])
+			if s < cur || small {
+				converged := cur-s <= 1e-10*cur || small
 				copy(lm.x, next)
 				lambda = max(lambda/10, 1e-12)
 				improved = true

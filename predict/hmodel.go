@@ -53,7 +53,7 @@ func (l SurfaceLaw) H(surfaceC, ambientC float64) float64 {
 // that Φ's origin does not depend on the data.
 const (
 	phiLow  = -6.907755278982137 // ln 1e-3
-	phiStep = 0.02
+	phiStep = 0.04
 )
 
 // phiTable tabulates Φ(w) for one ambient and side (+1 above the ambient, −1 below).
@@ -101,7 +101,7 @@ func (tb *phiTable) hermite(i int, s float64) float64 {
 		(-2*s3+3*s2)*tb.phi[i+1] + (s3-s2)*phiStep*tb.inv[i+1]
 }
 
-// invert returns the w with Φ(w) = f and h there; hint is a cell index to start
+// invert returns the w with Φ(w) = f and h there (from the interpolant's slope); hint is a cell index to start
 // from (the previous answer when walking a time series), updated in place.
 func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	n := len(tb.phi)
@@ -130,7 +130,9 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 		s = max(0, min(1, s-d/ds))
 	}
 	w = phiLow + (float64(i)+s)*phiStep
-	return w, tb.law.H(tb.amb+tb.side*math.Exp(w), tb.amb)
+	// h = 1/(dΦ/dw) of the interpolant itself, so the Jacobian is the derivative of
+	// the curve as computed.
+	return w, phiStep / tb.slope(i, s)
 }
 
 // slope returns dΦ/ds of cell i's cubic (s the cell fraction).

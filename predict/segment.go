@@ -25,34 +25,34 @@ func runningMedian(c []float64) []float64 {
 
 // Onset returns the index of the reading where the approach to the settling
 // temperature begins — a specimen placed on the rack reads its way up to a peak
-// (or down to a trough) and then decays — so that a fit starts there. It is the
-// extreme of the running median (the maximum when the readings end nearer their
-// minimum, i.e. cooling; else the minimum) when that lies in the first half of the
-// readings, else 0.
+// (or down to a trough) and then decays — so that a fit starts there. The direction
+// is that of the last quarter of the readings (running median): falling means
+// cooling, and the onset is the running median's maximum; rising means warming, and
+// it is the minimum. An extreme among the last medianWindow readings gives 0.
 func Onset(c []float64) int {
 	n := len(c)
-	if n < medianWindow {
+	if n < 2*medianWindow {
 		return 0
 	}
 	m := runningMedian(c)
-	imax, imin := 0, 0
+	cooling := m[n-1] <= m[n-1-n/4]
+	k := 0
 	for i, v := range m {
-		if v > m[imax] {
-			imax = i
-		}
-		if v < m[imin] {
-			imin = i
+		if cooling && v > m[k] || !cooling && v < m[k] {
+			k = i
 		}
 	}
-	last := m[n-1]
-	k := imin
-	if m[imax]-last >= last-m[imin] {
-		k = imax
-	}
-	if k > n/2 {
+	if k >= n-medianWindow {
 		return 0
 	}
-	return k
+	// The median lags a step by up to half a window: take the raw extreme near it.
+	best := k
+	for i := max(0, k-medianWindow/2); i <= min(n-1, k+medianWindow/2); i++ {
+		if cooling && c[i] > c[best] || !cooling && c[i] < c[best] {
+			best = i
+		}
+	}
+	return best
 }
 
 // Spikes marks readings that stand out from their running median by more than

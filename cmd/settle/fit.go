@@ -143,7 +143,7 @@ func (r fitRequest) run() (*fitResult, error) {
 	if r.hasUntil {
 		res.until = r.until
 	}
-	p, onset, dropped := predict.Prepare(curve.Times, curve.Celsius, fillAmbient(curve.Ambient))
+	p, onset, dropped := predict.Prepare(curve.Times, curve.Celsius, curve.FilledAmbient())
 	res.dropped = dropped
 	res.forecast = predict.Analyze(p, fitOrigin.Add(secondsDur(onset)), markHandling(targets, curve), opt)
 	if dropped > 0 {
@@ -203,31 +203,6 @@ func markHandling(ts []predict.Target, c predict.CurveFile) []predict.Target {
 		}
 	}
 	return ts
-}
-
-// fillAmbient carries the last measured ambient over missing cells (the first
-// measured value backwards); nil when there is no ambient column or no value in it.
-func fillAmbient(a []float64) []float64 {
-	if a == nil {
-		return nil
-	}
-	out := make([]float64, len(a))
-	last := math.NaN()
-	for i, v := range a {
-		if !math.IsNaN(v) {
-			last = v
-		}
-		out[i] = last
-	}
-	if math.IsNaN(last) {
-		return nil
-	}
-	for i := len(out) - 1; i >= 0; i-- {
-		if math.IsNaN(out[i]) {
-			out[i] = out[i+1]
-		}
-	}
-	return out
 }
 
 // secondsDur converts seconds to a Duration.

@@ -1,0 +1,115 @@
+package predict
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/settle-lab/settle/predict/surface"
+)
+
+// simulateH integrates C·dT/dt = −h(T)·(T − T∞) by classical RK4 with a 0.25 s step
+// (independently of FitH's tabulated solution) and samples it every `every` seconds.
+func simulateH(law SurfaceLaw, c, amb, t0c, every, end float64) LumpedProblem {
+	var p LumpedProblem
+	f := func(T float64) float64 { return -law.H(T, amb) * (T - amb) / c }
+	const dt = 0.25
+	T := t0c
+	for i := 0; float64(i)*dt <= end; i++ {
+		s := float64(i) * dt
+		if math.Mod(s, every) == 0 {
+			p.Times, p.Celsius = append(p.Times, s), append(p.Celsius, T)
+		}
+		k1 := f(T)
+		k2 := f(T + dt/2*k1)
+		k3 := f(T + dt/2*k2)
+		k4 := f(T + dt*k3)
+		T += dt / 6 * (k1 + 2*k2 + 2*k3 + k4)
+	}
+	return p
+}
+
+// A 50 mm steel bar (our own case; ρc·V/A = 7800·470·0.0125 J/m²K) from 600 °C and a
+// cold block warming: FitH must recover T0, T∞ and C from an RK4 solution of the same
+// ODE, which checks the tabulated integral, its inversion and the fit together.
+func TestFitHRecoversODE(t *testing.T) {
+	cases := []struct {
+		name             string
+		law              SurfaceLaw
+		c, amb, t0, span float64
+	}{
+		{"hot steel cylinder", SurfaceLaw{surface.HorizontalCylinder, 0.05, 0.7}, 7800 * 470 * 0.0125, 22, 600, 1800},
+		{"cold block warming", SurfaceLaw{surface.VerticalPlate, 0.2, 0.9}, 2300 * 880 * 0.02, 23, -20, 7200},
+		{"aluminium sphere", SurfaceLaw{surface.Sphere, 0.04, 0.1}, 2702 * 903 * 0.02 / 3, 20, 300, 3600},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			p := simulateH(c.law, c.c, c.amb, c.t0, 5, c.span)
+			lr, err := FitLumped(p, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			hr, err := FitH(HProblem{Times: p.Times, Celsius: p.Celsius, Law: c.law}, &lr)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if math.Abs(hr.Initial-c.t0) > 1e-3 || math.Abs(hr.Ambient-c.amb) > 1e-3 || math.Abs(hr.Capacity/c.c-1) > 1e-5 {
+				t.Errorf("T0 %.5f, T∞ %.5f, C %.6g; want %g, %g, %g", hr.Initial, hr.Ambient, hr.Capacity, c.t0, c.amb, c.c)
+			}
+			if hr.RMSE > 1e-3 {
+				t.Errorf("rms %g K on exact data", hr.RMSE)
+			}
+			mid := p.Times[len(p.Times)/2]
+			if got, want := hr.Value(mid), p.Celsius[len(p.Times)/2]; math.Abs(got-want) > 1e-3 {
+				t.Errorf("Value(%g) = %.5f, want %.5f", mid, got, want)
+			}
+		})
+	}
+}
+
+// The Φ table must invert itself: Φ⁻¹(Φ(w)) = w across and beyond the table.
+func TestPhiTableInverts(t *testing.T) {
+	tb := newPhiTable(DefaultSurfaceLaw, 20, 1, 900)
+	hint := -1
+	for w := -9.0; w < 8; w += 0.0137 {
+		got, _ := tb.invert(tb.at(w), &hint)
+		if math.Abs(got-w) > 1e-9 {
+			t.Fatalf("invert(at(%g)) = %.12g", w, got)
+		}
+	}
+}
+
+func benchmarkH(b *testing.B, fit func(p LumpedProblem)) {
+	law := SurfaceLaw{surface.HorizontalCylinder, 0.05, 0.7}
+	p := simulateH(law, 7800*470*0.0125, 22, 600, 1, 1999)
+	rng := rand.New(rand.NewPCG(15, 16))
+	for i := range p.Celsius {
+		p.Celsius[i] = 0.1 * math.Round((p.Celsius[i]+0.1*rng.NormFloat64())/0.1)
+	}
+	b.ReportAllocs()
+	c0 := cpuTime()
+	for b.Loop() {
+		fit(p)
+	}
+	if c := cpuTime() - c0; c > 0 {
+		b.ReportMetric(float64(c.Nanoseconds())/float64(b.N), "cpu-ns/op")
+	}
+}
+
+// BenchmarkFitH2000 fits the h(T) model to 2,000 readings of a cooling steel bar.
+func BenchmarkFitH2000(b *testing.B) {
+	benchmarkH(b, func(p LumpedProblem) {
+		lr, _ := FitLumped(p, nil)
+		if _, err := FitH(HProblem{Times: p.Times, Celsius: p.Celsius, Law: DefaultSurfaceLaw}, &lr); err != nil {
+			b.Fatal(err)
+		}
+	})
+}
+
+// BenchmarkAnalyze2000 is the whole engine on 2,000 readings: both models, the
+// emissivity profile, the choice and one target's forecast.
+func BenchmarkAnalyze2000(b *testing.B) {
+	benchmarkH(b, func(p LumpedProblem) {
+		Analyze(p, t0, []Target{{Name: "handle", Celsius: 50}}, AnalyzeOptions{})
+	})
+}
