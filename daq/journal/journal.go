@@ -139,8 +139,9 @@ type chanKey struct{ logger, name string }
 // Open opens (creating and migrating as needed) the journal in dir and, unless
 // opt.ReadOnly, starts its writer; Close stops it. A data directory that cannot be
 // created or written is not an error: the journal logs it, keeps readings in memory and
-// retries every commit interval (see Health). Open fails on a schema newer than this
-// package, on a read-only open of a missing file, and on a corrupt file.
+// retries every commit interval (see Health); so is a file SQLite cannot open or
+// migrate, which Health then reports. Open fails only on a schema newer than this
+// package and, with ReadOnly, on a missing or unreadable file.
 func Open(dir string, opt Options) (*Journal, error) {
 	opt = opt.withDefaults()
 	j := &Journal{
@@ -357,21 +358,17 @@ func (j *Journal) flush() error {
 		}
 	}
 	for {
-		j.mu.Lock()
-		batch, fcs := j.queue, j.fqueue
-		j.queue, j.spare, j.fqueue = j.spare[:0], nil, nil
-		j.inflight = len(batch)
-		j.mu.Unlock()
+		batch, fcs, all, reuse := j.take()
 		err := j.commit(batch, fcs)
 		j.mu.Lock()
 		j.inflight = 0
 		if err != nil {
 			j.queue = append(batch, j.queue...)
 			j.fqueue = append(fcs, j.fqueue...)
-		} else {
+		} else if reuse {
 			j.spare = batch[:0]
 		}
-		more := len(j.queue) >= j.opt.BatchSize
+		more := !all && len(j.queue) > 0 || len(j.queue) >= j.opt.BatchSize
 		j.mu.Unlock()
 		if err != nil {
 			j.fail(err)
@@ -383,6 +380,32 @@ func (j *Journal) flush() error {
 		}
 	}
 }
+
+// take removes the next batch from the queue: all of it (all true), swapped with the
+// spare buffer (reuse true unless it grew large), or, after an outage, the first
+// maxCommit readings so that one transaction stays short.
+func (j *Journal) take() (batch []daq.Reading, fcs []forecastRow, all, reuse bool) {
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	limit := max(maxCommit, j.opt.BatchSize)
+	fcs, j.fqueue = j.fqueue, nil
+	if len(j.queue) > limit {
+		batch, j.queue = j.queue[:limit:limit], j.queue[limit:]
+		j.inflight = len(batch)
+		return batch, fcs, false, false
+	}
+	batch, reuse = j.queue, cap(j.queue) <= 4*limit
+	if !reuse {
+		j.spare = nil // let a buffer grown during an outage go
+	}
+	j.queue, j.spare = j.spare[:0], nil
+	j.inflight = len(batch)
+	return batch, fcs, true, reuse
+}
+
+// maxCommit is the most readings written in one transaction (unless BatchSize is
+// larger). A variable so that tests can lower it.
+var maxCommit = 65536
 
 // fail records a write error, logging it on the first failure and then once a minute.
 func (j *Journal) fail(err error) {

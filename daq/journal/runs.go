@@ -163,6 +163,8 @@ func checkSpec(spec *RunSpec) error {
 		return fmt.Errorf("start run: channel is empty: %w", ErrInvalid)
 	case strings.TrimSpace(spec.Specimen) == "":
 		return fmt.Errorf("start run: specimen is empty: %w", ErrInvalid)
+	case spec.ID != "" && (slug(spec.ID) != spec.ID || len(spec.ID) > 128):
+		return fmt.Errorf("start run: id %q: use at most 128 letters, digits, '-', '_' and '.': %w", spec.ID, ErrInvalid)
 	case len(spec.Targets) > 0 && !json.Valid(spec.Targets):
 		return fmt.Errorf("start run on %s: targets are not valid JSON: %w", spec.Channel, ErrInvalid)
 	}

@@ -72,6 +72,7 @@ func TestStartRunRejects(t *testing.T) {
 		{Specimen: "x"},
 		{Channel: "c1"},
 		{Channel: "c1", Specimen: "x", Targets: json.RawMessage(`[{`)},
+		{Channel: "c1", Specimen: "x", ID: "../etc"},
 	} {
 		if _, err := j.StartRun(spec); !errors.Is(err, ErrInvalid) {
 			t.Errorf("StartRun(%+v): %v, want ErrInvalid", spec, err)
