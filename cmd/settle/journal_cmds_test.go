@@ -171,8 +171,9 @@ func TestRunStartStopOverHTTP(t *testing.T) {
 	j, _ := writerJournal(t)
 	srv := httptest.NewServer(report.RunsAPI(j, report.APIOptions{Token: "tok", Logger: slog.New(slog.NewTextHandler(io.Discard, nil))}))
 	defer srv.Close()
-	specFile := filepath.Join(t.TempDir(), "specimen.yaml")
-	if err := os.WriteFile(specFile, []byte("shape: sphere\ndiameter_mm: 40\nmaterial: aluminium\n"), 0o600); err != nil {
+	specFile := filepath.Join("..", "..", "testdata", "journal", "specimen-example.yaml")
+	targets, err := os.ReadFile(filepath.Join("..", "..", "testdata", "journal", "targets-example.json"))
+	if err != nil {
 		t.Fatal(err)
 	}
 	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--token", "bad", "--channel", "rack-2", "--specimen", "S-7"); err == nil || !strings.Contains(err.Error(), "HTTP 401") {
@@ -180,13 +181,16 @@ func TestRunStartStopOverHTTP(t *testing.T) {
 	}
 	t.Setenv("SETTLE_TOKEN", "tok")
 	out, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "rack-2", "--specimen", "S-7",
-		"--description", "ball", "--specimen-file", specFile, "--targets", `[{"name":"cool","celsius":30}]`)
+		"--description", "bar", "--specimen-file", specFile, "--targets", string(targets))
 	if err != nil || !strings.Contains(out, "started run") {
 		t.Fatalf("run-start: %q, %v", out, err)
 	}
 	run, err := j.ActiveRun("rack-2")
-	if err != nil || run.Specimen != "S-7" || run.Origin != "cli" || !strings.Contains(run.SpecimenSpec, "sphere") || !strings.Contains(string(run.Targets), "cool") {
+	if err != nil || run.Specimen != "S-7" || run.Origin != "cli" || !strings.Contains(run.SpecimenSpec, "cylinder") {
 		t.Fatalf("active run %+v, %v", run, err)
+	}
+	if ts, err := report.ParseTargets(run.Targets); err != nil || len(ts) != 3 || ts[1].Hold != 5*time.Minute {
+		t.Errorf("stored targets %s → %+v, %v; want the 3 example targets", run.Targets, ts, err)
 	}
 	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "rack-2", "--specimen", "S-8"); err == nil || !strings.Contains(err.Error(), "HTTP 409") {
 		t.Errorf("second start: %v, want HTTP 409", err)
