@@ -46,14 +46,18 @@ type RunSpec struct {
 
 // Run is a span of time during which a channel measures one specimen.
 type Run struct {
-	ID           string          `json:"id"`
+	// ID names the run (see RunSpec.ID).
+	ID string `json:"id"`
+	// Channel, Specimen, Description, SpecimenSpec, Targets and Origin are as in the
+	// RunSpec that started the run.
 	Channel      string          `json:"channel"`
 	Specimen     string          `json:"specimen"`
 	Description  string          `json:"description,omitempty"`
 	SpecimenSpec string          `json:"specimen_spec,omitempty"`
 	Targets      json.RawMessage `json:"targets,omitempty"`
 	Origin       string          `json:"origin,omitempty"`
-	Started      time.Time       `json:"started"`
+	// Started is the run's start.
+	Started time.Time `json:"started"`
 	// Stopped is zero while the run is active.
 	Stopped time.Time `json:"stopped,omitzero"`
 	// Summary is computed when the run stops and kept after retention thins the
@@ -68,11 +72,13 @@ func (r Run) Active() bool { return r.Stopped.IsZero() }
 
 // Summary condenses a run's readings.
 type Summary struct {
-	Readings int64     `json:"readings"`
-	Faults   int64     `json:"faults"`
-	First    time.Time `json:"first,omitzero"`
-	Last     time.Time `json:"last,omitzero"`
-	// The temperatures are of OK readings only; null without any.
+	// Readings counts the run's readings; Faults those with a fault status.
+	Readings int64 `json:"readings"`
+	Faults   int64 `json:"faults"`
+	// First and Last are the times of the first and last reading.
+	First time.Time `json:"first,omitzero"`
+	Last  time.Time `json:"last,omitzero"`
+	// The temperatures (°C) are of OK readings only; null without any.
 	FirstCelsius *float64 `json:"first_celsius"`
 	LastCelsius  *float64 `json:"last_celsius"`
 	MinCelsius   *float64 `json:"min_celsius"`
