@@ -109,7 +109,10 @@ func (p *ReplyParser) AppendParse(dst []Reading, reply []byte, received time.Tim
 // every interval it discards any unread input (a late reply to an earlier query),
 // sends the command and reads one reply up to the terminator within the timeout. A
 // late or garbled reply is counted, the input drained and flushed, and the next query
-// starts clean; the port stays open. It implements Source and StatsReporter.
+// starts clean; the port stays open. After a timeout it waits up to one more timeout
+// for the late reply and discards it; a reply later than that could still be taken for
+// the next one (SCPI replies carry no request id), so set the timeout above the
+// instrument's slowest answer. It implements Source and StatsReporter.
 type QuerySource struct {
 	name    string
 	cmd     []byte
@@ -181,7 +184,7 @@ func (s *QuerySource) Run(ctx context.Context, out chan<- Reading) error {
 		readings, err = s.parser.AppendParse(buf[:0], reply, now)
 		if err != nil {
 			s.status.parseErrors(1)
-			drain(port, s.timeout)
+			drain(port, 0, s.timeout)
 			return fmt.Errorf("%w: %w (reply %q)", errTransient, err, truncate(reply, 80))
 		}
 		s.status.lastReading(now)
@@ -214,7 +217,7 @@ func (s *QuerySource) ask(port serial.Port, reply []byte) ([]byte, error) {
 		left := time.Until(deadline)
 		if left <= 0 || len(reply) > MaxLineBytes {
 			s.status.readError()
-			drain(port, s.timeout)
+			drain(port, s.timeout, 2*s.timeout) // wait out the late reply, if any
 			return reply, fmt.Errorf("%w: %w after %s (%d bytes)", errTransient, ErrReplyTimeout, s.timeout, len(reply))
 		}
 		if err := port.SetReadTimeout(left); err != nil {
@@ -232,15 +235,18 @@ func (s *QuerySource) ask(port serial.Port, reply []byte) ([]byte, error) {
 // is believed to have caught its tail.
 const drainQuiet = 20 * time.Millisecond
 
-// drain reads and discards input until the line is quiet for drainQuiet (at most
-// limit), then flushes the input buffer.
-func drain(port serial.Port, limit time.Duration) {
+// drain reads and discards input until the line is quiet, then flushes the input
+// buffer. It waits up to firstWait for a first byte (the start of a late reply), then
+// until no byte comes for drainQuiet, all within limit.
+func drain(port serial.Port, firstWait, limit time.Duration) {
 	end := time.Now().Add(limit)
+	wait := max(firstWait, drainQuiet)
 	var scratch [256]byte
 	for time.Now().Before(end) {
-		if port.SetReadTimeout(drainQuiet) != nil {
+		if port.SetReadTimeout(min(wait, time.Until(end))) != nil {
 			break
 		}
+		wait = drainQuiet
 		n, err := port.Read(scratch[:])
 		if err != nil || n == 0 {
 			break
