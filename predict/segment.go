@@ -56,8 +56,9 @@ func Onset(c []float64) int {
 }
 
 // Spikes marks readings that stand out from their running median by more than
-// max(minSpike, 8 × the median absolute deviation of all readings from it): a single
-// bad reading from a loose contact or interference, which must not bend a fit. The
+// max(minSpike, 8 × the median absolute deviation of all readings from it), and from
+// both neighbours by more than that in the same direction: a single bad reading from
+// a loose contact or interference, which must not bend a fit. The
 // two readings at each end are never marked (their window is one-sided).
 func Spikes(c []float64, minSpike float64) []bool {
 	bad := make([]bool, len(c))
@@ -73,8 +74,11 @@ func Spikes(c []float64, minSpike float64) []bool {
 	limit := max(minSpike, 8*mad)
 	// The window is lopsided at the ends, where a steep curve would look like spikes;
 	// the two readings at each end are not judged.
+	// A spike also stands out from both neighbours, in the same direction; the first
+	// reading after a real step (a specimen placed) does not.
 	for i := 2; i < len(c)-2; i++ {
-		bad[i] = dev[i] > limit
+		d := c[i] - m[i]
+		bad[i] = dev[i] > limit && (c[i]-c[i-1])*d > limit*math.Abs(d) && (c[i]-c[i+1])*d > limit*math.Abs(d)
 	}
 	return bad
 }

@@ -1,0 +1,176 @@
+package predict
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/settle-lab/settle/predict/surface"
+)
+
+// noisy adds Gaussian noise σ and 0.1 °C quantisation to a copy of c.
+func noisy(rng *rand.Rand, c []float64, sigma float64) []float64 {
+	out := make([]float64, len(c))
+	for i, v := range c {
+		out[i] = 0.1 * math.Round((v+sigma*rng.NormFloat64())/0.1)
+	}
+	return out
+}
+
+// Model choice: data made by the constant-h exponential keep the lumped model; data
+// made by the h(T) ODE (a hot steel bar in still air) choose lumped-h(T). Both say why.
+func TestAnalyzeModelChoice(t *testing.T) {
+	rng := rand.New(rand.NewPCG(31, 32))
+	exp := synth(rng, 600, 3600, 22, 300, 900, 0.1, 0.1)
+	law := SurfaceLaw{surface.HorizontalCylinder, 0.04, 0.8}
+	h := simulateH(law, 7850*434*0.01, 22, 700, 5, 3000)
+	h.Celsius = noisy(rng, h.Celsius, 0.1)
+	for _, c := range []struct {
+		name, model string
+		p           LumpedProblem
+	}{{"exponential data", ModelLumped, exp}, {"h(T) data", ModelLumpedH, h}} {
+		f := Analyze(c.p, t0, nil, AnalyzeOptions{})
+		notes := strings.Join(f.Notes, " ")
+		if f.Model != c.model || !strings.Contains(notes, "Model: ") || !strings.Contains(notes, "AIC") {
+			t.Errorf("%s: model %s, notes %q; want %s with the reason", c.name, f.Model, f.Notes, c.model)
+		}
+	}
+}
+
+// Hot specimen, known: the fit of a 700 °C steel bar reports the h scale near 1 (the
+// data were made with the specimen's own law) and a Biot number h·Lc/k; a thick brick
+// is out of the lumped range and says so.
+func TestAnalyzeSpecimenBiot(t *testing.T) {
+	rng := rand.New(rand.NewPCG(33, 34))
+	bar := Specimen{Shape: "cylinder", SizeM: 0.02, Sensor: "center",
+		Material: SpecimenMaterial{Density: 7850, SpecificHeat: 434, Conductivity: 60.5, Emissivity: 0.8}}
+	p := simulateH(bar.law(), bar.HeatCapacityPerArea(), 22, 700, 5, 3000)
+	p.Celsius = noisy(rng, p.Celsius, 0.1)
+	f := Analyze(p, t0, nil, AnalyzeOptions{Specimen: &bar})
+	var scale float64
+	for _, q := range f.Params {
+		if q.Name == "h_scale" {
+			scale = q.Value
+		}
+	}
+	h0 := bar.law().H(700, 22)
+	if f.Model != ModelLumpedH || math.Abs(scale-1) > 0.02 || math.Abs(f.Biot-h0*0.01/60.5) > 0.05*f.Biot || f.OutOfRange {
+		t.Errorf("model %s, scale %g, Bi %g (want %g), out of range %v", f.Model, scale, f.Biot, h0*0.01/60.5, f.OutOfRange)
+	}
+	brick := bar
+	brick.Material.Conductivity = 0.72
+	brick.SizeM = 0.05
+	f = Analyze(p, t0, nil, AnalyzeOptions{Specimen: &brick})
+	if !f.OutOfRange || f.Biot < 0.1 || !strings.Contains(strings.Join(f.Notes, " "), "outside its validity range") {
+		t.Errorf("brick: Bi %g, out of range %v, notes %q", f.Biot, f.OutOfRange, f.Notes)
+	}
+}
+
+// A cold specimen put in a 23 °C conditioning room warms the same way a hot one
+// cools: the forecast of reaching 22 °C is close to the true crossing and its
+// interval holds it.
+func TestAnalyzeHeatingTowardWarmAmbient(t *testing.T) {
+	rng := rand.New(rand.NewPCG(35, 36))
+	law := SurfaceLaw{surface.VerticalPlate, 0.2, 0.9}
+	c := 2300 * 880 * 0.02
+	full := simulateH(law, c, 23, -20, 10, 40000)
+	var cross float64
+	for i, v := range full.Celsius {
+		if v >= 22 {
+			cross = full.Times[i]
+			break
+		}
+	}
+	n := 0
+	for n < len(full.Times) && full.Times[n] <= cross/3 {
+		n++
+	}
+	p := LumpedProblem{Times: full.Times[:n], Celsius: noisy(rng, full.Celsius[:n], 0.05)}
+	f := Analyze(p, t0, []Target{{Name: "test", Celsius: 22}}, AnalyzeOptions{})
+	tg := f.Targets[0]
+	at := tg.At.Sub(t0).Seconds()
+	if tg.State != StatePredicted || math.Abs(at-cross) > 0.1*(cross-p.Times[n-1]) ||
+		tg.Earliest.Sub(t0).Seconds() > cross || tg.Latest.Sub(t0).Seconds() < cross {
+		t.Errorf("%s at %.0f s [%v, %v], true %.0f s", tg.State, at, tg.Earliest.Sub(t0), tg.Latest.Sub(t0), cross)
+	}
+}
+
+// Faults a logger really produces must neither crash a fit nor bend it: spikes,
+// dropouts (NaN), a pre-roll at room temperature before the specimen is placed. The
+// forecast with faults agrees with the clean one.
+func TestAnalyzeRobustToFaults(t *testing.T) {
+	rng := rand.New(rand.NewPCG(37, 38))
+	clean := synth(rng, 200, 900, 21, 280, 700, 0.1, 0.1)
+	var ts, cs []float64
+	for i := 0; i < 12; i++ { // two minutes at room temperature
+		ts, cs = append(ts, float64(i*10)), append(cs, 21.0)
+	}
+	for i, tt := range clean.Times {
+		c := clean.Celsius[i]
+		switch {
+		case i%37 == 5:
+			c += 80 // a spike
+		case i%23 == 7:
+			c = math.NaN() // a dropout
+		}
+		ts, cs = append(ts, tt+120), append(cs, c)
+	}
+	target := []Target{{Name: "handle", Celsius: 50}}
+	want := Analyze(clean, t0, target, AnalyzeOptions{}).Targets[0].At.Sub(t0).Seconds() + 120
+	p, onset, dropped := Prepare(ts, cs, nil)
+	if onset != 120 || dropped < 10 {
+		t.Errorf("onset %g s, %d dropped; want 120 s and the spikes and dropouts", onset, dropped)
+	}
+	f := Analyze(p, t0.Add(seconds(onset)), target, AnalyzeOptions{})
+	got := f.Targets[0].At.Sub(t0).Seconds()
+	if f.Targets[0].State != StatePredicted || math.Abs(got-want) > 0.01*want {
+		t.Errorf("with faults: %s at %.1f s, clean %.1f s", f.Targets[0].State, got, want)
+	}
+}
+
+// A slowly drifting measured ambient (+1 K/h) is followed, not fitted as curvature.
+func TestAnalyzeDriftingAmbient(t *testing.T) {
+	rng := rand.New(rand.NewPCG(39, 40))
+	p := LumpedProblem{}
+	for s := 0.0; s <= 1800; s += 5 {
+		amb := 20 + s/3600
+		p.Times = append(p.Times, s)
+		p.Celsius = append(p.Celsius, amb+150*math.Exp(-s/600))
+		p.Ambient = append(p.Ambient, amb)
+	}
+	p.Celsius = noisy(rng, p.Celsius, 0.05)
+	f := Analyze(p, t0, nil, AnalyzeOptions{})
+	if f.Model != ModelLumped || math.Abs(f.TimeConstant.Seconds()-600) > 6 {
+		t.Errorf("model %s, tau %v; want lumped with 600 s", f.Model, f.TimeConstant)
+	}
+}
+
+// Conditioning with a hold: the band is entered, left (a door opened) and entered
+// again; the hold restarts at the second entry and the state is holding with the
+// time left until then.
+func TestTrackerHoldRestarts(t *testing.T) {
+	tg := Target{Name: "conditioned", Celsius: math.NaN(), Within: 2, Hold: 30 * time.Minute}
+	tr := NewTracker([]Target{tg}, TrackerOptions{})
+	tr.SetAmbient(23)
+	temp := func(s float64) float64 {
+		v := 23 - 40*math.Exp(-s/600) // warming toward 23 °C
+		if s >= 2400 && s < 2700 {
+			v -= 4 // door open: out of the band for five minutes
+		}
+		return v
+	}
+	for s := 0.0; s <= 3600; s += 10 {
+		tr.Add(secs(s), temp(s))
+	}
+	f := tr.Fit()
+	got := f.Targets[0]
+	// Back in the band (within 2 °C of 23) at 2700 s, so the hold ends at 2700 + 1800.
+	if got.State != StateHolding || !got.At.Equal(secs(2700+1800)) {
+		t.Fatalf("%s until %v, want holding until 4500 s", got.State, got.At.Sub(t0))
+	}
+	if left := got.At.Sub(f.FittedAt); left != 900*time.Second {
+		t.Errorf("time left %v, want 15m0s", left)
+	}
+}
