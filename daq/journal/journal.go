@@ -122,6 +122,7 @@ type Journal struct {
 	inflight int
 	fqueue   []forecastRow
 	lastFc   map[fcKey]forecastRow
+	active   map[string]string // channel → active run id, for the writer
 	health   Health
 	failedAt time.Time // when the current failure was last logged
 
@@ -149,6 +150,7 @@ func Open(dir string, opt Options) (*Journal, error) {
 		opt:     opt,
 		log:     opt.Logger,
 		lastFc:  map[fcKey]forecastRow{},
+		active:  map[string]string{},
 		chanIDs: map[chanKey]int64{},
 		wake:    make(chan struct{}, 1),
 		stop:    make(chan struct{}),
@@ -228,7 +230,7 @@ func (j *Journal) openWriter() error {
 	j.dbMu.Lock()
 	j.wdb, j.rdb = w, r
 	j.dbMu.Unlock()
-	return nil
+	return j.loadActive()
 }
 
 func (j *Journal) writer() *sql.DB {

@@ -160,7 +160,47 @@ func (j *Journal) StartRun(spec RunSpec) (Run, error) {
 	if err := tx.Commit(); err != nil {
 		return Run{}, fmt.Errorf("journal %s: start run %s: %w", j.path, id, err)
 	}
+	j.setActive(spec.Channel, id)
 	return j.Run(id)
+}
+
+// ActiveRunID returns the id of channel's active run from memory, without touching
+// the disk, so the daemon may call it for every reading or forecast. On a read-only
+// journal it queries the file.
+func (j *Journal) ActiveRunID(channel string) (string, bool) {
+	if j.opt.ReadOnly {
+		r, err := j.ActiveRun(channel)
+		return r.ID, err == nil
+	}
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	id, ok := j.active[channel]
+	return id, ok
+}
+
+func (j *Journal) setActive(channel, id string) {
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	if id == "" {
+		delete(j.active, channel)
+		return
+	}
+	j.active[channel] = id
+}
+
+// loadActive fills the active-run cache from the file.
+func (j *Journal) loadActive() error {
+	runs, err := j.Runs(RunFilter{ActiveOnly: true, Limit: 1 << 20})
+	if err != nil {
+		return err
+	}
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	clear(j.active)
+	for _, r := range runs {
+		j.active[r.Channel] = r.ID
+	}
+	return nil
 }
 
 func checkSpec(spec *RunSpec) error {
@@ -241,6 +281,7 @@ func (j *Journal) StopRun(id string, at time.Time) (Run, error) {
 	if err := j.saveStop(run, sum); err != nil {
 		return Run{}, err
 	}
+	j.setActive(run.Channel, "")
 	j.forgetForecasts(id)
 	return j.Run(id)
 }

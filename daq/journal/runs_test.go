@@ -33,6 +33,9 @@ func TestRunLifecycle(t *testing.T) {
 	if a, err := j.ActiveRun("c1"); err != nil || a.ID != run.ID {
 		t.Fatalf("ActiveRun(c1) = %+v, %v", a, err)
 	}
+	if id, ok := j.ActiveRunID("c1"); !ok || id != run.ID {
+		t.Fatalf("ActiveRunID(c1) = %q, %v", id, ok)
+	}
 	stopped, err := j.StopRun(run.ID, t0.Add(6*time.Second))
 	if err != nil {
 		t.Fatal(err)
@@ -44,6 +47,9 @@ func TestRunLifecycle(t *testing.T) {
 	}
 	if _, err := j.ActiveRun("c1"); !errors.Is(err, ErrNoRun) {
 		t.Errorf("ActiveRun after stop: %v, want ErrNoRun", err)
+	}
+	if id, ok := j.ActiveRunID("c1"); ok {
+		t.Errorf("ActiveRunID after stop = %q", id)
 	}
 	if _, err := j.StopRun(run.ID, time.Time{}); !errors.Is(err, ErrStopped) {
 		t.Errorf("second stop: %v, want ErrStopped", err)
@@ -63,6 +69,37 @@ func TestRunLifecycle(t *testing.T) {
 	late, err := j.Runs(RunFilter{Channel: "c1", From: t0.Add(7 * time.Second)})
 	if err != nil || len(late) != 1 || late[0].ID != again.ID {
 		t.Fatalf("c1 runs overlapping [7 s, ∞) = %+v, %v, want only the active one", late, err)
+	}
+}
+
+func TestActiveRunsSurviveRestart(t *testing.T) {
+	dir := t.TempDir()
+	j, err := Open(dir, Options{Logger: quiet})
+	if err != nil {
+		t.Fatal(err)
+	}
+	run, err := j.StartRun(RunSpec{Channel: "c4", Specimen: "S"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := j.Close(); err != nil {
+		t.Fatal(err)
+	}
+	j, err = Open(dir, Options{Logger: quiet})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer j.Close()
+	if id, ok := j.ActiveRunID("c4"); !ok || id != run.ID {
+		t.Errorf("after restart ActiveRunID(c4) = %q, %v, want %q", id, ok, run.ID)
+	}
+	ro, err := Open(dir, Options{Logger: quiet, ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer ro.Close()
+	if id, ok := ro.ActiveRunID("c4"); !ok || id != run.ID {
+		t.Errorf("read-only ActiveRunID(c4) = %q, %v, want %q", id, ok, run.ID)
 	}
 }
 

@@ -161,3 +161,14 @@ func RecordForecasts(j *journal.Journal, runID string, fc *predict.Forecast) {
 		j.RecordForecast(runID, fc.FittedAt, tf.Target.Name, string(tf.State), tf.At, tf.Earliest, tf.Latest)
 	}
 }
+
+// RecordBench stores the forecasts of every channel in states that has an active run
+// (see RecordForecasts). The daemon calls it every few seconds with Bench.Snapshot();
+// it touches no disk itself (the journal commits with its next batch).
+func RecordBench(j *journal.Journal, states []predict.ChannelState) {
+	for _, st := range states {
+		if id, ok := j.ActiveRunID(st.Name); ok {
+			RecordForecasts(j, id, st.Forecast)
+		}
+	}
+}
