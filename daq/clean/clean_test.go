@@ -44,7 +44,7 @@ func statuses(rs []daq.Reading) map[daq.Status][]int {
 
 func TestSpikeFlaggedInPlace(t *testing.T) {
 	rs := cooling(60)
-	rs[30].Celsius += 50  // an isolated spike
+	rs[30].Celsius += 50 // an isolated spike
 	rs[40].Celsius += 15 // smaller, on the steeper part: above the window's spread (about 1.1 °C/s)
 	out := run(NewWithOptions(Options{}), rs)
 	if len(out) != len(rs) {
