@@ -144,6 +144,9 @@ type chanKey struct{ logger, name string }
 // migrate, which Health then reports. Open fails only on a schema newer than this
 // package and, with ReadOnly, on a missing or unreadable file.
 func Open(dir string, opt Options) (*Journal, error) {
+	if dir == "" {
+		return nil, errors.New("journal: no data directory given (config key data_dir, --data-dir or SETTLE_DATA_DIR)")
+	}
 	opt = opt.withDefaults()
 	j := &Journal{
 		path:    filepath.Join(dir, FileName),
