@@ -15,5 +15,13 @@
 // The package has no API; its tests run promtool (check rules, test rules, check config)
 // and systemd-analyze (verify, security) when they are installed. A missing promtool
 // skips those tests locally and fails them when CI=true, so CI proves they ran.
+//
+// The live test (live_test.go, about 20 s, skipped with -short) builds ../cmd/settle,
+// runs two `settle run --demo` daemons and a real Prometheus server on loopback ports
+// with the real settle-alerts.yml, and reads back through Prometheus's HTTP API that both
+// targets are up with their lab and bench labels, that forecasts arrive, and that
+// SettleSpecimenReadyToHandle fires when a demo specimen reaches its handling target;
+// it also runs `promtool check metrics` on a live scrape. It stops every process it
+// started, also when it fails.
 // .ci/packages.txt (at the top of the repository) lists the Debian packages CI installs for them, one per line.
 package deploy

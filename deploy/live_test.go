@@ -102,8 +102,15 @@ type child struct {
 	err  error         // Wait's result, set before done closes
 }
 
+// stopGrace is how long a child may take to exit after SIGTERM before it is killed and
+// the test fails: the TimeoutStopSec=30s of systemd/settle.service, after which systemd
+// would kill the daemon too. It guards against a hang; it is not a speed target.
+const stopGrace = 30 * time.Second
+
 // startChild starts a process and registers its stop in t.Cleanup: SIGTERM, then SIGKILL
-// if it has not exited after 10 s. When the test failed, the cleanup prints its log.
+// if it has not exited within stopGrace. A child that exits non-zero on SIGTERM, or
+// before the test stopped it, fails the test. When the test failed, the cleanup prints
+// its log.
 func startChild(t *testing.T, name, dir, bin string, args ...string) *child {
 	t.Helper()
 	c := &child{name: name, log: filepath.Join(dir, name+".log"), done: make(chan struct{})}
@@ -130,13 +137,17 @@ func startChild(t *testing.T, name, dir, bin string, args ...string) *child {
 
 func (c *child) stop(t *testing.T, p *os.Process) {
 	if c.exited() {
+		t.Errorf("%s exited before the test stopped it: %v", c.name, c.err)
 		return
 	}
 	_ = p.Signal(syscall.SIGTERM)
 	select {
 	case <-c.done:
-	case <-time.After(10 * time.Second):
-		t.Errorf("%s did not stop within 10 s of SIGTERM; killing it", c.name)
+		if c.err != nil {
+			t.Errorf("%s on SIGTERM: %v, want a clean exit", c.name, c.err)
+		}
+	case <-time.After(stopGrace):
+		t.Errorf("%s did not exit within %v of SIGTERM; killing it", c.name, stopGrace)
 		_ = p.Kill()
 		<-c.done
 	}
