@@ -1,6 +1,7 @@
 package config
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"regexp"
@@ -114,11 +115,9 @@ func checkQuery(k *checker, key string, q QueryFormat, channels map[string]int, 
 		k.add(key+".command", `must not be empty; e.g. "MEAS:TEMP? (@101:104)\n"`)
 	}
 	checkPoll(k, key, q.Interval, q.Timeout)
-	if q.Separator == "" {
-		q.Separator = ","
-	}
-	if strings.Contains(q.Terminator, q.Separator) && q.Terminator != "" {
-		k.add(key+".separator", "%q is part of the terminator %q", q.Separator, q.Terminator)
+	sep, term := cmp.Or(q.Separator, ","), cmp.Or(q.Terminator, DefaultTerminator)
+	if strings.Contains(term, sep) {
+		k.add(key+".separator", "%q is part of the terminator %q", sep, term)
 	}
 	if len(q.Columns) == 0 {
 		k.add(key+".columns", "at least one column is needed")
@@ -126,12 +125,13 @@ func checkQuery(k *checker, key string, q QueryFormat, channels map[string]int, 
 	seen := map[int]int{}
 	for i, col := range q.Columns {
 		colKey := fmt.Sprintf("%s.columns[%d]", key, i)
-		if first, dup := seen[col.Index]; dup {
-			k.add(colKey+".index", "value %d is already mapped by %s.columns[%d]", col.Index, key, first)
-		} else if col.Index < 1 {
+		if first, dup := seen[col.Index]; col.Index < 1 {
 			k.add(colKey+".index", "must be ≥ 1 (values count from 1), got %d", col.Index)
+		} else if dup {
+			k.add(colKey+".index", "value %d is already mapped by %s.columns[%d]", col.Index, key, first)
+		} else {
+			seen[col.Index] = i
 		}
-		seen[col.Index] = i
 		checkColumnChannel(k, colKey+".channel", col.Channel, channels, readBy)
 		own[col.Channel] = true
 	}
