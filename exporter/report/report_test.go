@@ -60,7 +60,7 @@ func demoRun(t testing.TB, j *journal.Journal) (journal.Run, *predict.Forecast) 
 	if err != nil {
 		t.Fatal(err)
 	}
-	tr := predict.NewTracker(targets, predict.TrackerOptions{FitEvery: time.Minute})
+	tr := predict.NewTracker(targets, predict.TrackerOptions{FitEvery: 2 * time.Minute})
 	rng := rand.New(rand.NewPCG(4, 1))
 	for s := 0; s <= demoSpan; s += 2 {
 		at := t0.Add(time.Duration(s) * time.Second)
@@ -233,7 +233,7 @@ func TestRecordBench(t *testing.T) {
 		{Name: "rack-1", Targets: []predict.Target{{Name: "handle", Celsius: 45}}},
 		{Name: "rack-2", Targets: []predict.Target{{Name: "handle", Celsius: 45}}},
 	}
-	bench := predict.NewBench(specs, predict.TrackerOptions{FitEvery: time.Minute})
+	bench := predict.NewBench(specs, predict.TrackerOptions{FitEvery: 2 * time.Minute})
 	run, err := j.StartRun(journal.RunSpec{Channel: "rack-1", Specimen: "S", Start: t0})
 	if err != nil {
 		t.Fatal(err)
