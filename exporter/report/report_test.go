@@ -261,3 +261,23 @@ func TestRecordBench(t *testing.T) {
 		t.Errorf("rack-2 has runs %+v", runs)
 	}
 }
+
+func TestModelReportsH(t *testing.T) {
+	for _, tc := range []struct {
+		params []predict.Param
+		want   float64 // NaN: h not reported
+	}{
+		{[]predict.Param{{Name: "h_w_m2k", Value: 12.5, Unit: "W/(m²·K)"}}, 12.5},
+		{[]predict.Param{{Name: "h_scale", Value: 1.1}}, math.NaN()},
+		{[]predict.Param{{Name: "coef", Value: 9, Unit: "W/m²K"}}, 9},
+		{nil, math.NaN()},
+	} {
+		m := modelOf(&predict.Forecast{Model: "x", Params: tc.params, Biot: math.NaN(), Ambient: 20, RMSE: 0.1})
+		switch {
+		case math.IsNaN(tc.want) && m.HWm2K != nil:
+			t.Errorf("%+v: h = %v, want null", tc.params, *m.HWm2K)
+		case !math.IsNaN(tc.want) && (m.HWm2K == nil || *m.HWm2K != tc.want):
+			t.Errorf("%+v: h = %v, want %v", tc.params, m.HWm2K, tc.want)
+		}
+	}
+}

@@ -34,7 +34,7 @@ type Model struct {
 	AmbientC      *float64   `json:"ambient_c"`
 	RMSEC         *float64   `json:"rmse_c"`
 	// HWm2K is the surface heat transfer coefficient h, W/(m²·K), when the model
-	// reports it (a parameter named h or with unit W/m²K); null otherwise.
+	// reports it (parameter h_w_m2k, or one in W/(m²·K)); null otherwise.
 	HWm2K        *float64  `json:"h_w_m2k"`
 	Biot         *float64  `json:"biot"`
 	Points       int       `json:"points"`
@@ -147,7 +147,7 @@ func modelOf(fc *predict.Forecast) *Model {
 	}
 	for _, p := range fc.Params {
 		m.Parameters = append(m.Parameters, ParamOut{Name: p.Name, Value: num(p.Value), StdErr: num(p.StdErr), Unit: p.Unit})
-		if p.Name == "h" || strings.HasPrefix(p.Name, "h_") || strings.ReplaceAll(p.Unit, " ", "") == "W/m²K" {
+		if isH(p) {
 			m.HWm2K = num(p.Value)
 		}
 	}
@@ -155,6 +155,12 @@ func modelOf(fc *predict.Forecast) *Model {
 		m.Notes = append(m.Notes, "h is not reported: the model gives it only with the specimen's geometry and material.")
 	}
 	return m
+}
+
+// isH reports whether p is the surface coefficient h (not, e.g., a scale on h).
+func isH(p predict.Param) bool {
+	unit := strings.NewReplacer(" ", "", "(", "", ")", "", "·", "").Replace(p.Unit)
+	return p.Name == "h" || p.Name == "h_w_m2k" || unit == "W/m²K"
 }
 
 func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.Time, hist []journal.ForecastPoint) TargetSummary {
