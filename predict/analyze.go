@@ -37,8 +37,35 @@ const minPointsH = 12
 // model is kept unless the lumped fit's Akaike information criterion is lower by more
 // than 2 (the physics of a specimen in still air is the default on a tie). The notes
 // say which was chosen and why, and flag structured residuals (model mismatch), which
-// also widen the intervals.
+// also widen the intervals. When the residuals are structured, the segment is checked
+// for a break (residualBreak): readings that leave the curve fitted to the segment's
+// first part for good start a new segment, and the forecast comes from there.
 func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOptions) *Forecast {
+	f, m := analyze(p, start, targets, opt)
+	if m == nil || !mismatched(m, f.RMSE) {
+		return f
+	}
+	b := residualBreak(p, opt)
+	if b == 0 {
+		return f
+	}
+	tail := LumpedProblem{Times: make([]float64, len(p.Times)-b), Celsius: p.Celsius[b:]}
+	for i, t := range p.Times[b:] {
+		tail.Times[i] = t - p.Times[b]
+	}
+	if p.Ambient != nil {
+		tail.Ambient = p.Ambient[b:]
+	}
+	g, _ := analyze(tail, start.Add(seconds(p.Times[b])), targets, opt)
+	g.Notes = append([]string{fmt.Sprintf(
+		"A disturbance %.0f s into the segment broke the residuals (the readings left the fitted curve and stayed off it); a new segment starts there.",
+		p.Times[b])}, g.Notes...)
+	return g
+}
+
+// analyze is Analyze without the residual-break check; it also returns the chosen
+// fitted model (nil when there is none).
+func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOptions) (*Forecast, fitted) {
 	n := len(p.Times)
 	f := &Forecast{
 		Model: ModelLumped, Biot: math.NaN(), Ambient: math.NaN(), RMSE: math.NaN(),
@@ -66,7 +93,7 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	if err != nil && hr == nil {
 		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
 		f.Targets = forecastTargets(nil, &p, start, targets, &opt.Interval)
-		return f
+		return f, nil
 	}
 	var m fitted = lumpedFitted{&lr}
 	if err != nil {
@@ -82,7 +109,75 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	}
 	noteResiduals(f, m, opt.Interval)
 	f.Targets = forecastTargets(m, &p, start, targets, &opt.Interval)
-	return f
+	return f, m
+}
+
+// minBreakRun is the fewest consecutive readings off the curve that make a break.
+const minBreakRun = 6
+
+// mismatched reports whether a fit's residuals are structured (the model-mismatch
+// note's condition).
+func mismatched(m fitted, rmse float64) bool {
+	_, misfit := m.residuals()
+	noise := math.Sqrt(max(rmse*rmse-misfit*misfit, 0))
+	return misfit > 0.2 && misfit > 2*noise
+}
+
+// breakFitShare is the share of a segment's readings fitted to look for a break after
+// them.
+const breakFitShare = 0.6
+
+// residualBreak returns the index where the readings leave the curve fitted to the
+// segment's first breakFitShare for good — a door opened, a fan switched on, the
+// specimen moved — or 0 when they do not. A break is a final run of at least
+// minBreakRun readings (and a fiftieth of them) all on one side of that curve by more
+// than max(6σ, 3 × its rms residual, 0.3 °C); σ is the noise from second differences
+// (median-based, robust to the break).
+func residualBreak(p LumpedProblem, opt AnalyzeOptions) int {
+	n := len(p.Times)
+	k := int(breakFitShare * float64(n))
+	if n < 5*minBreakRun || k < 4*minBreakRun {
+		return 0
+	}
+	head := LumpedProblem{Times: p.Times[:k], Celsius: p.Celsius[:k]}
+	if p.Ambient != nil {
+		head.Ambient = p.Ambient[:k]
+	}
+	_, m := analyze(head, time.Time{}, nil, opt)
+	if m == nil {
+		return 0
+	}
+	r := make([]float64, n)
+	for i, t := range p.Times {
+		r[i] = p.Celsius[i] - m.value(t)
+		if p.Ambient != nil {
+			r[i] -= p.Ambient[i] - p.Ambient[k-1]
+		}
+	}
+	d2 := make([]float64, 0, n)
+	for i := 1; i < n-1; i++ {
+		d2 = append(d2, math.Abs(p.Celsius[i+1]-2*p.Celsius[i]+p.Celsius[i-1]))
+	}
+	sigma := median(d2) / (0.6745 * math.Sqrt(6))
+	side := sign(r[n-1])
+	b := n
+	for b > 0 && sign(r[b-1]) == side && math.Abs(r[b-1]) > max(6*sigma, 0.3) {
+		b--
+	}
+	if run := n - b; run < max(minBreakRun, n/50) || b < 4*minBreakRun {
+		return 0
+	}
+	var ss float64
+	for _, x := range r[:k] {
+		ss += x * x
+	}
+	before := math.Sqrt(ss / float64(k))
+	for _, x := range r[b:] {
+		if math.Abs(x) <= 3*before {
+			return 0
+		}
+	}
+	return b
 }
 
 // Room ambient prior for the h(T) fit when the ambient is not measured: 22 ± 8 °C, a
@@ -243,7 +338,7 @@ func noteResiduals(f *Forecast, m fitted, s IntervalSettings) {
 			"Residuals are correlated (lag-1 %.2f); intervals are widened %.1f-fold.", rho, k))
 	}
 	noise := math.Sqrt(max(f.RMSE*f.RMSE-misfit*misfit, 0))
-	if misfit > 0.2 && misfit > 2*noise {
+	if mismatched(m, f.RMSE) {
 		f.Notes = append(f.Notes, fmt.Sprintf(
 			"Model mismatch: the residuals have a smooth structure of %.2g K rms beside %.2g K of noise, so the curve is not the model's shape; intervals are widened for it — treat the forecast as rough.",
 			misfit, noise))

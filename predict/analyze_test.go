@@ -174,3 +174,29 @@ func TestTrackerHoldRestarts(t *testing.T) {
 		t.Errorf("time left %v, want 15m0s", left)
 	}
 }
+
+// A fan switched on 1500 s into a cooling (τ 900 s → 300 s) breaks the residuals: the
+// forecast comes from a new segment at the break, with the new time constant, and
+// says so.
+func TestAnalyzeResidualBreak(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	var p LumpedProblem
+	at1500 := 22 + 300*math.Exp(-1500.0/900)
+	for s := 0.0; s <= 1750; s += 5 {
+		v := 22 + 300*math.Exp(-s/900)
+		if s > 1500 {
+			v = 22 + (at1500-22)*math.Exp(-(s-1500)/300)
+		}
+		p.Times, p.Celsius = append(p.Times, s), append(p.Celsius, v)
+	}
+	p.Celsius = noisy(rng, p.Celsius, 0.1)
+	f := Analyze(p, t0, []Target{{Name: "handle", Celsius: 30}}, AnalyzeOptions{})
+	start := f.SegmentStart.Sub(t0).Seconds()
+	want := 1500 + 300*math.Log((at1500-22)/8)
+	got := f.Targets[0].At.Sub(t0).Seconds()
+	if start < 1500 || start > 1600 || !strings.Contains(strings.Join(f.Notes, " "), "disturbance") || math.Abs(got-want) > 0.1*(want-1750) ||
+		f.Targets[0].Earliest.Sub(t0).Seconds() > want || f.Targets[0].Latest.Sub(t0).Seconds() < want {
+		t.Errorf("segment from %.0f s, 30 °C at %.0f s [%v, %v] (want %.0f), notes %q", start, got,
+			f.Targets[0].Earliest.Sub(t0), f.Targets[0].Latest.Sub(t0), want, f.Notes)
+	}
+}

@@ -60,9 +60,10 @@ func Inflation(rho, limit float64) float64 {
 //     of zero width;
 //   - insufficient: no usable fit;
 //   - predicted: crossing of the fitted curve, τ·ln(θi/(T − Tamb)), with a delta-method
-//     interval from the fit's covariance, widened by Inflation(fit.Rho) and by the
-//     fit's Misfit (as a level error turned into time through the slope), and never
-//     starting before the last reading.
+//     interval from the fit's covariance, widened by Inflation(fit.Rho), by the fit's
+//     Misfit (as a level error turned into time through the slope) and by the
+//     model-form term of IntervalSettings.ModelError, and never starting before the
+//     last reading.
 //
 // The ambient is assumed to stay at fit.Ambient from the last reading on.
 func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
@@ -99,6 +100,8 @@ type fitted interface {
 	crossing(level float64, within bool) (t, variance, rate float64, ok bool)
 	// residuals returns the lag-1 autocorrelation and the misfit of the residuals.
 	residuals() (rho, misfit float64)
+	// value evaluates the fitted curve at t seconds from the segment start.
+	value(t float64) float64
 }
 
 // lumpedFitted adapts a successful LumpedResult.
@@ -107,6 +110,7 @@ type lumpedFitted struct{ r *LumpedResult }
 func (l lumpedFitted) ambient() float64                 { return l.r.Ambient }
 func (l lumpedFitted) side() float64                    { return sign(l.r.Excess) }
 func (l lumpedFitted) residuals() (rho, misfit float64) { return l.r.Rho, l.r.Misfit }
+func (l lumpedFitted) value(t float64) float64          { return l.r.Value(t) }
 
 func (l lumpedFitted) crossing(level float64, within bool) (t, variance, rate float64, ok bool) {
 	fit := l.r

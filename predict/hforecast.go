@@ -8,6 +8,7 @@ type hFitted struct{ r *HResult }
 func (h hFitted) ambient() float64                 { return h.r.Ambient }
 func (h hFitted) side() float64                    { return h.r.table.side }
 func (h hFitted) residuals() (rho, misfit float64) { return h.r.Rho, h.r.Misfit }
+func (h hFitted) value(t float64) float64          { return h.r.Value(t) }
 
 // crossing is t* = (Φ(w0) − Φ(ln|θL|))/q with the delta-method variance in
 // (w0, q, T∞); the ambient derivative is a finite difference over a shifted table.
