@@ -271,7 +271,8 @@ func newRunStartCmd() *cobra.Command {
 		Short: "Tell the running daemon that a specimen is on a channel (start a run)",
 		Long: `Start a run on the running daemon: from now, the channel's readings, forecasts and
 target crossings belong to the specimen. --specimen-file is the specimen description
-(YAML or JSON: shape, size, material) stored with the run; --targets a JSON array such
+(the YAML 'settle fit --specimen' reads: shape, size_m, length_m, sensor, material)
+stored with the run and used by reports; --targets a JSON array such
 as [{"name":"handle","celsius":45,"handling":true},{"name":"settled","within":2}]
 (default: the channel's configured targets). Needs the daemon's API token (--token or
 SETTLE_TOKEN).`,
@@ -279,6 +280,9 @@ SETTLE_TOKEN).`,
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			if specFile != "" {
+				if _, err := predict.LoadSpecimen(specFile); err != nil {
+					return fmt.Errorf("--specimen-file: %w", err)
+				}
 				b, err := os.ReadFile(specFile)
 				if err != nil {
 					return fmt.Errorf("--specimen-file: %w", err)
@@ -308,7 +312,7 @@ SETTLE_TOKEN).`,
 	fl.StringVar(&spec.Channel, "channel", "", "channel the specimen is on (required)")
 	fl.StringVar(&spec.Specimen, "specimen", "", "specimen id (required)")
 	fl.StringVar(&spec.Description, "description", "", "free text")
-	fl.StringVar(&specFile, "specimen-file", "", "specimen description file (YAML or JSON)")
+	fl.StringVar(&specFile, "specimen-file", "", "specimen description file (YAML, as for settle fit --specimen)")
 	fl.StringVar(&targets, "targets", "", "targets as a JSON array")
 	addDaemonFlags(cmd, &addr, &token)
 	_ = cmd.MarkFlagRequired("channel")

@@ -205,4 +205,8 @@ func TestRunStartStopOverHTTP(t *testing.T) {
 	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "x", "--specimen", "y", "--targets", `[{"name":"a"}]`); err == nil || !strings.Contains(err.Error(), "--targets") {
 		t.Errorf("bad targets: %v", err)
 	}
+	notSpecimen := filepath.Join("..", "..", "testdata", "journal", "targets-example.json")
+	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "x", "--specimen", "y", "--specimen-file", notSpecimen); err == nil || !strings.Contains(err.Error(), "--specimen-file") {
+		t.Errorf("bad specimen file: %v", err)
+	}
 }

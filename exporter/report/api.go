@@ -157,6 +157,12 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 			return
 		}
 	}
+	if strings.TrimSpace(spec.SpecimenSpec) != "" {
+		if _, err := predict.ParseSpecimen([]byte(spec.SpecimenSpec)); err != nil {
+			writeError(w, http.StatusBadRequest, "specimen_spec: "+err.Error())
+			return
+		}
+	}
 	if a.channel != nil {
 		targets, ok := a.channel(spec.Channel)
 		if !ok {

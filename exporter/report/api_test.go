@@ -54,6 +54,7 @@ func TestRunsAPIStartStop(t *testing.T) {
 		{"unknown field", "POST", "/api/v1/runs", testToken, `{"channel":"a","specimen":"b","colour":"red"}`, 400, "colour"},
 		{"no specimen", "POST", "/api/v1/runs", testToken, `{"channel":"a"}`, 400, "specimen is empty"},
 		{"bad target", "POST", "/api/v1/runs", testToken, `{"channel":"a","specimen":"b","targets":[{"name":"x"}]}`, 400, "exactly one of celsius and within"},
+		{"bad specimen", "POST", "/api/v1/runs", testToken, `{"channel":"a","specimen":"b","specimen_spec":"shape: cube\n"}`, 400, "specimen_spec"},
 		{"too big", "POST", "/api/v1/runs", testToken, `{"description":"` + strings.Repeat("x", MaxBodyBytes) + `"}`, 413, "larger than"},
 		{"start", "POST", "/api/v1/runs", testToken, spec, 201, ""},
 		{"start again", "POST", "/api/v1/runs", testToken, spec, 409, "active run"},

@@ -34,6 +34,9 @@ const (
 
 var demoCrossing = demoTau * math.Log((demoInitial-demoAmbient)/(45-demoAmbient))
 
+// demoSpecimen is a 25 mm carbon-steel bar, 100 mm long (predict's specimen form).
+const demoSpecimen = "shape: cylinder\nsize_m: 0.0125\nlength_m: 0.1\nsensor: surface\nmaterial:\n  name: carbon steel\n"
+
 const demoTargets = `[{"name":"handle","celsius":45,"handling":true},{"name":"settled","within":2}]`
 
 func openJournal(t testing.TB) *journal.Journal {
@@ -52,7 +55,7 @@ func openJournal(t testing.TB) *journal.Journal {
 func demoRun(t testing.TB, j *journal.Journal) (journal.Run, *predict.Forecast) {
 	t.Helper()
 	run, err := j.StartRun(journal.RunSpec{Channel: "rack-3", Specimen: "S-2026-041", Description: "quenched bar, air cooling",
-		SpecimenSpec: "shape: cylinder\ndiameter_mm: 25\nlength_mm: 100\nmaterial: steel\n", Targets: json.RawMessage(demoTargets), Origin: "cli", Start: t0})
+		SpecimenSpec: demoSpecimen, Targets: json.RawMessage(demoTargets), Origin: "cli", Start: t0})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -190,6 +193,15 @@ func TestRefitMatchesDemo(t *testing.T) {
 	}
 	if math.Abs(fc.TimeConstant.Seconds()-demoTau) > 0.02*demoTau || math.Abs(fc.Ambient-demoAmbient) > 0.5 {
 		t.Errorf("refit τ %v ambient %v, want %v s and %v °C", fc.TimeConstant, fc.Ambient, demoTau, demoAmbient)
+	}
+	// With the run's specimen the refit reports h = ρc(V/A)/τ and Bi = h(V/A)/k. By
+	// hand, with predict/material's carbon-steel row (ρ 7854 kg/m³, c 434 J/(kg·K),
+	// k 60.5 W/(m·K)) and a 12.5 mm × 100 mm cylinder with its ends, V/A = rL/(2(r+L)).
+	lc := 0.0125 * 0.1 / (2 * (0.0125 + 0.1))
+	wantH := 7854 * 434 * lc / demoTau
+	m := modelOf(fc)
+	if m.HWm2K == nil || math.Abs(*m.HWm2K-wantH) > 0.02*wantH || m.Biot == nil || math.Abs(*m.Biot-wantH*lc/60.5) > 0.02*wantH*lc/60.5 {
+		t.Errorf("refit h %v Biot %v, want %.2f W/(m²·K) and %.5f", m.HWm2K, m.Biot, wantH, wantH*lc/60.5)
 	}
 	var buf bytes.Buffer
 	s, err := Build(j, run, nil, t0)

@@ -152,7 +152,7 @@ func modelOf(fc *predict.Forecast) *Model {
 		}
 	}
 	if m.HWm2K == nil {
-		m.Notes = append(m.Notes, "h is not reported: the model gives it only with the specimen's geometry and material.")
+		m.Notes = append(m.Notes, "No single h: without the specimen's geometry and material the model cannot give h, and in the h(T) model h varies with temperature (h_scale scales it).")
 	}
 	return m
 }

@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/settle-lab/settle/daq"
@@ -123,9 +124,10 @@ func slice(rs []daq.Reading) func(func(daq.Reading, error) bool) {
 	}
 }
 
-// Refit fits the run's recorded OK readings afresh with predict's tracker and the
-// run's stored targets, for a report made away from the daemon. It fits once, at the
-// end (opt.FitEvery is ignored); segmentation follows opt. It returns nil and no
+// Refit fits the run's recorded OK readings afresh with predict's tracker, the run's
+// stored targets and, when it parses (predict.ParseSpecimen), its specimen
+// description, for a report made away from the daemon. It fits once, at the end
+// (opt.FitEvery is ignored); segmentation follows opt. It returns nil and no
 // error when there are no readings to fit.
 func Refit(j *journal.Journal, run journal.Run, opt predict.TrackerOptions) (*predict.Forecast, error) {
 	targets, err := ParseTargets(run.Targets)
@@ -136,6 +138,15 @@ func Refit(j *journal.Journal, run journal.Run, opt predict.TrackerOptions) (*pr
 	if err != nil {
 		return nil, err
 	}
+	var notes []string
+	if strings.TrimSpace(run.SpecimenSpec) != "" {
+		sp, err := predict.ParseSpecimen([]byte(run.SpecimenSpec))
+		if err != nil {
+			notes = append(notes, fmt.Sprintf("The run's specimen description was not used: %v.", err))
+		} else {
+			opt.Specimen = &sp
+		}
+	}
 	opt.FitEvery = math.MaxInt64 // one fit at the end, not the daemon's schedule
 	tr := predict.NewTracker(targets, opt)
 	for _, r := range readings {
@@ -145,7 +156,8 @@ func Refit(j *journal.Journal, run journal.Run, opt predict.TrackerOptions) (*pr
 	}
 	fc := tr.Fit()
 	if fc != nil {
-		fc.Notes = append(fc.Notes, "Refitted from the journal for this report (ambient fitted unless the tracker measured it).")
+		fc.Notes = append(fc.Notes, notes...)
+		fc.Notes = append(fc.Notes, "Refitted from the journal for this report; the ambient is fitted.")
 	}
 	return fc, nil
 }
