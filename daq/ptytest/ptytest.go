@@ -73,11 +73,16 @@ func NewLink(t testing.TB) *Link {
 // PTY returns the pseudo-terminal currently behind the link (nil after Unplug).
 func (l *Link) PTY() *PTY { return l.cur }
 
-// Unplug closes the current pseudo-terminal; the link is left dangling.
+// Unplug closes the current pseudo-terminal and removes the link, as udev removes a
+// /dev/serial/by-id link when its adapter is pulled. (A link left dangling would point
+// at a /dev/pts number that the kernel soon gives to another test's terminal.)
 func (l *Link) Unplug() {
 	if l.cur != nil {
 		l.cur.Close()
 		l.cur = nil
+	}
+	if err := os.Remove(l.Path); err != nil && !os.IsNotExist(err) {
+		l.t.Errorf("ptytest: remove link %s: %v", l.Path, err)
 	}
 }
 
