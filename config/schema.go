@@ -234,6 +234,16 @@ type Channel struct {
 	Ambient string `mapstructure:"ambient"`
 	// Targets are the temperatures to forecast.
 	Targets []Target `mapstructure:"targets"`
+	// Run, when set, starts a run on this channel at start-up unless one is active.
+	Run *Run `mapstructure:"run"`
+}
+
+// Run names the specimen on a channel, for the record.
+type Run struct {
+	// Specimen identifies the specimen, e.g. a lab sample number.
+	Specimen string `mapstructure:"specimen"`
+	// Description is free text for the record.
+	Description string `mapstructure:"description"`
 }
 
 // Target is a temperature to forecast: a fixed Celsius value, a band Within °C of the

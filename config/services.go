@@ -35,6 +35,11 @@ func (c *Config) checkServices(k *checker) {
 	if u := c.Display.Units; u != "" && u != "C" && u != "F" {
 		k.add("display.units", "want C or F, got %q", u)
 	}
+	for i, ch := range c.Channels {
+		if ch.Run != nil && ch.Run.Specimen == "" {
+			k.add(fmt.Sprintf("channels[%d].run.specimen", i), "must not be empty: name the specimen, e.g. a sample number")
+		}
+	}
 	names := map[string]int{}
 	for i, w := range c.Notify.Webhooks {
 		checkWebhook(k, fmt.Sprintf("notify.webhooks[%d]", i), w, i, names)

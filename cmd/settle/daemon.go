@@ -11,17 +11,19 @@ import (
 
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/daq/clean"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
 )
 
-// daemon wires acquisition, tracking and the HTTP endpoints together. It holds no logic
-// of its own beyond moving readings from the sources to the latest-reading table and
-// the bench.
+// daemon wires acquisition, cleaning, the journal, tracking and the HTTP endpoints
+// together. It holds no logic of its own beyond moving each reading through them.
 type daemon struct {
 	cfg     *config.Config
 	log     *slog.Logger
 	sources []daq.Source
+	cleaner *clean.Cleaner
+	rec     *recorder
 	bench   *predict.Bench
 	latest  *exporter.Latest
 	ln      net.Listener
@@ -37,6 +39,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		return nil, err
 	}
 	d.bench = predict.NewBench(specs, predict.TrackerOptions{})
+	d.cleaner = clean.New(cfg.Loggers)
 	for _, lc := range cfg.Loggers {
 		src, err := daq.NewSource(lc, log.With("logger", lc.Name))
 		if err != nil {
@@ -44,12 +47,16 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		}
 		d.sources = append(d.sources, src)
 	}
+	if d.rec, err = openRecorder(cfg, specs, log); err != nil {
+		return nil, err
+	}
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
 	d.srv = exporter.NewServer(exporter.NewHandler(state, exporter.NewRegistry(state), exporter.Options{
-		Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
+		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
 	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
 	d.ln, err = net.Listen("tcp", cfg.Listen)
 	if err != nil {
+		d.rec.close()
 		return nil, fmt.Errorf("listen on %s (config key listen): %w", cfg.Listen, err)
 	}
 	return d, nil
@@ -92,6 +99,9 @@ func (d *daemon) Run(ctx context.Context) error {
 
 	consumed := make(chan struct{})
 	go func() { d.consume(readings); close(consumed) }()
+	histCtx, stopHistory := context.WithCancel(context.Background())
+	histDone := make(chan struct{})
+	go func() { d.rec.keepHistory(histCtx, d.bench); close(histDone) }()
 
 	var err error
 	select {
@@ -101,21 +111,37 @@ func (d *daemon) Run(ctx context.Context) error {
 	}
 	stopSources()
 	<-consumed
+	stopHistory()
+	<-histDone
 	shutCtx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
 	defer cancel()
 	if serr := d.srv.Shutdown(shutCtx); serr != nil && err == nil {
 		err = fmt.Errorf("http shutdown: %w", serr)
 	}
+	d.rec.close() // last: everything received so far is committed
 	d.log.Info("stopped")
 	return err
 }
 
-// consume moves readings to the latest-reading table and, when valid, to the bench.
+// consume cleans each reading, then records it, shows it and, when valid, fits it. At the
+// end it flushes the readings the cleaner still holds.
 func (d *daemon) consume(readings <-chan daq.Reading) {
 	for r := range readings {
-		d.latest.Record(r)
-		if r.OK() {
-			d.bench.Observe(r.Channel, r.Time, r.Celsius)
+		for _, c := range d.cleaner.Apply(r) {
+			d.route(c)
 		}
+	}
+	for _, c := range d.cleaner.Flush() {
+		d.route(c)
+	}
+}
+
+// route sends one cleaned reading to the journal, the latest-reading table and, when
+// valid, the bench. A fault reading is kept in the record but never reaches a fit.
+func (d *daemon) route(r daq.Reading) {
+	d.rec.observe(r)
+	d.latest.Record(r)
+	if r.OK() {
+		d.bench.Observe(r.Channel, r.Time, r.Celsius)
 	}
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"context"
+	"encoding/json"
 	"fmt"
 	"io"
 	"log/slog"
@@ -20,6 +21,9 @@ import (
 func startDaemon(t *testing.T, cfg *config.Config) string {
 	t.Helper()
 	cfg.Listen = "127.0.0.1:0"
+	if cfg.DataDir == "" {
+		cfg.DataDir = t.TempDir()
+	}
 	d, err := newDaemon(cfg, slog.New(slog.NewTextHandler(io.Discard, nil)))
 	if err != nil {
 		t.Fatal(err)
@@ -115,4 +119,83 @@ func TestDemoForecastsEverySpecimen(t *testing.T) {
 		return true
 	})
 	t.Logf("every demo specimen had a forecast after %v of wall time", time.Since(start).Round(time.Millisecond))
+}
+
+// TestDemoRecordsRuns checks the demo's record end to end: each specimen has a run from
+// the configuration, and a run's report downloads as CSV, JSON and PNG while it runs.
+func TestDemoRecordsRuns(t *testing.T) {
+	log := slog.New(slog.NewTextHandler(io.Discard, nil))
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	cfg, stop, err := startDemo(ctx, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer stop()
+	base := startDaemon(t, cfg)
+	waitFor(t, base, 60*time.Second, func(m map[string]float64) bool {
+		return m[`settle_fit_points{channel="steel-cyl-a"}`] >= 30
+	})
+	var list struct {
+		Runs []struct {
+			ID, Channel, Specimen, Origin string
+		} `json:"runs"`
+	}
+	getJSON(t, base+"/api/v1/runs", &list)
+	specimens := map[string]string{}
+	for _, r := range list.Runs {
+		if r.Origin == "config" {
+			specimens[r.Channel] = r.ID
+		}
+	}
+	for _, ch := range cfg.Channels {
+		if ch.Run != nil && specimens[ch.Name] == "" {
+			t.Errorf("no configured run for %s; runs: %+v", ch.Name, list.Runs)
+		}
+	}
+	id := specimens["steel-cyl-a"]
+	if id == "" {
+		t.FailNow()
+	}
+	for _, c := range []struct{ file, prefix string }{
+		{"readings.csv", "time"},
+		{"summary.json", "{"},
+		{"figure.png", "\x89PNG"},
+	} {
+		body := get(t, base+"/api/v1/runs/"+id+"/"+c.file)
+		if !strings.HasPrefix(body, c.prefix) {
+			t.Errorf("%s starts %q, want %q", c.file, body[:min(len(body), 20)], c.prefix)
+		}
+	}
+	var sum struct {
+		Run struct{ Specimen, Channel string }
+	}
+	getJSON(t, base+"/api/v1/runs/"+id+"/summary.json", &sum)
+	if sum.Run.Specimen != "S2611-A" || sum.Run.Channel != "steel-cyl-a" {
+		t.Errorf("summary.json run = %+v, want specimen S2611-A on steel-cyl-a", sum.Run)
+	}
+}
+
+func get(t *testing.T, url string) string {
+	t.Helper()
+	resp, err := http.Get(url)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer resp.Body.Close()
+	b, err := io.ReadAll(resp.Body)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if resp.StatusCode != http.StatusOK {
+		t.Fatalf("GET %s: %s: %s", url, resp.Status, b)
+	}
+	return string(b)
+}
+
+func getJSON(t *testing.T, url string, v any) {
+	t.Helper()
+	if err := json.Unmarshal([]byte(get(t, url)), v); err != nil {
+		t.Fatalf("GET %s: %v", url, err)
+	}
 }

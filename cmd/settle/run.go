@@ -83,8 +83,16 @@ func runDaemon(ctx context.Context, f runFlags, listenSet bool) error {
 	if listenSet || cfg.Listen == "" {
 		cfg.Listen = f.listen
 	}
+	if f.dataDir == "" && f.demo {
+		f.dataDir = os.Getenv(config.EnvDataDir)
+	}
 	if f.dataDir != "" {
 		cfg.DataDir = f.dataDir
+	} else if f.demo {
+		if cfg.DataDir, err = os.MkdirTemp("", "settle-demo-"); err != nil {
+			return fmt.Errorf("demo data folder: %w", err)
+		}
+		log.Info("demo: journal in a folder of its own", "data_dir", cfg.DataDir)
 	}
 	d, err := newDaemon(cfg, log)
 	if err != nil {

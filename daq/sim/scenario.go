@@ -170,13 +170,22 @@ func mustMaterial(name string) material.Material {
 // DemoConfig returns a configuration for this scenario read on port: one logger in
 // format "line" (separator ",", clock in field 1, then one field per column), and per
 // specimen channel the ambient channel, a handling target at HandlingC and a "settled"
-// target within SettledWithinC of ambient.
+// target within SettledWithinC of ambient, and a run naming the specimen, so the demo's
+// record has a run per specimen from the start.
 func (s Scenario) DemoConfig(port string) config.Config {
 	var specimens []string
 	for _, sp := range s.Specimens {
 		specimens = append(specimens, sp.Channel)
 	}
-	return lineConfig(s.Logger, port, specimens, s.Ambient.Channel)
+	cfg := lineConfig(s.Logger, port, specimens, s.Ambient.Channel)
+	for i, sp := range s.Specimens {
+		// Invented sample numbers: batch 2611, one letter per specimen.
+		cfg.Channels[i].Run = &config.Run{
+			Specimen:    fmt.Sprintf("S2611-%c", 'A'+i),
+			Description: sp.Description,
+		}
+	}
+	return cfg
 }
 
 // lineConfig builds the demo-style configuration for a logger whose lines are the clock,

@@ -1,0 +1,147 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"log/slog"
+	"net/http"
+	"time"
+
+	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/predict"
+)
+
+// historyEvery is how often the forecasts of channels with an active run are offered to
+// the journal's forecast history (it stores only meaningful changes).
+const historyEvery = 5 * time.Second
+
+// recorder is the daemon's side of the journal: it appends every reading, starts a run
+// when a specimen is placed on a channel with targets, and keeps each run's forecast
+// history.
+type recorder struct {
+	j       *journal.Journal
+	watch   *journal.PlacementWatcher
+	targets map[string][]predict.Target // channel → its configured targets
+	log     *slog.Logger
+}
+
+// openRecorder opens (or creates) the journal in cfg.DataDir.
+func openRecorder(cfg *config.Config, specs []predict.ChannelSpec, log *slog.Logger) (*recorder, error) {
+	j, err := journal.Open(cfg.DataDir, journal.Options{
+		CommitInterval: cfg.Journal.Interval(),
+		Retention:      journal.Retention{Age: cfg.Journal.Retention, Keep: time.Minute},
+		Logger:         log.With("component", "journal"),
+	})
+	if err != nil {
+		return nil, err
+	}
+	log.Info("journal", "path", j.Path(), "commit_interval", cfg.Journal.Interval())
+	r := &recorder{j: j, watch: journal.NewPlacementWatcher(journal.PlacementOptions{}),
+		targets: map[string][]predict.Target{}, log: log}
+	for _, s := range specs {
+		r.targets[s.Name] = s.Targets
+	}
+	r.startConfigured(cfg.Channels)
+	return r, nil
+}
+
+// startConfigured starts the runs the configuration names (channels[].run) on channels
+// that have no active run, so a restart continues the run it was in.
+func (r *recorder) startConfigured(channels []config.Channel) {
+	for _, ch := range channels {
+		if ch.Run == nil {
+			continue
+		}
+		if id, busy := r.j.ActiveRunID(ch.Name); busy {
+			r.log.Info("run continues", "run", id, "channel", ch.Name)
+			continue
+		}
+		run, err := r.j.StartRun(journal.RunSpec{Channel: ch.Name, Specimen: ch.Run.Specimen,
+			Description: ch.Run.Description, Origin: "config", Targets: targetsJSON(r.targets[ch.Name])})
+		if err != nil {
+			r.log.Warn("configured run not started", "channel", ch.Name, "err", err)
+			continue
+		}
+		r.log.Info("run started", "run", run.ID, "channel", ch.Name, "specimen", ch.Run.Specimen)
+	}
+}
+
+// observe records rd and starts a run when it completes a placement on a channel that
+// has targets and no active run.
+func (r *recorder) observe(rd daq.Reading) {
+	r.j.Append(rd)
+	if len(r.targets[rd.Channel]) == 0 {
+		return
+	}
+	p, ok := r.watch.Observe(rd)
+	if !ok {
+		return
+	}
+	if _, busy := r.j.ActiveRunID(rd.Channel); busy {
+		return
+	}
+	run, err := r.j.StartRun(journal.RunSpec{
+		Channel:  rd.Channel,
+		Specimen: "auto-" + p.Start.UTC().Format("20060102T150405Z"),
+		Origin:   "auto",
+		Start:    p.Start,
+		Targets:  targetsJSON(r.targets[rd.Channel]),
+	})
+	if err != nil {
+		r.log.Warn("auto run not started", "channel", rd.Channel, "err", err)
+		return
+	}
+	r.log.Info("specimen placed: run started", "run", run.ID, "channel", rd.Channel, "start", p.Start)
+}
+
+func targetsJSON(ts []predict.Target) json.RawMessage {
+	b, err := report.TargetsJSON(ts)
+	if err != nil {
+		return nil
+	}
+	return b
+}
+
+// runsAPI serves /api/v1/runs over the journal, with live forecasts from bench.
+func (r *recorder) runsAPI(bench *predict.Bench, token string) http.Handler {
+	return report.RunsAPI(r.j, report.APIOptions{
+		Token: token,
+		Live: func(channel string) *predict.Forecast {
+			for _, s := range bench.Snapshot() {
+				if s.Name == channel {
+					return s.Forecast
+				}
+			}
+			return nil
+		},
+		Channel: func(channel string) ([]predict.Target, bool) {
+			ts, ok := r.targets[channel]
+			return ts, ok
+		},
+		Logger: r.log,
+	})
+}
+
+// keepHistory offers bench's forecasts to the journal every historyEvery until ctx ends.
+func (r *recorder) keepHistory(ctx context.Context, bench *predict.Bench) {
+	t := time.NewTicker(historyEvery)
+	defer t.Stop()
+	for {
+		select {
+		case <-ctx.Done():
+			return
+		case <-t.C:
+			report.RecordBench(r.j, bench.Snapshot())
+		}
+	}
+}
+
+// close flushes and closes the journal; it is the last thing the daemon does.
+func (r *recorder) close() {
+	if err := r.j.Close(); err != nil {
+		r.log.Error("journal close: some readings were not written", "err", err)
+	}
+}
