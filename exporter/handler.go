@@ -136,9 +136,6 @@ func (h *Handler) routes(reg *prometheus.Registry) {
 	}
 	m.HandleFunc("GET /{$}", h.servePage)
 	m.Handle("GET /static/", staticHandler())
-	m.HandleFunc("/", func(w http.ResponseWriter, r *http.Request) {
-		writeError(w, http.StatusNotFound, "no such page: "+r.URL.Path)
-	})
 }
 
 // ServeHTTP checks the token of state-changing requests, caps request bodies and
@@ -157,7 +154,24 @@ func (h *Handler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 			return
 		}
 	}
+	if _, pattern := h.mux.Handler(r); pattern == "" {
+		h.notFound(w, r)
+		return
+	}
 	h.mux.ServeHTTP(w, r)
+}
+
+// notFound answers a request no route takes, in JSON: 405 when the path exists for
+// GET, else 404.
+func (h *Handler) notFound(w http.ResponseWriter, r *http.Request) {
+	get := r.Clone(r.Context())
+	get.Method = http.MethodGet
+	if _, pattern := h.mux.Handler(get); pattern != "" && r.Method != http.MethodGet {
+		w.Header().Set("Allow", "GET, HEAD")
+		writeError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed on "+quote(r.URL.Path))
+		return
+	}
+	writeError(w, http.StatusNotFound, "no such page: "+quote(r.URL.Path))
 }
 
 // checkToken returns 0 when the Authorization header carries token, else the status and

@@ -232,9 +232,9 @@ func sampleCurve(f *predict.Forecast, from, to time.Time) [][2]float64 {
 	if f.Curve == nil || from.IsZero() || !to.After(from) {
 		return out
 	}
-	step := to.Sub(from) / (curvePoints - 1)
+	span := float64(to.Sub(from))
 	for i := range curvePoints {
-		t := from.Add(time.Duration(i) * step)
+		t := from.Add(time.Duration(span * float64(i) / (curvePoints - 1)))
 		if v := f.Curve(t); finite(v) {
 			out = append(out, [2]float64{ms(t), round3(v)})
 		}

@@ -1,0 +1,288 @@
+package notify
+
+import (
+	"context"
+	"encoding/json"
+	"io"
+	"log/slog"
+	"math"
+	"net/http"
+	"net/http/httptest"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/testutil"
+
+	"github.com/settle-lab/settle/config"
+)
+
+// receiver is a webhook endpoint that fails the first failFirst requests with 503 and
+// records the events it accepts.
+type receiver struct {
+	mu        sync.Mutex
+	failFirst int
+	status    int // answer after the failures (default 204)
+	requests  int
+	events    []Event
+	ids       []string
+	got       chan struct{}
+}
+
+func newReceiver(failFirst int) *receiver {
+	return &receiver{failFirst: failFirst, status: http.StatusNoContent, got: make(chan struct{}, 100)}
+}
+
+func (rv *receiver) ServeHTTP(w http.ResponseWriter, r *http.Request) {
+	rv.mu.Lock()
+	defer rv.mu.Unlock()
+	rv.requests++
+	if rv.requests <= rv.failFirst {
+		http.Error(w, "busy", http.StatusServiceUnavailable)
+		return
+	}
+	if r.Header.Get("Content-Type") != "application/json" {
+		http.Error(w, "want JSON", http.StatusUnsupportedMediaType)
+		return
+	}
+	var ev Event
+	body, _ := io.ReadAll(r.Body)
+	if err := json.Unmarshal(body, &ev); err != nil {
+		http.Error(w, err.Error(), http.StatusBadRequest)
+		return
+	}
+	rv.events = append(rv.events, ev)
+	rv.ids = append(rv.ids, r.Header.Get("X-Settle-Event-Id"))
+	w.WriteHeader(rv.status)
+	rv.got <- struct{}{}
+}
+
+func (rv *receiver) snapshot() (int, []Event, []string) {
+	rv.mu.Lock()
+	defer rv.mu.Unlock()
+	return rv.requests, append([]Event(nil), rv.events...), append([]string(nil), rv.ids...)
+}
+
+var seg = time.Date(2026, 3, 4, 10, 0, 0, 0, time.UTC)
+
+// plate is a channel whose handling target is predicted at seg+40 min.
+func plate(now time.Time, state string) Channel {
+	return Channel{Name: "plate", Now: now, Celsius: 61.2, Segment: seg, Targets: []Target{{
+		Name: "handling", State: state, Handling: true, Celsius: 50,
+		At: seg.Add(40 * time.Minute), Earliest: seg.Add(37 * time.Minute), Latest: seg.Add(44 * time.Minute),
+	}}}
+}
+
+func start(t *testing.T, hooks []config.Webhook, opt Options) (*Notifier, *prometheus.Registry) {
+	t.Helper()
+	reg := prometheus.NewPedanticRegistry()
+	opt.Registerer = reg
+	opt.Log = slog.New(slog.NewTextHandler(io.Discard, nil))
+	if opt.Backoff == 0 {
+		opt.Backoff = 5 * time.Millisecond
+	}
+	opt.Cautions = []string{"Verify with a contact thermometer."}
+	n := New(hooks, opt)
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan struct{})
+	go func() { n.Run(ctx); close(done) }()
+	t.Cleanup(func() { cancel(); <-done })
+	return n, reg
+}
+
+func waitEvents(t *testing.T, rv *receiver, n int) {
+	t.Helper()
+	for i := 0; i < n; i++ {
+		select {
+		case <-rv.got:
+		case <-time.After(10 * time.Second): // a hang guard, not a speed assertion
+			t.Fatalf("receiver got %d events, want %d", i, n)
+		}
+	}
+}
+
+func TestDeliveryRetriesAndNoDuplicates(t *testing.T) {
+	rv := newReceiver(2) // the first two attempts fail with 503
+	srv := httptest.NewServer(rv)
+	defer srv.Close()
+	n, reg := start(t, []config.Webhook{{Name: "bench", URL: srv.URL, LeadTime: 10 * time.Minute}}, Options{})
+
+	// 35 min in: the forecast (40 min) is 5 min away, inside the 10 min lead time.
+	for range 3 { // repeated polls of the same state must not repeat the event
+		n.Observe([]Channel{plate(seg.Add(35*time.Minute), "predicted")})
+	}
+	waitEvents(t, rv, 1)
+	reached := plate(seg.Add(41*time.Minute), "reached")
+	reached.Targets[0].At = seg.Add(41 * time.Minute)
+	for range 3 {
+		n.Observe([]Channel{reached})
+	}
+	waitEvents(t, rv, 1)
+	n.Observe([]Channel{reached}) // and once more after delivery
+	time.Sleep(50 * time.Millisecond)
+
+	requests, events, ids := rv.snapshot()
+	if len(events) != 2 {
+		t.Fatalf("events = %d, want 2 (soon, reached): %+v", len(events), events)
+	}
+	if requests != 4 {
+		t.Errorf("requests = %d, want 4 (2 failed attempts + 2 deliveries)", requests)
+	}
+	soon, got := events[0], events[1]
+	if soon.Kind != KindSoon || got.Kind != KindReached {
+		t.Errorf("kinds = %s, %s; want soon, reached", soon.Kind, got.Kind)
+	}
+	if soon.ID != ids[0] || soon.ID != "plate/handling/soon/1772618400" {
+		t.Errorf("soon id = %q (header %q), want plate/handling/soon/1772618400", soon.ID, ids[0])
+	}
+	if soon.Webhook != "bench" || soon.Channel != "plate" || soon.Target != "handling" ||
+		soon.TargetCelsius == nil || *soon.TargetCelsius != 50 || len(soon.Cautions) != 1 {
+		t.Errorf("soon event = %+v", soon)
+	}
+	if want := "plate is expected to reach handling (50.0 °C) in about 5m0s (between 10:37:00 and 10:44:00). This is an estimate: verify before handling."; soon.Message != want {
+		t.Errorf("message = %q, want %q", soon.Message, want)
+	}
+	if got.At == nil || !got.At.Equal(seg.Add(41*time.Minute)) {
+		t.Errorf("reached at = %v, want %v", got.At, seg.Add(41*time.Minute))
+	}
+	if v := testutil.ToFloat64(n.failed.WithLabelValues("bench")); v != 2 {
+		t.Errorf("failures_total = %v, want 2", v)
+	}
+	if v := testutil.ToFloat64(n.sent.WithLabelValues("bench")); v != 2 {
+		t.Errorf("sent_total = %v, want 2", v)
+	}
+	problems, err := testutil.GatherAndLint(reg)
+	if err != nil || len(problems) > 0 {
+		t.Errorf("lint: %v %v", err, problems)
+	}
+}
+
+func TestNewSegmentRearmsAndFaultsOncePerEpisode(t *testing.T) {
+	rv := newReceiver(0)
+	srv := httptest.NewServer(rv)
+	defer srv.Close()
+	n, _ := start(t, []config.Webhook{{Name: "w", URL: srv.URL, Events: []string{"reached", "fault"}}}, Options{})
+
+	ch := plate(seg.Add(41*time.Minute), "reached")
+	n.Observe([]Channel{ch})
+	ch.Segment = seg.Add(2 * time.Hour) // a new specimen on the same channel
+	n.Observe([]Channel{ch})
+	open := ch
+	open.Fault, open.FaultDetail, open.FaultSince = "open", "open thermocouple", seg.Add(3*time.Hour)
+	n.Observe([]Channel{open, open})
+	n.Observe([]Channel{ch}) // recovered
+	open.FaultSince = seg.Add(4 * time.Hour)
+	n.Observe([]Channel{open}) // a second episode
+	waitEvents(t, rv, 4)
+	time.Sleep(50 * time.Millisecond)
+	_, events, _ := rv.snapshot()
+	var kinds []Kind
+	for _, ev := range events {
+		kinds = append(kinds, ev.Kind)
+	}
+	want := []Kind{KindReached, KindReached, KindFault, KindFault}
+	if len(kinds) != len(want) {
+		t.Fatalf("kinds = %v, want %v", kinds, want)
+	}
+	for i := range want {
+		if kinds[i] != want[i] {
+			t.Errorf("event %d kind = %s, want %s", i, kinds[i], want[i])
+		}
+	}
+	if events[2].Fault != "open" || events[2].Message != "plate: fault open: open thermocouple" {
+		t.Errorf("fault event = %+v", events[2])
+	}
+}
+
+func TestEventSelectionAndLeadTime(t *testing.T) {
+	rv := newReceiver(0)
+	srv := httptest.NewServer(rv)
+	defer srv.Close()
+	// Only faults; and a lead time that would otherwise fire.
+	n, _ := start(t, []config.Webhook{{Name: "faults", URL: srv.URL, LeadTime: time.Hour, Events: []string{"fault"}}}, Options{})
+	n.Observe([]Channel{plate(seg.Add(35*time.Minute), "predicted"), plate(seg.Add(41*time.Minute), "reached")})
+	time.Sleep(50 * time.Millisecond)
+	if req, _, _ := rv.snapshot(); req != 0 {
+		t.Errorf("a fault-only webhook got %d requests for target events", req)
+	}
+	// A forecast outside the lead time sends nothing either.
+	rv2 := newReceiver(0)
+	srv2 := httptest.NewServer(rv2)
+	defer srv2.Close()
+	n2, _ := start(t, []config.Webhook{{Name: "soon", URL: srv2.URL, LeadTime: 2 * time.Minute}}, Options{})
+	n2.Observe([]Channel{plate(seg.Add(35*time.Minute), "predicted")})
+	time.Sleep(50 * time.Millisecond)
+	if req, _, _ := rv2.snapshot(); req != 0 {
+		t.Errorf("forecast 5 min away with a 2 min lead time sent %d requests", req)
+	}
+}
+
+func TestPermanentFailureIsNotRetried(t *testing.T) {
+	rv := newReceiver(0)
+	rv.status = http.StatusNoContent
+	bad := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		rv.mu.Lock()
+		rv.requests++
+		rv.mu.Unlock()
+		http.Error(w, "gone", http.StatusGone)
+	}))
+	defer bad.Close()
+	n, _ := start(t, []config.Webhook{{Name: "bench", URL: bad.URL}}, Options{Attempts: 4})
+	if q, err := n.Test("", seg); err != nil || q != 1 {
+		t.Fatalf("Test = %d, %v", q, err)
+	}
+	if _, err := n.Test("nope", seg); err == nil {
+		t.Error("Test of an unknown webhook gave no error")
+	}
+	deadline := time.Now().Add(10 * time.Second)
+	for testutil.ToFloat64(n.dropped.WithLabelValues("bench")) != 1 {
+		if time.Now().After(deadline) {
+			t.Fatal("the event was never given up")
+		}
+		time.Sleep(10 * time.Millisecond)
+	}
+	if req, _, _ := rv.snapshot(); req != 1 {
+		t.Errorf("requests = %d, want 1 (410 Gone is not retried)", req)
+	}
+}
+
+func TestRetriesGiveUp(t *testing.T) {
+	rv := newReceiver(1000)
+	srv := httptest.NewServer(rv)
+	defer srv.Close()
+	n, _ := start(t, []config.Webhook{{Name: "bench", URL: srv.URL}}, Options{Attempts: 3})
+	n.Test("bench", seg)
+	deadline := time.Now().Add(10 * time.Second)
+	for testutil.ToFloat64(n.dropped.WithLabelValues("bench")) != 1 {
+		if time.Now().After(deadline) {
+			t.Fatal("the event was never given up")
+		}
+		time.Sleep(10 * time.Millisecond)
+	}
+	if req, _, _ := rv.snapshot(); req != 3 {
+		t.Errorf("requests = %d, want 3 attempts", req)
+	}
+	if v := testutil.ToFloat64(n.failed.WithLabelValues("bench")); v != 3 {
+		t.Errorf("failures_total = %v, want 3", v)
+	}
+}
+
+func TestNaNTemperatureIsOmitted(t *testing.T) {
+	ch := plate(seg, "reached")
+	ch.Celsius = math.NaN()
+	h := &hook{kinds: kinds(nil), seen: map[string]map[string]bool{}, seg: map[string]time.Time{}, faults: map[string]string{}}
+	evs := h.events(ch, nil)
+	if len(evs) != 1 || evs[0].Celsius != nil {
+		t.Fatalf("events = %+v, want one with no temperature", evs)
+	}
+	if _, err := json.Marshal(evs[0]); err != nil {
+		t.Errorf("marshal: %v", err)
+	}
+}
+
+func TestRedact(t *testing.T) {
+	if got := redact("https://hooks.example/x?key=secret"); got != "https://hooks.example/x?…" {
+		t.Errorf("redact = %q", got)
+	}
+}
