@@ -5,6 +5,7 @@ import (
 	"crypto/tls"
 	"errors"
 	"fmt"
+	"log/slog"
 	"net"
 	"net/http"
 	"sync"
@@ -43,6 +44,7 @@ type Server struct {
 type background interface {
 	Run(ctx context.Context)
 	CloseStreams()
+	logger() *slog.Logger
 }
 
 // ServerOptions configures NewServer. Zero timeouts take the defaults given.
@@ -81,6 +83,7 @@ func NewServer(h http.Handler, opt ServerOptions) *Server {
 	if bg, ok := h.(background); ok {
 		s.bg = bg
 		s.srv.RegisterOnShutdown(bg.CloseStreams)
+		s.srv.ErrorLog = slog.NewLogLogger(bg.logger().Handler(), slog.LevelWarn)
 	}
 	return s
 }

@@ -2,6 +2,7 @@ package exporter
 
 import (
 	"context"
+	"log/slog"
 	"math"
 	"time"
 
@@ -36,6 +37,8 @@ func (h *Handler) CloseStreams() {
 		h.unsub()
 	}
 }
+
+func (h *Handler) logger() *slog.Logger { return h.opt.Log }
 
 // watcher remembers what the last poll saw, to publish only changes.
 type watcher struct {
