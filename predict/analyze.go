@@ -117,7 +117,8 @@ const minBreakRun = 6
 
 // mismatched reports whether a fit's residuals are structured (the model-mismatch
 // note's condition).
-func mismatched(m fitted, rmse float64) bool {
+func mismatched(m fitted, _ float64) bool {
+	rmse := m.rmse()
 	_, misfit := m.residuals()
 	noise := math.Sqrt(max(rmse*rmse-misfit*misfit, 0))
 	return misfit > 0.2 && misfit > 2*noise

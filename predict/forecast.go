@@ -57,7 +57,9 @@ func Inflation(rho, limit float64) float64 {
 //     across it plus the Hold);
 //   - holding: across a target with a Hold whose time has not yet passed;
 //   - unreachable: the target lies on the far side of the ambient, or is a Within band
-//     of zero width;
+//     of zero width; but insufficient instead when the ambient's own uncertainty
+//     spans the target, the residuals are structured, or (ambient fitted) the
+//     readings have covered less than 75 % of their decay;
 //   - insufficient: no usable fit;
 //   - predicted: crossing of the fitted curve, τ·ln(θi/(T − Tamb)), with a delta-method
 //     interval from the fit's covariance, widened by Inflation(fit.Rho), by the fit's
@@ -102,6 +104,10 @@ type fitted interface {
 	residuals() (rho, misfit float64)
 	// value evaluates the fitted curve at t seconds from the segment start.
 	value(t float64) float64
+	// ambientErr is the settling temperature's standard error (0 when measured).
+	ambientErr() float64
+	// rmse is the root-mean-square residual, °C.
+	rmse() float64
 }
 
 // lumpedFitted adapts a successful LumpedResult.
@@ -135,12 +141,13 @@ func (l lumpedFitted) crossing(level float64, within bool) (t, variance, rate fl
 
 // forecaster holds what the per-target forecasts share.
 type forecaster struct {
-	fit     fitted // nil unless the fit succeeded
-	p       *LumpedProblem
-	start   time.Time
-	side    float64 // +1 settling downward (cooling), −1 upward (heating), 0 unknown
-	ambient float64 // the settling temperature, NaN when unknown
-	s       IntervalSettings
+	fit      fitted // nil unless the fit succeeded
+	mismatch bool   // the fit's residuals are structured (see mismatched)
+	p        *LumpedProblem
+	start    time.Time
+	side     float64 // +1 settling downward (cooling), −1 upward (heating), 0 unknown
+	ambient  float64 // the settling temperature, NaN when unknown
+	s        IntervalSettings
 }
 
 func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
@@ -149,6 +156,8 @@ func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSett
 	switch {
 	case fit != nil:
 		f.fit, f.ambient, f.side = fit, fit.ambient(), fit.side()
+		_, misfit := fit.residuals()
+		f.mismatch = misfit > 0.2 && misfit > 2*math.Sqrt(max(fit.rmse()*fit.rmse()-misfit*misfit, 0))
 	case p.Ambient != nil && n > 0:
 		f.ambient = p.Ambient[n-1]
 		f.side = sign(p.Celsius[n-1] - f.ambient)
@@ -228,14 +237,38 @@ func (f *forecaster) observed(out TargetForecast, entry int) TargetForecast {
 	return out
 }
 
+// seenDecay is the share of its initial excess a curve with a fitted ambient must
+// have lost before the fitted ambient counts as seen.
+const seenDecay = 0.75
+
+// asymptoteSeen reports whether the ambient is measured or the readings have covered
+// seenDecay of their decay toward the fitted one.
+func (f *forecaster) asymptoteSeen() bool {
+	if f.p.Ambient != nil {
+		return true
+	}
+	n := len(f.p.Celsius)
+	first, last := f.p.Celsius[0]-f.ambient, f.p.Celsius[n-1]-f.ambient
+	return math.Abs(last) <= (1-seenDecay)*math.Abs(first)
+}
+
 // predicted fills a predicted (or unreachable) forecast.
 func (f *forecaster) predicted(out TargetForecast) TargetForecast {
 	tStar, v, rate, ok := f.fit.crossing(out.Celsius, out.Target.IsWithin())
+	rho, misfit := f.fit.residuals()
 	if !ok {
+		// Unreachable only when the target lies beyond the settling temperature by
+		// more than that temperature's own uncertainty (an early fit can put a free
+		// ambient on the wrong side of a target it will in fact reach).
 		out.State = StateUnreachable
+		// A curve the model does not fit says little about where it settles, and nor
+		// does a fitted ambient the readings have not yet bent toward.
+		u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit
+		if !out.Target.IsWithin() && (math.Abs(out.Celsius-f.fit.ambient()) <= u || f.mismatch || !f.asymptoteSeen()) {
+			out.State = StateInsufficient
+		}
 		return out
 	}
-	rho, misfit := f.fit.residuals()
 	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
 	level := misfit / rate // level error through the slope
 	last := f.p.Times[len(f.p.Times)-1]
@@ -269,3 +302,7 @@ func seconds(sec float64) time.Duration {
 	sec = math.Max(-maxOffset, math.Min(sec, maxOffset))
 	return time.Duration(sec * float64(time.Second))
 }
+
+func (l lumpedFitted) ambientErr() float64 { return l.r.AmbientErr }
+
+func (l lumpedFitted) rmse() float64 { return l.r.RMSE }

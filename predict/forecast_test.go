@@ -121,7 +121,8 @@ func TestForecastStates(t *testing.T) {
 		{"cooling reached", cool, Target{Celsius: 100}, StateReached, trueCrossing(20, 180, 300, 100)},
 		{"cooling predicted", cool, Target{Celsius: 30}, StatePredicted, trueCrossing(20, 180, 300, 30)},
 		{"cooling below ambient", cool, Target{Celsius: 15}, StateUnreachable, math.NaN()},
-		{"cooling at ambient", cool, Target{Celsius: 20}, StateUnreachable, math.NaN()},
+		// At the fitted ambient itself the ambient's own uncertainty decides nothing.
+		{"cooling at ambient", cool, Target{Celsius: 20}, StateInsufficient, math.NaN()},
 		{"cooling above start", cool, Target{Celsius: 250}, StateReached, 0},
 		{"heating reached", heat, Target{Celsius: 20}, StateReached, trueCrossing(30, -20, 300, 20)},
 		{"heating predicted", heat, Target{Celsius: 29}, StatePredicted, trueCrossing(30, -20, 300, 29)},

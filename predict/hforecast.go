@@ -40,3 +40,7 @@ func (h hFitted) crossing(level float64, within bool) (t, variance, rate float64
 	rate = r.Law.H(level, r.Ambient) * math.Abs(thetaL) * r.q
 	return t, variance, rate, true
 }
+
+func (h hFitted) ambientErr() float64 { return h.r.AmbientErr }
+
+func (h hFitted) rmse() float64 { return h.r.RMSE }
