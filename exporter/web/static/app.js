@@ -262,10 +262,15 @@
     const grow = (t, y) => { if (t < t0) t0 = t; if (t > t1) t1 = t; if (y != null) { if (y < y0) y0 = y; if (y > y1) y1 = y; } };
     for (const [t, y] of reads) grow(t, toUnits(y));
     for (const [t, y] of curve) grow(t, toUnits(y));
-    for (const tg of targets) {
-      if (tg.celsius != null) grow(t0, toUnits(tg.celsius));
-      if (tg.latest) grow(Date.parse(tg.latest), null);
-    }
+    // The time axis runs to the end of the next target's interval, so the data and
+    // the coming crossing fill the plot; later targets are drawn where they fall.
+    const upcoming = targets.filter((tg) => tg.state === "predicted" && tg.latest).map((tg) => Date.parse(tg.latest));
+    if (upcoming.length) t1 = Math.max(reads.length ? reads[reads.length - 1][0] : t0 + 60000, Math.min(...upcoming));
+    const visible = curve.filter(([t]) => t <= t1);
+    y0 = Infinity; y1 = -Infinity;
+    for (const [, y] of reads) { y0 = Math.min(y0, toUnits(y)); y1 = Math.max(y1, toUnits(y)); }
+    for (const [, y] of visible) { y0 = Math.min(y0, toUnits(y)); y1 = Math.max(y1, toUnits(y)); }
+    for (const tg of targets) if (tg.celsius != null) { y0 = Math.min(y0, toUnits(tg.celsius)); y1 = Math.max(y1, toUnits(tg.celsius)); }
     if (t1 <= t0) t1 = t0 + 60000;
     const pad = Math.max(1, (y1 - y0) * 0.06);
     y0 -= pad; y1 += pad;
@@ -291,16 +296,20 @@
       const yy = Y(toUnits(tg.celsius));
       if (tg.earliest && tg.latest) {
         info.bands++;
-        g.fillStyle = "rgba(79, 209, 197, 0.22)";
-        const a = X(Date.parse(tg.earliest)), b = X(Date.parse(tg.latest));
-        g.fillRect(a, T, Math.max(2, b - a), h - T - B);
-        g.fillStyle = "rgba(79, 209, 197, 0.9)";
-        g.fillRect(a, yy - 3, Math.max(2, b - a), 6);
+        const a = Math.max(L, X(Date.parse(tg.earliest))), b = Math.min(w - R, X(Date.parse(tg.latest)));
+        if (b > a) {
+          g.fillStyle = "rgba(79, 209, 197, 0.10)";
+          g.fillRect(a, T, Math.max(2, b - a), h - T - B);
+          g.fillStyle = "rgba(79, 209, 197, 0.85)";
+          g.fillRect(a, yy - 3, Math.max(2, b - a), 6);
+        }
       }
       g.setLineDash([6, 5]); g.strokeStyle = tg.state === "reached" ? "#7ee787" : "#93a1b3";
       g.beginPath(); g.moveTo(L, yy); g.lineTo(w - R, yy); g.stroke(); g.setLineDash([]);
       g.fillStyle = g.strokeStyle; g.fillText(tg.name, w - R - g.measureText(tg.name).width - 2, yy - 4);
     }
+    g.save();
+    g.beginPath(); g.rect(L, T, w - L - R, h - T - B); g.clip();
     // Readings.
     g.strokeStyle = "#ffc857"; g.lineWidth = 2.2; g.beginPath();
     reads.forEach(([t, y], i) => (i ? g.lineTo(X(t), Y(toUnits(y))) : g.moveTo(X(t), Y(toUnits(y)))));
@@ -319,6 +328,7 @@
       g.stroke();
     }
     g.setLineDash([]);
+    g.restore();
     cv.dataset.targets = String(info.targets);
     cv.setAttribute("aria-label", (ch ? ch.name : "") + ": " + reads.length + " readings, fitted curve, " + info.targets + " targets");
   }
