@@ -14,6 +14,11 @@ type TrackerOptions struct {
 	// MinNewPoints is the least number of new readings between fits. Zero means 5. A
 	// fit runs when both FitEvery and MinNewPoints have been met, whichever is later.
 	MinNewPoints int
+	// MinFitGap is the least wall-clock time between fits; zero means none. A daemon
+	// sets it so that a time-lapse or a fast replay, whose reading time runs far ahead
+	// of the wall clock, cannot spend all the CPU on fits. Readings that arrive inside
+	// the gap are fitted by the next reading after it, or by FitPending.
+	MinFitGap time.Duration
 	// MaxPoints caps the readings kept per segment. Zero means 4096; values below 16
 	// count as 16. When full, the oldest half is thinned 2:1 (every other reading
 	// dropped), so old data keep their shape at a coarser spacing.
@@ -75,6 +80,8 @@ type Tracker struct {
 	readings int
 	amb      float64 // latest measured ambient, NaN when none
 	fitAt    time.Time
+	fitWall  time.Time // wall-clock time of the last fit (for MinFitGap)
+	hold     bool      // Restore is loading readings: no fits until it ends
 	newPts   int
 	forecast *Forecast
 }
@@ -132,9 +139,29 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 	}
 	tr.pts = append(tr.pts, point{at.Sub(tr.start).Seconds(), celsius, tr.amb})
 	tr.newPts++
-	if tr.newPts >= tr.opt.MinNewPoints && at.Sub(tr.fitAt) >= tr.opt.FitEvery {
+	if tr.due() {
 		tr.fit()
 	}
+}
+
+// due reports whether the schedule calls for a fit now. Callers hold mu.
+func (tr *Tracker) due() bool {
+	return !tr.hold && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
+		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
+}
+
+// FitPending fits when readings have arrived since the last fit and the wall-clock gap
+// has passed, whatever the reading-time schedule; it reports whether it fitted. A
+// daemon calls it now and then so that the last readings before a pause are fitted.
+func (tr *Tracker) FitPending() bool {
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	if tr.hold || tr.newPts == 0 || len(tr.pts) == 0 ||
+		(tr.opt.MinFitGap > 0 && time.Since(tr.fitWall) < tr.opt.MinFitGap) {
+		return false
+	}
+	tr.fit()
+	return true
 }
 
 // newSegment drops the stored readings and the forecast and starts a segment at at.
@@ -181,7 +208,7 @@ func (tr *Tracker) Forecast() *Forecast {
 func (tr *Tracker) fit() {
 	all := tr.problem()
 	p, onset, _ := Prepare(all.Times, all.Celsius, all.Ambient)
-	tr.fitAt, tr.newPts = tr.last, 0
+	tr.fitAt, tr.newPts, tr.fitWall = tr.last, 0, time.Now()
 	if len(p.Times) == 0 {
 		tr.forecast = nil
 		return
