@@ -38,7 +38,9 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	if err != nil {
 		return nil, err
 	}
-	d.bench = predict.NewBench(specs, predict.TrackerOptions{})
+	// At most one fit per channel per wall-clock second: a time-lapse demo or a fast
+	// replay must not spend the CPU on fits (the maintenance loop fits what is left).
+	d.bench = predict.NewBench(specs, predict.TrackerOptions{MinFitGap: time.Second})
 	d.cleaner = clean.New(cfg.Loggers)
 	for _, lc := range cfg.Loggers {
 		src, err := daq.NewSource(lc, log.With("logger", lc.Name))
@@ -78,6 +80,7 @@ func (d *daemon) portStats() []daq.PortStats {
 // Run serves until ctx ends, then stops the sources, drains the readings already
 // received and shuts the HTTP server down with a timeout.
 func (d *daemon) Run(ctx context.Context) error {
+	d.rec.resume(d.bench, d.latest)
 	readings := make(chan daq.Reading, 1024)
 	srcCtx, stopSources := context.WithCancel(ctx)
 	defer stopSources()
@@ -101,7 +104,7 @@ func (d *daemon) Run(ctx context.Context) error {
 	go func() { d.consume(readings); close(consumed) }()
 	histCtx, stopHistory := context.WithCancel(context.Background())
 	histDone := make(chan struct{})
-	go func() { d.rec.keepHistory(histCtx, d.bench); close(histDone) }()
+	go func() { d.rec.maintain(histCtx, d.bench); close(histDone) }()
 
 	var err error
 	select {

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq/sim"
 )
 
 // startDaemon runs a daemon on cfg (listening on a free loopback port) until the test
@@ -197,5 +198,57 @@ func getJSON(t *testing.T, url string, v any) {
 	t.Helper()
 	if err := json.Unmarshal([]byte(get(t, url)), v); err != nil {
 		t.Fatalf("GET %s: %v", url, err)
+	}
+}
+
+// TestRestartResumesFromJournal stops a daemon mid-run and starts a new one on the same
+// data folder with a logger that sends nothing: its forecasts must come back from the
+// journal alone, before any new reading.
+func TestRestartResumesFromJournal(t *testing.T) {
+	log := slog.New(slog.NewTextHandler(io.Discard, nil))
+	dir := t.TempDir()
+	ctx, cancel := context.WithCancel(context.Background())
+	cfg, stopSim, err := startDemo(ctx, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg.DataDir, cfg.Listen = dir, "127.0.0.1:0"
+	first, err := newDaemon(cfg, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- first.Run(ctx) }()
+	before := waitFor(t, "http://"+first.Addr(), 60*time.Second, func(m map[string]float64) bool {
+		return m[`settle_fit_points{channel="steel-cyl-a"}`] >= 40
+	})
+	cancel()
+	if err := <-done; err != nil {
+		t.Fatalf("first daemon: %v", err)
+	}
+	stopSim()
+
+	silent, err := sim.OpenPTY() // a logger that is plugged in but sends nothing
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer silent.Close()
+	cfg2 := sim.DemoScenario().DemoConfig(silent.Path())
+	cfg2.DataDir = dir
+	m := scrape(t, startDaemon(t, &cfg2))
+	pts := m[`settle_fit_points{channel="steel-cyl-a"}`]
+	if pts < before[`settle_fit_points{channel="steel-cyl-a"}`] {
+		t.Errorf("after restart the steel fit has %v points, want at least the %v it had", pts,
+			before[`settle_fit_points{channel="steel-cyl-a"}`])
+	}
+	for _, ch := range []string{"steel-cyl-a", "brass-sphere-b"} {
+		eta := fmt.Sprintf(`settle_target_eta_timestamp_seconds{channel="%s",target="handling"}`, ch)
+		reached := fmt.Sprintf(`settle_target_reached{channel="%s",target="handling"}`, ch)
+		if m[eta] == 0 && m[reached] != 1 {
+			t.Errorf("after restart %s has no handling forecast", ch)
+		}
+	}
+	if m[`settle_temperature_celsius{channel="steel-cyl-a"}`] == 0 {
+		t.Error("after restart the steel's latest temperature is missing")
 	}
 }

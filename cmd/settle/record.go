@@ -10,9 +10,13 @@ import (
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
 )
+
+// resumeWindow is how far back a restarted daemon reloads readings into its trackers.
+const resumeWindow = 12 * time.Hour
 
 // historyEvery is how often the forecasts of channels with an active run are offered to
 // the journal's forecast history (it stores only meaningful changes).
@@ -125,17 +129,53 @@ func (r *recorder) runsAPI(bench *predict.Bench, token string) http.Handler {
 	})
 }
 
-// keepHistory offers bench's forecasts to the journal every historyEvery until ctx ends.
-func (r *recorder) keepHistory(ctx context.Context, bench *predict.Bench) {
-	t := time.NewTicker(historyEvery)
+// maintain runs until ctx ends: every second it fits channels whose last readings
+// arrived inside the fit gap, and every historyEvery it offers bench's forecasts to the
+// journal's forecast history.
+func (r *recorder) maintain(ctx context.Context, bench *predict.Bench) {
+	t := time.NewTicker(time.Second)
 	defer t.Stop()
+	last := time.Now()
 	for {
 		select {
 		case <-ctx.Done():
 			return
-		case <-t.C:
-			report.RecordBench(r.j, bench.Snapshot())
+		case now := <-t.C:
+			bench.FitPending()
+			if now.Sub(last) >= historyEvery {
+				report.RecordBench(r.j, bench.Snapshot())
+				last = now
+			}
 		}
+	}
+}
+
+// resume reloads the last resumeWindow of readings into bench in one pass (one fit per
+// channel at the end) and the newest valid reading of each channel into latest, so a
+// restarted daemon shows forecasts at once rather than from scratch.
+func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest) {
+	n, start := 0, time.Now()
+	var err error
+	bench.Restore(func(observe func(string, time.Time, float64)) {
+		err = r.j.Replay(start.Add(-resumeWindow), func(rd daq.Reading) {
+			if rd.OK() {
+				n++
+				observe(rd.Channel, rd.Time, rd.Celsius)
+			}
+		})
+	})
+	if err != nil {
+		r.log.Warn("resume from journal incomplete", "err", err)
+	}
+	if last, err := r.j.Latest(); err == nil {
+		for _, rd := range last {
+			if rd.OK() { // a fault is shown again when the logger repeats it
+				latest.Record(rd)
+			}
+		}
+	}
+	if n > 0 {
+		r.log.Info("resumed from journal", "readings", n, "took", time.Since(start).Round(time.Millisecond))
 	}
 }
 
