@@ -53,7 +53,9 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		return nil, err
 	}
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
-	d.srv = exporter.NewServer(exporter.NewHandler(state, exporter.NewRegistry(state), exporter.Options{
+	reg := exporter.NewRegistry(state)
+	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health))
+	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
 		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
 	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
 	d.ln, err = net.Listen("tcp", cfg.Listen)

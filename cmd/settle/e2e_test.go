@@ -154,6 +154,14 @@ func TestDemoRecordsRuns(t *testing.T) {
 			t.Errorf("no configured run for %s; runs: %+v", ch.Name, list.Runs)
 		}
 	}
+	// The journal commits every second: its health is on /metrics.
+	jm := waitFor(t, base, 30*time.Second, func(m map[string]float64) bool {
+		return m["settle_journal_committed_readings_total"] > 0
+	})
+	if jm["settle_journal_writable"] != 1 || jm["settle_journal_last_commit_timestamp_seconds"] == 0 {
+		t.Errorf("journal metrics: writable %v, last commit %v", jm["settle_journal_writable"],
+			jm["settle_journal_last_commit_timestamp_seconds"])
+	}
 	id := specimens["steel-cyl-a"]
 	if id == "" {
 		t.FailNow()
