@@ -42,14 +42,19 @@ channel and serves:
 With --demo it needs no hardware: a simulated rack of cooling specimens runs in-process
 on a pseudo-terminal and is read through the same serial path as a real logger.
 
-SIGINT and SIGTERM stop it cleanly. The listen address defaults to ` + defaultListen + `
+SIGINT and SIGTERM stop it cleanly. SIGHUP reloads the configuration file: a valid
+one restarts the loggers and trackers in-process (forecasts resume from the journal); an
+invalid one is logged and the running configuration stays. The listen address defaults to ` + defaultListen + `
 (loopback only); SETTLE_LISTEN and SETTLE_DATA_DIR override the configuration file.`,
 		Example: "  settle run --demo\n  settle run --config /etc/settle/settle.yaml --listen 0.0.0.0:8391",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			ctx, stop := signal.NotifyContext(cmd.Context(), os.Interrupt, syscall.SIGTERM)
 			defer stop()
-			return runDaemon(ctx, f, cmd.Flags().Changed("listen"))
+			reload := make(chan os.Signal, 1)
+			signal.Notify(reload, syscall.SIGHUP)
+			defer signal.Stop(reload)
+			return runDaemon(ctx, f, cmd.Flags().Changed("listen"), reload)
 		},
 	}
 	fl := cmd.Flags()
@@ -61,7 +66,7 @@ SIGINT and SIGTERM stop it cleanly. The listen address defaults to ` + defaultLi
 	return cmd
 }
 
-func runDaemon(ctx context.Context, f runFlags, listenSet bool) error {
+func runDaemon(ctx context.Context, f runFlags, listenSet bool, reload <-chan os.Signal) error {
 	log, err := newLogger(f.logLevel)
 	if err != nil {
 		return err
@@ -69,36 +74,104 @@ func runDaemon(ctx context.Context, f runFlags, listenSet bool) error {
 	if f.demo == (f.configPath != "") {
 		return errors.New("run: give exactly one of --config FILE or --demo")
 	}
+	load := func() (*config.Config, error) {
+		cfg, err := config.Load(f.configPath)
+		if err == nil {
+			f.applyOverrides(cfg, listenSet)
+		}
+		return cfg, err
+	}
 	var cfg *config.Config
 	if f.demo {
 		var stopSim func()
-		cfg, stopSim, err = startDemo(ctx, log)
-		if err != nil {
+		if cfg, stopSim, err = startDemo(ctx, log); err != nil {
 			return err
 		}
 		defer stopSim()
-	} else if cfg, err = config.Load(f.configPath); err != nil {
+		if err := f.demoDataDir(cfg, log); err != nil {
+			return err
+		}
+		f.applyOverrides(cfg, listenSet)
+		load = nil // the demo has no file to reload
+	} else if cfg, err = load(); err != nil {
 		return err
 	}
+	return serveReloading(ctx, cfg, log, reload, load)
+}
+
+// applyOverrides applies --listen (when given, or when the file has none) and --data-dir.
+func (f runFlags) applyOverrides(cfg *config.Config, listenSet bool) {
 	if listenSet || cfg.Listen == "" {
 		cfg.Listen = f.listen
 	}
-	if f.dataDir == "" && f.demo {
-		f.dataDir = os.Getenv(config.EnvDataDir)
-	}
 	if f.dataDir != "" {
 		cfg.DataDir = f.dataDir
-	} else if f.demo {
-		if cfg.DataDir, err = os.MkdirTemp("", "settle-demo-"); err != nil {
+	}
+}
+
+// demoDataDir gives the demo a journal folder of its own unless --data-dir or
+// SETTLE_DATA_DIR names one, and logs where it is.
+func (f *runFlags) demoDataDir(cfg *config.Config, log *slog.Logger) error {
+	if f.dataDir == "" {
+		f.dataDir = os.Getenv(config.EnvDataDir)
+	}
+	if f.dataDir == "" {
+		dir, err := os.MkdirTemp("", "settle-demo-")
+		if err != nil {
 			return fmt.Errorf("demo data folder: %w", err)
 		}
-		log.Info("demo: journal in a folder of its own", "data_dir", cfg.DataDir)
+		f.dataDir = dir
 	}
-	d, err := newDaemon(cfg, log)
-	if err != nil {
-		return err
+	cfg.DataDir = f.dataDir
+	log.Info("demo: journal in a folder of its own", "data_dir", cfg.DataDir)
+	return nil
+}
+
+// serveReloading runs a daemon on cfg until ctx ends. On a signal from reload it loads
+// the configuration again; a valid one replaces the running daemon (ports closed and
+// reopened, the journal flushed and reopened, forecasts resumed from it), an invalid one
+// is logged and the running daemon goes on untouched. load is nil when there is nothing
+// to reload.
+func serveReloading(ctx context.Context, cfg *config.Config, log *slog.Logger, reload <-chan os.Signal, load func() (*config.Config, error)) error {
+	for {
+		d, err := newDaemon(cfg, log)
+		if err != nil {
+			return err
+		}
+		runCtx, stop := context.WithCancel(ctx)
+		next := make(chan *config.Config, 1)
+		go func() { next <- awaitReload(runCtx, reload, load, log); stop() }()
+		err = d.Run(runCtx)
+		stop()
+		newCfg := <-next
+		if newCfg == nil || ctx.Err() != nil {
+			return err
+		}
+		log.Info("configuration reloaded: restarting loggers and trackers")
+		cfg = newCfg
 	}
-	return d.Run(ctx)
+}
+
+// awaitReload waits for a reload signal with a valid configuration and returns it, or
+// nil when ctx ends first.
+func awaitReload(ctx context.Context, reload <-chan os.Signal, load func() (*config.Config, error), log *slog.Logger) *config.Config {
+	for {
+		select {
+		case <-ctx.Done():
+			return nil
+		case <-reload:
+			if load == nil {
+				log.Warn("reload requested, but the demo has no configuration file to reload")
+				continue
+			}
+			cfg, err := load()
+			if err != nil {
+				log.Error("reload refused: the running configuration stays", "err", err)
+				continue
+			}
+			return cfg
+		}
+	}
 }
 
 func newLogger(level string) (*slog.Logger, error) {

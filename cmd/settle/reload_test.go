@@ -1,0 +1,106 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"net"
+	"net/http"
+	"os"
+	"path/filepath"
+	"syscall"
+	"testing"
+	"time"
+
+	"github.com/settle-lab/settle/daq/sim"
+)
+
+const reloadConfig = `listen: %s
+data_dir: %s
+loggers:
+  - name: rack2
+    port: %s
+    line:
+      clock_column: 1
+      columns: [{index: 2, channel: steel-cyl-a}]
+channels:
+  - name: steel-cyl-a
+    targets:
+      - {name: handling, celsius: 50, handling: true}
+%s`
+
+// TestReloadOnSignal: a reload with a valid file restarts the pipeline with the new
+// targets; a reload with a broken file is refused and the daemon keeps serving.
+func TestReloadOnSignal(t *testing.T) {
+	p, err := sim.OpenPTY()
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close()
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	go sim.Run(ctx, p, sim.NewSim(sim.DemoScenario(), sim.DefaultInterval, 1), sim.Options{Speed: sim.DemoSpeed})
+
+	addr := freeAddr(t)
+	dir := t.TempDir()
+	path := filepath.Join(dir, "settle.yaml")
+	write := func(extra string) {
+		body := fmt.Sprintf(reloadConfig, addr, filepath.Join(dir, "data"), p.Path(), extra)
+		if err := os.WriteFile(path, []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	write("")
+	reload := make(chan os.Signal, 1)
+	done := make(chan error, 1)
+	go func() { done <- runDaemon(ctx, runFlags{configPath: path, logLevel: "error"}, false, reload) }()
+
+	warm := `settle_target_info{channel="steel-cyl-a",kind="temperature",target="warm"}`
+	handling := `settle_target_info{channel="steel-cyl-a",kind="handling",target="handling"}`
+	base := "http://" + addr
+	waitScrape(t, base, func(m map[string]float64) bool { return m[handling] == 1 })
+
+	write("      - {name: warm, celsius: 300}\n")
+	reload <- syscall.SIGHUP
+	waitScrape(t, base, func(m map[string]float64) bool { return m[warm] == 1 })
+
+	write("      - {name: warm, celsius: hot}\n") // not a number: refused
+	reload <- syscall.SIGHUP
+	time.Sleep(500 * time.Millisecond) // give a wrong reload time to do harm
+	m := waitScrape(t, base, func(m map[string]float64) bool { return m[handling] == 1 })
+	if m[warm] != 1 {
+		t.Error("a refused reload dropped the running configuration's target")
+	}
+	cancel()
+	if err := <-done; err != nil {
+		t.Errorf("runDaemon: %v", err)
+	}
+}
+
+func freeAddr(t *testing.T) string {
+	t.Helper()
+	ln, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer ln.Close()
+	return ln.Addr().String()
+}
+
+// waitScrape polls /metrics, tolerating refused connections (a reload rebinds the
+// listener), until ok accepts a scrape; the deadline only guards against a hang.
+func waitScrape(t *testing.T, base string, ok func(map[string]float64) bool) map[string]float64 {
+	t.Helper()
+	end := time.Now().Add(60 * time.Second)
+	for time.Now().Before(end) {
+		if resp, err := http.Get(base + "/metrics"); err == nil {
+			resp.Body.Close()
+			if m := scrape(t, base); ok(m) {
+				return m
+			}
+		}
+		time.Sleep(100 * time.Millisecond)
+	}
+	t.Fatalf("no matching scrape from %s within 60 s", base)
+	return nil
+}
+
