@@ -103,4 +103,3 @@ func waitScrape(t *testing.T, base string, ok func(map[string]float64) bool) map
 	t.Fatalf("no matching scrape from %s within 60 s", base)
 	return nil
 }
-
