@@ -96,6 +96,7 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		return f, nil
 	}
 	var m fitted = lumpedFitted{&lr}
+	keep := len(f.Notes)
 	if err != nil {
 		f.Notes = append(f.Notes, fmt.Sprintf(
 			"Model: lumped with h(T) from natural convection and radiation; the exponential alone is not resolved yet (%v).", err))
@@ -107,9 +108,42 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	} else {
 		describeLumped(f, &lr, start, p.Ambient != nil, opt.Specimen)
 	}
+	if c := conductionChoice(f, p, m, start, keep, targets, opt.Specimen); c != nil {
+		m = c
+	}
 	noteResiduals(f, m, opt.Interval)
 	f.Targets = forecastTargets(m, &p, start, targets, &opt.Interval)
 	return f, m
+}
+
+// conductionChoice fits the conduction models when the specimen is known and, when
+// they should replace the lumped model m (see chooseConduction), rewrites f's model
+// description from notes[keep:] on and returns the conduction fit; else nil, with a
+// note when the conduction fit failed.
+func conductionChoice(f *Forecast, p LumpedProblem, m fitted, start time.Time, keep int, targets []Target, sp *Specimen) fitted {
+	if sp == nil || len(p.Times) < minPointsH {
+		return nil
+	}
+	cr, err := fitConduction(p, sp)
+	if err != nil {
+		f.Notes = append(f.Notes, fmt.Sprintf("The conduction model could not be fitted (%v); the lumped model stands.", err))
+		return nil
+	}
+	nFree := 3
+	switch l := m.(type) {
+	case lumpedFitted:
+		nFree = l.r.Free
+	case hFitted:
+		nFree = l.r.Free
+	}
+	ok, why := chooseConduction(cr, m, len(p.Times), nFree)
+	if !ok {
+		return nil
+	}
+	f.Notes = f.Notes[:keep]
+	describeConduction(f, cr, start, why)
+	noteHandling(f, cr.m, targets)
+	return cr.m
 }
 
 // minBreakRun is the fewest consecutive readings off the curve that make a break.

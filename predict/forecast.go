@@ -191,6 +191,11 @@ func (f *forecaster) target(tg Target) TargetForecast {
 		out.Celsius = tg.Celsius
 		return out
 	}
+	if hf, ok := f.fit.(handlingFitted); ok && tg.Handling {
+		if t, v, rate, reach, used := hf.handlingCrossing(out.Celsius); used {
+			return f.core(out, t, v, rate, reach)
+		}
+	}
 	if entry, ok := f.entry(tg, out.Celsius); ok {
 		return f.observed(out, entry)
 	}
@@ -252,9 +257,34 @@ func (f *forecaster) asymptoteSeen() bool {
 	return math.Abs(last) <= (1-seenDecay)*math.Abs(first)
 }
 
+// handlingFitted is a fit that can judge a handling target on the specimen's hottest
+// point rather than at the sensor (a conduction model with a surface thermocouple).
+type handlingFitted interface {
+	// handlingCrossing is crossing for the hottest point; used is false when the
+	// sensor is the hottest point and its own curve serves.
+	handlingCrossing(level float64) (t, variance, rate float64, ok, used bool)
+}
+
+// core fills a handling target's forecast from the hottest point's fitted crossing:
+// reached (At the fitted crossing, not an observed one, since the sensor does not see
+// the hottest point) when it lies before the last reading, else as predicted.
+func (f *forecaster) core(out TargetForecast, tStar, v, rate float64, ok bool) TargetForecast {
+	last := f.p.Times[len(f.p.Times)-1]
+	if ok && tStar+out.Target.Hold.Seconds() <= last {
+		out.State, out.At = StateReached, f.abs(tStar).Add(out.Target.Hold)
+		return out
+	}
+	return f.predictedFrom(out, tStar, v, rate, ok)
+}
+
 // predicted fills a predicted (or unreachable) forecast.
 func (f *forecaster) predicted(out TargetForecast) TargetForecast {
 	tStar, v, rate, ok := f.fit.crossing(out.Celsius, out.Target.IsWithin())
+	return f.predictedFrom(out, tStar, v, rate, ok)
+}
+
+// predictedFrom fills a predicted (or unreachable) forecast from a crossing.
+func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, ok bool) TargetForecast {
 	rho, misfit := f.fit.residuals()
 	if !ok {
 		// Unreachable only when the target lies beyond the settling temperature by

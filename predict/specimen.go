@@ -9,6 +9,7 @@ import (
 
 	"go.yaml.in/yaml/v3"
 
+	"github.com/settle-lab/settle/predict/conduction"
 	"github.com/settle-lab/settle/predict/material"
 	"github.com/settle-lab/settle/predict/surface"
 )
@@ -17,14 +18,19 @@ import (
 // the temperature-dependent surface coefficient with the right geometry and report a
 // Biot number. It is what `settle fit --specimen SPEC.yaml` reads.
 type Specimen struct {
-	// Shape is "slab", "cylinder" or "sphere".
+	// Shape is "slab", "cylinder" (long), "sphere", "short-cylinder" (a cylinder of
+	// finite length, ends cooled too) or "block" (a rectangular block).
 	Shape string `yaml:"shape"`
-	// SizeM is the half-thickness of a slab or the radius of a cylinder or sphere, m.
+	// SizeM is the half-thickness of a slab or block, or the radius of a cylinder,
+	// short cylinder or sphere, m.
 	SizeM float64 `yaml:"size_m"`
-	// LengthM is a slab's vertical height or a horizontal cylinder's length, m (unused
-	// for a sphere). Zero means: a slab 10 times as high as it is thick; a long
-	// cylinder.
+	// LengthM is a slab's or block's vertical height or a cylinder's length (full, not
+	// half), m; unused for a sphere and required for a short cylinder and a block.
+	// Zero means: a slab 10 times as high as it is thick; a long cylinder.
 	LengthM float64 `yaml:"length_m"`
+	// WidthM is a block's third side (full width), m; required for a block, unused
+	// otherwise.
+	WidthM float64 `yaml:"width_m"`
 	// Sensor is where the thermocouple sits: "center" or "surface".
 	Sensor string `yaml:"sensor"`
 	// Material gives the properties, or names a built-in material.
@@ -100,17 +106,17 @@ func (s Specimen) Validate() error {
 		return nil
 	}
 	switch s.Shape {
-	case "slab", "cylinder", "sphere":
+	case "slab", "cylinder", "sphere", "short-cylinder", "block":
 	default:
-		return fmt.Errorf("shape: %q is not slab, cylinder or sphere", s.Shape)
+		return fmt.Errorf("shape: %q is not slab, cylinder, sphere, short-cylinder or block", s.Shape)
+	}
+	if err := s.checkDimensions(); err != nil {
+		return err
 	}
 	switch s.Sensor {
 	case "center", "surface":
 	default:
 		return fmt.Errorf("sensor: %q is not center or surface", s.Sensor)
-	}
-	if !(s.LengthM >= 0) || math.IsInf(s.LengthM, 0) {
-		return fmt.Errorf("length_m: %g must be zero or positive", s.LengthM)
 	}
 	m := s.Material
 	return errors.Join(
@@ -129,23 +135,49 @@ func emissivityErr(e float64) error {
 	return nil
 }
 
+// checkDimensions checks length_m and width_m against the shape's needs.
+func (s Specimen) checkDimensions() error {
+	for _, d := range []struct {
+		key string
+		v   float64
+	}{{"length_m", s.LengthM}, {"width_m", s.WidthM}} {
+		if !(d.v >= 0) || math.IsInf(d.v, 0) {
+			return fmt.Errorf("%s: %g must be zero or positive", d.key, d.v)
+		}
+	}
+	if (s.Shape == "short-cylinder" || s.Shape == "block") && s.LengthM == 0 {
+		return fmt.Errorf("length_m: a %s needs its length (full, m)", s.Shape)
+	}
+	if s.Shape == "block" && s.WidthM == 0 {
+		return errors.New("width_m: a block needs its width (full, m)")
+	}
+	if s.Shape != "block" && s.WidthM != 0 {
+		return fmt.Errorf("width_m: only a block has a width, not a %s", s.Shape)
+	}
+	return nil
+}
+
 // height returns the slab's height or the cylinder's length with its default.
 func (s Specimen) height() float64 {
 	if s.LengthM > 0 {
 		return s.LengthM
 	}
-	if s.Shape == "slab" {
+	if s.Shape == "slab" || s.Shape == "block" {
 		return 10 * 2 * s.SizeM
 	}
 	return math.Inf(1)
 }
 
 // CharLength returns V/A, m: a slab's half-thickness (both faces exposed, edges
-// neglected), r·L/(2(L+r)) for a cylinder with its ends, r/3 for a sphere.
+// neglected), r·L/(2(L+r)) for a cylinder with its ends, r/3 for a sphere, and
+// abc/(2(ab+bc+ca)) for a block of full sides a, b, c.
 func (s Specimen) CharLength() float64 {
 	r := s.SizeM
 	switch s.Shape {
-	case "cylinder":
+	case "block":
+		a, b, c := 2*r, s.LengthM, s.WidthM
+		return a * b * c / (2 * (a*b + b*c + c*a))
+	case "cylinder", "short-cylinder":
 		if l := s.height(); !math.IsInf(l, 0) {
 			return r * l / (2 * (l + r))
 		}
@@ -157,11 +189,12 @@ func (s Specimen) CharLength() float64 {
 }
 
 // Convection returns the free-convection geometry and its characteristic length as
-// predict/surface expects them: a slab stands as a vertical plate of its height, a
-// cylinder lies as a horizontal cylinder of its diameter, a sphere by its diameter.
+// predict/surface expects them: a slab or block stands as a vertical plate of its
+// height, a cylinder (long or short) lies as a horizontal cylinder of its diameter,
+// a sphere by its diameter.
 func (s Specimen) Convection() (surface.Geometry, float64) {
 	switch s.Shape {
-	case "cylinder":
+	case "cylinder", "short-cylinder":
 		return surface.HorizontalCylinder, 2 * s.SizeM
 	case "sphere":
 		return surface.Sphere, 2 * s.SizeM
@@ -177,4 +210,35 @@ func (s Specimen) HeatCapacityPerArea() float64 {
 // Biot returns h·Lc/k for a surface coefficient h, W/(m²·K).
 func (s Specimen) Biot(h float64) float64 {
 	return h * s.CharLength() / s.Material.Conductivity
+}
+
+// Conduction returns the specimen as predict/conduction describes it, with
+// half-dimensions: a slab keeps its face height for the convection correlation, a
+// short cylinder's half-length and a block's half-sides come from length_m and
+// width_m, and the sensor is the centre or the surface.
+func (s Specimen) Conduction() (conduction.Specimen, error) {
+	shape, err := conduction.ParseShape(s.Shape)
+	if err != nil {
+		return conduction.Specimen{}, fmt.Errorf("shape: %w", err)
+	}
+	m := s.Material
+	c := conduction.Specimen{
+		Shape: shape, Size: s.SizeM, Density: m.Density, SpecificHeat: m.SpecificHeat,
+		Conductivity: m.Conductivity, Emissivity: m.Emissivity, Sensor: conduction.Centre,
+	}
+	if s.Sensor == "surface" {
+		c.Sensor = conduction.Surface
+	}
+	switch shape {
+	case conduction.Slab:
+		c.Length = s.height()
+	case conduction.ShortCylinder:
+		c.Length = s.LengthM / 2
+	case conduction.Cuboid:
+		c.Length, c.Width = s.LengthM/2, s.WidthM/2
+	}
+	if err := c.Validate(); err != nil {
+		return conduction.Specimen{}, err
+	}
+	return c, nil
 }

@@ -1,0 +1,297 @@
+package predict
+
+import (
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/settle-lab/settle/predict/conduction"
+)
+
+// Conduction model names reported in Forecast.Model.
+const (
+	// ModelConductionSeries is the exact series (or product) solution of conduction
+	// inside the specimen with a constant h, from predict/conduction.
+	ModelConductionSeries = "conduction-series"
+	// ModelConductionFV is the one-dimensional finite-volume conduction model with
+	// the natural-convection-plus-radiation h(Ts), from predict/conduction.
+	ModelConductionFV = "conduction-fv"
+)
+
+// Thresholds of the move from a lumped model to conduction.
+const (
+	// conductionBi is the lumped Biot number h·(V/A)/k at and above which a lumped
+	// model is outside its validity range (common practice, DESIGN.md physics 1).
+	conductionBi = 0.1
+	// hotExcess is the initial excess over the ambient, K, above which the FV model
+	// with h(T) is tried too: radiation and natural convection then change h
+	// several-fold during the cooling (our choice).
+	hotExcess = 100.0
+	// maxFVPoints caps the readings the FV fit sees (evenly thinned), so a long
+	// segment stays within the daemon's fit budget.
+	maxFVPoints = 400
+)
+
+// condFitted adapts a conduction fit for the forecaster: the curve at the sensor,
+// and the hottest point for handling targets.
+type condFitted struct {
+	fit        conduction.Fit
+	sensor     conduction.Position
+	amb        float64
+	ambErr     float64
+	initial    float64
+	initialErr float64
+	// lnErr is the standard error of ln Bi (series) or ln scale (FV); dlnT is
+	// d ln t*/d ln Bi of the one-term form at the fitted Bi.
+	lnErr, dlnT float64
+	// rmse and the residual statistics.
+	rmsev, rho, misfit float64
+	// coreBased is set when handling targets are judged on the hottest point because
+	// the sensor is not it.
+	coreBased bool
+}
+
+func (c *condFitted) ambient() float64                 { return c.amb }
+func (c *condFitted) side() float64                    { return sign(c.initial - c.amb) }
+func (c *condFitted) residuals() (rho, misfit float64) { return c.rho, c.misfit }
+func (c *condFitted) value(t float64) float64          { return c.fit.Temperature(c.sensor, t) }
+func (c *condFitted) ambientErr() float64              { return c.ambErr }
+func (c *condFitted) rmse() float64                    { return c.rmsev }
+
+// crossing is the sensor curve's crossing of level.
+func (c *condFitted) crossing(level float64, within bool) (t, variance, rate float64, ok bool) {
+	return c.cross(c.value, level, within)
+}
+
+// handlingCrossing is the hottest point's crossing of level when the sensor is not
+// the hottest point; ok is false when the sensor's own curve should be used.
+func (c *condFitted) handlingCrossing(level float64) (t, variance, rate float64, ok, used bool) {
+	if !c.coreBased {
+		return 0, 0, 0, false, false
+	}
+	t, variance, rate, ok = c.cross(c.fit.Hottest, level, false)
+	return t, variance, rate, ok, true
+}
+
+// cross finds where curve reaches level by bisection (the curves are monotone: a
+// uniform start, one ambient) and the delta-method variance from the standard errors
+// of T0, T∞ and ln Bi taken as independent (the fits report no covariance).
+func (c *condFitted) cross(curve func(float64) float64, level float64, within bool) (t, variance, rate float64, ok bool) {
+	side := c.side()
+	if side == 0 || sign(level-c.amb) != side {
+		return 0, 0, 0, false
+	}
+	above := func(t float64) bool { return side*(curve(t)-level) > 0 }
+	if !above(0) {
+		return 0, 0, 0, true
+	}
+	hi := 1.0
+	for above(hi) {
+		if hi *= 2; hi > maxOffset {
+			return 0, 0, 0, false
+		}
+	}
+	lo := 0.0
+	for range 60 {
+		mid := (lo + hi) / 2
+		if above(mid) {
+			lo = mid
+		} else {
+			hi = mid
+		}
+		if hi-lo <= 1e-6*hi {
+			break
+		}
+	}
+	t = (lo + hi) / 2
+	dt := max(1e-3*t, 1e-3)
+	rate = math.Abs(curve(t+dt)-curve(max(t-dt, 0))) / (t + dt - max(t-dt, 0))
+	if !(rate > 0) {
+		return t, 0, 0, true
+	}
+	exc := c.initial - c.amb
+	theta := (level - c.amb) / exc
+	dAmb := (1 - theta) / rate
+	if within {
+		dAmb = theta / rate
+	}
+	gT0, gLn := theta/rate, c.dlnT*t*c.lnErr
+	variance = sq(gT0*c.initialErr) + sq(dAmb*c.ambErr) + sq(gLn)
+	return t, variance, rate, true
+}
+
+func sq(x float64) float64 { return x * x }
+
+// dlnTime returns d ln t*/d ln Bi of the one-term form, −d ln ζ1²/d ln Bi: 1 at small
+// Bi (t ∝ 1/Bi, lumped), 0 at large Bi (the surface is held at the ambient).
+func dlnTime(shape conduction.Shape, bi float64) float64 {
+	if !(bi > 0) || math.IsInf(bi, 0) {
+		return 1
+	}
+	if !shape.OneDimensional() {
+		shape = conduction.Slab
+	}
+	const d = 1e-3
+	z1 := conduction.Eigenvalues(shape, bi*math.Exp(-d), 1)[0]
+	z2 := conduction.Eigenvalues(shape, bi*math.Exp(d), 1)[0]
+	return -(2*math.Log(z2) - 2*math.Log(z1)) / (2 * d)
+}
+
+// condResult is a conduction fit ready for the forecaster, with what the notes need.
+type condResult struct {
+	m     *condFitted
+	model string
+	free  int
+	n     int
+	// lumpedBi is h·(V/A)/k (at the start for FV), bi the series Bi (on Size).
+	lumpedBi, bi float64
+	h            float64
+	fv           *conduction.FVFit
+	series       *conduction.SeriesFit
+	spec         conduction.Specimen
+}
+
+// fitConduction fits the series model, and the FV model too for a hot
+// one-dimensional specimen, and returns the better by AIC (nil when neither fits).
+func fitConduction(p LumpedProblem, sp *Specimen) (*condResult, error) {
+	cs, err := sp.Conduction()
+	if err != nil {
+		return nil, err
+	}
+	amb := math.NaN()
+	if p.Ambient != nil {
+		amb = p.Ambient[len(p.Ambient)-1]
+	}
+	sf, err := conduction.FitSeries(cs, p.Times, p.Celsius, amb)
+	if err != nil {
+		return nil, err
+	}
+	free := 3
+	if !math.IsNaN(amb) {
+		free = 2
+	}
+	best := &condResult{model: ModelConductionSeries, free: free, n: sf.N, lumpedBi: sf.LumpedBi, bi: sf.Bi.Value,
+		h: sf.H.Value, series: sf, spec: cs}
+	best.m = newCondFitted(sf, cs, p, sf.Initial, sf.Ambient, sf.Bi.StdErr/sf.Bi.Value, sf.Bi.Value)
+	if !cs.Shape.OneDimensional() || math.Abs(sf.Initial.Value-sf.Ambient.Value) < hotExcess {
+		return best, nil
+	}
+	if _, _, err := cs.Convection(); err != nil {
+		return best, nil
+	}
+	times, temps := thin(p.Times, p.Celsius, maxFVPoints)
+	fv, err := conduction.FitFV(cs, times, temps, amb)
+	if err != nil {
+		return best, nil
+	}
+	alt := &condResult{model: ModelConductionFV, free: free, n: sf.N, bi: fv.BiStart, h: fv.HStart,
+		lumpedBi: fv.HStart * cs.LumpedLength() / cs.Conductivity, fv: fv, series: sf, spec: cs}
+	alt.m = newCondFitted(fv, cs, p, fv.Initial, fv.Ambient, fv.Scale.StdErr/fv.Scale.Value, sf.Bi.Value)
+	if aic(alt.n, alt.free, alt.m.rmsev) < aic(best.n, best.free, best.m.rmsev)-2 {
+		return alt, nil
+	}
+	return best, nil
+}
+
+// thin returns at most n evenly spaced readings, always keeping the last.
+func thin(t, y []float64, n int) ([]float64, []float64) {
+	if len(t) <= n {
+		return t, y
+	}
+	step := float64(len(t)-1) / float64(n-1)
+	ot, oy := make([]float64, n), make([]float64, n)
+	for i := range n {
+		k := min(int(math.Round(float64(i)*step)), len(t)-1)
+		ot[i], oy[i] = t[k], y[k]
+	}
+	return ot, oy
+}
+
+// newCondFitted adapts fit and computes its residual statistics on all of p.
+func newCondFitted(fit conduction.Fit, cs conduction.Specimen, p LumpedProblem, t0, amb conduction.Estimate, lnErr, bi float64) *condFitted {
+	c := &condFitted{fit: fit, sensor: cs.Sensor, amb: amb.Value, ambErr: amb.StdErr,
+		initial: t0.Value, initialErr: t0.StdErr, lnErr: lnErr, dlnT: dlnTime(cs.Shape, bi)}
+	r := make([]float64, len(p.Times))
+	for i, t := range p.Times {
+		r[i] = p.Celsius[i] - c.value(t)
+	}
+	st := statsOf(r)
+	c.rmsev = math.Sqrt(st.ssr / float64(len(r)))
+	c.rho = st.rho
+	c.misfit = math.Sqrt(max(0, c.rmsev*c.rmsev-st.vonNeumann))
+	cooling := c.initial > c.amb
+	c.coreBased = !(cooling && cs.Sensor == conduction.Centre)
+	return c
+}
+
+// chooseConduction reports whether the conduction fit cr replaces the lumped model
+// m (with Biot number lumpedBi, NaN when unknown): when the fitted lumped Bi is 0.1 or
+// more, or when the lumped residuals are structured and conduction fits better by
+// AIC. why says which.
+func chooseConduction(cr *condResult, m fitted, lumpedN, lumpedFree int) (bool, string) {
+	if cr.lumpedBi >= conductionBi {
+		return true, fmt.Sprintf("the fitted Biot number h·(V/A)/k is %.2g, at or above 0.1, so the specimen is not uniform in temperature", cr.lumpedBi)
+	}
+	if m == nil {
+		return false, ""
+	}
+	al, ac := aic(lumpedN, lumpedFree, m.rmse()), aic(cr.n, cr.free, cr.m.rmsev)
+	if mismatched(m, m.rmse()) && ac < al-2 {
+		return true, fmt.Sprintf("the lumped residuals are structured and conduction fits better (AIC lower by %.1f)", al-ac)
+	}
+	return false, ""
+}
+
+// describeConduction fills the forecast fields of a conduction fit.
+func describeConduction(f *Forecast, cr *condResult, start time.Time, why string) {
+	c := cr.m
+	f.Model, f.Ambient, f.RMSE = cr.model, c.amb, c.rmsev
+	f.Biot, f.OutOfRange = cr.lumpedBi, false
+	f.TimeConstant = 0
+	measured := c.ambErr == 0
+	f.Params = []Param{
+		{Name: "ambient_c", Value: c.amb, StdErr: measuredNaN(c.ambErr, measured), Unit: "°C"},
+		{Name: "initial_c", Value: c.initial, StdErr: c.initialErr, Unit: "°C"},
+		{Name: "h_w_m2k", Value: cr.h, StdErr: cr.h * c.lnErr, Unit: "W/(m²·K)"},
+		{Name: "biot_size", Value: cr.bi, StdErr: cr.bi * c.lnErr},
+	}
+	if cr.fv != nil {
+		f.Params = append(f.Params, Param{Name: "h_scale", Value: cr.fv.Scale.Value, StdErr: cr.fv.Scale.StdErr})
+	}
+	last := f.FittedAt.Sub(start).Seconds()
+	f.Params = append(f.Params,
+		Param{Name: "centre_c", Value: c.fit.Temperature(conduction.Centre, last), StdErr: math.NaN(), Unit: "°C"},
+		Param{Name: "surface_c", Value: c.fit.Temperature(conduction.Surface, last), StdErr: math.NaN(), Unit: "°C"})
+	what := "the exact series solution with a constant h"
+	if cr.fv != nil {
+		what = "a finite-volume solution with h(T) from natural convection and radiation"
+	}
+	f.Notes = append(f.Notes, fmt.Sprintf(
+		"Model: %s — conduction inside the %v, %s; it replaces the lumped model because %s. Biot number %.2g (h·(V/A)/k; %.2g on the half-thickness or radius).",
+		cr.model, cr.spec.Shape, what, why, cr.lumpedBi, cr.bi))
+	f.Notes = append(f.Notes, fmt.Sprintf(
+		"At the last reading the fitted centre is %.1f °C and the surface %.1f °C.",
+		c.fit.Temperature(conduction.Centre, last), c.fit.Temperature(conduction.Surface, last)))
+	if cr.series != nil && cr.series.AtBound && cr.fv == nil {
+		f.Notes = append(f.Notes, "The curve does not pin the Biot number down (it ended at the search's bound); h is a bound, not an estimate.")
+	}
+	f.Curve = func(t time.Time) float64 { return c.value(t.Sub(start).Seconds()) }
+}
+
+// noteHandling adds the core-lag note when a handling target is judged on the
+// hottest point.
+func noteHandling(f *Forecast, c *condFitted, targets []Target) {
+	if !c.coreBased {
+		return
+	}
+	for _, tg := range targets {
+		if tg.Handling {
+			note := "The handling forecast is based on the centre, which lags the surface: the thermocouple is on the surface, so handling targets use the fitted centre temperature, an estimate — verify with a contact thermometer."
+			if c.side() < 0 {
+				note = "The handling forecast is based on the outermost point (surface, edge or corner), which leads the thermocouple while heating: handling targets use its fitted temperature, an estimate — verify with a contact thermometer."
+			}
+			f.Notes = append(f.Notes, note)
+			return
+		}
+	}
+}
