@@ -2,9 +2,10 @@ package exporter
 
 import (
 	"encoding/json"
-	"math"
 	"net/http"
 	"time"
+
+	"github.com/settle-lab/settle/exporter/jsonval"
 
 	"github.com/settle-lab/settle/predict"
 )
@@ -97,7 +98,7 @@ func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
 		if r, ok := s.Latest.Get(ch.Name); ok {
 			out.Latest = &ReadingJSON{Time: r.Time.UTC(), Status: r.Status.String(), Raw: r.Raw}
 			if r.OK() {
-				out.Latest.Celsius = num(r.Celsius)
+				out.Latest.Celsius = jsonval.Num(r.Celsius)
 			}
 		}
 	}
@@ -106,15 +107,15 @@ func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
 		return out
 	}
 	out.Forecast = &ForecastJSON{
-		Model: f.Model, Parameters: paramsJSON(f.Params), TimeConstantS: num(f.TimeConstant.Seconds()),
-		AmbientC: num(f.Ambient), RMSEC: num(f.RMSE), Biot: num(f.Biot),
+		Model: f.Model, Parameters: paramsJSON(f.Params), TimeConstantS: jsonval.Num(f.TimeConstant.Seconds()),
+		AmbientC: jsonval.Num(f.Ambient), RMSEC: jsonval.Num(f.RMSE), Biot: jsonval.Num(f.Biot),
 		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
 		FittedAt: f.FittedAt.UTC(), Notes: append([]string{}, f.Notes...),
 	}
 	for _, tf := range f.Targets {
 		out.Targets = append(out.Targets, TargetJSON{
-			Name: tf.Target.Name, Kind: TargetKind(tf.Target), Celsius: num(tf.Celsius),
-			State: string(tf.State), At: when(tf.At), Earliest: when(tf.Earliest), Latest: when(tf.Latest),
+			Name: tf.Target.Name, Kind: TargetKind(tf.Target), Celsius: jsonval.Num(tf.Celsius),
+			State: string(tf.State), At: jsonval.Time(tf.At), Earliest: jsonval.Time(tf.Earliest), Latest: jsonval.Time(tf.Latest),
 		})
 		if tf.Target.Handling {
 			out.Cautions = HandlingCautions
@@ -126,25 +127,9 @@ func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
 func paramsJSON(ps []predict.Param) []ParamJSON {
 	out := make([]ParamJSON, 0, len(ps))
 	for _, p := range ps {
-		out = append(out, ParamJSON{Name: p.Name, Value: num(p.Value), StdErr: num(p.StdErr), Unit: p.Unit})
+		out = append(out, ParamJSON{Name: p.Name, Value: jsonval.Num(p.Value), StdErr: jsonval.Num(p.StdErr), Unit: p.Unit})
 	}
 	return out
-}
-
-// num returns a pointer to v, or nil for NaN and infinities (JSON has no NaN).
-func num(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
-
-func when(t time.Time) *time.Time {
-	if t.IsZero() {
-		return nil
-	}
-	u := t.UTC()
-	return &u
 }
 
 func writeJSON(w http.ResponseWriter, status int, v any) {

@@ -8,6 +8,8 @@ import (
 	"sync/atomic"
 	"time"
 
+	"github.com/settle-lab/settle/exporter/jsonval"
+
 	"github.com/settle-lab/settle/daq"
 )
 
@@ -122,7 +124,7 @@ func (b *broker) close() { b.closed.Do(func() { close(b.closing) }) }
 func readingEvent(r daq.Reading) ReadingEvent {
 	ev := ReadingEvent{Channel: r.Channel, Time: r.Time.UTC(), Status: r.Status.String()}
 	if r.OK() {
-		ev.Celsius = num(r.Celsius)
+		ev.Celsius = jsonval.Num(r.Celsius)
 	}
 	return ev
 }

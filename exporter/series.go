@@ -7,6 +7,8 @@ import (
 	"strings"
 	"time"
 
+	"github.com/settle-lab/settle/exporter/jsonval"
+
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/predict"
 )
@@ -50,7 +52,7 @@ func Detail(s State, name string, now time.Time) (ChannelDetail, bool) {
 	}
 	d := ChannelDetail{ChannelJSON: channelJSON(s, ch, now), Notes: []string{}, FaultCounts: map[string]uint64{}}
 	if f := ch.Forecast; f != nil {
-		d.Biot, d.Notes = num(f.Biot), append(d.Notes, f.Notes...)
+		d.Biot, d.Notes = jsonval.Num(f.Biot), append(d.Notes, f.Notes...)
 		for _, p := range paramsJSON(f.Params) {
 			if p.Name == "h_w_m2k" {
 				d.H = &p
@@ -59,7 +61,7 @@ func Detail(s State, name string, now time.Time) (ChannelDetail, bool) {
 	}
 	if s.Latest != nil {
 		if rc, ok := s.Latest.Reception(name); ok {
-			d.Logger, d.LastReceived, d.History = rc.Logger, when(rc.Received), rc.Kept
+			d.Logger, d.LastReceived, d.History = rc.Logger, jsonval.Time(rc.Received), rc.Kept
 		}
 		for _, fc := range s.Latest.Faults() {
 			if fc.Channel == name {

@@ -3,10 +3,11 @@ package notify
 import (
 	"fmt"
 	"log/slog"
-	"math"
 	"net/http"
 	"sync"
 	"time"
+
+	"github.com/settle-lab/settle/exporter/jsonval"
 
 	"github.com/prometheus/client_golang/prometheus"
 
@@ -259,19 +260,19 @@ func (h *hook) faultEvent(ch Channel) (Event, bool) {
 	}
 	h.faults[ch.Name] = key
 	return Event{ID: key, Kind: KindFault, Channel: ch.Name, Time: ch.Now.UTC(), Fault: ch.Fault,
-		Celsius: num(ch.Celsius),
+		Celsius: jsonval.Num(ch.Celsius),
 		Message: fmt.Sprintf("%s: fault %s: %s", ch.Name, ch.Fault, ch.FaultDetail)}, true
 }
 
 func targetEvent(key string, kind Kind, ch Channel, tg Target, cautions []string) Event {
 	ev := Event{ID: key, Kind: kind, Channel: ch.Name, Target: tg.Name, Time: ch.Now.UTC(),
-		At: when(tg.At), Earliest: when(tg.Earliest), Latest: when(tg.Latest),
-		Celsius: num(ch.Celsius), TargetCelsius: num(tg.Celsius)}
+		At: jsonval.Time(tg.At), Earliest: jsonval.Time(tg.Earliest), Latest: jsonval.Time(tg.Latest),
+		Celsius: jsonval.Num(ch.Celsius), TargetCelsius: jsonval.Num(tg.Celsius)}
 	if tg.Handling {
 		ev.Cautions = cautions
 	}
 	temp := "its target"
-	if v := num(tg.Celsius); v != nil {
+	if v := jsonval.Num(tg.Celsius); v != nil {
 		temp = fmt.Sprintf("%.1f °C", *v)
 	}
 	if kind == KindReached {
@@ -332,19 +333,4 @@ func (n *Notifier) Webhooks() []string {
 		out = append(out, h.cfg.Name)
 	}
 	return out
-}
-
-func num(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
-
-func when(t time.Time) *time.Time {
-	if t.IsZero() {
-		return nil
-	}
-	u := t.UTC()
-	return &u
 }

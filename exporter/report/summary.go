@@ -6,6 +6,8 @@ import (
 	"strings"
 	"time"
 
+	"github.com/settle-lab/settle/exporter/jsonval"
+
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
@@ -137,8 +139,8 @@ func modelOf(fc *predict.Forecast) *Model {
 		return nil
 	}
 	m := &Model{
-		Name: fc.Model, TimeConstantS: num(fc.TimeConstant.Seconds()), AmbientC: num(fc.Ambient),
-		RMSEC: num(fc.RMSE), Biot: num(fc.Biot), Points: fc.Points, SegmentStart: fc.SegmentStart.UTC(),
+		Name: fc.Model, TimeConstantS: jsonval.Num(fc.TimeConstant.Seconds()), AmbientC: jsonval.Num(fc.Ambient),
+		RMSEC: jsonval.Num(fc.RMSE), Biot: jsonval.Num(fc.Biot), Points: fc.Points, SegmentStart: fc.SegmentStart.UTC(),
 		FittedAt: fc.FittedAt.UTC(), OutOfRange: fc.OutOfRange, Notes: append([]string{}, fc.Notes...),
 		Parameters: []ParamOut{},
 	}
@@ -146,9 +148,9 @@ func modelOf(fc *predict.Forecast) *Model {
 		m.TimeConstantS = nil
 	}
 	for _, p := range fc.Params {
-		m.Parameters = append(m.Parameters, ParamOut{Name: p.Name, Value: num(p.Value), StdErr: num(p.StdErr), Unit: p.Unit})
+		m.Parameters = append(m.Parameters, ParamOut{Name: p.Name, Value: jsonval.Num(p.Value), StdErr: jsonval.Num(p.StdErr), Unit: p.Unit})
 		if isH(p) {
-			m.HWm2K = num(p.Value)
+			m.HWm2K = jsonval.Num(p.Value)
 		}
 	}
 	if m.HWm2K == nil {
@@ -164,24 +166,24 @@ func isH(p predict.Param) bool {
 }
 
 func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.Time, hist []journal.ForecastPoint) TargetSummary {
-	ts := TargetSummary{Name: tg.Name, Celsius: num(tg.Celsius), Handling: tg.Handling, History: []HistoryPoint{}}
+	ts := TargetSummary{Name: tg.Name, Celsius: jsonval.Num(tg.Celsius), Handling: tg.Handling, History: []HistoryPoint{}}
 	if tg.IsWithin() {
-		ts.Within = num(tg.Within)
+		ts.Within = jsonval.Num(tg.Within)
 	}
 	if fc != nil {
 		for _, tf := range fc.Targets {
 			if tf.Target.Name == tg.Name {
-				ts.Celsius, ts.State = num(tf.Celsius), string(tf.State)
-				ts.PredictedAt, ts.Earliest, ts.Latest = when(tf.At), when(tf.Earliest), when(tf.Latest)
+				ts.Celsius, ts.State = jsonval.Num(tf.Celsius), string(tf.State)
+				ts.PredictedAt, ts.Earliest, ts.Latest = jsonval.Time(tf.At), jsonval.Time(tf.Earliest), jsonval.Time(tf.Latest)
 				if tf.State == predict.StateReached && actual.IsZero() {
 					actual = tf.At
 				}
 			}
 		}
 	}
-	ts.Actual = when(actual)
+	ts.Actual = jsonval.Time(actual)
 	if !actual.IsZero() {
-		ts.ActualElapsedS = num(actual.Sub(start).Seconds())
+		ts.ActualElapsedS = jsonval.Num(actual.Sub(start).Seconds())
 	}
 	for _, p := range hist {
 		if p.Target == tg.Name {
@@ -193,11 +195,11 @@ func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.T
 }
 
 func historyPoint(p journal.ForecastPoint, actual time.Time) HistoryPoint {
-	h := HistoryPoint{Time: p.Time.UTC(), State: p.State, PredictedAt: when(p.At), Earliest: when(p.Earliest), Latest: when(p.Latest)}
+	h := HistoryPoint{Time: p.Time.UTC(), State: p.State, PredictedAt: jsonval.Time(p.At), Earliest: jsonval.Time(p.Earliest), Latest: jsonval.Time(p.Latest)}
 	if actual.IsZero() || p.At.IsZero() || p.State == journal.StateReached {
 		return h
 	}
-	h.ErrorS = num(p.At.Sub(actual).Seconds())
+	h.ErrorS = jsonval.Num(p.At.Sub(actual).Seconds())
 	if !p.Earliest.IsZero() && !p.Latest.IsZero() {
 		in := !actual.Before(p.Earliest) && !actual.After(p.Latest)
 		h.Covered = &in
@@ -228,20 +230,4 @@ func convergedAt(hist []HistoryPoint, actual time.Time) *time.Time {
 		}
 	}
 	return from
-}
-
-// num returns a pointer to v, or nil for NaN and infinities (JSON has no NaN).
-func num(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
-
-func when(t time.Time) *time.Time {
-	if t.IsZero() {
-		return nil
-	}
-	u := t.UTC()
-	return &u
 }
