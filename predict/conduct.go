@@ -26,7 +26,7 @@ const (
 	// hotExcess is the initial excess over the ambient, K, above which the FV model
 	// with h(T) is tried too: radiation and natural convection then change h
 	// several-fold during the cooling (our choice).
-	hotExcess = 100.0
+	hotExcess = 200.0
 	// maxFVPoints caps the readings the FV fit sees (evenly thinned), so a long
 	// segment stays within the daemon's fit budget.
 	maxFVPoints = 400
@@ -36,6 +36,7 @@ const (
 // and the hottest point for handling targets.
 type condFitted struct {
 	fit        conduction.Fit
+	offset     float64 // model time at the segment's t = 0, s
 	sensor     conduction.Position
 	amb        float64
 	ambErr     float64
@@ -54,7 +55,7 @@ type condFitted struct {
 func (c *condFitted) ambient() float64                 { return c.amb }
 func (c *condFitted) side() float64                    { return sign(c.initial - c.amb) }
 func (c *condFitted) residuals() (rho, misfit float64) { return c.rho, c.misfit }
-func (c *condFitted) value(t float64) float64          { return c.fit.Temperature(c.sensor, t) }
+func (c *condFitted) value(t float64) float64          { return c.fit.Temperature(c.sensor, t+c.offset) }
 func (c *condFitted) ambientErr() float64              { return c.ambErr }
 func (c *condFitted) rmse() float64                    { return c.rmsev }
 
@@ -69,7 +70,7 @@ func (c *condFitted) handlingCrossing(level float64) (t, variance, rate float64,
 	if !c.coreBased {
 		return 0, 0, 0, false, false
 	}
-	t, variance, rate, ok = c.cross(c.fit.Hottest, level, false)
+	t, variance, rate, ok = c.cross(func(t float64) float64 { return c.fit.Hottest(t + c.offset) }, level, false)
 	return t, variance, rate, ok, true
 }
 
@@ -146,9 +147,11 @@ type condResult struct {
 	// lumpedBi is h·(V/A)/k (at the start for FV), bi the series Bi (on Size).
 	lumpedBi, bi float64
 	h            float64
-	fv           *conduction.FVFit
-	series       *conduction.SeriesFit
-	spec         conduction.Specimen
+	// offset is the fitted time from the uniform start to the segment's onset, s.
+	offset float64
+	fv     *conduction.FVFit
+	series *conduction.SeriesFit
+	spec   conduction.Specimen
 }
 
 // fitConduction fits the series model, and the FV model too for a hot
@@ -162,35 +165,79 @@ func fitConduction(p LumpedProblem, sp *Specimen) (*condResult, error) {
 	if p.Ambient != nil {
 		amb = p.Ambient[len(p.Ambient)-1]
 	}
-	sf, err := conduction.FitSeries(cs, p.Times, p.Celsius, amb)
+	off, sf, err := fitOrigin(cs, p, amb)
 	if err != nil {
 		return nil, err
 	}
+	times := shifted(p.Times, off)
 	free := 3
 	if !math.IsNaN(amb) {
 		free = 2
 	}
 	best := &condResult{model: ModelConductionSeries, free: free, n: sf.N, lumpedBi: sf.LumpedBi, bi: sf.Bi.Value,
-		h: sf.H.Value, series: sf, spec: cs}
-	best.m = newCondFitted(sf, cs, p, sf.Initial, sf.Ambient, sf.Bi.StdErr/sf.Bi.Value, sf.Bi.Value)
+		h: sf.H.Value, series: sf, spec: cs, offset: off}
+	best.m = newCondFitted(sf, cs, p, off, sf.Initial, sf.Ambient, sf.Bi.StdErr/sf.Bi.Value, sf.Bi.Value)
 	if !cs.Shape.OneDimensional() || math.Abs(sf.Initial.Value-sf.Ambient.Value) < hotExcess {
 		return best, nil
 	}
 	if _, _, err := cs.Convection(); err != nil {
 		return best, nil
 	}
-	times, temps := thin(p.Times, p.Celsius, maxFVPoints)
+	times, temps := thin(times, p.Celsius, maxFVPoints)
 	fv, err := conduction.FitFV(cs, times, temps, amb)
 	if err != nil {
 		return best, nil
 	}
 	alt := &condResult{model: ModelConductionFV, free: free, n: sf.N, bi: fv.BiStart, h: fv.HStart,
-		lumpedBi: fv.HStart * cs.LumpedLength() / cs.Conductivity, fv: fv, series: sf, spec: cs}
-	alt.m = newCondFitted(fv, cs, p, fv.Initial, fv.Ambient, fv.Scale.StdErr/fv.Scale.Value, sf.Bi.Value)
+		lumpedBi: fv.HStart * cs.LumpedLength() / cs.Conductivity, fv: fv, series: sf, spec: cs, offset: off}
+	alt.m = newCondFitted(fv, cs, p, off, fv.Initial, fv.Ambient, fv.Scale.StdErr/fv.Scale.Value, sf.Bi.Value)
 	if aic(alt.n, alt.free, alt.m.rmsev) < aic(best.n, best.free, best.m.rmsev)-2 {
 		return alt, nil
 	}
 	return best, nil
+}
+
+// Origin search: the segment's onset (the highest reading, see Onset) can fall
+// after the moment the specimen was uniform — a centre thermocouple reads a plateau
+// while the surface cools — and the series solution needs that moment. The fit
+// tries offsets 0 and originFirst·span·2^k up to originMax·span, keeping the best.
+const (
+	originFirst = 0.002
+	originMax   = 0.25
+)
+
+// fitOrigin fits the series model at each trial offset of the time origin and
+// returns the offset with the least residual and its fit.
+func fitOrigin(cs conduction.Specimen, p LumpedProblem, amb float64) (float64, *conduction.SeriesFit, error) {
+	span := p.Times[len(p.Times)-1] - p.Times[0]
+	bestOff := 0.0
+	best, err := conduction.FitSeries(cs, p.Times, p.Celsius, amb)
+	if err != nil {
+		return 0, nil, err
+	}
+	for off := originFirst * span; off <= originMax*span; off *= 2 {
+		sf, err := conduction.FitSeries(cs, shifted(p.Times, off), p.Celsius, amb)
+		if err != nil {
+			break
+		}
+		if sf.RMSE >= best.RMSE {
+			break
+		}
+		best, bestOff = sf, off
+	}
+	return bestOff, best, nil
+}
+
+// shifted returns times + off (times itself when off is 0).
+func shifted(times []float64, off float64) []float64 {
+	if off == 0 {
+		return times
+	}
+	out := make([]float64, len(times))
+	for i, t := range times {
+		out[i] = t + off
+	}
+	return out
 }
 
 // thin returns at most n evenly spaced readings, always keeping the last.
@@ -208,8 +255,8 @@ func thin(t, y []float64, n int) ([]float64, []float64) {
 }
 
 // newCondFitted adapts fit and computes its residual statistics on all of p.
-func newCondFitted(fit conduction.Fit, cs conduction.Specimen, p LumpedProblem, t0, amb conduction.Estimate, lnErr, bi float64) *condFitted {
-	c := &condFitted{fit: fit, sensor: cs.Sensor, amb: amb.Value, ambErr: amb.StdErr,
+func newCondFitted(fit conduction.Fit, cs conduction.Specimen, p LumpedProblem, off float64, t0, amb conduction.Estimate, lnErr, bi float64) *condFitted {
+	c := &condFitted{fit: fit, sensor: cs.Sensor, offset: off, amb: amb.Value, ambErr: amb.StdErr,
 		initial: t0.Value, initialErr: t0.StdErr, lnErr: lnErr, dlnT: dlnTime(cs.Shape, bi)}
 	r := make([]float64, len(p.Times))
 	for i, t := range p.Times {
@@ -260,8 +307,8 @@ func describeConduction(f *Forecast, cr *condResult, start time.Time, why string
 	}
 	last := f.FittedAt.Sub(start).Seconds()
 	f.Params = append(f.Params,
-		Param{Name: "centre_c", Value: c.fit.Temperature(conduction.Centre, last), StdErr: math.NaN(), Unit: "°C"},
-		Param{Name: "surface_c", Value: c.fit.Temperature(conduction.Surface, last), StdErr: math.NaN(), Unit: "°C"})
+		Param{Name: "centre_c", Value: c.fit.Temperature(conduction.Centre, last+c.offset), StdErr: math.NaN(), Unit: "°C"},
+		Param{Name: "surface_c", Value: c.fit.Temperature(conduction.Surface, last+c.offset), StdErr: math.NaN(), Unit: "°C"})
 	what := "the exact series solution with a constant h"
 	if cr.fv != nil {
 		what = "a finite-volume solution with h(T) from natural convection and radiation"
@@ -271,7 +318,7 @@ func describeConduction(f *Forecast, cr *condResult, start time.Time, why string
 		cr.model, cr.spec.Shape, what, why, cr.lumpedBi, cr.bi))
 	f.Notes = append(f.Notes, fmt.Sprintf(
 		"At the last reading the fitted centre is %.1f °C and the surface %.1f °C.",
-		c.fit.Temperature(conduction.Centre, last), c.fit.Temperature(conduction.Surface, last)))
+		c.fit.Temperature(conduction.Centre, last+c.offset), c.fit.Temperature(conduction.Surface, last+c.offset)))
 	if cr.series != nil && cr.series.AtBound && cr.fv == nil {
 		f.Notes = append(f.Notes, "The curve does not pin the Biot number down (it ended at the search's bound); h is a bound, not an estimate.")
 	}

@@ -49,9 +49,10 @@ func newFitCmd() *cobra.Command {
 		Use:   "fit FILE [--json] [--until S] [--target NAME=CELSIUS]... [--settle-band C] [--specimen SPEC.yaml] [--plot OUT.png]",
 		Short: "Fit a recorded curve and forecast its targets, as the daemon would",
 		Long: `Fit a recorded temperature curve offline with the same engine the daemon uses
-(segment onset, spike removal, model choice between the lumped exponential and the
-lumped model with a temperature-dependent surface coefficient, intervals) and forecast
-when it reaches its targets.
+(segment onset, spike removal, model choice between the lumped exponential, the
+lumped model with a temperature-dependent surface coefficient and, for a described
+specimen whose Biot number is 0.1 or more, conduction inside it; intervals) and
+forecast when it reaches its targets.
 
 FILE is a CSV with a header naming t_s (seconds) and temp_c, and optionally
 ambient_c (a measured ambient). An empty or non-numeric cell is a missing reading.
@@ -59,9 +60,22 @@ ambient_c (a measured ambient). An empty or non-numeric cell is a missing readin
 --until S uses only rows with t_s <= S: the forecast as it would have been live at S.
 --target NAME=CELSIUS adds a fixed target (repeatable); --settle-band C adds a target
 named "settled": within C °C of the temperature the curve settles toward.
---specimen SPEC.yaml describes the specimen (shape slab|cylinder|sphere, size_m,
-length_m, sensor center|surface, material with density_kg_m3, specific_heat_j_kgk,
-conductivity_w_mk, emissivity, or a built-in material name).
+--specimen SPEC.yaml describes the specimen:
+  shape     slab | cylinder | sphere | short-cylinder | block
+  size_m    half-thickness (slab, block) or radius (cylinders, sphere), m
+  length_m  full height of a slab or block, full length of a cylinder, m
+            (needed for short-cylinder and block; 0: a slab 10× as high as
+            thick, a long cylinder)
+  width_m   full width of a block, m (block only, needed)
+  sensor    center | surface
+  material  name (a built-in material, e.g. concrete, brass, "cast iron") and/or
+            density_kg_m3, specific_heat_j_kgk, conductivity_w_mk, emissivity
+            (values given override the named material's)
+With a specimen whose Biot number is 0.1 or more the model is conduction-series
+(exact series, constant h) or, for a specimen 200 K or more above its ambient,
+conduction-fv (finite volume with h(T)); with a surface sensor the centre is
+forecast too, and handling targets follow the hottest point (the centre while
+cooling), which lags the surface.
 --plot OUT.png draws the readings, the fitted curve, the targets and their intervals.
 
 Times in the output are on the file's own time axis. A target named like "handle" or
