@@ -236,6 +236,10 @@ type Channel struct {
 	Targets []Target `mapstructure:"targets"`
 	// Run, when set, starts a run on this channel at start-up unless one is active.
 	Run *Run `mapstructure:"run"`
+	// Specimen, when set, describes the specimen on this channel (shape, size,
+	// sensor position, material by name or by properties; see Specimen), so the
+	// forecaster can report its Biot number and model conduction inside it.
+	Specimen *Specimen `mapstructure:"specimen"`
 }
 
 // Run names the specimen on a channel, for the record.

@@ -13,6 +13,9 @@ import (
 type ChannelSpec struct {
 	Name, Ambient string
 	Targets       []Target
+	// Specimen, when non-nil, describes this channel's specimen and overrides the
+	// TrackerOptions.Specimen given to NewBench.
+	Specimen *Specimen
 }
 
 // ChannelState is a snapshot of one channel of a bench.
@@ -48,7 +51,11 @@ func NewBench(specs []ChannelSpec, opt TrackerOptions) *Bench {
 		}
 		b.index[s.Name] = len(b.specs)
 		b.specs = append(b.specs, s)
-		b.trackers = append(b.trackers, NewTracker(s.Targets, opt))
+		o := opt
+		if s.Specimen != nil {
+			o.Specimen = s.Specimen
+		}
+		b.trackers = append(b.trackers, NewTracker(s.Targets, o))
 	}
 	for i, s := range b.specs {
 		if s.Ambient != "" {
@@ -110,6 +117,13 @@ func SpecsFromConfig(cfg []config.Channel) ([]ChannelSpec, error) {
 			return nil, fmt.Errorf("predict: channels[%d].ambient: %q is not another configured channel", i, c.Ambient)
 		}
 		specs[i] = ChannelSpec{Name: c.Name, Ambient: c.Ambient}
+		if c.Specimen != nil {
+			sp, err := specimenFromConfig(fmt.Sprintf("channels[%d]", i), c.Specimen)
+			if err != nil {
+				return nil, fmt.Errorf("predict: %w", err)
+			}
+			specs[i].Specimen = &sp
+		}
 		for j, t := range c.Targets {
 			tg, err := targetFromConfig(t)
 			if err != nil {
@@ -119,6 +133,25 @@ func SpecsFromConfig(cfg []config.Channel) ([]ChannelSpec, error) {
 		}
 	}
 	return specs, nil
+}
+
+// specimenFromConfig converts a channel's configured specimen (key is the channel's
+// key path), resolving a material name; errors name the key.
+func specimenFromConfig(key string, c *config.Specimen) (Specimen, error) {
+	if err := c.Check(key); err != nil {
+		return Specimen{}, err
+	}
+	m := c.Material
+	s := Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, WidthM: c.WidthM, Sensor: c.Sensor,
+		Material: SpecimenMaterial{Name: m.Name, Density: m.Density, SpecificHeat: m.SpecificHeat,
+			Conductivity: m.Conductivity, Emissivity: m.Emissivity}}
+	if err := s.resolve(); err != nil {
+		return Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
+	}
+	if err := s.Validate(); err != nil {
+		return Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
+	}
+	return s, nil
 }
 
 // targetFromConfig converts one configured target.

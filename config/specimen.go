@@ -1,0 +1,101 @@
+package config
+
+import "math"
+
+// Specimen describes the specimen on a channel, with the keys of a `settle fit
+// --specimen` file (predict.Specimen): shape, size_m, length_m, width_m, sensor and
+// material. predict resolves a material name and checks it against its table.
+type Specimen struct {
+	// Shape is slab, cylinder, sphere, short-cylinder or block.
+	Shape string `mapstructure:"shape"`
+	// SizeM is the half-thickness (slab, block) or the radius (cylinders, sphere), m.
+	SizeM float64 `mapstructure:"size_m"`
+	// LengthM is the full height of a slab or block or the full length of a
+	// cylinder, m; needed for short-cylinder and block.
+	LengthM float64 `mapstructure:"length_m"`
+	// WidthM is the full width of a block, m; needed for a block, unused otherwise.
+	WidthM float64 `mapstructure:"width_m"`
+	// Sensor is center or surface.
+	Sensor string `mapstructure:"sensor"`
+	// Material names a built-in material or gives the properties (or both: the
+	// properties given override the named ones).
+	Material SpecimenMaterial `mapstructure:"material"`
+}
+
+// SpecimenMaterial is a specimen's material: a built-in Name (predict/material)
+// and/or the properties.
+type SpecimenMaterial struct {
+	// Name is a built-in material, e.g. "concrete" or "brass".
+	Name string `mapstructure:"name"`
+	// Density is ρ, kg/m³.
+	Density float64 `mapstructure:"density_kg_m3"`
+	// SpecificHeat is c, J/(kg·K).
+	SpecificHeat float64 `mapstructure:"specific_heat_j_kgk"`
+	// Conductivity is k, W/(m·K).
+	Conductivity float64 `mapstructure:"conductivity_w_mk"`
+	// Emissivity is the surface's total emissivity, 0–1.
+	Emissivity float64 `mapstructure:"emissivity"`
+}
+
+// SpecimenProblems checks a channel's specimen, with key the channel's key path
+// (e.g. "channels[2]"); nil s has no problems. It checks what needs no material
+// table: the shape and sensor names, positive sizes with the dimensions each shape
+// needs, and, without a material name, all three properties.
+func SpecimenProblems(key string, s *Specimen) []*Problem {
+	if s == nil {
+		return nil
+	}
+	k := &checker{}
+	key += ".specimen"
+	switch s.Shape {
+	case "slab", "cylinder", "sphere", "short-cylinder", "block":
+	default:
+		k.add(key+".shape", "want slab, cylinder, sphere, short-cylinder or block, got %q", s.Shape)
+	}
+	switch s.Sensor {
+	case "center", "surface":
+	default:
+		k.add(key+".sensor", "want center or surface, got %q", s.Sensor)
+	}
+	if !(s.SizeM > 0) || math.IsInf(s.SizeM, 0) {
+		k.add(key+".size_m", "must be a positive number of metres, got %g", s.SizeM)
+	}
+	needLength := s.Shape == "short-cylinder" || s.Shape == "block"
+	checkDim(k, key+".length_m", s.LengthM, needLength, "a "+s.Shape+" needs its full length")
+	checkDim(k, key+".width_m", s.WidthM, s.Shape == "block", "a block needs its full width")
+	if s.Shape != "block" && s.WidthM != 0 {
+		k.add(key+".width_m", "only a block has a width")
+	}
+	m := s.Material
+	if m.Name == "" {
+		for _, p := range []struct {
+			name string
+			v    float64
+		}{{"density_kg_m3", m.Density}, {"specific_heat_j_kgk", m.SpecificHeat}, {"conductivity_w_mk", m.Conductivity}} {
+			if !(p.v > 0) || math.IsInf(p.v, 0) {
+				k.add(key+".material."+p.name, "must be a positive number (or give material.name), got %g", p.v)
+			}
+		}
+	}
+	if !(m.Emissivity >= 0 && m.Emissivity <= 1) {
+		k.add(key+".material.emissivity", "must be within 0..1, got %g", m.Emissivity)
+	}
+	return k.problems
+}
+
+// checkDim checks an optional (or, with need, required) positive dimension.
+func checkDim(k *checker, key string, v float64, need bool, why string) {
+	switch {
+	case !(v >= 0) || math.IsInf(v, 0):
+		k.add(key, "must be zero or a positive number of metres, got %g", v)
+	case need && v == 0:
+		k.add(key, "%s (m)", why)
+	}
+}
+
+// Check returns the problems of SpecimenProblems joined with errors.Join, or nil.
+// Config.Validate does not call it yet; predict.SpecsFromConfig does, so the daemon
+// refuses a bad specimen at start-up with its key path.
+func (s *Specimen) Check(key string) error {
+	return joinProblems(SpecimenProblems(key, s))
+}

@@ -1,0 +1,38 @@
+package config
+
+import (
+	"strings"
+	"testing"
+)
+
+// Each specimen mistake is reported with its key path.
+func TestSpecimenProblems(t *testing.T) {
+	good := Specimen{Shape: "short-cylinder", SizeM: 0.05, LengthM: 0.2, Sensor: "surface",
+		Material: SpecimenMaterial{Name: "concrete"}}
+	if ps := SpecimenProblems("channels[0]", &good); len(ps) != 0 {
+		t.Fatalf("good specimen: %v", ps)
+	}
+	for _, c := range []struct {
+		edit func(*Specimen)
+		key  string
+	}{
+		{func(s *Specimen) { s.Shape = "cube" }, "channels[0].specimen.shape"},
+		{func(s *Specimen) { s.Sensor = "middle" }, "channels[0].specimen.sensor"},
+		{func(s *Specimen) { s.SizeM = -1 }, "channels[0].specimen.size_m"},
+		{func(s *Specimen) { s.LengthM = 0 }, "channels[0].specimen.length_m"},
+		{func(s *Specimen) { s.WidthM = 0.1 }, "channels[0].specimen.width_m"},
+		{func(s *Specimen) { s.Shape = "block" }, "channels[0].specimen.width_m"},
+		{func(s *Specimen) { s.Material = SpecimenMaterial{Density: 2300, SpecificHeat: 880} }, "channels[0].specimen.material.conductivity_w_mk"},
+		{func(s *Specimen) { s.Material.Emissivity = 1.5 }, "channels[0].specimen.material.emissivity"},
+	} {
+		s := good
+		c.edit(&s)
+		err := s.Check("channels[0]")
+		if err == nil || !strings.Contains(err.Error(), c.key) {
+			t.Errorf("%+v: %v, want a problem at %s", s, err, c.key)
+		}
+	}
+	if (*Specimen)(nil).Check("channels[0]") != nil {
+		t.Error("nil specimen has problems")
+	}
+}
