@@ -1,0 +1,116 @@
+package predict
+
+import (
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/settle-lab/settle/predict/benchgen"
+)
+
+// caseSpecimen is the specimen description of a benchmark case, as a lab would
+// write it: the case's shape, sizes, sensor and material by name with its emissivity.
+func caseSpecimen(c benchgen.Case) (*Specimen, error) {
+	sp := Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, Sensor: c.Sensor,
+		Material: SpecimenMaterial{Name: c.Material, Emissivity: c.Emissivity}}
+	if err := sp.resolve(); err != nil {
+		return nil, err
+	}
+	return &sp, sp.Validate()
+}
+
+// thickAccuracy scores, on the benchmark's cases with Bi > 0.1 (thick or
+// low-conductivity specimens), the engine without and with the specimen
+// description, and the plain lumped exponential; keys are "method/fraction".
+func thickAccuracy(t *testing.T) (map[string]*score, int) {
+	idx := benchIndex(t)
+	out := map[string]*score{}
+	cases := 0
+	for _, c := range idx.Cases {
+		if !(c.Biot > 0.1) {
+			continue
+		}
+		cases++
+		sp, err := caseSpecimen(c)
+		if err != nil {
+			t.Fatalf("%s: %v", c.File, err)
+		}
+		withSpec := func(cf CurveFile, level float64) (at, lo, hi float64, ok bool) {
+			p, onset, _ := Prepare(cf.Times, cf.Celsius, cf.FilledAmbient())
+			f := Analyze(p, origin.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}}, AnalyzeOptions{Specimen: sp})
+			return fromForecast(f.Targets[0])
+		}
+		methods := map[string]method{"engine": engine, "engine+spec": withSpec, "exp3": exponential3}
+		f, err := os.Open(filepath.Join(benchDir, c.File))
+		if err != nil {
+			t.Fatal(err)
+		}
+		curve, err := ReadCurveCSV(f, c.File)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, frac := range fractions {
+			now := c.PlacedS + frac*(c.CrossingS-c.PlacedS)
+			part := curve.Until(now)
+			horizon := c.CrossingS - part.Times[len(part.Times)-1]
+			for name, m := range methods {
+				at, lo, hi, ok := m(part, c.Target)
+				rel := math.Inf(1)
+				if ok {
+					rel = math.Abs(at-c.CrossingS) / horizon
+				}
+				key := fmt.Sprintf("%s/%.2f", name, frac)
+				if out[key] == nil {
+					out[key] = &score{}
+				}
+				out[key].add(rel, ok && lo <= c.CrossingS && c.CrossingS <= hi, !math.IsNaN(lo))
+			}
+		}
+	}
+	return out, cases
+}
+
+// TestAccuracyThick prints the accuracy table on the benchmark's cases with
+// Bi > 0.1 (go test ./predict -run TestAccuracyThick -v), the engine with and
+// without the specimen description beside the lumped exponential, and holds the
+// engine with the description to doing no worse than without it: median relative
+// error at 25 % and 50 % elapsed at most that of the engine alone plus one point.
+func TestAccuracyThick(t *testing.T) {
+	if testing.Short() || raceEnabled {
+		t.Skip("accuracy benchmark skipped with -short and under -race (run it without -race)")
+	}
+	sc, n := thickAccuracy(t)
+	if n < 5 {
+		t.Fatalf("only %d benchmark cases with Bi > 0.1", n)
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "\n%d cases with Bi > 0.1\n%-12s %5s | %8s %8s %9s %9s\n", n, "method", "frac", "median", "p90", "coverage", "no answer")
+	for _, m := range []string{"engine+spec", "engine", "exp3"} {
+		for _, fr := range fractions {
+			s := sc[fmt.Sprintf("%s/%.2f", m, fr)]
+			cov := "-"
+			if s.judged > 0 {
+				cov = fmt.Sprintf("%.0f %%", 100*float64(s.covered)/float64(s.judged))
+			}
+			none := 0
+			for _, e := range s.errs {
+				if math.IsInf(e, 1) {
+					none++
+				}
+			}
+			fmt.Fprintf(&b, "%-12s %4.0f%% | %7.1f%% %7.1f%% %9s %8.0f%%\n", m, 100*fr,
+				100*quantile(s.errs, 0.5), 100*quantile(s.errs, 0.9), cov, 100*float64(none)/float64(len(s.errs)))
+		}
+	}
+	t.Log(b.String())
+	for _, fr := range []float64{0.25, 0.50} {
+		with, without := quantile(sc[fmt.Sprintf("engine+spec/%.2f", fr)].errs, 0.5), quantile(sc[fmt.Sprintf("engine/%.2f", fr)].errs, 0.5)
+		if with > without+0.01 {
+			t.Errorf("at %.0f %% elapsed the specimen description makes the median error worse: %.1f %% vs %.1f %%", 100*fr, 100*with, 100*without)
+		}
+	}
+}
