@@ -23,7 +23,10 @@ const (
 	readTimeout = 200 * time.Millisecond
 	// backoffMin and backoffMax bound the wait before reopening a lost port.
 	backoffMin = 100 * time.Millisecond
-	backoffMax = 5 * time.Second
+	// The cap is short on purpose: a failed open of a missing device costs next to
+	// nothing, and it bounds how long a replugged adapter waits to be read again
+	// (about a second, however long the cable was out).
+	backoffMax = time.Second
 	// selectFDLimit is FD_SETSIZE: go.bug.st/serial waits with select(), whose fd_set
 	// holds descriptors below 1024 only; a larger one makes its Read panic.
 	selectFDLimit = 1024

@@ -17,6 +17,17 @@ import (
 	"go.bug.st/serial"
 )
 
+func TestBackoffCapBoundsReplug(t *testing.T) {
+	// The daemon's own bounds: however long a port was down, the next reopen attempt
+	// is at most a second away (issue: readings resume within 2 s of a replug).
+	b := backoff{min: backoffMin, max: backoffMax}
+	for range 50 {
+		if w := b.Next(); w > time.Second {
+			t.Fatalf("reopen wait %v exceeds 1 s", w)
+		}
+	}
+}
+
 func TestBackoff(t *testing.T) {
 	b := backoff{min: 100 * time.Millisecond, max: 5 * time.Second}
 	want := []time.Duration{100, 200, 400, 800, 1600, 3200, 5000, 5000}
