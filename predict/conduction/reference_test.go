@@ -33,7 +33,7 @@ func TestOneTermComputedTable(t *testing.T) {
 }
 
 // Printed textbook values, shared/reference section 2.3 (Incropera 6th ed. Table 5.1
-// and Cengel & Ghajar 5th ed. Table 4-2, from memory or public transcriptions as the
+// and Cengel & Ghajar 5th ed. Table 4-2, from memory or public copies as the
 // file marks). Rows the file marks as disagreeing with the exact limit (Bi = inf in
 // some printings) are checked against the exact limit instead.
 func TestOneTermBookTable(t *testing.T) {
