@@ -155,7 +155,8 @@ type condResult struct {
 }
 
 // fitConduction fits the series model, and the FV model too for a hot
-// one-dimensional specimen, and returns the better by AIC (nil when neither fits).
+// one-dimensional specimen, and returns the FV model unless the series fits better
+// by more than 2 in AIC; an error when the series fit fails.
 func fitConduction(p LumpedProblem, sp *Specimen) (*condResult, error) {
 	cs, err := sp.Conduction()
 	if err != nil {
@@ -191,10 +192,12 @@ func fitConduction(p LumpedProblem, sp *Specimen) (*condResult, error) {
 	alt := &condResult{model: ModelConductionFV, free: free, n: sf.N, bi: fv.BiStart, h: fv.HStart,
 		lumpedBi: fv.HStart * cs.LumpedLength() / cs.Conductivity, fv: fv, series: sf, spec: cs, offset: off}
 	alt.m = newCondFitted(fv, cs, p, off, fv.Initial, fv.Ambient, fv.Scale.StdErr/fv.Scale.Value, sf.Bi.Value)
-	if aic(alt.n, alt.free, alt.m.rmsev) < aic(best.n, best.free, best.m.rmsev)-2 {
-		return alt, nil
+	// The physics of a hot specimen in still air (h(T)) is the default on a tie, as
+	// between the lumped models: the series must beat it by more than 2 in AIC.
+	if aic(best.n, best.free, best.m.rmsev) < aic(alt.n, alt.free, alt.m.rmsev)-2 {
+		return best, nil
 	}
-	return best, nil
+	return alt, nil
 }
 
 // Origin search: the segment's onset (the highest reading, see Onset) can fall
