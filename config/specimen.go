@@ -1,6 +1,11 @@
 package config
 
-import "math"
+import (
+	"math"
+	"strings"
+
+	"github.com/settle-lab/settle/predict/material"
+)
 
 // Specimen describes the specimen on a channel, with the keys of a `settle fit
 // --specimen` file (predict.Specimen): shape, size_m, length_m, width_m, sensor and
@@ -67,6 +72,10 @@ func SpecimenProblems(key string, s *Specimen) []*Problem {
 		k.add(key+".width_m", "only a block has a width")
 	}
 	m := s.Material
+	if _, ok := material.Lookup(m.Name); m.Name != "" && !ok {
+		k.add(key+".material.name", "no built-in material %q; known: %s (or give density_kg_m3, specific_heat_j_kgk, conductivity_w_mk)",
+			m.Name, strings.Join(material.Names(), ", "))
+	}
 	if m.Name == "" {
 		for _, p := range []struct {
 			name string
@@ -94,8 +103,7 @@ func checkDim(k *checker, key string, v float64, need bool, why string) {
 }
 
 // Check returns the problems of SpecimenProblems joined with errors.Join, or nil.
-// Config.Validate does not call it yet; predict.SpecsFromConfig does, so the daemon
-// refuses a bad specimen at start-up with its key path.
+// Config.Validate reports the same problems through SpecimenProblems.
 func (s *Specimen) Check(key string) error {
 	return joinProblems(SpecimenProblems(key, s))
 }

@@ -73,6 +73,7 @@ func (c *Config) checkChannels(k *checker, index map[string]int) {
 		}
 		checkAmbient(k, key+".ambient", ch, index)
 		checkTargets(k, key, ch.Targets)
+		k.problems = append(k.problems, SpecimenProblems(key, ch.Specimen)...)
 	}
 }
 
