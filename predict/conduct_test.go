@@ -7,6 +7,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/predict/conduction"
 )
 
@@ -156,5 +157,44 @@ func BenchmarkAnalyzeConduction2000(b *testing.B) {
 				Analyze(p, time.Time{}, tg, AnalyzeOptions{Specimen: &sp})
 			}
 		})
+	}
+}
+
+// The daemon's path: a channel configured with a specimen (config → SpecsFromConfig →
+// NewBench) gets the conduction model, and its handling target follows the centre of
+// the slab although the thermocouple is on the surface.
+func TestBenchSpecimenFromConfig(t *testing.T) {
+	handling, within := 50.0, 2.0
+	cfg := []config.Channel{{
+		Name: "slab-7",
+		Targets: []config.Target{
+			{Name: "handling", Celsius: &handling, Handling: true},
+			{Name: "settled", Within: &within},
+		},
+		Specimen: &config.Specimen{Shape: "slab", SizeM: 0.05, LengthM: 0.3, Sensor: "surface",
+			Material: config.SpecimenMaterial{Density: 2300, SpecificHeat: 880, Conductivity: 1.4, Emissivity: 0.9}},
+	}}
+	specs, err := SpecsFromConfig(cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sp := concreteSlab("surface")
+	surf, centre := exactSlab(sp, 1), exactSlab(sp, 0)
+	tSurf, tCentre := crossingOf(surf, 50), crossingOf(centre, 50)
+	b := NewBench(specs, TrackerOptions{})
+	p := slabProblem(surf, tSurf+600, 1)
+	b.Restore(func(observe func(string, time.Time, float64)) {
+		for i, s := range p.Times {
+			observe("slab-7", t0.Add(seconds(s)), p.Celsius[i])
+		}
+	})
+	f := b.Snapshot()[0].Forecast
+	if f == nil || f.Model != ModelConductionSeries {
+		t.Fatalf("forecast %+v, want model %s", f, ModelConductionSeries)
+	}
+	h := f.Targets[0]
+	if at := h.At.Sub(t0).Seconds(); h.State != StatePredicted || math.Abs(at-tCentre) > 0.05*(tCentre-tSurf-600) {
+		t.Errorf("handling: %s at %.0f s, want predicted near the centre's %.0f s (surface crossed at %.0f s)",
+			h.State, at, tCentre, tSurf)
 	}
 }
