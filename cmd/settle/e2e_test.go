@@ -45,9 +45,18 @@ func startDaemon(t *testing.T, cfg *config.Config) string {
 // as printed, e.g. `settle_port_up{logger="rack2"}`.
 func scrape(t *testing.T, base string) map[string]float64 {
 	t.Helper()
-	resp, err := http.Get(base + "/metrics")
+	m, err := tryScrape(base)
 	if err != nil {
 		t.Fatal(err)
+	}
+	return m
+}
+
+// tryScrape is scrape returning its error, for callers that expect refusals.
+func tryScrape(base string) (map[string]float64, error) {
+	resp, err := http.Get(base + "/metrics")
+	if err != nil {
+		return nil, err
 	}
 	defer resp.Body.Close()
 	out := map[string]float64{}
@@ -60,11 +69,11 @@ func scrape(t *testing.T, base string) map[string]float64 {
 		i := strings.LastIndexByte(line, ' ')
 		v, err := strconv.ParseFloat(line[i+1:], 64)
 		if err != nil {
-			t.Fatalf("metric line %q: %v", line, err)
+			return nil, fmt.Errorf("metric line %q: %w", line, err)
 		}
 		out[line[:i]] = v
 	}
-	return out
+	return out, sc.Err()
 }
 
 // waitFor polls scrape until ok accepts it or the deadline passes. The deadline guards

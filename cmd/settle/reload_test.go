@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"net"
-	"net/http"
 	"os"
 	"path/filepath"
 	"syscall"
@@ -92,11 +91,8 @@ func waitScrape(t *testing.T, base string, ok func(map[string]float64) bool) map
 	t.Helper()
 	end := time.Now().Add(60 * time.Second)
 	for time.Now().Before(end) {
-		if resp, err := http.Get(base + "/metrics"); err == nil {
-			resp.Body.Close()
-			if m := scrape(t, base); ok(m) {
-				return m
-			}
+		if m, err := tryScrape(base); err == nil && ok(m) {
+			return m
 		}
 		time.Sleep(100 * time.Millisecond)
 	}
