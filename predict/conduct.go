@@ -3,7 +3,10 @@ package predict
 import (
 	"fmt"
 	"math"
+	"sync"
 	"time"
+
+	"gonum.org/v1/gonum/mat"
 
 	"github.com/settle-lab/settle/predict/conduction"
 )
@@ -42,14 +45,19 @@ type condFitted struct {
 	ambErr     float64
 	initial    float64
 	initialErr float64
-	// lnErr is the standard error of ln Bi (series) or ln scale (FV); dlnT is
-	// d ln t*/d ln Bi of the one-term form at the fitted Bi.
-	lnErr, dlnT float64
+	// cov is the fit's parameter covariance (ln Bi or ln scale, T0, and T∞ when
+	// fitted), nil when singular; lnErr is the standard error of its first entry.
+	cov   *mat.SymDense
+	lnErr float64
 	// rmse and the residual statistics.
 	rmsev, rho, misfit float64
 	// coreBased is set when handling targets are judged on the hottest point because
 	// the sensor is not it.
 	coreBased bool
+
+	once   sync.Once
+	varied []conduction.Fit // the fit with each parameter moved by step[j]; nil entries failed
+	step   []float64
 }
 
 func (c *condFitted) ambient() float64                 { return c.amb }
@@ -59,9 +67,15 @@ func (c *condFitted) value(t float64) float64          { return c.fit.Temperatur
 func (c *condFitted) ambientErr() float64              { return c.ambErr }
 func (c *condFitted) rmse() float64                    { return c.rmsev }
 
+// atSensor and hottest are the two curves a crossing is found on, for any fit.
+func (c *condFitted) atSensor(f conduction.Fit, t float64) float64 {
+	return f.Temperature(c.sensor, t+c.offset)
+}
+func (c *condFitted) hottest(f conduction.Fit, t float64) float64 { return f.Hottest(t + c.offset) }
+
 // crossing is the sensor curve's crossing of level.
 func (c *condFitted) crossing(level float64, within bool) (t, variance, rate float64, ok bool) {
-	return c.cross(c.value, level, within)
+	return c.cross(c.atSensor, level, within)
 }
 
 // handlingCrossing is the hottest point's crossing of level when the sensor is not
@@ -70,19 +84,19 @@ func (c *condFitted) handlingCrossing(level float64) (t, variance, rate float64,
 	if !c.coreBased {
 		return 0, 0, 0, false, false
 	}
-	t, variance, rate, ok = c.cross(func(t float64) float64 { return c.fit.Hottest(t + c.offset) }, level, false)
+	t, variance, rate, ok = c.cross(c.hottest, level, false)
 	return t, variance, rate, ok, true
 }
 
 // cross finds where curve reaches level by bisection (the curves are monotone: a
-// uniform start, one ambient) and the delta-method variance from the standard errors
-// of T0, T∞ and ln Bi taken as independent (the fits report no covariance).
-func (c *condFitted) cross(curve func(float64) float64, level float64, within bool) (t, variance, rate float64, ok bool) {
+// uniform start, one ambient), and the delta-method variance of that time from the
+// fit's parameter covariance (see variance).
+func (c *condFitted) cross(curve func(conduction.Fit, float64) float64, level float64, within bool) (t, variance, rate float64, ok bool) {
 	side := c.side()
 	if side == 0 || sign(level-c.amb) != side {
 		return 0, 0, 0, false
 	}
-	above := func(t float64) bool { return side*(curve(t)-level) > 0 }
+	above := func(t float64) bool { return side*(curve(c.fit, t)-level) > 0 }
 	if !above(0) {
 		return 0, 0, 0, true
 	}
@@ -106,36 +120,59 @@ func (c *condFitted) cross(curve func(float64) float64, level float64, within bo
 	}
 	t = (lo + hi) / 2
 	dt := max(1e-3*t, 1e-3)
-	rate = math.Abs(curve(t+dt)-curve(max(t-dt, 0))) / (t + dt - max(t-dt, 0))
-	if !(rate > 0) {
+	slope := (curve(c.fit, t+dt) - curve(c.fit, max(t-dt, 0))) / (t + dt - max(t-dt, 0))
+	if !(math.Abs(slope) > 0) {
 		return t, 0, 0, true
 	}
-	exc := c.initial - c.amb
-	theta := (level - c.amb) / exc
-	dAmb := (1 - theta) / rate
-	if within {
-		dAmb = theta / rate
-	}
-	gT0, gLn := theta/rate, c.dlnT*t*c.lnErr
-	variance = sq(gT0*c.initialErr) + sq(dAmb*c.ambErr) + sq(gLn)
-	return t, variance, rate, true
+	return t, c.variance(curve, t, slope, within), math.Abs(slope), true
 }
 
-func sq(x float64) float64 { return x * x }
+// variance is the delta-method variance gᵀΣg of the crossing time t of curve, Σ the
+// fit's covariance. By the implicit function theorem the crossing moves by
+// g_j = (∂level/∂p_j − ∂curve/∂p_j)/slope when parameter p_j moves, ∂curve/∂p_j a
+// forward difference of the fit varied in p_j at t (a Within level moves with the
+// ambient). +Inf when the covariance or a variation is missing.
+func (c *condFitted) variance(curve func(conduction.Fit, float64) float64, t, slope float64, within bool) float64 {
+	if c.cov == nil {
+		return math.Inf(1)
+	}
+	c.once.Do(c.vary)
+	p := c.cov.SymmetricDim()
+	g := make([]float64, p)
+	base := curve(c.fit, t)
+	for j := range p {
+		if c.varied[j] == nil {
+			return math.Inf(1)
+		}
+		dLevel := 0.0
+		if j == 2 && within {
+			dLevel = 1
+		}
+		g[j] = (dLevel - (curve(c.varied[j], t)-base)/c.step[j]) / slope
+	}
+	v := 0.0
+	for a := range p {
+		for b := range p {
+			v += g[a] * c.cov.At(a, b) * g[b]
+		}
+	}
+	return v
+}
 
-// dlnTime returns d ln t*/d ln Bi of the one-term form, −d ln ζ1²/d ln Bi: 1 at small
-// Bi (t ∝ 1/Bi, lumped), 0 at large Bi (the surface is held at the ambient).
-func dlnTime(shape conduction.Shape, bi float64) float64 {
-	if !(bi > 0) || math.IsInf(bi, 0) {
-		return 1
+// vary fills c.varied with the fit moved in each parameter of the covariance: ln Bi
+// or ln scale by 1e-3, the temperatures by 1e-3 of the initial excess.
+func (c *condFitted) vary() {
+	p := c.cov.SymmetricDim()
+	exc := max(math.Abs(c.initial-c.amb), 1)
+	c.step = []float64{1e-3, 1e-3 * exc, 1e-3 * exc}[:p]
+	c.varied = make([]conduction.Fit, p)
+	for j := range p {
+		dp := make([]float64, p)
+		dp[j] = c.step[j]
+		if f, err := c.fit.Varied(dp); err == nil {
+			c.varied[j] = f
+		}
 	}
-	if !shape.OneDimensional() {
-		shape = conduction.Slab
-	}
-	const d = 1e-3
-	z1 := conduction.Eigenvalues(shape, bi*math.Exp(-d), 1)[0]
-	z2 := conduction.Eigenvalues(shape, bi*math.Exp(d), 1)[0]
-	return -(2*math.Log(z2) - 2*math.Log(z1)) / (2 * d)
 }
 
 // condResult is a conduction fit ready for the forecaster, with what the notes need.
@@ -177,7 +214,7 @@ func fitConduction(p LumpedProblem, sp *Specimen) (*condResult, error) {
 	}
 	best := &condResult{model: ModelConductionSeries, free: free, n: sf.N, lumpedBi: sf.LumpedBi, bi: sf.Bi.Value,
 		h: sf.H.Value, series: sf, spec: cs, offset: off}
-	best.m = newCondFitted(sf, cs, p, off, sf.Initial, sf.Ambient, sf.Bi.StdErr/sf.Bi.Value, sf.Bi.Value)
+	best.m = newCondFitted(sf, cs, p, off, sf.Initial, sf.Ambient, sf.Cov)
 	if !cs.Shape.OneDimensional() || math.Abs(sf.Initial.Value-sf.Ambient.Value) < hotExcess {
 		return best, nil
 	}
@@ -191,7 +228,7 @@ func fitConduction(p LumpedProblem, sp *Specimen) (*condResult, error) {
 	}
 	alt := &condResult{model: ModelConductionFV, free: free, n: sf.N, bi: fv.BiStart, h: fv.HStart,
 		lumpedBi: fv.HStart * cs.LumpedLength() / cs.Conductivity, fv: fv, series: sf, spec: cs, offset: off}
-	alt.m = newCondFitted(fv, cs, p, off, fv.Initial, fv.Ambient, fv.Scale.StdErr/fv.Scale.Value, sf.Bi.Value)
+	alt.m = newCondFitted(fv, cs, p, off, fv.Initial, fv.Ambient, fv.Cov)
 	// The physics of a hot specimen in still air (h(T)) is the default on a tie, as
 	// between the lumped models: the series must beat it by more than 2 in AIC.
 	if aic(best.n, best.free, best.m.rmsev) < aic(alt.n, alt.free, alt.m.rmsev)-2 {
@@ -258,9 +295,12 @@ func thin(t, y []float64, n int) ([]float64, []float64) {
 }
 
 // newCondFitted adapts fit and computes its residual statistics on all of p.
-func newCondFitted(fit conduction.Fit, cs conduction.Specimen, p LumpedProblem, off float64, t0, amb conduction.Estimate, lnErr, bi float64) *condFitted {
+func newCondFitted(fit conduction.Fit, cs conduction.Specimen, p LumpedProblem, off float64, t0, amb conduction.Estimate, cov *mat.SymDense) *condFitted {
 	c := &condFitted{fit: fit, sensor: cs.Sensor, offset: off, amb: amb.Value, ambErr: amb.StdErr,
-		initial: t0.Value, initialErr: t0.StdErr, lnErr: lnErr, dlnT: dlnTime(cs.Shape, bi)}
+		initial: t0.Value, initialErr: t0.StdErr, cov: cov, lnErr: math.NaN()}
+	if cov != nil {
+		c.lnErr = math.Sqrt(cov.At(0, 0))
+	}
 	r := make([]float64, len(p.Times))
 	for i, t := range p.Times {
 		r[i] = p.Celsius[i] - c.value(t)

@@ -198,3 +198,44 @@ func TestBenchSpecimenFromConfig(t *testing.T) {
 			h.State, at, tCentre, tSurf)
 	}
 }
+
+// The delta-method sd of a conduction crossing, from the fit's full covariance,
+// matches the scatter of the crossing over repeated noisy curves within 25 % (the
+// slab's centre, ambient fitted, independent noise so no widening applies).
+func TestConductionCrossingVariance(t *testing.T) {
+	sp := concreteSlab("centre")
+	cs, err := sp.Conduction()
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := exactSlab(sp, 0)
+	const reps = 60
+	var ts []float64
+	var reported float64
+	for k := range reps {
+		p := slabProblem(f, 3000, uint64(k+1))
+		sf, err := conduction.FitSeries(cs, p.Times, p.Celsius, math.NaN())
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := newCondFitted(sf, cs, p, 0, sf.Initial, sf.Ambient, sf.Cov)
+		at, v, _, ok := c.crossing(50, false)
+		if !ok {
+			t.Fatalf("run %d: no crossing of 50 °C", k)
+		}
+		ts = append(ts, at)
+		reported += math.Sqrt(v) / reps
+	}
+	mean, ss := 0.0, 0.0
+	for _, v := range ts {
+		mean += v / reps
+	}
+	for _, v := range ts {
+		ss += (v - mean) * (v - mean)
+	}
+	scatter := math.Sqrt(ss / (reps - 1))
+	if r := reported / scatter; r < 0.75 || r > 1.25 {
+		t.Errorf("crossing sd: reported %.1f s, scatter over %d curves %.1f s (mean crossing %.0f s, exact %.0f s)",
+			reported, reps, scatter, mean, crossingOf(f, 50))
+	}
+}

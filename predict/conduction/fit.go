@@ -37,6 +37,9 @@ type Fit interface {
 	// centre, while heating the surface or corner), the one a handling target must
 	// be judged on.
 	Hottest(t float64) float64
+	// Varied returns the fit with its parameters moved by dp (in the order of the
+	// fit's Cov), for numerical derivatives.
+	Varied(dp []float64) (Fit, error)
 }
 
 // SeriesFit is the constant-h exact-series model fitted to a curve.
@@ -63,7 +66,13 @@ type SeriesFit struct {
 	N int
 	// Evaluations counts the model evaluations the search took.
 	Evaluations int
+	// Cov is the covariance σ²·(JᵀJ)⁻¹ at the optimum, σ² = SSR/(N − p), of the
+	// parameters in the order ln Bi, Initial, Ambient (the last only when the
+	// ambient was fitted); nil when JᵀJ is singular. It takes the residuals as
+	// independent: widen it for their autocorrelation before use.
+	Cov *mat.SymDense
 
+	minFo   float64 // the Fo the model's terms are sized for
 	model   seriesModel
 	centre  productCurve
 	surface productCurve
@@ -273,7 +282,8 @@ func (pr *projector) finish(f *SeriesFit, u float64, slope []float64) {
 		}
 		r[i] = pr.y[i] - amb - exc*th[i]
 	}
-	se := stdErrors(jac, r)
+	f.Cov = covariance(jac, r)
+	se := stdErrors(f.Cov, cols)
 	bi := math.Exp(u)
 	f.Bi = Estimate{bi, bi * se[0]}
 	f.H = Estimate{f.Specimen.H(bi), f.Specimen.H(bi * se[0])}
@@ -285,9 +295,33 @@ func (pr *projector) finish(f *SeriesFit, u float64, slope []float64) {
 	f.LumpedBi = f.H.Value * f.Specimen.LumpedLength() / f.Specimen.Conductivity
 	f.RMSE = math.Sqrt(ssr / float64(n))
 	f.Evaluations = pr.evals
+	f.minFo = pr.minFo
+	f.setModel(m)
+}
+
+// setModel sets the model and the curves Temperature and Hottest use.
+func (f *SeriesFit) setModel(m seriesModel) {
 	f.model = m
 	f.centre, f.surface, f.mean = m.curve(Centre), m.curve(Surface), m.curve(VolumeMean)
 	f.corner = m.cornerCurve()
+}
+
+// Varied returns the fit with its parameters moved by dp, in the order of Cov (ln
+// Bi, Initial, Ambient; missing entries count as 0), for numerical derivatives of
+// whatever a caller computes from a fit, such as a crossing time. Its Estimates
+// keep the moved values and the original standard errors.
+func (f *SeriesFit) Varied(dp []float64) (Fit, error) {
+	d := make([]float64, 3)
+	copy(d, dp)
+	g := *f
+	g.Initial.Value += d[1]
+	g.Ambient.Value += d[2]
+	if d[0] != 0 {
+		g.Bi.Value *= math.Exp(d[0])
+		g.H.Value = g.Specimen.H(g.Bi.Value)
+		g.setModel(newSeriesModel(g.Specimen, g.Bi.Value, g.minFo, DefaultTerms))
+	}
+	return &g, nil
 }
 
 // cornerCurve is θ/θi at the outermost point: every factor at its surface.

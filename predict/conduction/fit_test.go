@@ -169,3 +169,72 @@ func TestFitSeriesRejectsBadInput(t *testing.T) {
 		}
 	}
 }
+
+// The reported covariance of (ln Bi, T0, T∞) matches the scatter of the fitted
+// values over repeated noisy curves (independent noise, so no widening applies):
+// standard deviations within 25 % and correlations within 0.15. Varied moves the
+// parameters it is asked to.
+func TestFitSeriesCovariance(t *testing.T) {
+	sp := concrete(Slab, Centre)
+	until := sp.Size * sp.Size / sp.Diffusivity()
+	const reps = 80
+	var vals [reps][3]float64
+	var first *SeriesFit
+	for k := range reps {
+		times, y := curve(truth(sp, 2, 200, 20, Centre), 200, until, 0.5, uint64(k+100))
+		f, err := FitSeries(sp, times, y, math.NaN())
+		if err != nil {
+			t.Fatal(err)
+		}
+		if f.Cov == nil {
+			t.Fatal("no covariance")
+		}
+		if first == nil {
+			first = f
+		}
+		vals[k] = [3]float64{math.Log(f.Bi.Value), f.Initial.Value, f.Ambient.Value}
+	}
+	var mean, sd [3]float64
+	for _, v := range vals {
+		for j := range 3 {
+			mean[j] += v[j] / reps
+		}
+	}
+	cov := func(a, b int) float64 {
+		s := 0.0
+		for _, v := range vals {
+			s += (v[a] - mean[a]) * (v[b] - mean[b])
+		}
+		return s / (reps - 1)
+	}
+	for j := range 3 {
+		sd[j] = math.Sqrt(cov(j, j))
+		got := math.Sqrt(first.Cov.At(j, j))
+		if r := got / sd[j]; r < 0.75 || r > 1.25 {
+			t.Errorf("parameter %d: reported sd %.4g, scatter %.4g", j, got, sd[j])
+		}
+	}
+	for a := range 3 {
+		for b := a + 1; b < 3; b++ {
+			want := cov(a, b) / (sd[a] * sd[b])
+			got := first.Cov.At(a, b) / math.Sqrt(first.Cov.At(a, a)*first.Cov.At(b, b))
+			if math.Abs(got-want) > 0.15 {
+				t.Errorf("correlation %d–%d: reported %.3f, scatter %.3f", a, b, got, want)
+			}
+		}
+	}
+	v, err := first.Varied([]float64{0.1, 2, -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := v.(*SeriesFit)
+	if math.Abs(g.Bi.Value-first.Bi.Value*math.Exp(0.1)) > 1e-12*g.Bi.Value ||
+		g.Initial.Value != first.Initial.Value+2 || g.Ambient.Value != first.Ambient.Value-1 {
+		t.Errorf("Varied: Bi %g, T0 %g, T∞ %g from %g, %g, %g", g.Bi.Value, g.Initial.Value, g.Ambient.Value,
+			first.Bi.Value, first.Initial.Value, first.Ambient.Value)
+	}
+	want := truth(sp, g.Bi.Value, g.Initial.Value, g.Ambient.Value, Centre)(until / 2)
+	if got := g.Temperature(Centre, until/2); math.Abs(got-want) > 1e-6 {
+		t.Errorf("Varied fit at t=%g: %.6f °C, exact %.6f °C", until/2, got, want)
+	}
+}

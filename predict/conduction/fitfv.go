@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // FVFit is the finite-volume model with the nonlinear surface coefficient
@@ -31,8 +33,14 @@ type FVFit struct {
 	Iterations int
 	// Series is the constant-h series fit the search started from.
 	Series *SeriesFit
+	// Cov is the covariance σ²·(JᵀJ)⁻¹ at the optimum, σ² = SSR/(N − p), of the
+	// parameters in the order ln Scale, Initial, Ambient (the last only when the
+	// ambient was fitted); nil when JᵀJ is singular. It takes the residuals as
+	// independent: widen it for their autocorrelation before use.
+	Cov *mat.SymDense
 
-	traj *Trajectory
+	until float64 // the last reading's time, s
+	traj  *Trajectory
 }
 
 // FitFV fits the finite-volume model with h(Ts) = scale·NaturalH (natural
@@ -64,8 +72,9 @@ func FitFV(sp Specimen, times, celsius []float64, ambient float64) (*FVFit, erro
 	if err != nil && !errors.Is(err, errNoProgress) {
 		return nil, fmt.Errorf("finite-volume fit: %w", err)
 	}
-	se := stdErrors(jac, r)
-	f := &FVFit{Specimen: sp, N: len(times), Iterations: iters, Series: start, RMSE: math.Sqrt(sumSq(r) / float64(len(r)))}
+	cov := covariance(jac, r)
+	se := stdErrors(cov, len(x))
+	f := &FVFit{Cov: cov, Specimen: sp, N: len(times), Iterations: iters, Series: start, RMSE: math.Sqrt(sumSq(r) / float64(len(r)))}
 	scale, t0, amb := fp.unpack(x)
 	f.Scale = Estimate{scale, scale * se[0]}
 	f.Initial = Estimate{t0, se[1]}
@@ -75,6 +84,7 @@ func FitFV(sp Specimen, times, celsius []float64, ambient float64) (*FVFit, erro
 	}
 	h := NaturalH(sp, scale, amb)
 	last := times[len(times)-1]
+	f.until = last
 	if f.traj, err = settledRun(sp, h, amb, t0, last); err != nil {
 		return nil, fmt.Errorf("finite-volume fit: %w", err)
 	}
@@ -187,6 +197,26 @@ func (f *FVFit) Hottest(t float64) float64 {
 		return f.traj.At(Surface, t)
 	}
 	return f.traj.At(Centre, t)
+}
+
+// Varied returns the fit with its parameters moved by dp, in the order of Cov (ln
+// Scale, Initial, Ambient; missing entries count as 0), for numerical derivatives
+// of whatever a caller computes from a fit, such as a crossing time: one more FV
+// run. Its Estimates keep the moved values and the original standard errors.
+func (f *FVFit) Varied(dp []float64) (Fit, error) {
+	d := make([]float64, 3)
+	copy(d, dp)
+	g := *f
+	g.Scale.Value *= math.Exp(d[0])
+	g.Initial.Value += d[1]
+	g.Ambient.Value += d[2]
+	h := NaturalH(g.Specimen, g.Scale.Value, g.Ambient.Value)
+	tr, err := settledRun(g.Specimen, h, g.Ambient.Value, g.Initial.Value, g.until)
+	if err != nil {
+		return nil, fmt.Errorf("finite-volume fit varied by %v: %w", dp, err)
+	}
+	g.traj = tr
+	return &g, nil
 }
 
 // Trajectory returns the fitted model's full solution, from 0 until the centre has

@@ -128,29 +128,35 @@ func damped(a *mat.SymDense, g *mat.VecDense, lambda float64) ([]float64, bool) 
 	return out, true
 }
 
-// stdErrors returns the standard errors √diag(s²·(JᵀJ)⁻¹), s² = Σr²/(n − p), NaN
-// where JᵀJ is singular or n <= p.
-func stdErrors(jac *mat.Dense, r []float64) []float64 {
+// covariance returns s²·(JᵀJ)⁻¹, s² = Σr²/(n − p), the parameter covariance at a
+// least-squares optimum with independent residuals; nil where JᵀJ is singular or
+// n <= p.
+func covariance(jac *mat.Dense, r []float64) *mat.SymDense {
 	n, p := jac.Dims()
-	out := make([]float64, p)
-	for i := range out {
-		out[i] = math.NaN()
-	}
 	if n <= p {
-		return out
+		return nil
 	}
 	a, _ := normal(jac, r)
 	var ch mat.Cholesky
 	if !ch.Factorize(a) {
-		return out
+		return nil
 	}
-	var inv mat.SymDense
-	if err := ch.InverseTo(&inv); err != nil {
-		return out
+	inv := mat.NewSymDense(p, nil)
+	if err := ch.InverseTo(inv); err != nil {
+		return nil
 	}
-	s2 := sumSq(r) / float64(n-p)
+	inv.ScaleSym(sumSq(r)/float64(n-p), inv)
+	return inv
+}
+
+// stdErrors returns the square roots of cov's diagonal, p NaNs when cov is nil.
+func stdErrors(cov *mat.SymDense, p int) []float64 {
+	out := make([]float64, p)
 	for i := range out {
-		out[i] = math.Sqrt(s2 * inv.At(i, i))
+		out[i] = math.NaN()
+		if cov != nil {
+			out[i] = math.Sqrt(cov.At(i, i))
+		}
 	}
 	return out
 }
