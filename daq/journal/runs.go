@@ -126,7 +126,10 @@ func scanRun(row interface{ Scan(...any) error }) (Run, error) {
 	return r, nil
 }
 
-// StartRun starts a run. It fails with ErrRunActive when the channel has one.
+// StartRun starts a run. It fails with ErrRunActive when the channel has one. A start
+// at or before the channel's last stop (an auto-detected placement is found a little
+// after it happened) is moved just after that stop: runs on one channel never overlap, so retention of
+// the earlier run cannot take readings of this one.
 func (j *Journal) StartRun(spec RunSpec) (Run, error) {
 	if err := checkSpec(&spec); err != nil {
 		return Run{}, err
@@ -146,6 +149,9 @@ func (j *Journal) StartRun(spec RunSpec) (Run, error) {
 	case err == nil:
 		return Run{}, fmt.Errorf("start run on %s: run %s is active: %w", spec.Channel, active, ErrRunActive)
 	case !errors.Is(err, sql.ErrNoRows):
+		return Run{}, fmt.Errorf("journal %s: start run: %w", j.path, err)
+	}
+	if err := clampStart(ctx, tx, &spec); err != nil {
 		return Run{}, fmt.Errorf("journal %s: start run: %w", j.path, err)
 	}
 	id, err := freeID(ctx, tx, spec)
@@ -413,4 +419,18 @@ func (j *Journal) writeDB() (*sql.DB, error) {
 		return nil, fmt.Errorf("%w: %s", ErrUnavailable, j.path)
 	}
 	return db, nil
+}
+
+// clampStart moves spec.Start to just after the channel's latest stop when it lies at or
+// before it (a stop is inclusive, so the reading at that instant stays the earlier run's).
+func clampStart(ctx context.Context, tx *sql.Tx, spec *RunSpec) error {
+	var last sql.NullInt64
+	err := tx.QueryRowContext(ctx, "SELECT MAX(stopped) FROM runs WHERE channel = ?", spec.Channel).Scan(&last)
+	if err != nil {
+		return err
+	}
+	if last.Valid && spec.Start.UnixNano() <= last.Int64 {
+		spec.Start = time.Unix(0, last.Int64+1).UTC()
+	}
+	return nil
 }

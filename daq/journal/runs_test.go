@@ -54,9 +54,10 @@ func TestRunLifecycle(t *testing.T) {
 	if _, err := j.StopRun(run.ID, time.Time{}); !errors.Is(err, ErrStopped) {
 		t.Errorf("second stop: %v, want ErrStopped", err)
 	}
+	// A start inside the stopped run is moved just after its stop (runs never overlap).
 	again, err := j.StartRun(RunSpec{Channel: "c1", Specimen: "S-20", Start: t0.Add(2 * time.Second)})
-	if err != nil || again.ID != "20260314T090002Z-c1-2" {
-		t.Fatalf("restart on c1 with the same start second: %+v, %v (want suffix -2)", again, err)
+	if err != nil || again.ID != "20260314T090006Z-c1" || !again.Started.After(stopped.Stopped) {
+		t.Fatalf("restart on c1 inside the stopped run: %+v, %v (want it to start after %v)", again, err, stopped.Stopped)
 	}
 	all, err := j.Runs(RunFilter{})
 	if err != nil || len(all) != 3 {
@@ -214,5 +215,38 @@ func TestRetention(t *testing.T) {
 				t.Errorf("second prune touched %d runs, want 0", st.Runs)
 			}
 		})
+	}
+}
+
+// TestRunsNeverOverlap: a run started before the channel's last stop (an auto-detected
+// placement reports a start a little in the past) begins at that stop, so pruning the
+// earlier run cannot delete the new run's readings.
+func TestRunsNeverOverlap(t *testing.T) {
+	j, _ := open(t, Options{CommitInterval: time.Hour})
+	for i := range 700 {
+		j.Append(reading("c1", i))
+	}
+	mustFlush(t, j)
+	a, err := j.StartRun(RunSpec{Channel: "c1", Specimen: "A", Start: t0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := j.StopRun(a.ID, t0.Add(400*time.Second)); err != nil {
+		t.Fatal(err)
+	}
+	b, err := j.StartRun(RunSpec{Channel: "c1", Specimen: "B", Start: t0.Add(100 * time.Second)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := t0.Add(400*time.Second + 1); !b.Started.Equal(want) {
+		t.Errorf("run B starts at %v, want just after the previous stop, %v", b.Started, want)
+	}
+	if _, err := j.Prune(t0.Add(3*time.Hour), Retention{Age: time.Hour}); err != nil {
+		t.Fatal(err)
+	}
+	// Run A held readings 0..400 s (its stop is inclusive); 401..699 s are B's and stay.
+	got := collect(t, j, "c1", t0.Add(400*time.Second+1), t0.Add(700*time.Second))
+	if len(got) != 299 {
+		t.Errorf("readings of the active run after pruning the earlier one: %d, want 299", len(got))
 	}
 }
