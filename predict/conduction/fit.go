@@ -145,6 +145,7 @@ type projector struct {
 	theta   []float64 // scratch
 	slope   []float64 // dθ/d(ln Bi) from the parabolic step, nil if none
 	evals   int
+	last    seriesModel // the model last evaluated, whose roots start the next
 }
 
 // linear returns, for θ/θi values th, the least-squares ambient and initial excess
@@ -191,7 +192,8 @@ func (pr *projector) thetaAt(u float64, stride int) seriesModel {
 	if stride > 1 {
 		minFo = math.Max(minFo, pr.fo[stride-1])
 	}
-	m := newSeriesModel(pr.sp, math.Exp(u), minFo, DefaultTerms)
+	m := newSeriesModel(pr.sp, math.Exp(u), minFo, DefaultTerms, pr.last)
+	pr.last = m
 	c := m.curve(pr.sp.Sensor)
 	if pr.theta == nil {
 		pr.theta = make([]float64, len(pr.fo))
@@ -319,7 +321,7 @@ func (f *SeriesFit) Varied(dp []float64) (Fit, error) {
 	if d[0] != 0 {
 		g.Bi.Value *= math.Exp(d[0])
 		g.H.Value = g.Specimen.H(g.Bi.Value)
-		g.setModel(newSeriesModel(g.Specimen, g.Bi.Value, g.minFo, DefaultTerms))
+		g.setModel(newSeriesModel(g.Specimen, g.Bi.Value, g.minFo, DefaultTerms, f.model))
 	}
 	return &g, nil
 }

@@ -17,22 +17,28 @@ type modelPart struct {
 }
 
 // newSeriesModel builds the model of sp at bi, each factor holding enough terms to
-// be accurate down to the specimen Fourier number minFo (at most maxTerms).
-func newSeriesModel(sp Specimen, bi, minFo float64, maxTerms int) seriesModel {
-	part := func(s Shape, ratio float64) modelPart {
+// be accurate down to the specimen Fourier number minFo (at most maxTerms). near is
+// the model of the same specimen at a nearby Bi, whose roots start the root search
+// (its zero value: none).
+func newSeriesModel(sp Specimen, bi, minFo float64, maxTerms int, near seriesModel) seriesModel {
+	part := func(i int, s Shape, ratio float64) modelPart {
 		scale := 1 / (ratio * ratio)
 		n := min(TermsFor(minFo*scale), maxTerms)
-		return modelPart{series: NewSeries(s, bi*ratio, n), foScale: scale}
+		var prev *Series
+		if i < len(near.parts) {
+			prev = near.parts[i].series
+		}
+		return modelPart{series: newSeriesFrom(s, bi*ratio, n, prev), foScale: scale}
 	}
 	switch sp.Shape {
 	case ShortCylinder:
-		return seriesModel{parts: []modelPart{part(Cylinder, 1), part(Slab, sp.Length/sp.Size)}}
+		return seriesModel{parts: []modelPart{part(0, Cylinder, 1), part(1, Slab, sp.Length/sp.Size)}}
 	case Cuboid:
 		return seriesModel{parts: []modelPart{
-			part(Slab, 1), part(Slab, sp.Length/sp.Size), part(Slab, sp.Width/sp.Size),
+			part(0, Slab, 1), part(1, Slab, sp.Length/sp.Size), part(2, Slab, sp.Width/sp.Size),
 		}}
 	}
-	return seriesModel{parts: []modelPart{part(sp.Shape, 1)}}
+	return seriesModel{parts: []modelPart{part(0, sp.Shape, 1)}}
 }
 
 // productCurve is θ/θi against the specimen's Fo at one position: the product of

@@ -27,10 +27,20 @@ type Series struct {
 // most terms terms (0 or less: DefaultTerms). Use TermsFor to size it for the
 // smallest Fo you will evaluate. It panics if bi is not > 0.
 func NewSeries(s Shape, bi float64, terms int) *Series {
+	return newSeriesFrom(s, bi, terms, nil)
+}
+
+// newSeriesFrom is NewSeries with the series of a nearby Biot number (nil: none)
+// to start the root search from (eigenvaluesFrom).
+func newSeriesFrom(s Shape, bi float64, terms int, near *Series) *Series {
 	if terms <= 0 {
 		terms = DefaultTerms
 	}
-	zeta := Eigenvalues(s, bi, terms)
+	var guess []float64
+	if near != nil && near.shape == s {
+		guess = near.zeta
+	}
+	zeta := eigenvaluesFrom(s, bi, terms, guess)
 	se := &Series{
 		shape: s,
 		bi:    bi,
