@@ -69,6 +69,26 @@ func TestReloadOnSignal(t *testing.T) {
 	if m[warm] != 1 {
 		t.Error("a refused reload dropped the running configuration's target")
 	}
+	// A valid file whose listen address is taken cannot start: the daemon goes back to
+	// the configuration it ran and keeps serving.
+	taken, err := net.Listen("tcp", "127.0.0.1:0")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer taken.Close()
+	good := fmt.Sprintf(reloadConfig, taken.Addr().String(), filepath.Join(dir, "data"), p.Path(), "")
+	if err := os.WriteFile(path, []byte(good), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	reload <- syscall.SIGHUP
+	time.Sleep(500 * time.Millisecond)
+	waitScrape(t, base, func(m map[string]float64) bool { return m[warm] == 1 })
+	select {
+	case err := <-done:
+		t.Fatalf("the daemon exited after a reload it could not start: %v", err)
+	default:
+	}
+
 	cancel()
 	if err := <-done; err != nil {
 		t.Errorf("runDaemon: %v", err)

@@ -133,8 +133,15 @@ func (f *runFlags) demoDataDir(cfg *config.Config, log *slog.Logger) error {
 // is logged and the running daemon goes on untouched. load is nil when there is nothing
 // to reload.
 func serveReloading(ctx context.Context, cfg *config.Config, log *slog.Logger, reload <-chan os.Signal, load func() (*config.Config, error)) error {
+	var prev *config.Config // the configuration that last ran, to fall back on
 	for {
 		d, err := newDaemon(cfg, log)
+		if err != nil && prev != nil {
+			// A valid file that cannot start (its port is taken, say): keep serving.
+			log.Error("reloaded configuration cannot start: going back to the previous one", "err", err)
+			cfg, prev = prev, nil
+			continue
+		}
 		if err != nil {
 			return err
 		}
@@ -148,7 +155,7 @@ func serveReloading(ctx context.Context, cfg *config.Config, log *slog.Logger, r
 			return err
 		}
 		log.Info("configuration reloaded: restarting loggers and trackers")
-		cfg = newCfg
+		cfg, prev = newCfg, cfg
 	}
 }
 
