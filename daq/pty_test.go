@@ -82,13 +82,16 @@ func TestLineSourcePTY(t *testing.T) {
 	link.Unplug()
 	waitFor(t, "the source sees the unplug and retries", func() bool {
 		st := src.Stats()
-		return !st.Up && st.Reconnects >= 1 && st.ReadErrors >= 1
+		return !st.Up && st.Failed && st.Reconnects >= 1 && st.ReadErrors >= 1
 	})
 
 	time.Sleep(2500 * time.Millisecond) // long enough for the reopen backoff to reach its cap
 	p := link.Replug()
 	replugged := time.Now()
 	waitFor(t, "the port is up again", func() bool { return src.Stats().Up })
+	if src.Stats().Failed {
+		t.Error("port still marked failed after it reopened")
+	}
 	p.WriteLine(t, "106.0,833.0,198.1,22.0")
 	third := nextLine(t, out)
 	// Measured, not asserted (speed claims live in benchmarks and the backoff test).

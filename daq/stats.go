@@ -13,6 +13,9 @@ type PortStats struct {
 	Port string
 	// Up is true while the port is open.
 	Up bool
+	// Failed is true from a failed open or read until the port is open again. A port
+	// that is merely not open yet (start-up, a reload) is not Up but not Failed either.
+	Failed bool
 	// Reconnects counts attempts to reopen the port after it was lost or failed to open
 	// (every open after the first), so it grows while a cable is out.
 	Reconnects uint64
@@ -50,8 +53,22 @@ func (p *portStatus) update(f func(*PortStats)) {
 	p.mu.Unlock()
 }
 
-func (p *portStatus) setUp(up bool)           { p.update(func(s *PortStats) { s.Up = up }) }
-func (p *portStatus) reconnect()              { p.update(func(s *PortStats) { s.Reconnects++ }) }
-func (p *portStatus) readError()              { p.update(func(s *PortStats) { s.ReadErrors++ }) }
+func (p *portStatus) reconnect() { p.update(func(s *PortStats) { s.Reconnects++ }) }
+
+func (p *portStatus) setUp(up bool) {
+	p.update(func(s *PortStats) {
+		s.Up = up
+		if up {
+			s.Failed = false
+		}
+	})
+}
+
+func (p *portStatus) readError() {
+	p.update(func(s *PortStats) {
+		s.ReadErrors++
+		s.Failed = true
+	})
+}
 func (p *portStatus) parseErrors(n uint64)    { p.update(func(s *PortStats) { s.ParseErrors += n }) }
 func (p *portStatus) lastReading(t time.Time) { p.update(func(s *PortStats) { s.LastReading = t }) }

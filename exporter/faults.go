@@ -71,14 +71,15 @@ func staleLimit(min, meanGap time.Duration) time.Duration {
 	return max(min, 5*meanGap)
 }
 
-// portDown reports whether logger's port is known and down.
+// portDown reports whether logger's port is known and has failed (not merely not open
+// yet, as at start-up or during a reload).
 func portDown(s State, logger string) (daq.PortStats, bool) {
 	if s.Ports == nil || logger == "" {
 		return daq.PortStats{}, false
 	}
 	for _, p := range s.Ports() {
 		if p.Logger == logger {
-			return p, !p.Up
+			return p, p.Failed && !p.Up
 		}
 	}
 	return daq.PortStats{}, false

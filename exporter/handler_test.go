@@ -200,9 +200,9 @@ func TestChannelFaults(t *testing.T) {
 	l := NewLatest()
 	l.now = func() time.Time { return arrived }
 	l.Record(daq.Reading{Logger: "rack2", Channel: "a", Time: t0, Celsius: 80})
-	up := true
+	up, failed := true, false
 	s := State{Latest: l, Ports: func() []daq.PortStats {
-		return []daq.PortStats{{Logger: "rack2", Port: "/dev/ttyUSB0", Up: up}}
+		return []daq.PortStats{{Logger: "rack2", Port: "/dev/ttyUSB0", Up: up, Failed: failed}}
 	}}
 	kind := func(now time.Time) string {
 		if f := channelFault(s, "a", now); f != nil {
@@ -216,11 +216,15 @@ func TestChannelFaults(t *testing.T) {
 	if k := kind(t0.Add(31 * time.Second)); k != FaultStale {
 		t.Errorf("31 s after: fault %q, want stale (DefaultStaleAfter 30 s)", k)
 	}
-	up = false
-	if k := kind(t0.Add(time.Second)); k != FaultPortDown {
-		t.Errorf("port down: fault %q, want port_down", k)
+	up = false // not open yet (start-up, reload): not a fault
+	if k := kind(t0.Add(time.Second)); k != "" {
+		t.Errorf("port not yet open: fault %q, want none", k)
 	}
-	up = true
+	failed = true
+	if k := kind(t0.Add(time.Second)); k != FaultPortDown {
+		t.Errorf("port failed: fault %q, want port_down", k)
+	}
+	up, failed = true, false
 	arrived = t0.Add(2 * time.Second)
 	l.Record(daq.Reading{Logger: "rack2", Channel: "a", Time: t0.Add(2 * time.Second), Status: daq.StatusOpen})
 	f := channelFault(s, "a", arrived)
