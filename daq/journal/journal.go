@@ -24,6 +24,9 @@ const FileName = "settle.db"
 // cannot be opened (for example a read-only data directory at start-up).
 var ErrUnavailable = errors.New("journal: file not available")
 
+// ErrClosed is returned by Flush after Close.
+var ErrClosed = errors.New("journal: closed")
+
 // ErrReadOnly is returned by writing operations on a journal opened read-only.
 var ErrReadOnly = errors.New("journal: opened read-only")
 
@@ -133,6 +136,7 @@ type Journal struct {
 	done    chan struct{}
 	closeMu sync.Once
 	closeE  error
+	closed  bool // under mu: set by Close; later appends are dropped and counted
 }
 
 type chanKey struct{ logger, name string }
@@ -255,7 +259,7 @@ func (j *Journal) reader() (*sql.DB, error) {
 // holds Options.QueueCap readings, r is dropped and counted in Health.Dropped.
 func (j *Journal) Append(r daq.Reading) {
 	j.mu.Lock()
-	if j.opt.ReadOnly || len(j.queue)+j.inflight >= j.opt.QueueCap {
+	if j.opt.ReadOnly || j.closed || len(j.queue)+j.inflight >= j.opt.QueueCap {
 		j.health.Dropped++
 		j.mu.Unlock()
 		return
@@ -285,6 +289,12 @@ func (j *Journal) Flush() error {
 	if j.opt.ReadOnly {
 		return ErrReadOnly
 	}
+	j.mu.Lock()
+	closed := j.closed
+	j.mu.Unlock()
+	if closed {
+		return ErrClosed
+	}
 	return j.flush()
 }
 
@@ -292,6 +302,9 @@ func (j *Journal) Flush() error {
 // last commit's error: readings still pending then are lost.
 func (j *Journal) Close() error {
 	j.closeMu.Do(func() {
+		j.mu.Lock()
+		j.closed = true // from here Append drops and counts; the writer's last flush runs
+		j.mu.Unlock()
 		if !j.opt.ReadOnly {
 			close(j.stop)
 			<-j.done

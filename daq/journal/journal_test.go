@@ -199,3 +199,22 @@ func BenchmarkReplay(b *testing.B) {
 	}
 	b.ReportMetric(float64(n*b.N)/b.Elapsed().Seconds(), "readings/s")
 }
+
+// TestAppendAfterClose: a reading appended after Close is counted as dropped (nothing
+// would ever write it), and Flush does not reopen the file.
+func TestAppendAfterClose(t *testing.T) {
+	j, _ := open(t, Options{})
+	j.Append(reading("c1", 0))
+	if err := j.Close(); err != nil {
+		t.Fatal(err)
+	}
+	for i := range 10 {
+		j.Append(reading("c1", i+1))
+	}
+	if h := j.Health(); h.Dropped != 10 || h.Pending != 0 || h.Committed != 1 {
+		t.Errorf("after Close: %+v, want 10 dropped, 0 pending, 1 committed", h)
+	}
+	if err := j.Flush(); !errors.Is(err, ErrClosed) {
+		t.Errorf("Flush after Close = %v, want ErrClosed", err)
+	}
+}
