@@ -146,6 +146,7 @@ type projector struct {
 	slope   []float64 // dθ/d(ln Bi) from the parabolic step, nil if none
 	evals   int
 	last    seriesModel // the model last evaluated, whose roots start the next
+	scratch []float64   // 4·len(fo) values for thetaAt
 }
 
 // linear returns, for θ/θi values th, the least-squares ambient and initial excess
@@ -197,9 +198,16 @@ func (pr *projector) thetaAt(u float64, stride int) seriesModel {
 	c := m.curve(pr.sp.Sensor)
 	if pr.theta == nil {
 		pr.theta = make([]float64, len(pr.fo))
+		pr.scratch = make([]float64, 4*len(pr.fo))
 	}
-	for i := stride - 1; i < len(pr.fo); i += stride {
-		pr.theta[i] = c.theta(pr.fo[i])
+	k := len(pr.fo) / stride // readings stride−1, 2·stride−1, …
+	sub, out := pr.scratch[:k], pr.scratch[k:2*k]
+	for j := range k {
+		sub[j] = pr.fo[stride-1+j*stride]
+	}
+	c.fill(out, sub, pr.scratch[2*k:4*k])
+	for j, v := range out {
+		pr.theta[stride-1+j*stride] = v
 	}
 	return m
 }

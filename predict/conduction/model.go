@@ -78,14 +78,25 @@ func (pc productCurve) theta(fo float64) float64 {
 	return v
 }
 
-// fill sets dst[i] = θ/θi at fo[i].
-func (pc productCurve) fill(dst, fo []float64) {
+// fill sets dst[i] = θ/θi at fo[i] through Curve.Fill (fast over evenly spaced
+// fo); scratch holds at least 2·len(fo) values for a product of factors.
+func (pc productCurve) fill(dst, fo, scratch []float64) {
 	if len(pc) == 1 && pc[0].foScale == 1 {
 		pc[0].c.Fill(dst, fo)
 		return
 	}
-	for i, f := range fo {
-		dst[i] = pc.theta(f)
+	scaled, part := scratch[:len(fo)], scratch[len(fo):2*len(fo)]
+	for i := range fo {
+		dst[i] = 1
+	}
+	for _, f := range pc {
+		for i, v := range fo {
+			scaled[i] = v * f.foScale
+		}
+		f.c.Fill(part, scaled)
+		for i, v := range part {
+			dst[i] *= v
+		}
 	}
 }
 
