@@ -104,3 +104,45 @@ func TestFitFVRejectsProductShapes(t *testing.T) {
 		t.Errorf("slab without face height: error %v, want ErrSpecimen", err)
 	}
 }
+
+// FVFit reports a covariance whose diagonal gives the standard errors, and Varied
+// reruns the model: no change reproduces the fit, a larger h scale cools faster
+// and an offset initial temperature shows at the start.
+func TestFitFVVaried(t *testing.T) {
+	sp := hotCylinder(Surface)
+	until := 4 * 3600.0
+	tr := fvTruth(t, sp, 1.3, 600, 20, 2*until)
+	times, y := curve(func(t float64) float64 { return tr.At(Surface, t) }, 200, until, 0.3, 5)
+	f, err := FitFV(sp, times, y, math.NaN())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f.Cov == nil || f.Cov.SymmetricDim() != 3 {
+		t.Fatalf("covariance %v, want 3×3", f.Cov)
+	}
+	if got, want := math.Sqrt(f.Cov.At(1, 1)), f.Initial.StdErr; math.Abs(got-want) > 1e-12*want {
+		t.Errorf("covariance gives T0 standard error %g, Initial.StdErr %g", got, want)
+	}
+	mid := until / 2
+	same, err := f.Varied(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := same.Temperature(Centre, mid), f.Temperature(Centre, mid); math.Abs(got-want) > 1e-9 {
+		t.Errorf("unvaried: centre %.9f °C, fit %.9f °C", got, want)
+	}
+	faster, err := f.Varied([]float64{0.1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, base := faster.Temperature(Centre, mid), f.Temperature(Centre, mid); !(got < base-1) {
+		t.Errorf("scale ×e^0.1: centre %.2f °C at %.0f s, want well below %.2f °C", got, mid, base)
+	}
+	hotter, err := f.Varied([]float64{0, 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, base := hotter.Temperature(Centre, 0), f.Temperature(Centre, 0); math.Abs(got-base-5) > 1e-9 {
+		t.Errorf("T0 + 5: centre at 0 s %.3f °C, fit %.3f °C", got, base)
+	}
+}
