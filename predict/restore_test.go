@@ -7,8 +7,10 @@ import (
 )
 
 // TestTrackerMinFitGap: with a wall-clock gap far longer than the test, only the first
-// scheduled fit runs, FitPending refuses inside the gap, and with no gap FitPending
-// fits the readings that arrived after the last scheduled fit.
+// scheduled fit runs and FitPending refuses; with a short gap, FitPending catches up the
+// fit the schedule called for once the gap has passed, and does nothing when the
+// schedule did not call for one (so a daemon's periodic call never fits more often
+// than FitEvery and MinNewPoints allow).
 func TestTrackerMinFitGap(t *testing.T) {
 	gated := NewTracker(nil, TrackerOptions{MinFitGap: time.Hour})
 	for s := 0.0; s <= 60; s++ {
@@ -21,21 +23,24 @@ func TestTrackerMinFitGap(t *testing.T) {
 		t.Error("FitPending fitted inside the wall-clock gap")
 	}
 
-	free := NewTracker(nil, TrackerOptions{})
-	for s := 0.0; s <= 23; s++ {
-		free.Add(secs(s), curve(s))
+	short := NewTracker(nil, TrackerOptions{MinFitGap: 50 * time.Millisecond})
+	for s := 0.0; s <= 35; s++ {
+		short.Add(secs(s), curve(s))
 	}
-	if f := free.Forecast(); !f.FittedAt.Equal(secs(20)) {
-		t.Fatalf("fitted at %v, want 20 s", fittedAt(f))
+	if f := short.Forecast(); !f.FittedAt.Equal(secs(10)) {
+		t.Fatalf("fitted at %v, want 10 s (later fits held back by the gap)", fittedAt(short.Forecast()))
 	}
-	if !free.FitPending() {
-		t.Fatal("FitPending did not fit the readings after 20 s")
+	time.Sleep(60 * time.Millisecond)
+	if !short.FitPending() {
+		t.Fatal("FitPending did not catch up the scheduled fit after the gap")
 	}
-	if f := free.Forecast(); !f.FittedAt.Equal(secs(23)) {
-		t.Errorf("after FitPending fitted at %v, want 23 s", fittedAt(f))
+	if f := short.Forecast(); !f.FittedAt.Equal(secs(35)) {
+		t.Errorf("after FitPending fitted at %v, want 35 s", fittedAt(f))
 	}
-	if free.FitPending() {
-		t.Error("FitPending fitted again with no new readings")
+	short.Add(secs(36), curve(36))
+	time.Sleep(60 * time.Millisecond)
+	if short.FitPending() {
+		t.Error("FitPending fitted one new reading: the schedule wants 10 s and 5 readings")
 	}
 }
 

@@ -150,14 +150,14 @@ func (tr *Tracker) due() bool {
 		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
 }
 
-// FitPending fits when readings have arrived since the last fit and the wall-clock gap
-// has passed, whatever the reading-time schedule; it reports whether it fitted. A
-// daemon calls it now and then so that the last readings before a pause are fitted.
+// FitPending fits when the schedule called for a fit (FitEvery and MinNewPoints met)
+// that the wall-clock gap held back, once the gap has passed; it reports whether it
+// fitted. A daemon calls it now and then so that readings that arrived inside the gap
+// are not left unfitted until the next reading.
 func (tr *Tracker) FitPending() bool {
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
-	if tr.hold || tr.newPts == 0 || len(tr.pts) == 0 ||
-		(tr.opt.MinFitGap > 0 && time.Since(tr.fitWall) < tr.opt.MinFitGap) {
+	if len(tr.pts) == 0 || !tr.due() {
 		return false
 	}
 	tr.fit()
