@@ -123,7 +123,7 @@ func (d *daemon) Run(ctx context.Context) error {
 	if serr := d.srv.Shutdown(shutCtx); serr != nil && err == nil {
 		err = fmt.Errorf("http shutdown: %w", serr)
 	}
-	d.ln.Close() // Serve may not have taken the listener yet; a reload rebinds the address
+	d.ln.Close()  // Serve may not have taken the listener yet; a reload rebinds the address
 	d.rec.close() // last: everything received so far is committed
 	d.log.Info("stopped")
 	return err

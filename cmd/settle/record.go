@@ -30,6 +30,10 @@ type recorder struct {
 	watch   *journal.PlacementWatcher
 	targets map[string][]predict.Target // channel → its configured targets
 	log     *slog.Logger
+	// pendingConfigured are configured runs not started yet (journal unwritable);
+	// only the maintain goroutine touches it after start-up.
+	pendingConfigured []config.Channel
+	warnedConfigured  bool
 }
 
 // openRecorder opens (or creates) the journal in cfg.DataDir.
@@ -54,7 +58,11 @@ func openRecorder(cfg *config.Config, specs []predict.ChannelSpec, log *slog.Log
 
 // startConfigured starts the runs the configuration names (channels[].run) on channels
 // that have no active run, so a restart continues the run it was in.
+//
+// A run that cannot be started (the journal is not writable yet, say a late mount) is
+// kept in pendingConfigured and retried every second by maintain.
 func (r *recorder) startConfigured(channels []config.Channel) {
+	r.pendingConfigured = nil
 	for _, ch := range channels {
 		if ch.Run == nil {
 			continue
@@ -66,7 +74,11 @@ func (r *recorder) startConfigured(channels []config.Channel) {
 		run, err := r.j.StartRun(journal.RunSpec{Channel: ch.Name, Specimen: ch.Run.Specimen,
 			Description: ch.Run.Description, Origin: "config", Targets: targetsJSON(r.targets[ch.Name])})
 		if err != nil {
-			r.log.Warn("configured run not started", "channel", ch.Name, "err", err)
+			if !r.warnedConfigured { // once, not on every retry
+				r.log.Warn("configured run not started yet; retrying every second", "channel", ch.Name, "err", err)
+				r.warnedConfigured = true
+			}
+			r.pendingConfigured = append(r.pendingConfigured, ch)
 			continue
 		}
 		r.log.Info("run started", "run", run.ID, "channel", ch.Name, "specimen", ch.Run.Specimen)
@@ -139,9 +151,13 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench) {
 	for {
 		select {
 		case <-ctx.Done():
+			report.RecordBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
 			return
 		case now := <-t.C:
 			bench.FitPending()
+			if r.pendingConfigured != nil {
+				r.startConfigured(r.pendingConfigured)
+			}
 			if now.Sub(last) >= historyEvery {
 				report.RecordBench(r.j, bench.Snapshot())
 				last = now

@@ -278,7 +278,7 @@ func targetEvent(key string, kind Kind, ch Channel, tg Target, cautions []string
 	if kind == KindReached {
 		ev.Message = fmt.Sprintf("%s reached %s (%s).", ch.Name, tg.Name, temp)
 	} else {
-		ev.Message = fmt.Sprintf("%s is expected to reach %s (%s) in about %s (between %s and %s).",
+		ev.Message = fmt.Sprintf("%s is expected to reach %s (%s) in about %s (between %s and %s UTC).",
 			ch.Name, tg.Name, temp, tg.At.Sub(ch.Now).Round(time.Minute),
 			tg.Earliest.UTC().Format(time.TimeOnly), tg.Latest.UTC().Format(time.TimeOnly))
 	}

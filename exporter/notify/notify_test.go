@@ -140,7 +140,7 @@ func TestDeliveryRetriesAndNoDuplicates(t *testing.T) {
 		soon.TargetCelsius == nil || *soon.TargetCelsius != 50 || len(soon.Cautions) != 1 {
 		t.Errorf("soon event = %+v", soon)
 	}
-	if want := "plate is expected to reach handling (50.0 °C) in about 5m0s (between 10:37:00 and 10:44:00). This is an estimate: verify before handling."; soon.Message != want {
+	if want := "plate is expected to reach handling (50.0 °C) in about 5m0s (between 10:37:00 and 10:44:00 UTC). This is an estimate: verify before handling."; soon.Message != want {
 		t.Errorf("message = %q, want %q", soon.Message, want)
 	}
 	if got.At == nil || !got.At.Equal(seg.Add(41*time.Minute)) {
