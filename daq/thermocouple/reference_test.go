@@ -17,20 +17,6 @@ const (
 	testdataDir = "../../testdata/thermocouple"
 )
 
-// copies maps each testdata file to its section and position in the reference file;
-// it mirrors the generator's list.
-var copies = []struct {
-	section string
-	index   int
-	file    string
-}{
-	{"1.2", 0, "forward-coefficients.csv"},
-	{"1.3", 0, "inverse-coefficients.csv"},
-	{"1.4", 0, "inverse-error-bands.csv"},
-	{"1.5", 0, "table-check-values.csv"},
-	{"1.5", 1, "inverse-check-values.csv"},
-}
-
 // row is one CSV row keyed by header.
 type row map[string]string
 
@@ -57,15 +43,15 @@ func (r row) typ(t testing.TB) Type {
 // loadBlock reads one testdata copy as a refmd.Block.
 func loadBlock(t testing.TB, file string) refmd.Block {
 	t.Helper()
-	for _, c := range copies {
-		if c.file != file {
+	for _, c := range refmd.Copies {
+		if c.File != file {
 			continue
 		}
 		text, err := os.ReadFile(filepath.Join(testdataDir, file))
 		if err != nil {
 			t.Fatal(err)
 		}
-		b, err := refmd.FromCSV(c.section, string(text))
+		b, err := refmd.FromCSV(c.Section, string(text))
 		if err != nil {
 			t.Fatalf("%s: %v", file, err)
 		}
@@ -107,17 +93,17 @@ func sharedBlocks(t *testing.T) []refmd.Block {
 // byte for byte (rerun `go generate ./daq/thermocouple` if this fails).
 func TestTestdataMatchesShared(t *testing.T) {
 	blocks := sharedBlocks(t)
-	for _, c := range copies {
-		b := refmd.Find(blocks, c.section)
-		if len(b) <= c.index {
-			t.Fatalf("%s: section %s has no table %d", sharedRef, c.section, c.index+1)
+	for _, c := range refmd.Copies {
+		b := refmd.Find(blocks, c.Section)
+		if len(b) <= c.Index {
+			t.Fatalf("%s: section %s has no table %d", sharedRef, c.Section, c.Index+1)
 		}
-		got, err := os.ReadFile(filepath.Join(testdataDir, c.file))
+		got, err := os.ReadFile(filepath.Join(testdataDir, c.File))
 		if err != nil {
 			t.Fatal(err)
 		}
-		if string(got) != b[c.index].Text {
-			t.Errorf("%s differs from %s section %s table %d", c.file, sharedRef, c.section, c.index+1)
+		if string(got) != b[c.Index].Text {
+			t.Errorf("%s differs from %s section %s table %d", c.File, sharedRef, c.Section, c.Index+1)
 		}
 	}
 }

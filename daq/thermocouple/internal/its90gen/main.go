@@ -32,20 +32,6 @@ func main() {
 	}
 }
 
-// csvCopies names the testdata file of each CSV table of section 1, by section and
-// position within the section.
-var csvCopies = []struct {
-	section string
-	index   int
-	file    string
-}{
-	{"1.2", 0, "forward-coefficients.csv"},
-	{"1.3", 0, "inverse-coefficients.csv"},
-	{"1.4", 0, "inverse-error-bands.csv"},
-	{"1.5", 0, "table-check-values.csv"},
-	{"1.5", 1, "inverse-check-values.csv"},
-}
-
 func run(ref, out, testdata string) error {
 	blocks, err := refmd.ReadFile(ref)
 	if err != nil {
@@ -58,12 +44,12 @@ func run(ref, out, testdata string) error {
 	if err := os.WriteFile(out, src, 0o644); err != nil {
 		return err
 	}
-	for _, c := range csvCopies {
-		b := refmd.Find(blocks, c.section)
-		if len(b) <= c.index {
-			return fmt.Errorf("%s: section %s has no table %d", ref, c.section, c.index+1)
+	for _, c := range refmd.Copies {
+		b := refmd.Find(blocks, c.Section)
+		if len(b) <= c.Index {
+			return fmt.Errorf("%s: section %s has no table %d", ref, c.Section, c.Index+1)
 		}
-		if err := os.WriteFile(filepath.Join(testdata, c.file), []byte(b[c.index].Text), 0o644); err != nil {
+		if err := os.WriteFile(filepath.Join(testdata, c.File), []byte(b[c.Index].Text), 0o644); err != nil {
 			return err
 		}
 	}

@@ -4,6 +4,8 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+
+	"github.com/settle-lab/settle/daq/thermocouple/internal/refmd"
 )
 
 // sharedRef is the reference file relative to this folder (module root is ../../../..).
@@ -21,8 +23,8 @@ func TestGeneratedUpToDate(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := map[string]string{out: "../../coeffs_gen.go"}
-	for _, c := range csvCopies {
-		want[filepath.Join(dir, c.file)] = filepath.Join("../../../../testdata/thermocouple", c.file)
+	for _, c := range refmd.Copies {
+		want[filepath.Join(dir, c.File)] = filepath.Join("../../../../testdata/thermocouple", c.File)
 	}
 	for gen, committed := range want {
 		a, err := os.ReadFile(gen)

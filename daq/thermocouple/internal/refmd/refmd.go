@@ -125,3 +125,21 @@ func FromCSV(section, text string) (Block, error) {
 	}
 	return b, nil
 }
+
+// Copy names the testdata file that holds one CSV table of the reference file: the
+// Index-th table of Section.
+type Copy struct {
+	Section string
+	Index   int
+	File    string
+}
+
+// Copies lists the tables of section 1 that the generator copies into testdata and the
+// tests compare with the shared file.
+var Copies = []Copy{
+	{"1.2", 0, "forward-coefficients.csv"},
+	{"1.3", 0, "inverse-coefficients.csv"},
+	{"1.4", 0, "inverse-error-bands.csv"},
+	{"1.5", 0, "table-check-values.csv"},
+	{"1.5", 1, "inverse-check-values.csv"},
+}
