@@ -4,8 +4,6 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
-	"io"
-	"log/slog"
 	"math"
 	"net/http"
 	"os"
@@ -50,23 +48,6 @@ func browser(t *testing.T, width, height int) context.Context {
 	ctx, cancel := chromedp.NewContext(actx)
 	t.Cleanup(func() { cancel(); cancelAlloc() })
 	return ctx
-}
-
-// runDemoDaemon starts the demo rack and a daemon reading it, with cfg adjusted by
-// edit, and returns the daemon's URL and the configuration.
-func runDemoDaemon(t *testing.T, edit func(*config.Config)) (string, *config.Config) {
-	t.Helper()
-	ctx, cancel := context.WithCancel(context.Background())
-	cfg, stop, err := startDemo(ctx, slog.New(slog.NewTextHandler(io.Discard, nil)))
-	if err != nil {
-		cancel()
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { stop(); cancel() }) // runs after the daemon's own cleanup
-	if edit != nil {
-		edit(cfg)
-	}
-	return startDaemon(t, cfg), cfg
 }
 
 // cardView is what the page shows on one card, read from the DOM.
