@@ -13,6 +13,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/predict"
 )
@@ -217,15 +218,23 @@ func (a *api) forecast(run journal.Run) *predict.Forecast {
 	return fc
 }
 
-func (a *api) csv(w http.ResponseWriter, r *http.Request) {
+// runReadings looks up the request's run and its readings; on failure it has already
+// answered with the error.
+func (a *api) runReadings(w http.ResponseWriter, r *http.Request) (journal.Run, []daq.Reading, bool) {
 	run, err := a.j.Run(r.PathValue("id"))
-	if err != nil {
-		a.fail(w, err)
-		return
+	if err == nil {
+		var rs []daq.Reading
+		if rs, err = RunReadings(a.j, run); err == nil {
+			return run, rs, true
+		}
 	}
-	rs, err := RunReadings(a.j, run)
-	if err != nil {
-		a.fail(w, err)
+	a.fail(w, err)
+	return journal.Run{}, nil, false
+}
+
+func (a *api) csv(w http.ResponseWriter, r *http.Request) {
+	run, rs, ok := a.runReadings(w, r)
+	if !ok {
 		return
 	}
 	var buf bytes.Buffer
@@ -253,14 +262,8 @@ func (a *api) summary(w http.ResponseWriter, r *http.Request) {
 }
 
 func (a *api) figure(w http.ResponseWriter, r *http.Request) {
-	run, err := a.j.Run(r.PathValue("id"))
-	if err != nil {
-		a.fail(w, err)
-		return
-	}
-	rs, err := RunReadings(a.j, run)
-	if err != nil {
-		a.fail(w, err)
+	run, rs, ok := a.runReadings(w, r)
+	if !ok {
 		return
 	}
 	fc := a.forecast(run)
