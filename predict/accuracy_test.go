@@ -146,38 +146,55 @@ func accuracy(t testing.TB) map[string]*score {
 	methods := map[string]method{"engine": engine, "exp3": exponential3, "linear": linearTrend}
 	out := map[string]*score{}
 	for _, c := range idx.Cases {
-		f, err := os.Open(filepath.Join(benchDir, c.File))
-		if err != nil {
-			t.Fatal(err)
-		}
-		curve, err := ReadCurveCSV(f, c.File)
-		f.Close()
-		if err != nil {
-			t.Fatal(err)
-		}
+		curve := readBenchCase(t, c)
 		for _, frac := range fractions {
-			now := c.PlacedS + frac*(c.CrossingS-c.PlacedS)
-			part := curve.Until(now)
-			horizon := c.CrossingS - part.Times[len(part.Times)-1]
 			for name, m := range methods {
-				at, lo, hi, ok := m(part, c.Target)
-				rel := math.Inf(1)
-				if ok {
-					rel = math.Abs(at-c.CrossingS) / horizon
-				}
-				judged := !math.IsNaN(lo)
-				covered := ok && lo <= c.CrossingS && c.CrossingS <= hi
+				tr := judge(m, curve, c, frac)
 				for _, g := range []string{"all", group(c)} {
 					key := fmt.Sprintf("%s/%.2f/%s", name, frac, g)
 					if out[key] == nil {
 						out[key] = &score{}
 					}
-					out[key].add(rel, covered, judged && name != "linear")
+					out[key].add(tr.rel, tr.covered, tr.judged && name != "linear")
 				}
 			}
 		}
 	}
 	return out
+}
+
+// readBenchCase reads the curve of one benchmark case.
+func readBenchCase(t testing.TB, c benchgen.Case) CurveFile {
+	t.Helper()
+	f, err := os.Open(filepath.Join(benchDir, c.File))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	curve, err := ReadCurveCSV(f, c.File)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return curve
+}
+
+// trial is one method's forecast of one case, scored: the relative error of the
+// crossing (+Inf without an answer), and whether an interval was given and held it.
+type trial struct {
+	rel             float64
+	covered, judged bool
+}
+
+// judge runs m on the case's curve up to frac of the time from placement to crossing.
+func judge(m method, curve CurveFile, c benchgen.Case, frac float64) trial {
+	part := curve.Until(c.PlacedS + frac*(c.CrossingS-c.PlacedS))
+	horizon := c.CrossingS - part.Times[len(part.Times)-1]
+	at, lo, hi, ok := m(part, c.Target)
+	tr := trial{rel: math.Inf(1), judged: !math.IsNaN(lo), covered: ok && lo <= c.CrossingS && c.CrossingS <= hi}
+	if ok {
+		tr.rel = math.Abs(at-c.CrossingS) / horizon
+	}
+	return tr
 }
 
 func group(c benchgen.Case) string {

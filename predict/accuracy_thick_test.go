@@ -3,8 +3,6 @@ package predict
 import (
 	"fmt"
 	"math"
-	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 
@@ -44,30 +42,15 @@ func thickAccuracy(t *testing.T) (map[string]*score, int) {
 			return fromForecast(f.Targets[0])
 		}
 		methods := map[string]method{"engine": engine, "engine+spec": withSpec, "exp3": exponential3}
-		f, err := os.Open(filepath.Join(benchDir, c.File))
-		if err != nil {
-			t.Fatal(err)
-		}
-		curve, err := ReadCurveCSV(f, c.File)
-		f.Close()
-		if err != nil {
-			t.Fatal(err)
-		}
+		curve := readBenchCase(t, c)
 		for _, frac := range fractions {
-			now := c.PlacedS + frac*(c.CrossingS-c.PlacedS)
-			part := curve.Until(now)
-			horizon := c.CrossingS - part.Times[len(part.Times)-1]
 			for name, m := range methods {
-				at, lo, hi, ok := m(part, c.Target)
-				rel := math.Inf(1)
-				if ok {
-					rel = math.Abs(at-c.CrossingS) / horizon
-				}
+				tr := judge(m, curve, c, frac)
 				key := fmt.Sprintf("%s/%.2f", name, frac)
 				if out[key] == nil {
 					out[key] = &score{}
 				}
-				out[key].add(rel, ok && lo <= c.CrossingS && c.CrossingS <= hi, !math.IsNaN(lo))
+				out[key].add(tr.rel, tr.covered, tr.judged)
 			}
 		}
 	}
