@@ -132,7 +132,9 @@ func paramsJSON(ps []predict.Param) []ParamJSON {
 	return out
 }
 
-func writeJSON(w http.ResponseWriter, status int, v any) {
+// WriteJSON answers with v as indented JSON and status, uncached. Every settle JSON
+// endpoint (the runs API too) answers through it.
+func WriteJSON(w http.ResponseWriter, status int, v any) {
 	w.Header().Set("Content-Type", "application/json; charset=utf-8")
 	w.Header().Set("Cache-Control", "no-store")
 	w.WriteHeader(status)

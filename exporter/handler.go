@@ -121,10 +121,10 @@ func (h *Handler) routes(reg *prometheus.Registry) {
 		Registry: reg, MaxRequestsInFlight: 4, Timeout: 10 * time.Second,
 	}))
 	m.HandleFunc("GET /healthz", func(w http.ResponseWriter, r *http.Request) {
-		writeJSON(w, http.StatusOK, map[string]string{"status": "ok"})
+		WriteJSON(w, http.StatusOK, map[string]string{"status": "ok"})
 	})
 	m.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
-		writeJSON(w, http.StatusOK, Channels(h.state, h.opt.Now()))
+		WriteJSON(w, http.StatusOK, Channels(h.state, h.opt.Now()))
 	})
 	m.HandleFunc("GET /api/v1/channels/{name}", h.serveDetail)
 	m.HandleFunc("GET /api/v1/channels/{name}/series", h.serveSeries)
@@ -198,7 +198,7 @@ func (h *Handler) serveDetail(w http.ResponseWriter, r *http.Request) {
 		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
 		return
 	}
-	writeJSON(w, http.StatusOK, d)
+	WriteJSON(w, http.StatusOK, d)
 }
 
 func (h *Handler) serveSeries(w http.ResponseWriter, r *http.Request) {
@@ -219,7 +219,7 @@ func (h *Handler) serveSeries(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	s, _ := Series(h.state, name, q)
-	writeJSON(w, http.StatusOK, s)
+	WriteJSON(w, http.StatusOK, s)
 }
 
 // NotifyTestRequest is the optional body of POST /api/v1/notify/test.
@@ -246,7 +246,7 @@ func (h *Handler) serveNotifyTest(w http.ResponseWriter, r *http.Request) {
 		writeError(w, http.StatusNotFound, err.Error())
 		return
 	}
-	writeJSON(w, http.StatusAccepted, map[string]int{"queued": n})
+	WriteJSON(w, http.StatusAccepted, map[string]int{"queued": n})
 }
 
 // ErrorJSON is the body of every error answer.
@@ -255,7 +255,7 @@ type ErrorJSON struct {
 }
 
 func writeError(w http.ResponseWriter, status int, msg string) {
-	writeJSON(w, status, ErrorJSON{Error: msg})
+	WriteJSON(w, status, ErrorJSON{Error: msg})
 }
 
 // quote quotes s for an error message, capped so a hostile name cannot flood the log.

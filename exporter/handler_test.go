@@ -296,7 +296,7 @@ func TestSecurity(t *testing.T) {
 
 func TestRunsHookAndPage(t *testing.T) {
 	runs := http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		writeJSON(w, 200, map[string]string{"path": r.URL.Path})
+		WriteJSON(w, 200, map[string]string{"path": r.URL.Path})
 	})
 	h := newTestHandler(curveState(), Options{Runs: runs, Display: config.Display{Units: "F"}})
 	for _, p := range []string{"/api/v1/runs", "/api/v1/runs/7/summary.json"} {

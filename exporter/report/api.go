@@ -15,6 +15,7 @@ import (
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -121,7 +122,7 @@ func (a *api) list(w http.ResponseWriter, r *http.Request) {
 	if runs == nil {
 		runs = []journal.Run{}
 	}
-	writeJSON(w, http.StatusOK, map[string]any{"runs": runs})
+	exporter.WriteJSON(w, http.StatusOK, map[string]any{"runs": runs})
 }
 
 func (a *api) show(w http.ResponseWriter, r *http.Request) {
@@ -141,7 +142,7 @@ func (a *api) show(w http.ResponseWriter, r *http.Request) {
 		a.fail(w, err)
 		return
 	}
-	writeJSON(w, http.StatusOK, d)
+	exporter.WriteJSON(w, http.StatusOK, d)
 }
 
 func (a *api) start(w http.ResponseWriter, r *http.Request) {
@@ -186,7 +187,7 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 	}
 	a.log.Info("run started", "run", run.ID, "channel", run.Channel, "specimen", run.Specimen, "origin", run.Origin)
 	w.Header().Set("Location", "/api/v1/runs/"+run.ID)
-	writeJSON(w, http.StatusCreated, run)
+	exporter.WriteJSON(w, http.StatusCreated, run)
 }
 
 func (a *api) stop(w http.ResponseWriter, r *http.Request) {
@@ -200,7 +201,7 @@ func (a *api) stop(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	a.log.Info("run stopped", "run", run.ID, "channel", run.Channel)
-	writeJSON(w, http.StatusOK, run)
+	exporter.WriteJSON(w, http.StatusOK, run)
 }
 
 // forecast is the model for a report of run: live for an active run, else a refit.
@@ -258,7 +259,7 @@ func (a *api) summary(w http.ResponseWriter, r *http.Request) {
 		a.fail(w, err)
 		return
 	}
-	writeJSON(w, http.StatusOK, s)
+	exporter.WriteJSON(w, http.StatusOK, s)
 }
 
 func (a *api) figure(w http.ResponseWriter, r *http.Request) {
@@ -321,14 +322,5 @@ func (a *api) fail(w http.ResponseWriter, err error) {
 }
 
 func writeError(w http.ResponseWriter, status int, msg string) {
-	writeJSON(w, status, map[string]string{"error": msg})
-}
-
-func writeJSON(w http.ResponseWriter, status int, v any) {
-	w.Header().Set("Content-Type", "application/json; charset=utf-8")
-	w.Header().Set("Cache-Control", "no-store")
-	w.WriteHeader(status)
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	_ = enc.Encode(v) // the client may have gone; nothing useful to do with the error
+	exporter.WriteJSON(w, status, map[string]string{"error": msg})
 }
