@@ -252,14 +252,22 @@ func statsOf(r []float64) residualStats {
 	return st
 }
 
-// scaledInverse returns σ²·(JᵀJ)⁻¹, inverting with the columns scaled to unit norm.
+// scaledInverse returns σ²·(JᵀJ)⁻¹ for a Jacobian j.
 func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
-	_, k := j.Dims()
 	var jtj mat.SymDense
 	jtj.SymOuterK(1, j.T())
+	return normalInverse(&jtj, sigma)
+}
+
+// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ, inverting it with its rows
+// and columns scaled to a unit diagonal so that parameters of very different size
+// (kelvin, seconds, J/(m²·K)) do not make it look singular. An ill-conditioned but
+// invertible N is accepted (gonum reports that as a Condition error).
+func normalInverse(n *mat.SymDense, sigma float64) (*mat.SymDense, bool) {
+	k := n.SymmetricDim()
 	scale := make([]float64, k)
 	for i := range k {
-		scale[i] = math.Sqrt(jtj.At(i, i))
+		scale[i] = math.Sqrt(n.At(i, i))
 		if !(scale[i] > 0) {
 			return nil, false
 		}
@@ -267,7 +275,7 @@ func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
 	a := mat.NewSymDense(k, nil)
 	for i := range k {
 		for l := i; l < k; l++ {
-			a.SetSym(i, l, jtj.At(i, l)/(scale[i]*scale[l]))
+			a.SetSym(i, l, n.At(i, l)/(scale[i]*scale[l]))
 		}
 	}
 	var ch mat.Cholesky

@@ -340,34 +340,20 @@ func covariance(v *projection, p *LumpedProblem, exc, tau, sigma float64) (*mat.
 	g := [3][3]float64{{s1, se, sd}, {se, see, sed}, {sd, sed, sdd}}
 	idx := freeIndexes(p)
 	k := len(idx)
-	scale := make([]float64, k)
-	jtj := mat.NewSymDense(k, nil)
-	for a, pa := range idx {
-		scale[a] = math.Sqrt(g[pa][pa])
-		if scale[a] == 0 || math.IsNaN(scale[a]) {
-			return nil, false
-		}
-	}
+	n := mat.NewSymDense(k, nil)
 	for a, pa := range idx {
 		for b := a; b < k; b++ {
-			jtj.SetSym(a, b, g[pa][idx[b]]/(scale[a]*scale[b]))
+			n.SetSym(a, b, g[pa][idx[b]])
 		}
 	}
-	var ch mat.Cholesky
-	if !ch.Factorize(jtj) {
+	inv, ok := normalInverse(n, sigma)
+	if !ok {
 		return nil, false
-	}
-	var inv mat.SymDense
-	if err := ch.InverseTo(&inv); err != nil {
-		var c mat.Condition
-		if !errors.As(err, &c) {
-			return nil, false
-		}
 	}
 	cov := mat.NewSymDense(3, nil)
 	for a, pa := range idx {
 		for b, pb := range idx[a:] {
-			cov.SetSym(pa, pb, sigma*sigma*inv.At(a, a+b)/(scale[a]*scale[a+b]))
+			cov.SetSym(pa, pb, inv.At(a, a+b))
 		}
 	}
 	return cov, true
