@@ -105,16 +105,9 @@ func NewLineParserFor(cfg config.Logger) (*LineParser, error) {
 	if p.re != nil && p.maxField > p.re.NumSubexp() {
 		return nil, fmt.Errorf("logger %q: line.columns: field %d: the regexp has %d groups", logger, p.maxField, p.re.NumSubexp())
 	}
-	p.slot = make([]int, p.maxField)
-	for i := range p.slot {
-		p.slot[i] = -1
-	}
-	for i, c := range f.Columns {
-		if p.slot[c.Index-1] >= 0 {
-			return nil, fmt.Errorf("logger %q: line.columns[%d]: index %d is used twice", logger, i, c.Index)
-		}
-		p.slot[c.Index-1] = i
-		p.channels = append(p.channels, c.Channel)
+	var err error
+	if p.slot, p.channels, err = slotColumns(f.Columns, p.maxField); err != nil {
+		return nil, fmt.Errorf("logger %q: line.%w", logger, err)
 	}
 	conv, err := newConversion(cfg, p.channels)
 	if err != nil {
@@ -354,3 +347,21 @@ func (p *LineParser) timeOf(clockField []byte, received time.Time) (time.Time, e
 // maxClockSeconds bounds the logger clock so that it fits a time.Duration (about 290
 // years) with room to spare.
 const maxClockSeconds = 1e9 * 3
+
+// slotColumns maps 1-based field indexes (up to maxField) to their column's position
+// (-1 for fields no column reads) and lists the columns' channels in order. The line
+// and query parsers share it.
+func slotColumns(cols []config.Column, maxField int) (slot []int, channels []string, err error) {
+	slot = make([]int, maxField)
+	for i := range slot {
+		slot[i] = -1
+	}
+	for i, c := range cols {
+		if slot[c.Index-1] >= 0 {
+			return nil, nil, fmt.Errorf("columns[%d]: index %d is used twice", i, c.Index)
+		}
+		slot[c.Index-1] = i
+		channels = append(channels, c.Channel)
+	}
+	return slot, channels, nil
+}

@@ -43,16 +43,9 @@ func NewReplyParser(cfg config.Logger) (*ReplyParser, error) {
 		}
 		maxIndex = max(maxIndex, c.Index)
 	}
-	p.slot = make([]int, maxIndex)
-	for i := range p.slot {
-		p.slot[i] = -1
-	}
-	for i, c := range q.Columns {
-		if p.slot[c.Index-1] >= 0 {
-			return nil, fmt.Errorf("logger %q: query.columns[%d]: index %d is used twice", cfg.Name, i, c.Index)
-		}
-		p.slot[c.Index-1] = i
-		p.channels = append(p.channels, c.Channel)
+	var err error
+	if p.slot, p.channels, err = slotColumns(q.Columns, maxIndex); err != nil {
+		return nil, fmt.Errorf("logger %q: query.%w", cfg.Name, err)
 	}
 	conv, err := newConversion(cfg, p.channels)
 	if err != nil {
