@@ -3,6 +3,7 @@ package daq
 import (
 	"bufio"
 	"context"
+	"fmt"
 	"io"
 	"math"
 	"os"
@@ -16,21 +17,45 @@ import (
 	"github.com/settle-lab/settle/daq/ptytest"
 )
 
-// pymodbusPython returns Debian's python3 with pymodbus, skipping the test when it is
-// absent, except under CI=true, where .ci/run installs python3-pymodbus.
+// pymodbusModules are the Python modules testdata/daq/modbus_server.py needs (the
+// import line in pymodbusPython, which deploy/cipackages_test.go reads, names the
+// same), each with the Debian package that provides it.
+var pymodbusModules = []struct{ module, pkg string }{
+	{"pymodbus", "python3-pymodbus"},
+	{"serial_asyncio", "python3-serial-asyncio"}, // only a Recommends of python3-pymodbus
+}
+
+// pymodbusPython returns Debian's python3 when it can import every module the Modbus
+// server script needs. A missing module skips the test, naming the module and its
+// package, except under CI=true, where .ci/run installs them and the test must run.
 func pymodbusPython(t *testing.T) string {
 	t.Helper()
 	const py = "/usr/bin/python3"
-	err := exec.Command(py, "-c", "import pymodbus, serial_asyncio").Run()
-	if err == nil {
+	if exec.Command(py, "-c", "import pymodbus, serial_asyncio").Run() == nil {
 		return py
 	}
-	msg := "needs Debian's python3-pymodbus (apt-get install python3-pymodbus): " + err.Error()
+	var missing []string // say which module is missing, and its package
+	for _, m := range pymodbusModules {
+		if out, err := exec.Command(py, "-c", "import "+m.module).CombinedOutput(); err != nil {
+			missing = append(missing, fmt.Sprintf("module %s (Debian package %s): %v: %s",
+				m.module, m.pkg, err, strings.TrimSpace(lastLine(string(out)))))
+		}
+	}
+	if len(missing) == 0 {
+		return py
+	}
+	msg := py + " cannot import " + strings.Join(missing, "; ")
 	if os.Getenv("CI") == "true" {
 		t.Fatal(msg)
 	}
 	t.Skip(msg)
 	return ""
+}
+
+// lastLine is the last non-empty line of s (a Python traceback's error line).
+func lastLine(s string) string {
+	lines := strings.Split(strings.TrimSpace(s), "\n")
+	return lines[len(lines)-1]
 }
 
 // bridgedPTYs returns the device paths of two pseudo-terminals whose master ends are

@@ -2,7 +2,6 @@ package deploy
 
 import (
 	"os"
-	"slices"
 	"strings"
 	"testing"
 )
@@ -72,17 +71,6 @@ func TestHandlingAlertsCarryCautions(t *testing.T) {
 				t.Errorf("settle-alerts.yml: alert %s lacks the caution %q", alert, c)
 			}
 		}
-	}
-}
-
-func TestCIPackagesListPromtool(t *testing.T) {
-	var pkgs []string
-	for line := range strings.Lines(readFile(t, "../.ci/packages.txt")) {
-		line, _, _ = strings.Cut(line, "#")
-		pkgs = append(pkgs, strings.Fields(line)...)
-	}
-	if !slices.Contains(pkgs, "prometheus") {
-		t.Errorf(".ci/packages.txt = %v; want it to list prometheus (provides promtool)", pkgs)
 	}
 }
 

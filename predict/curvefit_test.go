@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -85,15 +86,22 @@ func TestFitLumpedCurveFitGolden(t *testing.T) {
 	compareGolden(t, p, readGolden(t, "../testdata/predict/curvefit_golden.json"))
 }
 
-// scipyPython returns a python3 that can import scipy, or skips.
+// scipyPython returns Debian's python3 when it can import scipy and numpy; otherwise
+// it skips, or fails under CI=true, where .ci/run installs python3-scipy and
+// python3-numpy and the comparison must run.
 func scipyPython(t *testing.T) string {
 	t.Helper()
-	for _, py := range []string{"python3", "/usr/bin/python3"} {
-		if exec.Command(py, "-c", "import scipy").Run() == nil {
-			return py
-		}
+	const py = "/usr/bin/python3"
+	out, err := exec.Command(py, "-c", "import scipy, numpy").CombinedOutput()
+	if err == nil {
+		return py
 	}
-	t.Skip("python3 with scipy not found (Debian: apt-get install python3-scipy)")
+	msg := fmt.Sprintf("%s cannot import scipy and numpy (Debian packages python3-scipy, python3-numpy): %v: %s",
+		py, err, bytes.TrimSpace(out))
+	if os.Getenv("CI") == "true" {
+		t.Fatal(msg)
+	}
+	t.Skip(msg)
 	return ""
 }
 
