@@ -232,6 +232,10 @@ type Channel struct {
 	// Ambient names another channel that measures this one's surroundings (optional;
 	// without it the ambient is fitted).
 	Ambient string `mapstructure:"ambient"`
+	// Role is "position" (a specimen position, the default) or "ambient" (a sensor of
+	// the room's air: shown as the room, never fitted or forecast). A channel named as
+	// another's ambient is an ambient sensor without saying so.
+	Role string `mapstructure:"role"`
 	// Targets are the temperatures to forecast.
 	Targets []Target `mapstructure:"targets"`
 	// Run, when set, starts a run on this channel at start-up unless one is active.

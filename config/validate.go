@@ -73,7 +73,48 @@ func (c *Config) checkChannels(k *checker, index map[string]int) {
 		}
 		checkAmbient(k, key+".ambient", ch, index)
 		checkTargets(k, key, ch.Targets)
+		c.checkRole(k, key, ch)
 		k.problems = append(k.problems, SpecimenProblems(key, ch.Specimen)...)
+	}
+}
+
+// checkRole checks a channel's role: an ambient sensor (by role, or named as another
+// channel's ambient) is never forecast, so targets, a run or a specimen on it are
+// mistakes.
+func (c *Config) checkRole(k *checker, key string, ch Channel) {
+	var user string
+	for i, other := range c.Channels {
+		if other.Ambient == ch.Name && ch.Name != "" && other.Name != ch.Name {
+			user = fmt.Sprintf("channels[%d].ambient", i)
+			break
+		}
+	}
+	switch ch.Role {
+	case "", "position":
+		if ch.Role == "position" && user != "" {
+			k.add(key+".role", "position, but %s names this channel as its ambient: an ambient sensor cannot hold a specimen", user)
+			return
+		}
+		if user == "" {
+			return
+		}
+	case "ambient":
+	default:
+		k.add(key+".role", "must be position or ambient, got %q", ch.Role)
+		return
+	}
+	why := "role ambient"
+	if user != "" {
+		why = "named by " + user
+	}
+	if len(ch.Targets) > 0 {
+		k.add(key+".targets", "an ambient sensor (%s) is not forecast: remove its targets", why)
+	}
+	if ch.Run != nil {
+		k.add(key+".run", "an ambient sensor (%s) holds no specimen: remove its run", why)
+	}
+	if ch.Specimen != nil {
+		k.add(key+".specimen", "an ambient sensor (%s) holds no specimen: remove its specimen", why)
 	}
 }
 

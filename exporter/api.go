@@ -27,8 +27,13 @@ type ChannelsResponse struct {
 
 // ChannelJSON is one channel in the API.
 type ChannelJSON struct {
-	Name     string        `json:"name"`
-	Ambient  string        `json:"ambient,omitempty"`
+	Name    string `json:"name"`
+	Ambient string `json:"ambient,omitempty"`
+	// Role is "position" (a specimen position) or "ambient" (the room's air: never
+	// fitted, no targets, never ready).
+	Role string `json:"role"`
+	// Empty is true for a position that holds no specimen (every target "empty").
+	Empty    bool          `json:"empty"`
 	Latest   *ReadingJSON  `json:"latest"`
 	Forecast *ForecastJSON `json:"forecast"`
 	Targets  []TargetJSON  `json:"targets"`
@@ -68,15 +73,21 @@ type ParamJSON struct {
 	Unit   string   `json:"unit,omitempty"`
 }
 
-// TargetJSON is one target's forecast. Times are null where there is none.
+// TargetJSON is one target's forecast. Times are null where there is none. Due is the
+// time to plan with (predict.TargetForecast.Due): for a handling target the interval's
+// late bound, by which the specimen is below the target with high confidence; At is
+// the central estimate. Estimated marks a reached At that is the fitted crossing (in
+// a gap of the readings, or at a surface-sensed specimen's unseen core).
 type TargetJSON struct {
-	Name     string     `json:"name"`
-	Kind     string     `json:"kind"`
-	Celsius  *float64   `json:"celsius"`
-	State    string     `json:"state"`
-	At       *time.Time `json:"at"`
-	Earliest *time.Time `json:"earliest"`
-	Latest   *time.Time `json:"latest"`
+	Name      string     `json:"name"`
+	Kind      string     `json:"kind"`
+	Celsius   *float64   `json:"celsius"`
+	State     string     `json:"state"`
+	At        *time.Time `json:"at"`
+	Earliest  *time.Time `json:"earliest"`
+	Latest    *time.Time `json:"latest"`
+	Due       *time.Time `json:"due"`
+	Estimated bool       `json:"estimated"`
 }
 
 // Channels builds the API view of every channel from s.
@@ -92,8 +103,11 @@ func Channels(s State, now time.Time) ChannelsResponse {
 }
 
 func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
-	out := ChannelJSON{Name: ch.Name, Ambient: ch.Ambient, Targets: []TargetJSON{},
+	out := ChannelJSON{Name: ch.Name, Ambient: ch.Ambient, Role: ch.Role, Targets: []TargetJSON{},
 		Fault: channelFault(s, ch.Name, now)}
+	if out.Role == "" {
+		out.Role = predict.RolePosition
+	}
 	if s.Latest != nil {
 		if r, ok := s.Latest.Get(ch.Name); ok {
 			out.Latest = &ReadingJSON{Time: r.Time.UTC(), Status: r.Status.String(), Raw: r.Raw}
@@ -106,22 +120,34 @@ func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
 	if f == nil {
 		return out
 	}
-	out.Forecast = &ForecastJSON{
+	out.Empty = f.Empty
+	if !f.Empty {
+		out.Forecast = forecastJSON(f)
+	}
+	for _, tf := range f.Targets {
+		out.Targets = append(out.Targets, targetJSON(tf))
+		if tf.Target.Handling && !f.Empty {
+			out.Cautions = HandlingCautions
+		}
+	}
+	return out
+}
+
+func forecastJSON(f *predict.Forecast) *ForecastJSON {
+	return &ForecastJSON{
 		Model: f.Model, Parameters: paramsJSON(f.Params), TimeConstantS: jsonval.Num(f.TimeConstant.Seconds()),
 		AmbientC: jsonval.Num(f.Ambient), RMSEC: jsonval.Num(f.RMSE), Biot: jsonval.Num(f.Biot),
 		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
 		FittedAt: f.FittedAt.UTC(), Notes: append([]string{}, f.Notes...),
 	}
-	for _, tf := range f.Targets {
-		out.Targets = append(out.Targets, TargetJSON{
-			Name: tf.Target.Name, Kind: TargetKind(tf.Target), Celsius: jsonval.Num(tf.Celsius),
-			State: string(tf.State), At: jsonval.Time(tf.At), Earliest: jsonval.Time(tf.Earliest), Latest: jsonval.Time(tf.Latest),
-		})
-		if tf.Target.Handling {
-			out.Cautions = HandlingCautions
-		}
+}
+
+func targetJSON(tf predict.TargetForecast) TargetJSON {
+	return TargetJSON{
+		Name: tf.Target.Name, Kind: tf.Target.Kind(), Celsius: jsonval.Num(tf.Celsius),
+		State: string(tf.State), At: jsonval.Time(tf.At), Earliest: jsonval.Time(tf.Earliest),
+		Latest: jsonval.Time(tf.Latest), Due: jsonval.Time(tf.Due()), Estimated: tf.Estimated,
 	}
-	return out
 }
 
 func paramsJSON(ps []predict.Param) []ParamJSON {

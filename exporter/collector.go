@@ -37,10 +37,11 @@ type Collector struct {
 }
 
 type descs struct {
-	temp, readingTime, fault, faults                   *prometheus.Desc
-	eta, etaEarliest, etaLatest, reached, info, target *prometheus.Desc
-	tau, rmse, biot, valid, fitInfo, fitPoints         *prometheus.Desc
-	portUp, reconnects, readErrs, parseErrs, lastRead  *prometheus.Desc
+	temp, readingTime, fault, faults                        *prometheus.Desc
+	eta, etaEarliest, etaLatest, due, reached, info, target *prometheus.Desc
+	empty, chInfo                                           *prometheus.Desc
+	tau, rmse, biot, valid, fitInfo, fitPoints              *prometheus.Desc
+	portUp, reconnects, readErrs, parseErrs, lastRead       *prometheus.Desc
 }
 
 // NewCollector returns a collector over s.
@@ -57,6 +58,9 @@ func NewCollector(s State) *Collector {
 		eta:         d("target_eta_timestamp_seconds", "Predicted Unix time at which the channel reaches the target (an estimate).", tg...),
 		etaEarliest: d("target_eta_earliest_timestamp_seconds", "Lower end of the ~90 % interval of the predicted crossing.", tg...),
 		etaLatest:   d("target_eta_latest_timestamp_seconds", "Upper end of the ~90 % interval of the predicted crossing.", tg...),
+		due:         d("target_due_timestamp_seconds", "Unix time to plan with: for a handling target the late end of the ~90 % interval (below the target by then with high confidence), else the predicted crossing.", tg...),
+		empty:       d("channel_empty", "1 while a specimen position holds no specimen (its targets are not forecast).", ch...),
+		chInfo:      d("channel_info", "Always 1; role is position (a specimen position) or ambient (the room's air, never forecast).", "channel", "role"),
 		reached:     d("target_reached", "1 once the channel has reached the target in the current segment.", tg...),
 		info:        d("target_info", "Always 1; kind is handling, temperature or settle.", "channel", "target", "kind"),
 		target:      d("target_celsius", "Resolved target temperature.", tg...),
@@ -77,7 +81,7 @@ func NewCollector(s State) *Collector {
 // Describe sends every descriptor.
 func (c *Collector) Describe(out chan<- *prometheus.Desc) {
 	for _, d := range []*prometheus.Desc{c.d.temp, c.d.readingTime, c.d.fault, c.d.faults,
-		c.d.eta, c.d.etaEarliest, c.d.etaLatest, c.d.reached, c.d.info, c.d.target,
+		c.d.eta, c.d.etaEarliest, c.d.etaLatest, c.d.due, c.d.empty, c.d.chInfo, c.d.reached, c.d.info, c.d.target,
 		c.d.tau, c.d.rmse, c.d.biot, c.d.valid, c.d.fitInfo, c.d.fitPoints,
 		c.d.portUp, c.d.reconnects, c.d.readErrs, c.d.parseErrs, c.d.lastRead} {
 		out <- d
@@ -133,8 +137,22 @@ func (c *Collector) collectChannel(ch predict.ChannelState, gauge emit) {
 	if ch.Readings > 0 {
 		gauge(c.d.temp, ch.LastCelsius, ch.Name)
 	}
+	role := ch.Role
+	if role == "" {
+		role = predict.RolePosition
+	}
+	gauge(c.d.chInfo, 1, ch.Name, role)
 	f := ch.Forecast
 	if f == nil {
+		return
+	}
+	if role == predict.RolePosition {
+		gauge(c.d.empty, boolFloat(f.Empty), ch.Name)
+	}
+	if f.Empty {
+		for _, tf := range f.Targets {
+			c.collectTarget(ch.Name, tf, gauge)
+		}
 		return
 	}
 	gauge(c.d.fitInfo, 1, ch.Name, f.Model)
@@ -167,7 +185,7 @@ func (c *Collector) collectTarget(channel string, tf predict.TargetForecast, gau
 	for _, p := range []struct {
 		d *prometheus.Desc
 		t time.Time
-	}{{c.d.eta, tf.At}, {c.d.etaEarliest, tf.Earliest}, {c.d.etaLatest, tf.Latest}} {
+	}{{c.d.eta, tf.At}, {c.d.etaEarliest, tf.Earliest}, {c.d.etaLatest, tf.Latest}, {c.d.due, tf.Due()}} {
 		if !p.t.IsZero() {
 			gauge(p.d, unixSeconds(p.t), channel, name)
 		}
@@ -177,16 +195,7 @@ func (c *Collector) collectTarget(channel string, tf predict.TargetForecast, gau
 // TargetKind classifies a target for the settle_target_info metric and the API:
 // "handling" (safe to handle), "settle" (a band around the settling temperature) or
 // "temperature" (a fixed temperature).
-func TargetKind(t predict.Target) string {
-	switch {
-	case t.Handling:
-		return "handling"
-	case t.IsWithin():
-		return "settle"
-	default:
-		return "temperature"
-	}
-}
+func TargetKind(t predict.Target) string { return t.Kind() }
 
 func boolFloat(b bool) float64 {
 	if b {

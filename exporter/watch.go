@@ -106,7 +106,7 @@ func notifyChannel(ch ChannelJSON) notify.Channel {
 		if t.Celsius != nil {
 			nt.Celsius = *t.Celsius
 		}
-		nt.At, nt.Earliest, nt.Latest = deref(t.At), deref(t.Earliest), deref(t.Latest)
+		nt.At, nt.Earliest, nt.Latest, nt.Due = deref(t.At), deref(t.Earliest), deref(t.Latest), deref(t.Due)
 		out.Targets = append(out.Targets, nt)
 	}
 	return out

@@ -92,7 +92,9 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	}
 	if err != nil && hr == nil {
 		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
-		f.Targets = forecastTargets(nil, &p, start, targets, &opt.Interval)
+		var notes []string
+		f.Targets, notes = forecastTargets(nil, &p, start, targets, &opt.Interval)
+		f.Notes = append(f.Notes, notes...)
 		return f, nil
 	}
 	var m fitted = lumpedFitted{&lr}
@@ -112,7 +114,9 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		m = c
 	}
 	noteResiduals(f, m, opt.Interval)
-	f.Targets = forecastTargets(m, &p, start, targets, &opt.Interval)
+	var notes []string
+	f.Targets, notes = forecastTargets(m, &p, start, targets, &opt.Interval)
+	f.Notes = append(f.Notes, notes...)
 	return f, m
 }
 

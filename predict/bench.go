@@ -12,16 +12,31 @@ import (
 // its ambient (empty: the ambient is fitted) and its targets.
 type ChannelSpec struct {
 	Name, Ambient string
-	Targets       []Target
+	// Role is RoleAmbient for a sensor of the room's air; empty or RolePosition for a
+	// specimen position. A channel named as another's Ambient is an ambient sensor
+	// whatever its Role says.
+	Role    string
+	Targets []Target
 	// Specimen, when non-nil, describes this channel's specimen and overrides the
 	// TrackerOptions.Specimen given to NewBench.
 	Specimen *Specimen
 }
 
+// Channel roles.
+const (
+	// RolePosition is a specimen position: fitted and forecast.
+	RolePosition = "position"
+	// RoleAmbient is a sensor of the room's air: shown as the room, never fitted or
+	// forecast, never ready.
+	RoleAmbient = "ambient"
+)
+
 // ChannelState is a snapshot of one channel of a bench.
 type ChannelState struct {
 	// Name and Ambient are as in the ChannelSpec.
 	Name, Ambient string
+	// Role is RolePosition or RoleAmbient.
+	Role string
 	// LastTime and LastCelsius are the latest reading (zero time and NaN before any).
 	LastTime    time.Time
 	LastCelsius float64
@@ -39,6 +54,7 @@ type Bench struct {
 	trackers []*Tracker
 	index    map[string]int
 	users    map[string][]int // ambient channel → channels measuring their ambient on it
+	roles    []string
 }
 
 // NewBench returns a bench with one tracker per spec. A later spec with a name already
@@ -62,7 +78,22 @@ func NewBench(specs []ChannelSpec, opt TrackerOptions) *Bench {
 			b.users[s.Ambient] = append(b.users[s.Ambient], i)
 		}
 	}
+	for _, s := range b.specs {
+		role := RolePosition
+		if s.Role == RoleAmbient || len(b.users[s.Name]) > 0 {
+			role = RoleAmbient
+		}
+		b.roles = append(b.roles, role)
+	}
 	return b
+}
+
+// SetPlaced says whether a specimen is known to be on channel (a run is active there);
+// see Tracker.SetPlaced. Unknown channels are ignored.
+func (b *Bench) SetPlaced(channel string, placed bool) {
+	if i, ok := b.index[channel]; ok {
+		b.trackers[i].SetPlaced(placed)
+	}
 }
 
 // Observe records an OK reading of a channel; readings of unknown channels are
@@ -72,7 +103,12 @@ func (b *Bench) Observe(channel string, t time.Time, celsius float64) {
 	for _, i := range b.users[channel] {
 		b.trackers[i].SetAmbient(celsius)
 	}
-	if i, ok := b.index[channel]; ok {
+	i, ok := b.index[channel]
+	switch {
+	case !ok:
+	case b.roles[i] == RoleAmbient:
+		b.trackers[i].observeOnly(t, celsius)
+	default:
 		b.trackers[i].Add(t, celsius)
 	}
 }
@@ -82,7 +118,7 @@ func (b *Bench) Snapshot() []ChannelState {
 	out := make([]ChannelState, len(b.specs))
 	for i, s := range b.specs {
 		out[i] = b.trackers[i].state()
-		out[i].Name, out[i].Ambient = s.Name, s.Ambient
+		out[i].Name, out[i].Ambient, out[i].Role = s.Name, s.Ambient, b.roles[i]
 	}
 	return out
 }
@@ -116,7 +152,7 @@ func SpecsFromConfig(cfg []config.Channel) ([]ChannelSpec, error) {
 		if c.Ambient != "" && (!names[c.Ambient] || c.Ambient == c.Name) {
 			return nil, fmt.Errorf("predict: channels[%d].ambient: %q is not another configured channel", i, c.Ambient)
 		}
-		specs[i] = ChannelSpec{Name: c.Name, Ambient: c.Ambient}
+		specs[i] = ChannelSpec{Name: c.Name, Ambient: c.Ambient, Role: c.Role}
 		if c.Specimen != nil {
 			sp, err := specimenFromConfig(fmt.Sprintf("channels[%d]", i), c.Specimen)
 			if err != nil {

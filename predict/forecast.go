@@ -1,7 +1,9 @@
 package predict
 
 import (
+	"fmt"
 	"math"
+	"slices"
 	"time"
 )
 
@@ -73,11 +75,26 @@ func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, target
 	if fit != nil && fit.Status == FitSuccess {
 		m = lumpedFitted{fit}
 	}
-	return forecastTargets(m, p, start, targets, s)
+	var is IntervalSettings
+	if s != nil {
+		is = *s
+	}
+	f := newForecaster(m, p, start, is.withDefaults())
+	if m != nil {
+		// The caller's own fit of a curve it knows: its direction stands.
+		f.fit, f.ambient, f.side = m, m.ambient(), m.side()
+	}
+	out := make([]TargetForecast, len(targets))
+	for i, tg := range targets {
+		out[i] = f.target(tg)
+	}
+	return out
 }
 
 // forecastTargets forecasts each target from a fitted model (nil when there is none).
-func forecastTargets(m fitted, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
+// It also returns notes explaining states the readings or the fit held back (each
+// note once).
+func forecastTargets(m fitted, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) ([]TargetForecast, []string) {
 	var is IntervalSettings
 	if s != nil {
 		is = *s
@@ -87,7 +104,7 @@ func forecastTargets(m fitted, p *LumpedProblem, start time.Time, targets []Targ
 	for i, tg := range targets {
 		out[i] = f.target(tg)
 	}
-	return out
+	return out, f.notes
 }
 
 // fitted is what the forecaster needs of a successful fit.
@@ -148,23 +165,93 @@ type forecaster struct {
 	side     float64 // +1 settling downward (cooling), −1 upward (heating), 0 unknown
 	ambient  float64 // the settling temperature, NaN when unknown
 	s        IntervalSettings
+	tol      float64  // readings within tol of a level count as at it (noise), °C
+	spacing  float64  // the median spacing of the readings, s
+	notes    []string // why states were held back, each once
 }
 
 func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
 	f := &forecaster{p: p, start: start, s: s, ambient: math.NaN()}
 	n := len(p.Celsius)
+	f.tol, f.spacing = readingTolerance(p.Celsius), medianSpacing(p.Times)
+	if n == 0 {
+		return f
+	}
+	m := p.Celsius // too few readings for a running median to mean anything
+	if n >= 2*medianWindow {
+		m = runningMedian(p.Celsius)
+	}
+	phys, sure := extremeSide(m, p.Ambient)
+	if fit != nil && sure && fit.side() != phys {
+		f.note("The fitted curve runs the wrong way for where the specimen started against the room (a fit toward an implausible settling temperature): no forecast from it.")
+		fit = nil
+	}
 	switch {
+	case !sure && p.Ambient == nil:
+		// Near the room with no measured ambient, a specimen cooling toward the room
+		// and one warming toward it from below read alike (a room 2 °C warmer than
+		// assumed turns one into the other): no direction, so no state.
+		f.note("The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts nothing; measure the ambient on a channel of its own (role: ambient).")
+		f.fit = fit // kept for the curve; the targets stay insufficient
 	case fit != nil:
 		f.fit, f.ambient, f.side = fit, fit.ambient(), fit.side()
 		_, misfit := fit.residuals()
 		f.mismatch = misfit > 0.2 && misfit > 2*math.Sqrt(max(fit.rmse()*fit.rmse()-misfit*misfit, 0))
-	case p.Ambient != nil && n > 0:
+		if !sure && trendSide(m) != f.side && n >= 2*medianWindow {
+			// Near the measured room and a reversal at the end: the fit and the
+			// latest trend disagree, so the direction is not known.
+			f.side = 0
+			f.note("The readings lie close to the room and their latest trend runs against the fitted curve, so settle cannot tell whether the specimen is cooling or warming yet.")
+		}
+	case p.Ambient != nil:
 		f.ambient = p.Ambient[n-1]
 		f.side = sign(p.Celsius[n-1] - f.ambient)
+		if sure {
+			f.side = phys
+		}
+	case sure:
+		f.side = phys
 	case n > 1:
-		f.side = sign(p.Celsius[0] - p.Celsius[n-1])
+		f.side = trendSide(m)
 	}
 	return f
+}
+
+// note adds a note once.
+func (f *forecaster) note(s string) {
+	if !slices.Contains(f.notes, s) {
+		f.notes = append(f.notes, s)
+	}
+}
+
+// minTolerance is the least tolerance, °C, within which a reading counts as at a level.
+const minTolerance = 0.1
+
+// readingTolerance is how close to a level, °C, a reading counts as at it: three times
+// the noise of the readings (robust, from second differences), at least minTolerance.
+func readingTolerance(c []float64) float64 {
+	if len(c) < 3 {
+		return minTolerance
+	}
+	d2 := make([]float64, 0, len(c)-2)
+	for i := 1; i < len(c)-1; i++ {
+		d2 = append(d2, math.Abs(c[i+1]-2*c[i]+c[i-1]))
+	}
+	sigma := median(d2) / (0.6745 * math.Sqrt(6))
+	return max(3*sigma, minTolerance)
+}
+
+// medianSpacing is the median time between consecutive readings, s (0 for fewer than
+// two readings).
+func medianSpacing(t []float64) float64 {
+	if len(t) < 2 {
+		return 0
+	}
+	d := make([]float64, len(t)-1)
+	for i := range d {
+		d[i] = t[i+1] - t[i]
+	}
+	return median(d)
 }
 
 func sign(x float64) float64 {
@@ -191,13 +278,22 @@ func (f *forecaster) target(tg Target) TargetForecast {
 		out.Celsius = tg.Celsius
 		return out
 	}
+	if tg.Handling && f.side < 0 {
+		f.note("The specimen is warming: a handling target is judged only while a specimen cools, so it is not forecast.")
+		return out
+	}
+	entry, seen := f.entry(tg, out.Celsius)
 	if hf, ok := f.fit.(handlingFitted); ok && tg.Handling {
 		if t, v, rate, reach, used := hf.handlingCrossing(out.Celsius); used {
-			return f.core(out, t, v, rate, reach)
+			return f.core(out, seen, t, v, rate, reach)
 		}
 	}
-	if entry, ok := f.entry(tg, out.Celsius); ok {
+	switch seen {
+	case crossed:
 		return f.observed(out, entry)
+	case neverAway:
+		f.note(fmt.Sprintf("The readings have been at or past %.1f °C since the segment began: settle never saw the specimen on the other side, so it does not call that target reached (a thermocouple off its specimen reads the room).", out.Celsius))
+		return out
 	}
 	if f.fit == nil {
 		return out
@@ -205,56 +301,176 @@ func (f *forecaster) target(tg Target) TargetForecast {
 	return f.predicted(out)
 }
 
-// entry returns the index of the reading at which the data entered the target's side:
-// the first such reading, or with a Hold the first of the final run of such readings.
-func (f *forecaster) entry(tg Target, level float64) (int, bool) {
-	across := func(i int) bool {
+// crossSeen is what the readings say about a target's level.
+type crossSeen int
+
+const (
+	// notAcross: the latest readings are not across the level.
+	notAcross crossSeen = iota
+	// crossed: the latest readings are across, and earlier ones were clearly not.
+	crossed
+	// neverAway: the latest readings are across, but no reading of the segment was
+	// clearly on the other side.
+	neverAway
+)
+
+// recentReadings is how many of the latest readings' median decides which side of a
+// level the specimen is on now.
+const recentReadings = 3
+
+// entry judges the target's level on the readings alone. A reading is across when it
+// is on the target's side of the level (at or below it, cooling), away when it is on
+// the other side by more than the noise tolerance. The target is crossed when the
+// median of the last recentReadings readings is across and some earlier reading was
+// away; entry is then the first reading across after the last one away (the entry
+// into the final run, so a re-warm above the level and back restarts it; readings
+// within the tolerance do not break the run).
+func (f *forecaster) entry(tg Target, level float64) (int, crossSeen) {
+	c := f.p.Celsius
+	n := len(c)
+	excess := func(i int) float64 { // > 0: on the far side of the level
 		l := level
 		if tg.IsWithin() && f.p.Ambient != nil {
 			l = f.p.Ambient[i] + f.side*tg.Within
 		}
-		return f.side*(f.p.Celsius[i]-l) <= 0
+		return f.side * (c[i] - l)
 	}
-	n := len(f.p.Celsius)
-	if tg.Hold == 0 {
-		for i := range n {
-			if across(i) {
-				return i, true
-			}
-		}
-		return 0, false
+	if n == 0 {
+		return 0, notAcross
+	}
+	recent := make([]float64, 0, recentReadings)
+	for i := max(0, n-recentReadings); i < n; i++ {
+		recent = append(recent, excess(i))
+	}
+	slices.Sort(recent)
+	if recent[len(recent)/2] > 0 {
+		return 0, notAcross
 	}
 	i := n
-	for i > 0 && across(i-1) {
+	for i > 0 && excess(i-1) <= f.tol {
 		i--
 	}
-	return i, i < n
+	switch i {
+	case n: // the latest reading is clearly away: a re-warm under way
+		return 0, notAcross
+	case 0:
+		return 0, neverAway
+	}
+	for i < n-1 && excess(i) > 0 {
+		i++
+	}
+	return i, crossed
 }
 
-// observed fills a reached or holding forecast from the entry reading.
+// gapFactor: a spacing between readings more than gapFactor times the median
+// spacing is a gap (an unplugged logger, a pause, a journal resume).
+const gapFactor = 5
+
+// observed fills a reached or holding forecast from the entry reading. When a gap
+// precedes the entry, the crossing happened somewhere inside it: At is then the
+// fitted curve's crossing within the gap (or, without one, the straight line between
+// the readings on either side), marked Estimated.
 func (f *forecaster) observed(out TargetForecast, entry int) TargetForecast {
 	n := len(f.p.Times)
-	at := f.abs(f.p.Times[entry]).Add(out.Target.Hold)
-	out.At, out.State = at, StateReached
-	if at.After(f.abs(f.p.Times[n-1])) {
-		out.State, out.Earliest, out.Latest = StateHolding, at, at
+	at := f.p.Times[entry]
+	if entry > 0 && f.spacing > 0 && at-f.p.Times[entry-1] > gapFactor*f.spacing {
+		at, out.Estimated = f.gapCrossing(out, entry), true
+	}
+	end := f.abs(at).Add(out.Target.Hold)
+	out.At, out.State = end, StateReached
+	if end.After(f.abs(f.p.Times[n-1])) {
+		out.State, out.Earliest, out.Latest = StateHolding, end, end
 	}
 	return out
+}
+
+// gapCrossing estimates when the level was crossed between readings entry−1 and entry.
+func (f *forecaster) gapCrossing(out TargetForecast, entry int) float64 {
+	t0, t1 := f.p.Times[entry-1], f.p.Times[entry]
+	if f.fit != nil {
+		if t, _, _, ok := f.fit.crossing(out.Celsius, out.Target.IsWithin()); ok && t > t0 && t < t1 {
+			return t
+		}
+	}
+	c0, c1 := f.p.Celsius[entry-1], f.p.Celsius[entry]
+	if c0 == c1 {
+		return t1
+	}
+	frac := math.Min(math.Max((c0-out.Celsius)/(c0-c1), 0), 1)
+	return t0 + frac*(t1-t0)
 }
 
 // seenDecay is the share of its initial excess a curve with a fitted ambient must
 // have lost before the fitted ambient counts as seen.
 const seenDecay = 0.75
 
-// asymptoteSeen reports whether the ambient is measured or the readings have covered
-// seenDecay of their decay toward the fitted one.
+// asymptoteSeen reports whether the ambient is measured, or the readings have covered
+// seenDecay of their decay toward the fitted one and have themselves slowed down
+// (readingsSettled): a fit alone can put a settling temperature just past the data.
 func (f *forecaster) asymptoteSeen() bool {
 	if f.p.Ambient != nil {
 		return true
 	}
 	n := len(f.p.Celsius)
 	first, last := f.p.Celsius[0]-f.ambient, f.p.Celsius[n-1]-f.ambient
-	return math.Abs(last) <= (1-seenDecay)*math.Abs(first)
+	rho, _ := f.fit.residuals()
+	return math.Abs(last) <= (1-seenDecay)*math.Abs(first) && rho < maxSettledRho &&
+		readingsSettled(f.p.Times, f.p.Celsius)
+}
+
+// maxSettledRho: residuals more correlated than this (lag 1) mean the fit's settling
+// temperature and its standard error are not to be trusted for "unreachable".
+const maxSettledRho = 0.5
+
+// readingsSettled reports whether the readings' own rate of change has visibly fallen:
+// the least-squares slope over their last quarter, plus twice its standard error, is
+// at most a quarter of the slope over their first quarter, which itself stands out
+// from its noise by three standard errors (at least 5 readings a quarter). A curve
+// that settles, seen without any model; an exponential does so after about 1.4 time
+// constants.
+func readingsSettled(t, c []float64) bool {
+	n := len(c)
+	q := n / 4
+	if q < 5 {
+		return false
+	}
+	first, seFirst := slope(t[:q], c[:q])
+	last, seLast := slope(t[n-q:], c[n-q:])
+	return math.Abs(first) > 3*seFirst && math.Abs(last)+2*seLast <= 0.25*math.Abs(first)
+}
+
+// slope is the least-squares slope of c against t and its standard error (0, +Inf
+// when t does not vary).
+func slope(t, c []float64) (b, se float64) {
+	n := float64(len(t))
+	var mt, mc float64
+	for i := range t {
+		mt += t[i]
+		mc += c[i]
+	}
+	mt /= n
+	mc /= n
+	var stc, stt float64
+	for i := range t {
+		stc += (t[i] - mt) * (c[i] - mc)
+		stt += (t[i] - mt) * (t[i] - mt)
+	}
+	if stt == 0 || n < 3 {
+		return 0, math.Inf(1)
+	}
+	b = stc / stt
+	var ss float64
+	for i := range t {
+		r := c[i] - mc - b*(t[i]-mt)
+		ss += r * r
+	}
+	return b, math.Sqrt(ss / (n - 2) / stt)
+}
+
+// plausibleRoom reports whether the settling temperature is measured, or fitted within
+// two standard deviations of the room prior.
+func (f *forecaster) plausibleRoom() bool {
+	return f.p.Ambient != nil || math.Abs(f.ambient-roomPrior) <= 2*roomPriorSD
 }
 
 // handlingFitted is a fit that can judge a handling target on the specimen's hottest
@@ -265,16 +481,19 @@ type handlingFitted interface {
 	handlingCrossing(level float64) (t, variance, rate float64, ok, used bool)
 }
 
-// core fills a handling target's forecast from the hottest point's fitted crossing:
-// reached (At the fitted crossing, not an observed one, since the sensor does not see
-// the hottest point) when it lies before the last reading, else as predicted.
-func (f *forecaster) core(out TargetForecast, tStar, v, rate float64, ok bool) TargetForecast {
-	last := f.p.Times[len(f.p.Times)-1]
-	if ok && tStar+out.Target.Hold.Seconds() <= last {
-		out.State, out.At = StateReached, f.abs(tStar).Add(out.Target.Hold)
+// core fills a handling target's forecast from the hottest point's fitted crossing
+// (a surface thermocouple does not see the core). Reached needs both: the readings
+// across the level (the core lags the surface, so it cannot be below while the surface
+// is not) and the core's crossing, with its interval's late bound, before the last
+// reading; At is then the fitted crossing, marked Estimated. Else as predicted.
+func (f *forecaster) core(out TargetForecast, seen crossSeen, tStar, v, rate float64, ok bool) TargetForecast {
+	pred := f.predictedFrom(out, tStar, v, rate, ok)
+	last := f.abs(f.p.Times[len(f.p.Times)-1])
+	if seen == crossed && pred.State == StatePredicted && !pred.Latest.After(last) {
+		out.State, out.At, out.Estimated = StateReached, f.abs(tStar).Add(out.Target.Hold), true
 		return out
 	}
-	return f.predictedFrom(out, tStar, v, rate, ok)
+	return pred
 }
 
 // predicted fills a predicted (or unreachable) forecast.
@@ -296,6 +515,11 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit
 		if !out.Target.IsWithin() && (math.Abs(out.Celsius-f.fit.ambient()) <= u || f.mismatch || !f.asymptoteSeen()) {
 			out.State = StateInsufficient
+		}
+		if out.State == StateUnreachable && !f.plausibleRoom() {
+			out.State = StateInsufficient
+			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C is not a plausible room (the prior is %.0f ± %.0f °C) and no ambient is measured, so settle does not call a target beyond it unreachable; measure the ambient on a channel of its own.",
+				f.ambient, roomPrior, roomPriorSD))
 		}
 		return out
 	}

@@ -25,17 +25,21 @@ func runningMedian(c []float64) []float64 {
 
 // Onset returns the index of the reading where the approach to the settling
 // temperature begins — a specimen placed on the rack reads its way up to a peak
-// (or down to a trough) and then decays — so that a fit starts there. The direction
-// is that of the last quarter of the readings (running median): falling means
-// cooling, and the onset is the running median's maximum; rising means warming, and
-// it is the minimum. An extreme among the last medianWindow readings gives 0.
-func Onset(c []float64) int {
+// (or down to a trough) and then decays — so that a fit starts there. It is
+// OnsetWith without a measured ambient.
+func Onset(c []float64) int { return OnsetWith(c, nil) }
+
+// OnsetWith is Onset with the measured ambient beside each reading (nil when none).
+// The direction comes from Direction: cooling means the onset is the running median's
+// maximum, warming its minimum. An extreme among the last medianWindow readings
+// gives 0.
+func OnsetWith(c, ambient []float64) int {
 	n := len(c)
 	if n < 2*medianWindow {
 		return 0
 	}
 	m := runningMedian(c)
-	cooling := m[n-1] <= m[n-1-n/4]
+	cooling := Direction(m, ambient) > 0
 	k := 0
 	for i, v := range m {
 		if cooling && v > m[k] || !cooling && v < m[k] {
@@ -53,6 +57,82 @@ func Onset(c []float64) int {
 		}
 	}
 	return best
+}
+
+// Thresholds of extremeSide, °C. With a measured ambient, the latest reading must lie
+// measuredFar from it; against the room prior (known to about ±8 °C) the far extreme
+// must lie priorFar from it and priorLead farther than the other extreme.
+const (
+	measuredFar         = 2.0
+	priorFar, priorLead = 8.0, 5.0
+)
+
+// Direction returns +1 when the readings (a running median m, in time order) settle
+// downward (cooling), −1 when upward (warming), and 0 when it cannot tell. Physics
+// decides first (extremeSide), so that neither a short reversal (a door, a
+// neighbour's heat, a re-warm) nor a baseline read before the placement can flip it;
+// otherwise the trend of the last quarter of the readings decides.
+func Direction(m, ambient []float64) float64 {
+	if side, sure := extremeSide(m, ambient); sure {
+		return side
+	}
+	return trendSide(m)
+}
+
+// extremeSide judges the direction from physics; sure is false when it cannot.
+//
+// With a measured ambient: a specimen more than measuredFar above it cools, below it
+// warms (the ambient is what it settles toward, whatever a short re-warm says).
+//
+// Without one, against the room prior of 22 °C (known to about ±8 °C): the extreme of
+// the readings that lies farther from the room (by priorFar, and priorLead more than
+// the other) is where the action is. A specimen placed at that extreme and settling
+// back toward the room has come back from it by a tenth of its excess or more, or is
+// coming back now (its last quarter moved toward the room by minReturn): a peak means
+// cooling, a trough warming. A curve still at its extreme is not sure: it may be
+// a specimen just placed whose thermocouple has only now caught up, or one warming in
+// an oven whose air is not measured.
+func extremeSide(m, ambient []float64) (side float64, sure bool) {
+	n := len(m)
+	if n == 0 {
+		return 0, false
+	}
+	if ambient != nil {
+		d := m[n-1] - ambient[n-1]
+		return sign(d), math.Abs(d) > measuredFar
+	}
+	up, down := slices.Max(m)-roomPrior, roomPrior-slices.Min(m)
+	if max(up, down) < priorFar || math.Abs(up-down) < priorLead {
+		return 0, false
+	}
+	extreme := slices.Max(m)
+	if down > up {
+		extreme = slices.Min(m)
+	}
+	excess := extreme - roomPrior
+	recent := m[n-1] - m[max(0, n-1-max(1, n/4))] // the last quarter's change
+	if math.Abs(extreme-m[n-1]) > 0.1*math.Abs(excess) ||
+		sign(recent) == -sign(excess) && math.Abs(recent) > minReturn {
+		return sign(excess), true
+	}
+	return 0, false
+}
+
+// minReturn, °C: a last quarter that moved back toward the room by more than this (a
+// few quantisation steps of a logger) shows the specimen settling from its extreme.
+const minReturn = 0.5
+
+// trendSide is the direction of the last quarter of the readings m: +1 falling (or
+// flat), −1 rising.
+func trendSide(m []float64) float64 {
+	n := len(m)
+	if n < 2 {
+		return 0
+	}
+	if m[n-1] <= m[n-1-n/4] {
+		return 1
+	}
+	return -1
 }
 
 // Spikes marks readings that stand out from their running median by more than
@@ -135,7 +215,7 @@ func Prepare(times, celsius, ambient []float64) (p LumpedProblem, onset float64,
 	if kept == 0 {
 		return LumpedProblem{}, 0, dropped
 	}
-	k := Onset(cs)
+	k := OnsetWith(cs, as)
 	onset = ts[k]
 	p.Times, p.Celsius = ts[k:], cs[k:]
 	for i := range p.Times {

@@ -1,7 +1,9 @@
 package predict
 
 import (
+	"fmt"
 	"math"
+	"slices"
 	"sync"
 	"time"
 )
@@ -84,6 +86,7 @@ type Tracker struct {
 	hold     bool      // Restore is loading readings: no fits until it ends
 	newPts   int
 	forecast *Forecast
+	placed   bool // a run is active on the channel (SetPlaced)
 }
 
 // NewTracker returns a tracker forecasting the given targets.
@@ -127,7 +130,7 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 		p := *tr.pending
 		tr.newSegment(tr.pendAt)
 		tr.pts = append(tr.pts, point{0, p.celsius, p.ambient})
-	case math.Abs(celsius-tr.lastC) > tr.opt.Jump && tr.pending == nil:
+	case math.Abs(celsius-tr.lastC) > tr.opt.Jump && tr.pending == nil && !tr.followsCurve(at, celsius):
 		tr.pending, tr.pendAt = &point{celsius: celsius, ambient: tr.amb}, at
 		tr.last = at
 		return
@@ -141,6 +144,45 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 	tr.newPts++
 	if tr.due() {
 		tr.fit()
+	}
+}
+
+// followsCurve reports whether a reading lies within Jump of the current fit's curve:
+// after a gap in the readings (an unplugged logger, a pause) a specimen has moved on
+// by as much as the fit expects, which continues the segment rather than starting
+// one. Callers hold mu.
+func (tr *Tracker) followsCurve(at time.Time, celsius float64) bool {
+	f := tr.forecast
+	if f == nil || f.Empty || f.Curve == nil {
+		return false
+	}
+	v := f.Curve(at)
+	return !math.IsNaN(v) && !math.IsInf(v, 0) && math.Abs(celsius-v) <= tr.opt.Jump
+}
+
+// observeOnly records the latest reading of a channel that is not fitted (an ambient
+// sensor).
+func (tr *Tracker) observeOnly(at time.Time, celsius float64) {
+	if math.IsNaN(celsius) || math.IsInf(celsius, 0) {
+		return
+	}
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	if tr.readings > 0 && at.Before(tr.last) {
+		return
+	}
+	tr.readings++
+	tr.last, tr.lastC = at, celsius
+}
+
+// SetPlaced says whether a specimen is known to be on the channel (a run is active):
+// such a position is never empty. A change refits at the next chance.
+func (tr *Tracker) SetPlaced(placed bool) {
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	if tr.placed != placed {
+		tr.placed = placed
+		tr.fitAt, tr.newPts = time.Time{}, max(tr.newPts, tr.opt.MinNewPoints)
 	}
 }
 
@@ -213,9 +255,57 @@ func (tr *Tracker) fit() {
 		tr.forecast = nil
 		return
 	}
+	if !tr.placed && !occupied(all) {
+		tr.forecast = emptyForecast(all, tr.start, tr.targets)
+		return
+	}
 	tr.forecast = Analyze(p, tr.start.Add(seconds(onset)), tr.targets, AnalyzeOptions{
 		Specimen: tr.opt.Specimen, Fit: tr.opt.Fit, Interval: tr.opt.Interval,
 	})
+}
+
+// occupyMargin, °C: a position whose readings have moved by more than this within
+// the segment, or lie this far from the measured ambient, holds a specimen.
+const occupyMargin = 3.0
+
+// occupied reports whether the segment's readings show a specimen: they have moved by
+// more than occupyMargin (running median, so noise and spikes do not count), or the
+// latest lies more than occupyMargin from the measured ambient, or, with no ambient
+// measured, more than priorFar from the room prior. A position that has read the
+// room all along does not.
+func occupied(p LumpedProblem) bool {
+	n := len(p.Celsius)
+	if n == 0 {
+		return false
+	}
+	m := runningMedian(p.Celsius)
+	lo, hi := slices.Min(m), slices.Max(m)
+	last := m[n-1]
+	switch {
+	case hi-lo > occupyMargin:
+		return true
+	case p.Ambient != nil:
+		return math.Abs(last-p.Ambient[n-1]) > occupyMargin
+	default:
+		return math.Abs(last-roomPrior) > priorFar
+	}
+}
+
+// emptyForecast is the forecast of a position with no specimen: nothing fitted, every
+// target StateEmpty.
+func emptyForecast(p LumpedProblem, start time.Time, targets []Target) *Forecast {
+	n := len(p.Times)
+	f := &Forecast{
+		Empty: true, Ambient: math.NaN(), RMSE: math.NaN(), Biot: math.NaN(), Points: n,
+		SegmentStart: start, FittedAt: start.Add(seconds(p.Times[n-1])),
+		Notes: []string{fmt.Sprintf(
+			"No specimen on this position: no run is active and the readings have stayed within %.0f °C of the room, so nothing is fitted and no target is forecast until a specimen is placed.",
+			occupyMargin)},
+	}
+	for _, tg := range targets {
+		f.Targets = append(f.Targets, TargetForecast{Target: tg, Celsius: tg.Celsius, State: StateEmpty})
+	}
+	return f
 }
 
 // problem builds the fit problem from the stored readings. Readings stored before the

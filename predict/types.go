@@ -27,22 +27,48 @@ type Target struct {
 // IsWithin reports whether the target is relative to the settling temperature.
 func (t Target) IsWithin() bool { return math.IsNaN(t.Celsius) }
 
-// State is the forecast state of one target.
+// Kind names what the target is for: "handling" (safe to touch), "settle" (within a
+// band of the settling temperature) or "temperature" (a fixed temperature).
+func (t Target) Kind() string {
+	switch {
+	case t.Handling:
+		return "handling"
+	case t.IsWithin():
+		return "settle"
+	default:
+		return "temperature"
+	}
+}
+
+// State is the forecast state of one target. Every surface (settle fit, the API, the
+// page, the metrics, webhooks and reports) reports these states as the engine decides
+// them; the README's states table says what each requires of the readings and the fit.
 type State string
 
 // The target states.
 const (
 	// StatePredicted has a predicted crossing time with bounds.
 	StatePredicted State = "predicted"
-	// StateReached: the temperature has crossed the target (At is the observed time).
+	// StateReached: the readings themselves have crossed the target. The median of the
+	// latest readings is on the target's side, and earlier in the same segment the
+	// specimen was seen on the other side (a position that read room temperature from
+	// the start never "reaches" a handling target). At is the observed entry into the
+	// final run of readings across the target, or, when that entry follows a gap in
+	// the readings, the fitted crossing inside the gap (Estimated is then true). For a
+	// handling target judged at the core of a surface-sensed specimen, the surface
+	// readings must be across and the core's fitted crossing (its late bound) past.
 	StateReached State = "reached"
-	// StateUnreachable: the fitted curve never reaches the target (e.g. it lies beyond
-	// the ambient the specimen settles toward).
+	// StateUnreachable: the settling temperature is credibly beyond the target: a
+	// measured ambient beyond it, or a fitted one that is plausible for a room, whose
+	// interval excludes the target, toward which the readings have visibly bent.
 	StateUnreachable State = "unreachable"
-	// StateInsufficient: not enough data for a forecast yet.
+	// StateInsufficient: not enough data, or data too ambiguous, for a forecast yet.
 	StateInsufficient State = "insufficient"
 	// StateHolding: inside the band, waiting out the hold time.
 	StateHolding State = "holding"
+	// StateEmpty: the position holds no specimen: no run is active, no placement was
+	// seen, and the readings have stayed near the room's temperature. Never ready.
+	StateEmpty State = "empty"
 )
 
 // Param is one fitted parameter with its standard error (NaN when unknown).
@@ -68,12 +94,28 @@ type TargetForecast struct {
 	// Earliest and Latest bound At (the interval's lower and upper ends); zero when
 	// State is not StatePredicted or StateHolding.
 	Earliest, Latest time.Time
+	// Estimated is true when a reached target's At is not a reading's time but the
+	// fitted crossing inside a gap in the readings (an unplugged logger, a pause).
+	Estimated bool
+}
+
+// Due is the time to plan with: for a predicted handling target the interval's late
+// bound (the specimen is below the target by then with high confidence), otherwise
+// At, the central estimate. Zero when the state has no time.
+func (tf TargetForecast) Due() time.Time {
+	if tf.Target.Handling && tf.State == StatePredicted && !tf.Latest.IsZero() {
+		return tf.Latest
+	}
+	return tf.At
 }
 
 // Forecast is a channel's fitted model and the forecasts for its targets.
 type Forecast struct {
-	// Model names the fitted model, e.g. "lumped".
+	// Model names the fitted model, e.g. "lumped"; empty when Empty is true.
 	Model string
+	// Empty is true when the position holds no specimen (see StateEmpty): nothing was
+	// fitted and every target is StateEmpty.
+	Empty bool
 	// Params are the fitted parameters with standard errors.
 	Params []Param
 	// TimeConstant is the fitted time constant (0 when the model has none).

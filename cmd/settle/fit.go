@@ -235,14 +235,20 @@ type fitJSON struct {
 	Targets    []targetJSON       `json:"targets"`
 }
 
-// targetJSON is one target in the JSON output; times are on the file's axis.
+// targetJSON is one target in the JSON output; times are on the file's axis. DueS is
+// the time to plan with (predict.TargetForecast.Due): for a handling target the
+// interval's late bound. A handling target carries the cautions.
 type targetJSON struct {
 	Name      string   `json:"name"`
+	Kind      string   `json:"kind"`
 	Celsius   *float64 `json:"celsius"`
 	State     string   `json:"state"`
 	TS        *float64 `json:"t_s"`
 	EarliestS *float64 `json:"earliest_s"`
 	LatestS   *float64 `json:"latest_s"`
+	DueS      *float64 `json:"due_s"`
+	Estimated bool     `json:"estimated,omitempty"`
+	Cautions  []string `json:"cautions,omitempty"`
 }
 
 // finite returns &v, or nil for NaN and infinities (JSON null).
@@ -266,9 +272,16 @@ func (res *fitResult) toJSON() fitJSON {
 		}
 	}
 	for _, tg := range f.Targets {
-		j := targetJSON{Name: tg.Target.Name, Celsius: finite(tg.Celsius), State: string(tg.State)}
+		j := targetJSON{Name: tg.Target.Name, Kind: tg.Target.Kind(), Celsius: finite(tg.Celsius),
+			State: string(tg.State), Estimated: tg.Estimated}
 		if !tg.At.IsZero() {
 			j.TS = finite(res.fileTime(tg.At))
+		}
+		if due := tg.Due(); !due.IsZero() {
+			j.DueS = finite(res.fileTime(due))
+		}
+		if tg.Target.Handling {
+			j.Cautions = exporter.HandlingCautions
 		}
 		if tg.State == predict.StatePredicted || tg.State == predict.StateHolding {
 			j.EarliestS, j.LatestS = finite(res.fileTime(tg.Earliest)), finite(res.fileTime(tg.Latest))
@@ -289,15 +302,26 @@ func (res *fitResult) writeJSON(w io.Writer) error {
 func (res *fitResult) writeText(w io.Writer) error {
 	f := res.forecast
 	var b strings.Builder
-	fmt.Fprintf(&b, "model %s over %d readings (t_s %s to %s), rms residual %.3g °C\n",
-		f.Model, f.Points, num(res.fileTime(f.SegmentStart)), num(res.until), f.RMSE)
+	fmt.Fprintf(&b, "model %s over %d readings (t_s %s to %s)", f.Model, f.Points,
+		secondsText(res.fileTime(f.SegmentStart)), secondsText(res.until))
+	if !math.IsNaN(f.RMSE) {
+		fmt.Fprintf(&b, ", rms residual %.3g °C", f.RMSE)
+	}
+	b.WriteString("\n")
 	names := make([]string, 0, len(f.Params))
 	for _, p := range f.Params {
-		names = append(names, fmt.Sprintf("  %s = %.5g ± %.2g %s", p.Name, p.Value, p.StdErr, p.Unit))
+		if math.IsNaN(p.Value) {
+			continue
+		}
+		line := fmt.Sprintf("  %s = %.5g", p.Name, p.Value)
+		if !math.IsNaN(p.StdErr) && !math.IsInf(p.StdErr, 0) {
+			line += fmt.Sprintf(" ± %.2g", p.StdErr)
+		}
+		names = append(names, strings.TrimRight(line+" "+p.Unit, " "))
 	}
 	sort.Strings(names)
 	for _, n := range names {
-		fmt.Fprintln(&b, strings.TrimRight(n, " "))
+		fmt.Fprintln(&b, n)
 	}
 	if !math.IsNaN(f.Biot) {
 		fmt.Fprintf(&b, "  Biot number %.3g\n", f.Biot)
@@ -320,19 +344,31 @@ func (res *fitResult) writeText(w io.Writer) error {
 	return err
 }
 
+// secondsText prints seconds on the file's axis to at most a tenth of a second.
+func secondsText(v float64) string { return strconv.FormatFloat(math.Round(v*10)/10, 'f', -1, 64) }
+
 // describe says one target's state in words.
 func (res *fitResult) describe(tg predict.TargetForecast) string {
-	at := func(t time.Time) string { return fmt.Sprintf("t_s %.0f", res.fileTime(t)) }
+	at := func(t time.Time) string { return "t_s " + secondsText(math.Round(res.fileTime(t))) }
 	switch tg.State {
 	case predict.StatePredicted:
+		if tg.Target.Handling {
+			return fmt.Sprintf("predicted: below it by %s with high confidence (the late end of the 90 %% interval %.0f to %.0f s; central estimate %s), an estimate",
+				at(tg.Latest), res.fileTime(tg.Earliest), res.fileTime(tg.Latest), at(tg.At))
+		}
 		return fmt.Sprintf("predicted at %s (90 %% interval %.0f to %.0f s), an estimate",
 			at(tg.At), res.fileTime(tg.Earliest), res.fileTime(tg.Latest))
 	case predict.StateReached:
+		if tg.Estimated {
+			return "reached at about " + at(tg.At) + " (estimated from the fit: the crossing fell in a gap in the readings or at the unseen core)"
+		}
 		return "reached at " + at(tg.At)
 	case predict.StateHolding:
 		return fmt.Sprintf("holding, %.0f s left (until %s)", tg.At.Sub(res.origin).Seconds()-res.until, at(tg.At))
 	case predict.StateUnreachable:
 		return "unreachable: the curve settles before it"
+	case predict.StateEmpty:
+		return "no specimen"
 	}
 	return "insufficient data for a forecast"
 }

@@ -10,6 +10,8 @@ import (
 	"sort"
 	"strings"
 	"testing"
+
+	"github.com/settle-lab/settle/exporter"
 )
 
 // runFit runs `settle fit` with args through the root command, as a user would.
@@ -66,8 +68,10 @@ func TestFitJSONContract(t *testing.T) {
 		}
 		return fmt.Sprintf("%.1f", exponential(s))
 	})
-	// Until 900 s the curve has lost 78 % of its excess: enough to call a target
-	// below the fitted ambient unreachable (75 %, see predict.ForecastLumped).
+	// Until 900 s the curve has lost 78 % of its excess, but its readings have not
+	// visibly settled (the last quarter still falls at a third of the first quarter's
+	// rate): a target below the fitted ambient is insufficient, not unreachable, until
+	// they have (checked at 1500 s below).
 	out, err := runFit(t, path, "--json", "--until", "900", "--target", "hot=150", "--target", "handle=50",
 		"--target", "cold=10", "--settle-band", "1")
 	if err != nil {
@@ -94,7 +98,7 @@ func TestFitJSONContract(t *testing.T) {
 		name, state string
 		ts          float64
 		tol         float64
-	}{{"hot", "reached", 200, 0}, {"handle", "predicted", 1075.06, 5}, {"cold", "unreachable", math.NaN(), 0}, {"settled", "predicted", 600 * math.Log(180), 40}}
+	}{{"hot", "reached", 200, 0}, {"handle", "predicted", 1075.06, 5}, {"cold", "insufficient", math.NaN(), 0}, {"settled", "predicted", 600 * math.Log(180), 40}}
 	for i, w := range want {
 		g := got.Targets[i]
 		if g.Name != w.name || g.State != w.state {
@@ -119,6 +123,29 @@ func TestFitJSONContract(t *testing.T) {
 	}
 	if !strings.Contains(strings.Join(got.Notes, " "), "2 readings were left out") {
 		t.Errorf("notes %q do not count the missing and non-numeric readings", got.Notes)
+	}
+	// A fixed target at or below the handling limit on a cooling curve is a handling
+	// target (markHandling), so cold is one too.
+	kinds := map[string]string{"hot": "temperature", "handle": "handling", "cold": "handling", "settled": "settle"}
+	for _, g := range got.Targets {
+		if g.Kind != kinds[g.Name] {
+			t.Errorf("%s: kind %q, want %q", g.Name, g.Kind, kinds[g.Name])
+		}
+		if (g.Kind == "handling") != (len(g.Cautions) == len(exporter.HandlingCautions)) {
+			t.Errorf("%s (%s): %d cautions", g.Name, g.Kind, len(g.Cautions))
+		}
+	}
+	if d := got.Targets[1].DueS; d == nil || got.Targets[1].LatestS == nil || *d != *got.Targets[1].LatestS {
+		t.Errorf("handling target due %v, want its interval's late end %v", d, got.Targets[1].LatestS)
+	}
+	// By 1500 s (2.5 time constants) the readings have settled: 10 °C, below the
+	// fitted 20 °C, is unreachable.
+	out, err = runFit(t, path, "--json", "--until", "1500", "--target", "cold=10")
+	if err != nil {
+		t.Fatalf("fit: %v\n%s", err, out)
+	}
+	if got, _ := decodeFit(t, out); got.Targets[0].State != "unreachable" {
+		t.Errorf("cold at 1500 s: %s, want unreachable", got.Targets[0].State)
 	}
 }
 

@@ -61,6 +61,17 @@ type Target struct {
 	Celsius float64
 	// At is the predicted or observed crossing; Earliest and Latest bound a prediction.
 	At, Earliest, Latest time.Time
+	// Due is the time to plan with: for a handling target the interval's late bound,
+	// else At (zero: use At).
+	Due time.Time
+}
+
+// due is the target's Due, or At where Due is not set.
+func (t Target) due() time.Time {
+	if t.Due.IsZero() {
+		return t.At
+	}
+	return t.Due
 }
 
 // Event is the JSON body POSTed to a webhook.
@@ -240,7 +251,7 @@ func (h *hook) targetKind(ch Channel, tg Target) (Kind, bool) {
 	case tg.State == "reached" && h.kinds[KindReached]:
 		return KindReached, true
 	case tg.State == "predicted" && h.kinds[KindSoon] && h.cfg.LeadTime > 0 &&
-		tg.At.After(ch.Now) && tg.At.Sub(ch.Now) <= h.cfg.LeadTime:
+		tg.due().After(ch.Now) && tg.due().Sub(ch.Now) <= h.cfg.LeadTime:
 		return KindSoon, true
 	}
 	return "", false
@@ -277,6 +288,10 @@ func targetEvent(key string, kind Kind, ch Channel, tg Target, cautions []string
 	}
 	if kind == KindReached {
 		ev.Message = fmt.Sprintf("%s reached %s (%s).", ch.Name, tg.Name, temp)
+	} else if tg.Handling {
+		ev.Message = fmt.Sprintf("%s is expected below %s (%s) by %s UTC with high confidence, in about %s (central estimate %s UTC).",
+			ch.Name, tg.Name, temp, tg.due().UTC().Format(time.TimeOnly), tg.due().Sub(ch.Now).Round(time.Minute),
+			tg.At.UTC().Format(time.TimeOnly))
 	} else {
 		ev.Message = fmt.Sprintf("%s is expected to reach %s (%s) in about %s (between %s and %s UTC).",
 			ch.Name, tg.Name, temp, tg.At.Sub(ch.Now).Round(time.Minute),

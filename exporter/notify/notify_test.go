@@ -71,6 +71,7 @@ func plate(now time.Time, state string) Channel {
 	return Channel{Name: "plate", Now: now, Celsius: 61.2, Segment: seg, Targets: []Target{{
 		Name: "handling", State: state, Handling: true, Celsius: 50,
 		At: seg.Add(40 * time.Minute), Earliest: seg.Add(37 * time.Minute), Latest: seg.Add(44 * time.Minute),
+		Due: seg.Add(44 * time.Minute), // a handling target plans with the late bound
 	}}}
 }
 
@@ -140,7 +141,8 @@ func TestDeliveryRetriesAndNoDuplicates(t *testing.T) {
 		soon.TargetCelsius == nil || *soon.TargetCelsius != 50 || len(soon.Cautions) != 1 {
 		t.Errorf("soon event = %+v", soon)
 	}
-	if want := "plate is expected to reach handling (50.0 °C) in about 5m0s (between 10:37:00 and 10:44:00 UTC). This is an estimate: verify before handling."; soon.Message != want {
+	// The lead time counts to the late bound (44 min), not the central estimate.
+	if want := "plate is expected below handling (50.0 °C) by 10:44:00 UTC with high confidence, in about 9m0s (central estimate 10:40:00 UTC). This is an estimate: verify before handling."; soon.Message != want {
 		t.Errorf("message = %q, want %q", soon.Message, want)
 	}
 	if got.At == nil || !got.At.Equal(seg.Add(41*time.Minute)) {

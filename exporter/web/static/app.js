@@ -91,6 +91,7 @@
 
   function headline(ch, handling, isReady) {
     if (ch.fault) return "Check the sensor before trusting this card.";
+    if (ch.empty) return "Empty — no specimen on this position.";
     if (isReady) return "Ready to handle (estimate) — see the cautions.";
     if (!handling) return ch.forecast ? "Tracking." : "Waiting for data.";
     if (handling.state === "predicted") return "Handle in about " + span(Date.parse(handling.at) - dataNow(ch)) + " (estimate)";
@@ -164,9 +165,19 @@
     return r.json();
   }
 
+  // Ambient sensors are the room, shown in the header, never as a specimen's card.
+  function renderRoom(rooms) {
+    const el = document.getElementById("room");
+    if (!el) return;
+    el.textContent = rooms.filter((ch) => ch.latest && ch.latest.celsius != null)
+      .map((ch) => "room " + ch.name + " " + fmtT(ch.latest.celsius) + " °" + units).join(" · ");
+  }
+
   function applyChannels(resp) {
-    state.channels = resp.channels.map((c) => c.name);
-    for (const ch of resp.channels) render(ch);
+    const positions = resp.channels.filter((c) => c.role !== "ambient");
+    renderRoom(resp.channels.filter((c) => c.role === "ambient"));
+    state.channels = positions.map((c) => c.name);
+    for (const ch of positions) render(ch);
     for (const name of [...cards.keys()]) {
       if (!state.channels.includes(name)) { cards.get(name).el.remove(); cards.delete(name); }
     }
@@ -216,6 +227,7 @@
     es.addEventListener("reading", (e) => { state.events++; onReading(JSON.parse(e.data)); });
     es.addEventListener("forecast", (e) => {
       const ch = JSON.parse(e.data);
+      if (ch.role === "ambient") return;
       render(ch);
       renderNext();
       fetchSeries(ch.name);
