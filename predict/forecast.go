@@ -515,6 +515,8 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit
 		if !out.Target.IsWithin() && (math.Abs(out.Celsius-f.fit.ambient()) <= u || f.mismatch || !f.asymptoteSeen()) {
 			out.State = StateInsufficient
+			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C lies short of %.1f °C, but the readings have not visibly settled toward it (or the model does not fit them well enough) to say the target is never reached.",
+				f.fit.ambient(), out.Celsius))
 		}
 		if out.State == StateUnreachable && !f.plausibleRoom() {
 			out.State = StateInsufficient

@@ -154,6 +154,7 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench) {
 			report.RecordBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
 			return
 		case now := <-t.C:
+			r.syncPlaced(bench)
 			bench.FitPending()
 			if r.pendingConfigured != nil {
 				r.startConfigured(r.pendingConfigured)
@@ -166,12 +167,22 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench) {
 	}
 }
 
+// syncPlaced tells bench which channels have an active run: a position with a run
+// holds a specimen and is never shown empty, whatever it reads.
+func (r *recorder) syncPlaced(bench *predict.Bench) {
+	for ch := range r.targets {
+		_, active := r.j.ActiveRunID(ch)
+		bench.SetPlaced(ch, active)
+	}
+}
+
 // resume reloads the last resumeWindow of readings into bench in one pass (one fit per
 // channel at the end) and the newest valid reading of each channel into latest, so a
 // restarted daemon shows forecasts at once rather than from scratch.
 func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest) {
 	n, start := 0, time.Now()
 	var err error
+	r.syncPlaced(bench)
 	bench.Restore(func(observe func(string, time.Time, float64)) {
 		err = r.j.Replay(start.Add(-resumeWindow), func(rd daq.Reading) {
 			if rd.OK() {

@@ -24,6 +24,9 @@ type ForecastPoint struct {
 	At       time.Time `json:"at,omitzero"`
 	Earliest time.Time `json:"earliest,omitzero"`
 	Latest   time.Time `json:"latest,omitzero"`
+	// Estimated marks a reached At that is the fitted crossing (inside a gap of the
+	// readings, or at an unseen core), not a reading's time.
+	Estimated bool `json:"estimated,omitempty"`
 }
 
 type fcKey struct{ run, target string }
@@ -37,11 +40,12 @@ type forecastRow struct {
 // RecordForecast queues a forecast of one target of run for the next commit when it
 // differs meaningfully from the last one recorded (see Options.ForecastMinShift): a
 // new state, or a predicted time or bound that moved. The first "reached" state of a
-// target also stores at as the run's observed crossing. It reports whether the point was
-// queued; it never blocks on the disk.
-func (j *Journal) RecordForecast(runID string, t time.Time, target, state string, at, earliest, latest time.Time) bool {
-	cur := forecastRow{run: runID, ForecastPoint: ForecastPoint{Time: t, Target: target, State: state, At: at, Earliest: earliest, Latest: latest}}
-	k := fcKey{runID, target}
+// target also stores its At as the run's crossing (marked estimated when p is). It
+// reports whether the point was queued; it never blocks on the disk.
+func (j *Journal) RecordForecast(runID string, p ForecastPoint) bool {
+	cur := forecastRow{run: runID, ForecastPoint: p}
+	state := p.State
+	k := fcKey{runID, p.Target}
 	j.mu.Lock()
 	defer j.mu.Unlock()
 	if j.opt.ReadOnly {
@@ -90,13 +94,14 @@ func (j *Journal) forgetForecasts(runID string) {
 
 func insertForecasts(ctx context.Context, tx *sql.Tx, fcs []forecastRow) error {
 	for _, f := range fcs {
-		_, err := tx.ExecContext(ctx, "INSERT INTO forecasts (run_id, t, target, state, at, earliest, latest) VALUES (?, ?, ?, ?, ?, ?, ?)",
-			f.run, f.Time.UnixNano(), f.Target, f.State, nsNull(f.At), nsNull(f.Earliest), nsNull(f.Latest))
+		_, err := tx.ExecContext(ctx, "INSERT INTO forecasts (run_id, t, target, state, at, earliest, latest, estimated) VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
+			f.run, f.Time.UnixNano(), f.Target, f.State, nsNull(f.At), nsNull(f.Earliest), nsNull(f.Latest), f.Estimated)
 		if err != nil {
 			return fmt.Errorf("run %s target %s: %w", f.run, f.Target, err)
 		}
 		if f.crossing && !f.At.IsZero() {
-			_, err := tx.ExecContext(ctx, "INSERT OR IGNORE INTO crossings (run_id, target, at) VALUES (?, ?, ?)", f.run, f.Target, f.At.UnixNano())
+			_, err := tx.ExecContext(ctx, "INSERT OR IGNORE INTO crossings (run_id, target, at, estimated) VALUES (?, ?, ?, ?)",
+				f.run, f.Target, f.At.UnixNano(), f.Estimated)
 			if err != nil {
 				return fmt.Errorf("run %s crossing of %s: %w", f.run, f.Target, err)
 			}
@@ -111,7 +116,7 @@ func (j *Journal) ForecastHistory(runID string) ([]ForecastPoint, error) {
 	if err != nil {
 		return nil, err
 	}
-	rows, err := db.Query("SELECT t, target, state, at, earliest, latest FROM forecasts WHERE run_id = ? ORDER BY t, target, rowid", runID)
+	rows, err := db.Query("SELECT t, target, state, at, earliest, latest, estimated FROM forecasts WHERE run_id = ? ORDER BY t, target, rowid", runID)
 	if err != nil {
 		return nil, fmt.Errorf("journal %s: forecast history of run %s: %w", j.path, runID, err)
 	}
@@ -123,7 +128,7 @@ func (j *Journal) ForecastHistory(runID string) ([]ForecastPoint, error) {
 			t          int64
 			at, lo, hi sql.NullInt64
 		)
-		if err := rows.Scan(&t, &p.Target, &p.State, &at, &lo, &hi); err != nil {
+		if err := rows.Scan(&t, &p.Target, &p.State, &at, &lo, &hi, &p.Estimated); err != nil {
 			return nil, fmt.Errorf("journal %s: forecast history of run %s: %w", j.path, runID, err)
 		}
 		p.Time, p.At, p.Earliest, p.Latest = time.Unix(0, t), nsTime(at), nsTime(lo), nsTime(hi)
@@ -153,6 +158,29 @@ func (j *Journal) Crossings(runID string) (map[string]time.Time, error) {
 			return nil, fmt.Errorf("journal %s: crossings of run %s: %w", j.path, runID, err)
 		}
 		out[name] = time.Unix(0, at)
+	}
+	return out, rows.Err()
+}
+
+// EstimatedCrossings names the targets of run whose recorded crossing is estimated
+// (the fitted crossing inside a gap of the readings, or at an unseen core).
+func (j *Journal) EstimatedCrossings(runID string) (map[string]bool, error) {
+	db, err := j.reader()
+	if err != nil {
+		return nil, err
+	}
+	rows, err := db.Query("SELECT target FROM crossings WHERE run_id = ? AND estimated != 0", runID)
+	if err != nil {
+		return nil, fmt.Errorf("journal %s: estimated crossings of run %s: %w", j.path, runID, err)
+	}
+	defer rows.Close()
+	out := map[string]bool{}
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			return nil, fmt.Errorf("journal %s: estimated crossings of run %s: %w", j.path, runID, err)
+		}
+		out[name] = true
 	}
 	return out, rows.Err()
 }

@@ -149,7 +149,7 @@ func TestForecastHistoryKeepsMeaningfulChanges(t *testing.T) {
 		if s.state == "reached" {
 			a, lo, hi = t0.Add(55*time.Second), time.Time{}, time.Time{}
 		}
-		if got := j.RecordForecast("r1", t0.Add(s.dt), "handle", s.state, a, lo, hi); got != s.kept {
+		if got := j.RecordForecast("r1", ForecastPoint{Time: t0.Add(s.dt), Target: "handle", State: s.state, At: a, Earliest: lo, Latest: hi}); got != s.kept {
 			t.Errorf("step %d (%+v): kept %v, want %v", i, s, got, s.kept)
 		}
 	}
@@ -164,6 +164,20 @@ func TestForecastHistoryKeepsMeaningfulChanges(t *testing.T) {
 	cross, err := j.Crossings("r1")
 	if err != nil || !cross["handle"].Equal(t0.Add(55*time.Second)) || len(cross) != 1 {
 		t.Errorf("crossings = %v, %v, want handle at t0+55 s", cross, err)
+	}
+	if est, err := j.EstimatedCrossings("r1"); err != nil || len(est) != 0 {
+		t.Errorf("estimated crossings = %v, %v; want none (handle was observed)", est, err)
+	}
+	// A crossing inside a gap of the readings is recorded as estimated.
+	j.RecordForecast("r1", ForecastPoint{Time: t0.Add(90 * time.Second), Target: "settled", State: "reached",
+		At: t0.Add(80 * time.Second), Estimated: true})
+	mustFlush(t, j)
+	est, err := j.EstimatedCrossings("r1")
+	if err != nil || !est["settled"] || len(est) != 1 {
+		t.Errorf("estimated crossings = %v, %v; want settled", est, err)
+	}
+	if hist, _ := j.ForecastHistory("r1"); !hist[len(hist)-1].Estimated {
+		t.Errorf("last history point %+v not marked estimated", hist[len(hist)-1])
 	}
 }
 

@@ -8,7 +8,7 @@ import (
 )
 
 // SchemaVersion is the schema version this package writes (SQLite user_version).
-const SchemaVersion = 1
+const SchemaVersion = 2
 
 // ErrSchemaTooNew is returned by Open when the file was written by a newer settle.
 var ErrSchemaTooNew = errors.New("journal: schema is newer than this settle understands")
@@ -61,6 +61,10 @@ var migrations = []string{
 		at     INTEGER NOT NULL,
 		PRIMARY KEY (run_id, target)
 	);`,
+	// 2: a crossing (and a forecast) whose time is the fitted one inside a gap of the
+	// readings, or at a surface-sensed specimen's unseen core, is marked estimated.
+	`ALTER TABLE crossings ADD COLUMN estimated INTEGER NOT NULL DEFAULT 0;
+	ALTER TABLE forecasts ADD COLUMN estimated INTEGER NOT NULL DEFAULT 0;`,
 }
 
 // migrate brings the schema of db up to SchemaVersion, one transaction per step.

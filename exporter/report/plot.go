@@ -170,7 +170,11 @@ func addTarget(p *plot.Plot, t TargetSummary, i int, start, end time.Time, lo, h
 	if err := marker(p, t.PredictedAt, *t.Celsius, start, c, draw.RingGlyph{}, ""); err != nil {
 		return err
 	}
-	return marker(p, t.Actual, *t.Celsius, start, c, draw.CrossGlyph{}, "reached "+t.Name)
+	label := "reached " + t.Name
+	if t.ActualEstimated {
+		label += " (estimated: in a gap of the readings)"
+	}
+	return marker(p, t.Actual, *t.Celsius, start, c, draw.CrossGlyph{}, label)
 }
 
 func marker(p *plot.Plot, at *time.Time, y float64, start time.Time, c color.Color, g draw.GlyphDrawer, label string) error {

@@ -70,6 +70,9 @@ type TargetSummary struct {
 	Actual *time.Time `json:"actual"`
 	// ActualElapsedS is Actual in seconds since the run's start.
 	ActualElapsedS *float64 `json:"actual_elapsed_s"`
+	// ActualEstimated marks an Actual that is the fitted crossing inside a gap of the
+	// readings (an unplugged logger) or at an unseen core, not a reading's time.
+	ActualEstimated bool `json:"actual_estimated"`
 	// History is how the forecast converged: each stored forecast, with its error
 	// against the observed crossing when there is one.
 	History []HistoryPoint `json:"history"`
@@ -104,12 +107,17 @@ func Build(j *journal.Journal, run journal.Run, fc *predict.Forecast, now time.T
 	if err != nil {
 		return s, err
 	}
+	estimated, err := j.EstimatedCrossings(run.ID)
+	if err != nil {
+		return s, err
+	}
 	targets, err := runTargets(run, fc)
 	if err != nil {
 		return s, err
 	}
 	for _, tg := range targets {
 		ts := targetSummary(tg, fc, run.Started, cross[tg.Name], hist)
+		ts.ActualEstimated = ts.Actual != nil && (ts.ActualEstimated || estimated[tg.Name])
 		if tg.Handling {
 			s.Cautions = exporter.HandlingCautions
 		}
@@ -176,7 +184,7 @@ func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.T
 				ts.Celsius, ts.State = jsonval.Num(tf.Celsius), string(tf.State)
 				ts.PredictedAt, ts.Earliest, ts.Latest = jsonval.Time(tf.At), jsonval.Time(tf.Earliest), jsonval.Time(tf.Latest)
 				if tf.State == predict.StateReached && actual.IsZero() {
-					actual = tf.At
+					actual, ts.ActualEstimated = tf.At, tf.Estimated // not recorded yet
 				}
 			}
 		}

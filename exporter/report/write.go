@@ -170,7 +170,8 @@ func RecordForecasts(j *journal.Journal, runID string, fc *predict.Forecast) {
 		return
 	}
 	for _, tf := range fc.Targets {
-		j.RecordForecast(runID, fc.FittedAt, tf.Target.Name, string(tf.State), tf.At, tf.Earliest, tf.Latest)
+		j.RecordForecast(runID, journal.ForecastPoint{Time: fc.FittedAt, Target: tf.Target.Name, State: string(tf.State),
+			At: tf.At, Earliest: tf.Earliest, Latest: tf.Latest, Estimated: tf.Estimated})
 	}
 }
 
