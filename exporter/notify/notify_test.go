@@ -288,3 +288,24 @@ func TestRedact(t *testing.T) {
 		t.Errorf("redact = %q", got)
 	}
 }
+
+// TestOnlyReadingsBackedStatesNotify: an empty position, an insufficient or an
+// unreachable target sends nothing (never "reached"), and a handling target's "soon"
+// waits for its due time (the interval's late end), not the central estimate.
+func TestOnlyReadingsBackedStatesNotify(t *testing.T) {
+	n, _ := start(t, []config.Webhook{{Name: "all", URL: "http://127.0.0.1:1/unused", LeadTime: 5 * time.Minute}}, Options{})
+	h := n.hooks[0]
+	for _, state := range []string{"empty", "insufficient", "unreachable"} {
+		if evs := h.events(plate(seg.Add(41*time.Minute), state), nil); len(evs) != 0 {
+			t.Errorf("state %s: events %+v, want none", state, evs)
+		}
+	}
+	// 36 min in: the central estimate (40 min) is 4 min away, inside the 5 min lead,
+	// but the due time (44 min) is 8 min away: no "soon" yet.
+	if evs := h.events(plate(seg.Add(36*time.Minute), "predicted"), nil); len(evs) != 0 {
+		t.Errorf("soon sent %d events 8 min before the due time", len(evs))
+	}
+	if evs := h.events(plate(seg.Add(40*time.Minute), "predicted"), nil); len(evs) != 1 || evs[0].Kind != KindSoon {
+		t.Errorf("4 min before the due time: %+v, want one soon event", evs)
+	}
+}
