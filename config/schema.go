@@ -64,6 +64,9 @@ type Webhook struct {
 type Display struct {
 	// Units is "C" (default) or "F".
 	Units string `mapstructure:"units"`
+	// TimeLapse is set by `settle run --demo` (never read from a file): the simulated
+	// rack's speed, physical seconds per wall second, which the page shows as a badge.
+	TimeLapse float64 `mapstructure:"-"`
 }
 
 // Logger is one data logger on one serial port.

@@ -23,6 +23,15 @@ var HandlingCautions = []string{
 type ChannelsResponse struct {
 	GeneratedAt time.Time     `json:"generated_at"`
 	Channels    []ChannelJSON `json:"channels"`
+	// Demo is set when the daemon reads the built-in simulated rack, so the page can
+	// say that its times are a time-lapse.
+	Demo *DemoJSON `json:"demo,omitempty"`
+}
+
+// DemoJSON describes the demo's time-lapse.
+type DemoJSON struct {
+	// Speed is physical seconds per wall second (60: one wall minute is an hour).
+	Speed float64 `json:"speed"`
 }
 
 // ChannelJSON is one channel in the API.

@@ -151,7 +151,7 @@ func (h *Handler) serveEvents(w http.ResponseWriter, r *http.Request) {
 		}
 		return rc.Flush() == nil
 	}
-	first, _ := json.Marshal(Channels(h.state, time.Now()))
+	first, _ := json.Marshal(h.channels(time.Now()))
 	if !send(event{name: "channels", data: first}) {
 		return
 	}

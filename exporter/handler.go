@@ -115,6 +115,15 @@ func handlerDefaults(opt Options) Options {
 	return opt
 }
 
+// channels is Channels plus the daemon-wide fields (the demo's time-lapse).
+func (h *Handler) channels(now time.Time) ChannelsResponse {
+	resp := Channels(h.state, now)
+	if v := h.opt.Display.TimeLapse; v > 0 {
+		resp.Demo = &DemoJSON{Speed: v}
+	}
+	return resp
+}
+
 func (h *Handler) routes(reg *prometheus.Registry) {
 	m := h.mux
 	m.Handle("GET /metrics", promhttp.HandlerFor(reg, promhttp.HandlerOpts{
@@ -124,7 +133,7 @@ func (h *Handler) routes(reg *prometheus.Registry) {
 		WriteJSON(w, http.StatusOK, map[string]string{"status": "ok"})
 	})
 	m.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
-		WriteJSON(w, http.StatusOK, Channels(h.state, h.opt.Now()))
+		WriteJSON(w, http.StatusOK, h.channels(h.opt.Now()))
 	})
 	m.HandleFunc("GET /api/v1/channels/{name}", h.serveDetail)
 	m.HandleFunc("GET /api/v1/channels/{name}/series", h.serveSeries)

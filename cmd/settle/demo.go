@@ -20,6 +20,7 @@ func startDemo(ctx context.Context, log *slog.Logger) (cfg *config.Config, stop 
 	}
 	sc := sim.DemoScenario()
 	c := sc.DemoConfig(p.Path())
+	c.Display.TimeLapse = sim.DemoSpeed
 	simCtx, cancel := context.WithCancel(ctx)
 	var wg sync.WaitGroup
 	wg.Add(1)

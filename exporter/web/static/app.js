@@ -1,188 +1,382 @@
-// settle rack board: cards and plots from /api/v1, kept live by /api/v1/events.
-// Plain DOM and canvas; no third-party code. Every value from the server is set with
-// textContent, never parsed as HTML.
+// settle rack board: positions from /api/v1/channels kept live by /api/v1/events, runs
+// from /api/v1/runs, history from the journal. Plain DOM and canvas, no third-party
+// code; every value from the server is set with textContent, never parsed as HTML.
 "use strict";
 (function () {
   const units = document.body.dataset.units === "F" ? "F" : "C";
-  const toUnits = (c) => (units === "F" ? c * 9 / 5 + 32 : c);
-  const fmtT = (c) => (c == null ? "—" : toUnits(c).toFixed(1));
-  const cards = new Map(); // channel name → {el, ch, series, dirty}
-  const main = document.getElementById("cards");
+  const toU = (c) => (units === "F" ? c * 9 / 5 + 32 : c);
+  const fmtT = (c) => (c == null ? "—" : toU(c).toFixed(1));
+  const deg = "°" + units;
+  const NEARLY_MS = 10 * 60000; // "nearly there": due within ten minutes (data time)
+  const board = document.getElementById("board");
   const tpl = document.getElementById("card-tpl");
-  const state = { channels: [], plots: {}, events: 0 };
-  window.settle = state; // read by the browser test
+  const cards = new Map(); // channel → {el, ch, series, history, recv, state}
+  const runs = new Map(); // channel → active run
+  const rooms = new Map(); // ambient channel → {el, ch, recv, pts}
+  const S = { chimes: 0, skew: 0, demo: null, ready: [], acks: new Set(), historyLoads: 0 };
+  window.settle = S; // read by the browser test
 
-  // ---- time formatting -------------------------------------------------------
-  const clock = (iso) => new Date(iso).toLocaleTimeString([], { hour: "2-digit", minute: "2-digit" });
+  // ---- settings (URL wins, then this browser) --------------------------------
+  const qs = new URLSearchParams(location.search);
+  const pref = (k, d) => qs.get(k) || localStorage.getItem("settle." + k) || d;
+  const setPref = (k, v) => localStorage.setItem("settle." + k, v);
+  function applyTheme(t) {
+    document.documentElement.dataset.theme = t;
+    document.getElementById("t-theme").textContent = t === "dark" ? "light" : "dark";
+    for (const c of cards.values()) c.dirty = true;
+  }
+  function applyCompact(on) {
+    document.body.classList.toggle("compact", on);
+    document.getElementById("t-compact").setAttribute("aria-pressed", String(on));
+    for (const c of cards.values()) c.dirty = true;
+  }
+  applyTheme(pref("theme", "light"));
+  applyCompact(pref("compact", "0") === "1");
+  document.getElementById("t-theme").onclick = () => {
+    const t = document.documentElement.dataset.theme === "dark" ? "light" : "dark";
+    setPref("theme", t); applyTheme(t);
+  };
+  document.getElementById("t-compact").onclick = () => {
+    const on = !document.body.classList.contains("compact");
+    setPref("compact", on ? "1" : "0"); applyCompact(on);
+  };
+
+  // ---- time ---------------------------------------------------------------
+  // Times on the board are the data's own (simulated in the demo); ages are wall time.
+  const two = (n) => String(n).padStart(2, "0");
+  const hm = (d) => d.getHours() + ":" + two(d.getMinutes());
+  const sameDay = (a, b) => a.getFullYear() === b.getFullYear() && a.getMonth() === b.getMonth() && a.getDate() === b.getDate();
+  const MONTHS = ["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec"];
+  // when: a clock time, with the date when it is not on the reference day.
+  function when(ms, refMs) {
+    const d = new Date(ms), r = new Date(refMs);
+    return sameDay(d, r) ? hm(d) : d.getDate() + " " + MONTHS[d.getMonth()] + " " + hm(d);
+  }
+  // span: a plain duration, never "about under a minute".
   function span(ms) {
-    const m = Math.round(Math.abs(ms) / 60000);
-    if (m < 1) return "under a minute";
+    const s = Math.round(Math.abs(ms) / 1000);
+    if (s < 60) return "< 1 min";
+    const m = Math.round(s / 60);
     if (m < 90) return m + " min";
     const h = Math.floor(m / 60), r = m % 60;
     return h + " h" + (r ? " " + r + " min" : "");
   }
-  const dataNow = (ch) => (ch.latest ? Date.parse(ch.latest.time) : Date.now());
+  function age(ms) {
+    const s = Math.max(0, Math.round(ms / 1000));
+    if (s < 90) return s + " s ago";
+    if (s < 5400) return Math.round(s / 60) + " min ago";
+    return span(ms) + " ago";
+  }
+  const dataNow = (ch) => (ch && ch.latest ? Date.parse(ch.latest.time) : Date.now());
+  const wallNow = () => Date.now() + S.skew; // the daemon's clock
 
-  // ---- cards -----------------------------------------------------------------
+  // ---- states --------------------------------------------------------------
+  const due = (t) => t.due || (t.kind === "handling" ? t.latest : t.at) || t.at || null;
+  const handlingOf = (ch) => (ch.targets || []).find((t) => t.kind === "handling");
+  const LOOK = {
+    hot: ["▲", "hot — not yet safe"], nearly: ["◆", "nearly there"], ready: ["●", "ready to handle (estimate)"],
+    holding: ["◐", "holding"], fault: ["✕", "fault"], empty: ["○", "empty — no specimen"], wait: ["…", "learning the curve"],
+    track: ["—", "tracking"],
+  };
+  // stateOf decides what a card says. Ready needs the API's "reached" for a handling
+  // target AND the newest reading below that target AND no fault.
+  function stateOf(ch) {
+    if (ch.fault) return "fault";
+    const ts = ch.targets || [];
+    if (ch.state === "empty" || ts.some((t) => t.state === "empty")) return "empty";
+    const h = handlingOf(ch);
+    const cel = ch.latest && ch.latest.celsius != null ? ch.latest.celsius : null;
+    if (h) {
+      const below = cel != null && h.celsius != null && cel < h.celsius;
+      if (h.state === "reached" && below) return "ready";
+      if (h.state === "holding") return "holding";
+      if (h.state === "predicted" && due(h) && Date.parse(due(h)) - dataNow(ch) <= NEARLY_MS) return "nearly";
+      if (cel == null) return "wait";
+      if (h.state === "insufficient" && below) return "wait";
+      return "hot";
+    }
+    if (ts.some((t) => t.state === "holding")) return "holding";
+    return ch.forecast ? "track" : "wait";
+  }
+  // rank sorts the board: what needs someone first, then by what is due next.
+  const RANK = { ready: 0, fault: 1, nearly: 2, hot: 3, holding: 4, track: 5, wait: 6, empty: 8 };
+  function sortKey(c) {
+    let r = RANK[c.state] ?? 7;
+    if (c.state === "ready" && S.acks.has(ackKey(c))) r = 7;
+    const nt = nextTarget(c.ch);
+    return [r, nt && due(nt) ? Date.parse(due(nt)) : Infinity, c.ch.name];
+  }
+  function nextTarget(ch) {
+    let best = null;
+    for (const t of ch.targets || []) {
+      if (t.state !== "predicted" && t.state !== "holding") continue;
+      if (!due(t)) continue;
+      if (!best || Date.parse(due(t)) < Date.parse(due(best))) best = t;
+    }
+    return best;
+  }
+  const ackKey = (c) => c.ch.name + "|" + (runs.get(c.ch.name) || {}).id;
+
+  // isAmbient: the API's role, else a channel that another names as its ambient.
+  let ambientNames = new Set();
+  const isAmbient = (ch) => (ch.role ? ch.role === "ambient" : ambientNames.has(ch.name));
+
+  // ---- notes in plain words --------------------------------------------------
+  function plainNotes(ch) {
+    const f = ch.forecast, out = [];
+    if (!f) return out;
+    for (const n of f.notes || []) {
+      if (/^model mismatch/i.test(n)) out.push("Rough forecast: the readings do not follow the model's shape, so the times are wide.");
+      else if (/^no forecast yet/i.test(n)) out.push(n);
+      else if (/lags the surface/i.test(n)) out.push("Handling is judged on the estimated centre, which lags this surface sensor.");
+      else if (/could not be fitted/i.test(n)) out.push(n);
+      else if (/estimated/i.test(n) && /gap/i.test(n)) out.push(n);
+    }
+    if (f.out_of_range) out.push("Model used outside its valid range: treat the times as rough.");
+    return out;
+  }
+
+  // ---- cards ---------------------------------------------------------------
   function card(name) {
     let c = cards.get(name);
     if (c) return c;
     const el = tpl.content.firstElementChild.cloneNode(true);
     el.dataset.channel = name;
-    el.querySelector(".name").textContent = name;
-    el.querySelector(".unit").textContent = "°" + units;
-    main.appendChild(el);
-    c = { el, ch: null, series: null, dirty: true, fetching: false, lastFetch: 0 };
+    el.querySelector(".pos").textContent = name;
+    el.querySelector(".unit").textContent = deg;
+    el.querySelector(".ack").onclick = () => acknowledge(name);
+    el.querySelector(".start").onclick = () => askStart(name);
+    el.querySelector(".stop").onclick = () => stopRun(name);
+    c = { el, ch: null, series: null, history: null, recv: 0, state: "", dirty: true, fetching: false, lastFetch: 0 };
     cards.set(name, c);
     return c;
   }
 
-  function heatColour(c) {
-    if (c == null) return "var(--muted)";
-    const f = Math.max(0, Math.min(1, (c - 20) / 280)); // 20 °C teal … 300 °C and up orange
-    const hue = 175 - f * 150;
-    return "hsl(" + hue + " 85% " + (50 + f * 8) + "%)";
-  }
-
-  function targetText(ch, t) {
-    const now = dataNow(ch);
-    switch (t.state) {
-      case "reached": return ["reached" + (t.at ? " " + clock(t.at) : ""), ""];
-      case "predicted": {
-        const bounds = t.earliest && t.latest ? "between " + clock(t.earliest) + " and " + clock(t.latest) : "";
-        return ["in " + span(Date.parse(t.at) - now) + " · " + clock(t.at), bounds];
-      }
-      case "holding": return ["holding · " + span(Date.parse(t.at) - now) + " left", t.at ? "done " + clock(t.at) : ""];
-      case "unreachable": return ["not reached on this curve", ""];
-      default: return ["not enough data yet", ""];
-    }
-  }
-
   function render(ch) {
-    const c = card(ch.name);
+    if (isAmbient(ch)) { dropCard(ch.name); renderRoom(ch); return; }
+    if (rooms.has(ch.name)) { rooms.get(ch.name).el.remove(); rooms.delete(ch.name); }
+    const c = card(ch.name), el = c.el;
+    const was = c.state;
     c.ch = ch;
-    const el = c.el;
-    const cel = ch.latest && ch.latest.celsius != null ? ch.latest.celsius : null;
-    const tempEl = el.querySelector(".temp");
-    tempEl.textContent = fmtT(cel);
-    tempEl.dataset.celsius = cel == null ? "" : String(cel);
-    el.querySelector(".heat").style.background = heatColour(cel);
-    el.querySelector(".age").textContent = ch.latest ? "at " + new Date(ch.latest.time).toLocaleTimeString() : "no reading yet";
-    const f = ch.forecast;
-    el.querySelector(".model").textContent = f ? f.model + " · " + f.points + " pts" : "no fit yet";
-    renderFault(el, ch.fault);
-    renderTargets(el, ch);
-    const val = el.querySelector(".validity");
-    val.hidden = !(f && f.out_of_range);
-    if (f && f.out_of_range) val.textContent = "Model used outside its validity range: " + (f.notes || []).join(" ");
-    const handling = ch.targets.find((t) => t.kind === "handling");
-    const ready = el.querySelector(".ready");
-    const head = el.querySelector(".headline");
-    const isReady = !!handling && handling.state === "reached" && !ch.fault;
-    ready.hidden = !isReady;
-    if (isReady) {
-      const ul = ready.querySelector("ul");
-      ul.replaceChildren(...(ch.cautions || []).map((s) => { const li = document.createElement("li"); li.textContent = s; return li; }));
-    }
-    head.classList.toggle("ready-now", isReady);
-    head.textContent = headline(ch, handling, isReady);
+    c.state = stateOf(ch);
+    el.className = "card st-" + c.state;
+    el.dataset.state = c.state;
+    el.dataset.fault = ch.fault ? ch.fault.kind : "";
+    const [glyph, word] = LOOK[c.state];
+    el.querySelector(".glyph").textContent = glyph;
+    el.querySelector(".state-word").textContent = ch.fault ? faultWord(ch.fault) : word;
+    renderWho(c);
+    renderReading(c);
+    renderNext(c);
+    const ready = c.state === "ready";
+    el.querySelector(".caution-line").hidden = !ready;
+    el.querySelector(".notes").replaceChildren(...plainNotes(ch).slice(0, 2).map((n) => li(n)));
+    el.querySelector(".notes").title = ch.forecast ? (ch.forecast.notes || []).join("\n") : "";
+    el.toggleAttribute("data-acked", ready && S.acks.has(ackKey(c)));
+    el.querySelector(".ack").hidden = !ready || S.acks.has(ackKey(c));
+    if (ready && was && was !== "ready" && !S.acks.has(ackKey(c))) chime();
     c.dirty = true;
   }
+  const li = (text) => { const e = document.createElement("li"); e.textContent = text; return e; };
 
-  function headline(ch, handling, isReady) {
-    if (ch.fault) return "Check the sensor before trusting this card.";
-    if (ch.empty) return "Empty — no specimen on this position.";
-    if (isReady) return "Ready to handle (estimate) — see the cautions.";
-    if (!handling) return ch.forecast ? "Tracking." : "Waiting for data.";
-    if (handling.state === "predicted") return "Handle in about " + span(Date.parse(handling.at) - dataNow(ch)) + " (estimate)";
-    return targetText(ch, handling)[0];
+  function faultWord(f) {
+    return { open: "fault — open thermocouple", port_down: "fault — logger port lost", stale: "fault — no data" }[f.kind] || "fault — " + f.kind;
   }
 
-  function renderFault(el, fault) {
-    const b = el.querySelector(".fault-banner");
-    el.classList.toggle("faulted", !!fault && fault.kind !== "stale");
-    el.classList.toggle("stale", !!fault && fault.kind === "stale");
-    el.dataset.fault = fault ? fault.kind : "";
-    b.hidden = !fault;
-    if (!fault) return;
-    const title = { open: "OPEN THERMOCOUPLE", stale: "NO RECENT DATA", port_down: "LOGGER PORT LOST" }[fault.kind] || "SENSOR FAULT: " + fault.kind;
-    const small = document.createElement("small");
-    small.textContent = fault.detail || "";
-    b.replaceChildren(document.createTextNode(title), small);
+  function renderWho(c) {
+    const run = runs.get(c.ch.name);
+    const el = c.el;
+    el.querySelector(".specimen").textContent = run ? run.specimen : c.state === "empty" ? "" : "no run";
+    const r = el.querySelector(".run");
+    r.textContent = run ? "run since " + when(Date.parse(run.started), dataNow(c.ch)) : "";
+    r.title = run ? "run " + run.id : "";
+    el.querySelector(".start").hidden = !!run;
+    el.querySelector(".stop").hidden = !run;
   }
 
-  function renderTargets(el, ch) {
-    const ul = el.querySelector(".targets");
-    ul.replaceChildren(...ch.targets.map((t) => {
-      const li = document.createElement("li");
-      li.dataset.target = t.name;
-      li.dataset.state = t.state;
-      li.dataset.at = t.at || "";
-      const [state, bounds] = targetText(ch, t);
-      const name = document.createElement("span");
-      name.className = "tname";
-      name.textContent = t.name + (t.celsius != null ? " · " + fmtT(t.celsius) + " °" + units : "");
-      const st = document.createElement("span");
-      st.className = "tstate";
-      st.textContent = state;
-      li.append(name, st);
-      if (bounds) {
-        const b = document.createElement("span");
-        b.className = "tbounds";
-        b.textContent = bounds;
-        li.append(b);
-      }
-      return li;
-    }));
+  function renderReading(c) {
+    const ch = c.ch, el = c.el;
+    const cel = ch.latest && ch.latest.celsius != null ? ch.latest.celsius : null;
+    const t = el.querySelector(".temp");
+    t.textContent = fmtT(cel);
+    t.dataset.celsius = cel == null ? "" : String(cel);
+    renderLink(c);
   }
 
-  function renderNext() {
-    const soon = [];
-    for (const { ch } of cards.values()) {
-      if (!ch) continue;
-      const h = ch.targets.find((t) => t.kind === "handling");
-      if (h && h.state === "predicted" && h.at) soon.push([Date.parse(h.at) - dataNow(ch), ch.name]);
+  // renderLink: the logger's link (from the daemon's fault kinds), never the browser's.
+  function renderLink(c) {
+    const ch = c.ch, el = c.el.querySelector(".link-state");
+    const f = ch.fault;
+    let kind = "ok", text;
+    if (f && f.kind === "port_down") { kind = "port_down"; text = "logger port lost" + (f.since ? " since " + when(Date.parse(f.since), dataNow(ch)) : ""); }
+    else if (f && f.kind === "stale") { kind = "stale"; text = "logger silent: " + (f.detail || "no recent reading"); }
+    else if (!ch.latest) { kind = "none"; text = "no reading yet — check the logger's port and wiring"; }
+    else if (f) { kind = "sensor"; text = f.detail || "sensor fault"; }
+    else text = "logger sending";
+    el.dataset.link = kind;
+    el.textContent = text;
+    el.title = f ? f.detail || "" : "";
+  }
+
+  function renderNext(c) {
+    const ch = c.ch, p = c.el.querySelector(".next");
+    const now = dataNow(ch);
+    p.replaceChildren();
+    const h = handlingOf(ch);
+    const add = (cls, text) => { const s = document.createElement("span"); if (cls) s.className = cls; s.textContent = text; p.append(s); return s; };
+    if (c.state === "empty") { add("", "Place a specimen and start a run to forecast it."); return; }
+    if (c.state === "fault") { add("", ch.fault.detail || "Check the sensor and the logger."); return; }
+    if (c.state === "ready") {
+      add("", "Below " + fmtT(h.celsius) + " " + deg + (h.at ? " since " + when(Date.parse(h.at), now) : ""));
+      const nt = nextTarget(ch);
+      if (nt) add("interval", "next: " + nt.name + " " + dueText(nt, now));
+      return;
     }
-    const ready = [...cards.values()].filter(({ ch }) => ch && !ch.fault && ch.targets.some((t) => t.kind === "handling" && t.state === "reached")).length;
-    const faults = [...cards.values()].filter(({ ch }) => ch && ch.fault).length;
-    soon.sort((a, b) => a[0] - b[0]);
-    const el = document.getElementById("next");
-    const parts = [];
-    if (soon.length) parts.push(["Next: ", soon[0][1], " in about " + span(soon[0][0])]);
-    parts.push(["", String(ready), " ready to handle (estimate)"]);
-    if (faults) parts.push(["", String(faults), faults === 1 ? " fault" : " faults"]);
-    el.replaceChildren(...parts.flatMap(([a, b, c], i) => {
-      const bold = document.createElement("b");
-      bold.textContent = b;
-      return [document.createTextNode((i ? " · " : "") + a), bold, document.createTextNode(c)];
-    }));
+    if (h && h.state === "reached") {
+      // The fit says reached but the newest reading is not below the target: not ready.
+      add("", "Fit says below " + fmtT(h.celsius) + " " + deg + ", readings do not yet: wait.");
+      return;
+    }
+    const t = nextTarget(ch);
+    if (!t) {
+      if (h && h.state === "unreachable") add("", "Will not get below " + fmtT(h.celsius) + " " + deg + " on this curve (settles above it).");
+      else if (!ch.forecast || (h && h.state === "insufficient")) add("", "Learning the curve: no forecast yet.");
+      else add("", "No target ahead.");
+      return;
+    }
+    const isH = t.kind === "handling";
+    add("", (isH ? "Below " : t.name + " ") + (t.celsius != null ? (isH ? "" : "· ") + fmtT(t.celsius) + " " + deg + " " : "") + (t.state === "holding" ? "held until " : "by "));
+    const d = Date.parse(due(t));
+    add("due", when(d, now));
+    add("", d - now > 0 ? " (in " + span(d - now) + ")" : " (due now)");
+    const bits = [];
+    if (isH && t.at && t.at !== due(t)) bits.push("likely " + when(Date.parse(t.at), now));
+    if (t.earliest && t.latest && t.earliest !== t.latest) {
+      const a = Date.parse(t.earliest), b = Date.parse(t.latest);
+      bits.push("90 % interval " + when(a, now) + "–" + (sameDay(new Date(a), new Date(b)) ? hm(new Date(b)) : when(b, now)));
+    }
+    if (bits.length) add("interval", bits.join(" · "));
+    p.dataset.target = t.name;
+    p.dataset.due = due(t);
+  }
+  function dueText(t, now) {
+    const d = Date.parse(due(t));
+    return "by " + when(d, now) + (d > now ? " (in " + span(d - now) + ")" : "");
   }
 
-  // ---- data ------------------------------------------------------------------
+  function dropCard(name) {
+    const c = cards.get(name);
+    if (c) { c.el.remove(); cards.delete(name); }
+  }
+
+  // ---- the room (ambient sensors) -------------------------------------------
+  function renderRoom(ch) {
+    let r = rooms.get(ch.name);
+    if (!r) {
+      const el = document.createElement("div");
+      el.className = "room-item";
+      el.dataset.channel = ch.name;
+      for (const cls of ["rt", "rn", "ra"]) { const s = document.createElement("span"); s.className = cls; el.append(s); }
+      el.append(document.createElement("canvas"));
+      document.getElementById("room-list").append(el);
+      r = { el, ch, recv: 0, pts: [] };
+      rooms.set(ch.name, r);
+    }
+    r.ch = ch;
+    const cel = ch.latest && ch.latest.celsius != null ? ch.latest.celsius : null;
+    r.el.querySelector(".rt").textContent = fmtT(cel) + " " + deg;
+    r.el.querySelector(".rn").textContent = ch.name;
+    r.el.toggleAttribute("data-fault", !!ch.fault);
+    r.el.title = ch.fault ? faultWord(ch.fault) + ": " + (ch.fault.detail || "") : "ambient sensor " + ch.name;
+    document.getElementById("room").hidden = rooms.size === 0;
+  }
+
+  // ---- header summary --------------------------------------------------------
+  function renderSummary() {
+    const list = [...cards.values()].filter((c) => c.ch);
+    list.sort((a, b) => {
+      const ka = sortKey(a), kb = sortKey(b);
+      for (let i = 0; i < 3; i++) if (ka[i] !== kb[i]) return ka[i] < kb[i] ? -1 : 1;
+      return 0;
+    });
+    // Reorder only when the order changed, so focus and hover are not disturbed.
+    const order = list.map((c) => c.el);
+    if (order.some((el, i) => board.children[i] !== el)) board.append(...order);
+    const ready = list.filter((c) => c.state === "ready");
+    S.ready = ready.map((c) => c.ch.name);
+    const faults = list.filter((c) => c.state === "fault").length;
+    const next = list.filter((c) => c.state === "nearly" || c.state === "hot").map((c) => [c, nextTarget(c.ch)]).filter(([, t]) => t && t.kind === "handling")[0];
+    const sum = document.getElementById("summary");
+    const parts = [];
+    const b = (text) => { const e = document.createElement("b"); e.textContent = text; return e; };
+    parts.push(b(String(ready.length)), document.createTextNode(" ready to handle (estimate)"));
+    if (next) {
+      const [c, t] = next;
+      const now = dataNow(c.ch);
+      parts.push(document.createTextNode(" · next: "), b((runs.get(c.ch.name) || {}).specimen || c.ch.name),
+        document.createTextNode(" below " + fmtT(t.celsius) + " " + deg + " " + dueText(t, now)));
+    }
+    if (faults) parts.push(document.createTextNode(" · "), b(String(faults)), document.createTextNode(faults === 1 ? " fault" : " faults"));
+    sum.replaceChildren(...parts);
+    document.getElementById("cautions").toggleAttribute("data-ready", ready.length > 0);
+  }
+
+  // ---- ages tick every second -------------------------------------------------
+  function tick() {
+    const now = Date.now();
+    for (const c of [...cards.values(), ...rooms.values()]) {
+      const el = c.el.querySelector(".age") || c.el.querySelector(".ra");
+      if (!c.ch || !c.ch.latest) { if (el) el.textContent = "no reading yet"; continue; }
+      if (!c.recv) continue;
+      const a = now - c.recv;
+      el.textContent = age(a);
+      el.toggleAttribute("data-old", a > 30000);
+    }
+  }
+
+  // ---- data ----------------------------------------------------------------
+  const token = () => sessionStorage.getItem("settle.token") || "";
   async function getJSON(url) {
     const r = await fetch(url, { cache: "no-store" });
     if (!r.ok) throw new Error(url + ": " + r.status);
     return r.json();
   }
 
-  // Ambient sensors are the room, shown in the header, never as a specimen's card.
-  function renderRoom(rooms) {
-    const el = document.getElementById("room");
-    if (!el) return;
-    el.textContent = rooms.filter((ch) => ch.latest && ch.latest.celsius != null)
-      .map((ch) => "room " + ch.name + " " + fmtT(ch.latest.celsius) + " °" + units).join(" · ");
+  function applyChannels(resp) {
+    S.skew = Date.parse(resp.generated_at) - Date.now();
+    S.demo = resp.demo || null;
+    const demo = document.getElementById("demo");
+    demo.hidden = !S.demo;
+    if (S.demo) demo.textContent = "DEMO — " + S.demo.speed + "× time-lapse · simulated times";
+    ambientNames = new Set(resp.channels.map((c) => c.ambient).filter(Boolean));
+    const names = new Set(resp.channels.map((c) => c.name));
+    for (const ch of resp.channels) render(ch);
+    for (const name of [...cards.keys()]) if (!names.has(name)) dropCard(name);
+    for (const [name, r] of rooms) if (!names.has(name)) { r.el.remove(); rooms.delete(name); }
+    renderSummary();
+    for (const ch of resp.channels) { fetchReceived(ch.name); if (cards.has(ch.name)) fetchSeries(ch.name); }
   }
 
-  function applyChannels(resp) {
-    const positions = resp.channels.filter((c) => c.role !== "ambient");
-    renderRoom(resp.channels.filter((c) => c.role === "ambient"));
-    state.channels = positions.map((c) => c.name);
-    for (const ch of positions) render(ch);
-    for (const name of [...cards.keys()]) {
-      if (!state.channels.includes(name)) { cards.get(name).el.remove(); cards.delete(name); }
-    }
-    renderNext();
-    for (const name of state.channels) fetchSeries(name);
+  // fetchReceived learns when the newest reading reached the daemon (wall clock), so the
+  // age ticks from the right moment after a page load.
+  async function fetchReceived(name) {
+    try {
+      const d = await getJSON("/api/v1/channels/" + encodeURIComponent(name));
+      const c = cards.get(name) || rooms.get(name);
+      if (c && d.last_received) c.recv = Date.parse(d.last_received) - S.skew;
+    } catch (e) { /* the next reading sets it */ }
+  }
+
+  async function fetchRuns() {
+    try {
+      const r = await getJSON("/api/v1/runs?active=true");
+      runs.clear();
+      for (const run of r.runs || []) runs.set(run.channel, run);
+      S.runsOK = true;
+    } catch (e) { S.runsOK = false; }
+    for (const c of cards.values()) if (c.ch) { renderWho(c); }
+    renderSummary();
+    for (const name of cards.keys()) loadHistory(name);
   }
 
   async function fetchSeries(name) {
@@ -193,164 +387,339 @@
       c.series = await getJSON("/api/v1/channels/" + encodeURIComponent(name) + "/series?max_points=500");
       c.lastFetch = Date.now();
       c.dirty = true;
+      loadHistory(name);
     } catch (e) {
-      /* the next forecast event or poll retries */
+      /* the next forecast event retries */
     } finally {
       c.fetching = false;
     }
   }
 
+  // loadHistory fills the chart from the journal (the run's readings, downsampled) when
+  // the daemon's in-memory series starts after the run did: after a page reload, a
+  // SIGHUP or a restart the chart keeps the whole run.
+  async function loadHistory(name) {
+    const c = cards.get(name), run = runs.get(name);
+    if (!c || !run || !c.series || c.history === run.id || c.historyBusy) return;
+    const first = c.series.readings.length ? c.series.readings[0][0] : Infinity;
+    if (first - Date.parse(run.started) < 60000) { c.history = run.id; c.journal = []; return; }
+    c.historyBusy = true;
+    try {
+      const r = await fetch("/api/v1/runs/" + encodeURIComponent(run.id) + "/readings.csv", { cache: "no-store" });
+      if (!r.ok) throw new Error(String(r.status));
+      c.journal = downsample(parseCSV(await r.text()), 400);
+      c.history = run.id;
+      S.historyLoads++;
+      c.dirty = true;
+    } catch (e) { /* keep the live series */ } finally { c.historyBusy = false; }
+  }
+  function parseCSV(text) {
+    const out = [];
+    const lines = text.split(/\r?\n/);
+    for (let i = 1; i < lines.length; i++) {
+      const f = lines[i].split(",");
+      if (f.length < 6 || f[4] === "") continue;
+      const t = Date.parse(f[0]), y = parseFloat(f[4]);
+      if (isFinite(t) && isFinite(y)) out.push([t, y]);
+    }
+    return out;
+  }
+  // downsample keeps each bucket's lowest and highest reading, so peaks survive.
+  function downsample(pts, n) {
+    if (pts.length <= n) return pts;
+    const out = [], per = pts.length / (n / 2);
+    for (let b = 0; b < n / 2; b++) {
+      const lo = Math.floor(b * per), hi = Math.min(pts.length, Math.floor((b + 1) * per));
+      let a = pts[lo], z = pts[lo];
+      for (let i = lo; i < hi; i++) { if (pts[i][1] < a[1]) a = pts[i]; if (pts[i][1] > z[1]) z = pts[i]; }
+      if (a[0] <= z[0]) out.push(a, z); else out.push(z, a);
+    }
+    return out;
+  }
+
   function onReading(ev) {
-    const c = cards.get(ev.channel);
+    const c = cards.get(ev.channel) || rooms.get(ev.channel);
     if (!c || !c.ch) return;
     if (c.ch.latest && Date.parse(ev.time) < Date.parse(c.ch.latest.time)) return; // queued before the snapshot
     c.ch.latest = { time: ev.time, celsius: ev.celsius, status: ev.status };
-    const el = c.el.querySelector(".temp");
-    el.textContent = fmtT(ev.celsius);
-    el.dataset.celsius = ev.celsius == null ? "" : String(ev.celsius);
-    c.el.querySelector(".heat").style.background = heatColour(ev.celsius);
+    c.recv = Date.now();
+    if (rooms.has(ev.channel)) {
+      if (ev.celsius != null) { c.pts.push([Date.parse(ev.time), ev.celsius]); if (c.pts.length > 300) c.pts.splice(0, 100); }
+      renderRoom(c.ch); c.dirty = true; return;
+    }
+    const before = c.state;
+    c.state = stateOf(c.ch);
+    if (c.state !== before) render(c.ch); else renderReading(c);
     if (c.series && ev.celsius != null) {
-      const t = Date.parse(ev.time);
-      c.series.readings.push([t, ev.celsius]);
+      c.series.readings.push([Date.parse(ev.time), ev.celsius]);
       if (c.series.readings.length > 3000) fetchSeries(ev.channel);
     }
     c.dirty = true;
   }
 
   function connect() {
-    const link = document.getElementById("link");
-    const text = document.getElementById("link-text");
+    const conn = document.getElementById("conn"), text = document.getElementById("conn-text");
     const es = new EventSource("/api/v1/events");
-    const live = () => { link.className = "link live"; text.textContent = "live"; };
+    const live = () => { conn.dataset.conn = "live"; text.textContent = "screen: live"; };
     es.addEventListener("open", live);
     es.addEventListener("channels", (e) => { live(); applyChannels(JSON.parse(e.data)); });
-    es.addEventListener("reading", (e) => { state.events++; onReading(JSON.parse(e.data)); });
+    es.addEventListener("reading", (e) => onReading(JSON.parse(e.data)));
     es.addEventListener("forecast", (e) => {
       const ch = JSON.parse(e.data);
-      if (ch.role === "ambient") return;
-      render(ch);
-      renderNext();
-      fetchSeries(ch.name);
+      const old = cards.get(ch.name) || rooms.get(ch.name);
+      if (old && old.ch && old.ch.latest && ch.latest && Date.parse(old.ch.latest.time) > Date.parse(ch.latest.time)) ch.latest = old.ch.latest;
+      render(ch); renderSummary(); fetchSeries(ch.name);
     });
     es.addEventListener("fault", (e) => {
       const ev = JSON.parse(e.data);
-      const c = cards.get(ev.channel);
-      if (c && c.ch) { c.ch.fault = ev.fault; render(c.ch); renderNext(); }
+      const c = cards.get(ev.channel) || rooms.get(ev.channel);
+      if (c && c.ch) { c.ch.fault = ev.fault; render(c.ch); renderSummary(); }
     });
     es.addEventListener("heartbeat", live);
-    es.onerror = () => { link.className = "link down"; text.textContent = "reconnecting"; };
+    es.onerror = () => { conn.dataset.conn = "down"; text.textContent = "screen: reconnecting to the daemon"; };
+  }
+
+  // ---- acting: token, runs, acknowledge, chime --------------------------------
+  const msgEl = document.getElementById("msg");
+  function say(text, kind) {
+    msgEl.textContent = text;
+    msgEl.dataset.kind = kind || "info";
+    msgEl.hidden = false;
+    clearTimeout(say.t);
+    say.t = setTimeout(() => { msgEl.hidden = true; }, 12000);
+  }
+  function askToken() {
+    return new Promise((resolve) => {
+      const d = document.getElementById("token-dlg"), input = document.getElementById("token-in");
+      input.value = "";
+      d.onclose = () => {
+        if (d.returnValue === "ok" && input.value) { sessionStorage.setItem("settle.token", input.value); updateSignIn(); resolve(input.value); }
+        else resolve("");
+      };
+      d.returnValue = "";
+      d.showModal();
+    });
+  }
+  function updateSignIn() {
+    document.getElementById("t-token").textContent = token() ? "sign out" : "sign in";
+  }
+  document.getElementById("t-token").onclick = () => {
+    if (token()) { sessionStorage.removeItem("settle.token"); updateSignIn(); say("Token forgotten by this tab."); }
+    else askToken();
+  };
+  updateSignIn();
+
+  // post sends a state-changing request with the token, asking for it once if needed.
+  async function post(url, body) {
+    let tok = token() || (await askToken());
+    if (!tok) { say("Not sent: starting and stopping runs needs the API token.", "error"); return null; }
+    const send = () => fetch(url, { method: "POST", headers: { "Content-Type": "application/json", Authorization: "Bearer " + tok }, body: JSON.stringify(body || {}) });
+    let r = await send();
+    if (r.status === 401) {
+      sessionStorage.removeItem("settle.token"); updateSignIn();
+      say("The daemon refused that token.", "error");
+      tok = await askToken();
+      if (!tok) return null;
+      r = await send();
+    }
+    let data = {};
+    try { data = await r.json(); } catch (e) { /* empty body */ }
+    if (!r.ok) { say("Refused (" + r.status + "): " + (data.error || r.statusText), "error"); if (r.status === 401) { sessionStorage.removeItem("settle.token"); updateSignIn(); } return null; }
+    return data;
+  }
+
+  let startFor = "";
+  function askStart(name) {
+    startFor = name;
+    document.getElementById("start-ch").textContent = name;
+    document.getElementById("start-specimen").value = "";
+    document.getElementById("start-desc").value = "";
+    document.getElementById("start-dlg").returnValue = "";
+    document.getElementById("start-dlg").showModal();
+  }
+  document.getElementById("start-dlg").addEventListener("close", async () => {
+    const d = document.getElementById("start-dlg");
+    if (d.returnValue !== "ok") return;
+    const specimen = document.getElementById("start-specimen").value.trim();
+    const desc = document.getElementById("start-desc").value.trim();
+    if (!specimen) return;
+    const run = await post("/api/v1/runs", { channel: startFor, specimen, description: desc || undefined });
+    if (run) { say("Run " + run.id + " started: " + run.specimen + " on " + run.channel + "."); await fetchRuns(); }
+  });
+  async function stopRun(name) {
+    const run = runs.get(name);
+    if (!run) return;
+    // Two presses within five seconds: a stray tap on a wall screen must not end a run.
+    const btn = cards.get(name).el.querySelector(".stop");
+    if (!btn.dataset.armed) {
+      btn.dataset.armed = "1"; btn.textContent = "press again to stop " + run.specimen;
+      setTimeout(() => { delete btn.dataset.armed; btn.textContent = "stop run"; }, 5000);
+      return;
+    }
+    delete btn.dataset.armed; btn.textContent = "stop run";
+    const done = await post("/api/v1/runs/" + encodeURIComponent(run.id) + "/stop", {});
+    if (done) { say("Run " + done.id + " stopped."); await fetchRuns(); }
+  }
+  // acknowledge marks a ready specimen as seen on this screen: its chime stops and it
+  // moves below the unacknowledged ones. It changes nothing on the daemon.
+  function acknowledge(name) {
+    const c = cards.get(name);
+    if (!c) return;
+    S.acks.add(ackKey(c));
+    sessionStorage.setItem("settle.acks", JSON.stringify([...S.acks]));
+    render(c.ch); renderSummary();
+  }
+  try { for (const k of JSON.parse(sessionStorage.getItem("settle.acks") || "[]")) S.acks.add(k); } catch (e) { /* none */ }
+
+  let audio = null;
+  const chimeBtn = document.getElementById("t-chime");
+  chimeBtn.onclick = () => {
+    const on = chimeBtn.getAttribute("aria-pressed") !== "true";
+    chimeBtn.setAttribute("aria-pressed", String(on));
+    chimeBtn.textContent = on ? "chime on" : "chime off";
+    if (on) { audio = audio || new (window.AudioContext || window.webkitAudioContext)(); audio.resume(); chime(true); }
+  };
+  // chime plays two soft falling tones (a user gesture turned it on).
+  function chime(test) {
+    if (chimeBtn.getAttribute("aria-pressed") !== "true" || !audio) return;
+    if (!test) S.chimes++;
+    const t0 = audio.currentTime;
+    [[880, 0], [660, 0.28]].forEach(([f, dt]) => {
+      const o = audio.createOscillator(), g = audio.createGain();
+      o.type = "sine"; o.frequency.value = f;
+      g.gain.setValueAtTime(0.0001, t0 + dt);
+      g.gain.exponentialRampToValueAtTime(0.25, t0 + dt + 0.03);
+      g.gain.exponentialRampToValueAtTime(0.0001, t0 + dt + 0.5);
+      o.connect(g).connect(audio.destination);
+      o.start(t0 + dt); o.stop(t0 + dt + 0.55);
+    });
   }
 
   // ---- plot ------------------------------------------------------------------
+  const css = (name) => getComputedStyle(document.documentElement).getPropertyValue(name).trim();
   function niceStep(range, n) {
     const raw = range / n, p = Math.pow(10, Math.floor(Math.log10(raw)));
     const m = raw / p;
     return (m < 1.5 ? 1 : m < 3 ? 2 : m < 7 ? 5 : 10) * p;
   }
+  const TIME_STEPS = [1, 2, 5, 10, 15, 20, 30, 60, 120, 180, 360, 720, 1440].map((m) => m * 60000);
+  function timeStep(range, n) { return TIME_STEPS.find((s) => range / s <= n) || TIME_STEPS[TIME_STEPS.length - 1]; }
 
   function draw(c) {
     const cv = c.el.querySelector(".plot");
     const dpr = window.devicePixelRatio || 1;
     const w = cv.clientWidth, h = cv.clientHeight;
     if (!w || !h) return;
-    if (cv.width !== Math.round(w * dpr)) { cv.width = Math.round(w * dpr); cv.height = Math.round(h * dpr); }
+    if (cv.width !== Math.round(w * dpr) || cv.height !== Math.round(h * dpr)) { cv.width = Math.round(w * dpr); cv.height = Math.round(h * dpr); }
     const g = cv.getContext("2d");
     g.setTransform(dpr, 0, 0, dpr, 0, 0);
     g.clearRect(0, 0, w, h);
     const s = c.series, ch = c.ch;
-    const reads = s ? s.readings : [];
-    const curve = s ? s.curve : [];
+    const live = s ? s.readings : [];
+    const first = live.length ? live[0][0] : Infinity;
+    const reads = (c.journal || []).filter(([t]) => t < first).concat(live);
+    const curve = s ? s.curve || [] : [];
+    const centre = s ? s.centre || [] : [];
     const targets = (ch && ch.targets) || [];
-    const info = { readings: reads.length, curve: curve.length, targets: 0, bands: 0 };
-    state.plots[ch ? ch.name : ""] = info;
     cv.dataset.readings = String(reads.length);
+    cv.dataset.journal = String((c.journal || []).length);
     cv.dataset.curve = String(curve.length);
-    if (!reads.length && !curve.length) {
-      g.fillStyle = "#93a1b3"; g.font = "14px sans-serif"; g.fillText("waiting for readings…", 12, 24);
-      return;
-    }
-    // Extent: readings, curve and the target crossings.
-    let t0 = Infinity, t1 = -Infinity, y0 = Infinity, y1 = -Infinity;
-    const grow = (t, y) => { if (t < t0) t0 = t; if (t > t1) t1 = t; if (y != null) { if (y < y0) y0 = y; if (y > y1) y1 = y; } };
-    for (const [t, y] of reads) grow(t, toUnits(y));
-    for (const [t, y] of curve) grow(t, toUnits(y));
-    // The time axis runs to the end of the next target's interval, so the data and
-    // the coming crossing fill the plot; later targets are drawn where they fall.
-    const upcoming = targets.filter((tg) => tg.state === "predicted" && tg.latest).map((tg) => Date.parse(tg.latest));
-    if (upcoming.length) t1 = Math.max(reads.length ? reads[reads.length - 1][0] : t0 + 60000, Math.min(...upcoming));
-    const visible = curve.filter(([t]) => t <= t1);
-    y0 = Infinity; y1 = -Infinity;
-    for (const [, y] of reads) { y0 = Math.min(y0, toUnits(y)); y1 = Math.max(y1, toUnits(y)); }
-    for (const [, y] of visible) { y0 = Math.min(y0, toUnits(y)); y1 = Math.max(y1, toUnits(y)); }
-    for (const tg of targets) if (tg.celsius != null) { y0 = Math.min(y0, toUnits(tg.celsius)); y1 = Math.max(y1, toUnits(tg.celsius)); }
+    const fs = Math.max(11, Math.round(parseFloat(getComputedStyle(document.documentElement).fontSize) * 0.72));
+    g.font = fs + "px DejaVu Sans, sans-serif";
+    const ink = css("--plot-read"), muted = css("--muted"), grid = css("--plot-grid"), stInk = getComputedStyle(c.el).getPropertyValue("--st-ink").trim();
+    if (!reads.length) { g.fillStyle = muted; g.fillText("no readings yet", 8, fs + 4); cv.dataset.targets = "0"; return; }
+    let t0 = reads[0][0], t1 = reads[reads.length - 1][0];
+    const nt = ch && nextTarget(ch);
+    if (nt && due(nt)) t1 = Math.max(t1, Math.min(Date.parse(due(nt)), t1 + (t1 - t0) * 2));
     if (t1 <= t0) t1 = t0 + 60000;
-    const pad = Math.max(1, (y1 - y0) * 0.06);
+    let y0 = Infinity, y1 = -Infinity;
+    const grow = (y) => { y0 = Math.min(y0, toU(y)); y1 = Math.max(y1, toU(y)); };
+    for (const [, y] of reads) grow(y);
+    for (const [t, y] of curve) if (t >= t0 && t <= t1) grow(y);
+    for (const tg of targets) if (tg.celsius != null) grow(tg.celsius);
+    const pad = Math.max(1, (y1 - y0) * 0.08);
     y0 -= pad; y1 += pad;
-    const L = 46, R = 10, T = 8, B = 22;
+    const L = fs * 3.1, R = 6, T = 4, B = fs + 6;
     const X = (t) => L + (t - t0) / (t1 - t0) * (w - L - R);
     const Y = (y) => T + (y1 - y) / (y1 - y0) * (h - T - B);
-    // Grid and axes.
-    g.font = "11px sans-serif"; g.fillStyle = "#93a1b3"; g.strokeStyle = "#232c38"; g.lineWidth = 1;
-    const ys = niceStep(y1 - y0, 4);
+    g.lineWidth = 1; g.strokeStyle = grid; g.fillStyle = muted;
+    const ys = niceStep(y1 - y0, Math.max(2, Math.floor((h - T - B) / (fs * 2.2))));
+    g.textAlign = "right";
     for (let y = Math.ceil(y0 / ys) * ys; y <= y1; y += ys) {
       g.beginPath(); g.moveTo(L, Y(y)); g.lineTo(w - R, Y(y)); g.stroke();
-      g.fillText(y.toFixed(ys < 1 ? 1 : 0), 4, Y(y) + 4);
+      g.fillText(y.toFixed(ys < 1 ? 1 : 0), L - 4, Y(y) + fs * 0.35);
     }
-    const xs = niceStep((t1 - t0) / 60000, 4) * 60000;
-    for (let t = Math.ceil(t0 / xs) * xs; t <= t1; t += xs) {
+    g.textAlign = "center";
+    const xs = timeStep(t1 - t0, Math.max(2, Math.floor((w - L - R) / (fs * 5))));
+    const tz = new Date(t0).getTimezoneOffset() * 60000;
+    for (let t = Math.ceil((t0 - tz) / xs) * xs + tz; t <= t1; t += xs) {
       g.beginPath(); g.moveTo(X(t), T); g.lineTo(X(t), h - B); g.stroke();
-      g.fillText(new Date(t).toLocaleTimeString([], { hour: "2-digit", minute: "2-digit" }), X(t) - 15, h - 6);
+      const label = hm(new Date(t)), lw = g.measureText(label).width / 2;
+      if (X(t) + lw <= w && X(t) - lw >= L - fs) g.fillText(label, X(t), h - 4);
     }
-    // Interval bands and target lines.
+    g.textAlign = "left";
+    let lines = 0;
     for (const tg of targets) {
       if (tg.celsius == null) continue;
-      info.targets++;
-      const yy = Y(toUnits(tg.celsius));
-      if (tg.earliest && tg.latest) {
-        info.bands++;
+      lines++;
+      const yy = Y(toU(tg.celsius));
+      const isH = tg.kind === "handling";
+      if (tg.earliest && tg.latest && (tg.state === "predicted" || tg.state === "holding")) {
         const a = Math.max(L, X(Date.parse(tg.earliest))), b = Math.min(w - R, X(Date.parse(tg.latest)));
         if (b > a) {
-          g.fillStyle = "rgba(79, 209, 197, 0.10)";
-          g.fillRect(a, T, Math.max(2, b - a), h - T - B);
-          g.fillStyle = "rgba(79, 209, 197, 0.85)";
-          g.fillRect(a, yy - 3, Math.max(2, b - a), 6);
+          g.globalAlpha = 0.18; g.fillStyle = stInk; g.fillRect(a, T, Math.max(2, b - a), h - T - B);
+          g.globalAlpha = 1; g.fillRect(a, yy - 2, Math.max(2, b - a), 4);
         }
       }
-      g.setLineDash([6, 5]); g.strokeStyle = tg.state === "reached" ? "#7ee787" : "#93a1b3";
+      g.setLineDash(isH ? [7, 4] : [2, 4]); g.strokeStyle = isH ? stInk : muted; g.lineWidth = isH ? 1.6 : 1.2;
       g.beginPath(); g.moveTo(L, yy); g.lineTo(w - R, yy); g.stroke(); g.setLineDash([]);
-      g.fillStyle = g.strokeStyle; g.fillText(tg.name, w - R - g.measureText(tg.name).width - 2, yy - 4);
     }
-    g.save();
-    g.beginPath(); g.rect(L, T, w - L - R, h - T - B); g.clip();
-    // Readings.
-    g.strokeStyle = "#ffc857"; g.lineWidth = 2.2; g.beginPath();
-    reads.forEach(([t, y], i) => (i ? g.lineTo(X(t), Y(toUnits(y))) : g.moveTo(X(t), Y(toUnits(y)))));
-    g.stroke();
-    // Fitted curve: solid over the data, dashed beyond it.
-    const last = reads.length ? reads[reads.length - 1][0] : t0;
-    g.strokeStyle = "#9ecbff"; g.lineWidth = 1.6;
-    for (const future of [false, true]) {
-      g.setLineDash(future ? [4, 4] : []); g.beginPath();
-      let on = false;
-      for (const [t, y] of curve) {
-        if ((t > last) !== future && !(future && t === last)) { continue; }
-        on ? g.lineTo(X(t), Y(toUnits(y))) : g.moveTo(X(t), Y(toUnits(y)));
+    g.save(); g.beginPath(); g.rect(L, T, w - L - R, h - T - B); g.clip();
+    const path = (pts, from, to) => {
+      g.beginPath(); let on = false;
+      for (const [t, y] of pts) {
+        if (t < from || t > to || y == null) { on = false; continue; }
+        on ? g.lineTo(X(t), Y(toU(y))) : g.moveTo(X(t), Y(toU(y)));
         on = true;
       }
       g.stroke();
-    }
-    g.setLineDash([]);
+    };
+    const last = reads[reads.length - 1][0];
+    g.strokeStyle = stInk; g.lineWidth = 1.5;
+    g.setLineDash([]); path(curve, t0, last);
+    g.setLineDash([5, 4]); path(curve, last, t1);
+    if (centre.length) { g.setLineDash([1, 3]); g.lineWidth = 2; path(centre, t0, t1); }
+    g.setLineDash([]); g.strokeStyle = ink; g.lineWidth = 2.2; path(reads, t0, t1);
     g.restore();
-    cv.dataset.targets = String(info.targets);
-    cv.setAttribute("aria-label", (ch ? ch.name : "") + ": " + reads.length + " readings, fitted curve, " + info.targets + " targets");
+    cv.dataset.targets = String(lines);
+    cv.setAttribute("aria-label", ch.name + ": " + reads.length + " readings, fitted curve, " + lines + " target lines");
+  }
+
+  function drawRoom(r) {
+    const cv = r.el.querySelector("canvas");
+    const w = cv.clientWidth, h = cv.clientHeight, dpr = window.devicePixelRatio || 1;
+    if (!w || !h || r.pts.length < 2) return;
+    cv.width = Math.round(w * dpr); cv.height = Math.round(h * dpr);
+    const g = cv.getContext("2d");
+    g.setTransform(dpr, 0, 0, dpr, 0, 0);
+    let lo = Infinity, hi = -Infinity;
+    for (const [, y] of r.pts) { lo = Math.min(lo, y); hi = Math.max(hi, y); }
+    if (hi - lo < 1) { const m = (hi + lo) / 2; lo = m - 0.5; hi = m + 0.5; }
+    const t0 = r.pts[0][0], t1 = r.pts[r.pts.length - 1][0] || t0 + 1;
+    g.strokeStyle = css("--room"); g.lineWidth = 1.5; g.beginPath();
+    r.pts.forEach(([t, y], i) => { const x = (t - t0) / Math.max(1, t1 - t0) * (w - 2) + 1, yy = h - 2 - (y - lo) / (hi - lo) * (h - 4); i ? g.lineTo(x, yy) : g.moveTo(x, yy); });
+    g.stroke();
   }
 
   setInterval(() => {
     for (const c of cards.values()) if (c.dirty) { c.dirty = false; draw(c); }
+    for (const r of rooms.values()) if (r.dirty) { r.dirty = false; drawRoom(r); }
   }, 400);
-  setInterval(renderNext, 5000);
+  setInterval(tick, 1000);
+  setInterval(() => { for (const c of cards.values()) if (c.ch) renderNext(c); renderSummary(); }, 5000);
+  setInterval(fetchRuns, 15000);
   window.addEventListener("resize", () => { for (const c of cards.values()) c.dirty = true; });
 
-  getJSON("/api/v1/channels").then(applyChannels).catch(() => {});
+  getJSON("/api/v1/channels").then(applyChannels).then(fetchRuns).catch(() => {});
   connect();
 })();
