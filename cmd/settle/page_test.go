@@ -66,7 +66,7 @@ var viewports = []struct {
 // cardView is what the page shows on one card, read from the DOM.
 type cardView struct {
 	Name, State, Class, Word, Glyph, Specimen, Temp, Celsius, Unit, Age string
-	Next, NextTarget, Due, Link, LinkText, Fault                       string
+	Next, NextTarget, Due, Link, LinkText, Fault                        string
 	Notes                                                               []string
 	CautionLine, Ack, Start, Stop                                       bool
 	StripBG, StateBG                                                    string
