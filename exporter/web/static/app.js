@@ -513,19 +513,27 @@
   async function post(url, body) {
     let tok = token() || (await askToken());
     if (!tok) { say("Not sent: starting and stopping runs needs the API token.", "error"); return null; }
-    const send = () => fetch(url, { method: "POST", headers: { "Content-Type": "application/json", Authorization: "Bearer " + tok }, body: JSON.stringify(body || {}) });
-    let r = await send();
-    if (r.status === 401) {
+    const send = async () => {
+      const r = await fetch(url, { method: "POST", headers: { "Content-Type": "application/json", Authorization: "Bearer " + tok }, body: JSON.stringify(body || {}) });
+      let data = {};
+      try { data = await r.json(); } catch (e) { /* empty body */ }
+      // The daemon answers a wrong token with 403 "wrong token", the runs API alone with 401.
+      return { r, data, badToken: r.status === 401 || (r.status === 403 && /wrong token/i.test(data.error || "")) };
+    };
+    let res = await send();
+    if (res.badToken) {
       sessionStorage.removeItem("settle.token"); updateSignIn();
       say("The daemon refused that token.", "error");
       tok = await askToken();
       if (!tok) return null;
-      r = await send();
+      res = await send();
     }
-    let data = {};
-    try { data = await r.json(); } catch (e) { /* empty body */ }
-    if (!r.ok) { say("Refused (" + r.status + "): " + (data.error || r.statusText), "error"); if (r.status === 401) { sessionStorage.removeItem("settle.token"); updateSignIn(); } return null; }
-    return data;
+    if (!res.r.ok) {
+      if (res.badToken) { sessionStorage.removeItem("settle.token"); updateSignIn(); }
+      say("Refused (" + res.r.status + "): " + (res.data.error || res.r.statusText), "error");
+      return null;
+    }
+    return res.data;
   }
 
   let startFor = "";
@@ -704,7 +712,7 @@
     g.setTransform(dpr, 0, 0, dpr, 0, 0);
     let lo = Infinity, hi = -Infinity;
     for (const [, y] of r.pts) { lo = Math.min(lo, y); hi = Math.max(hi, y); }
-    if (hi - lo < 1) { const m = (hi + lo) / 2; lo = m - 0.5; hi = m + 0.5; }
+    if (hi - lo < 2) { const m = (hi + lo) / 2; lo = m - 1; hi = m + 1; } // a calm line for a steady room
     const t0 = r.pts[0][0], t1 = r.pts[r.pts.length - 1][0] || t0 + 1;
     g.strokeStyle = css("--room"); g.lineWidth = 1.5; g.beginPath();
     r.pts.forEach(([t, y], i) => { const x = (t - t0) / Math.max(1, t1 - t0) * (w - 2) + 1, yy = h - 2 - (y - lo) / (hi - lo) * (h - 4); i ? g.lineTo(x, yy) : g.moveTo(x, yy); });
