@@ -101,6 +101,9 @@ type SeriesResponse struct {
 	Model string `json:"model"`
 	// Curve samples the fitted curve from the segment's start (or From) to To.
 	Curve [][2]float64 `json:"curve"`
+	// Centre samples the estimated centre temperature over the same times when the
+	// sensor is on the surface of a conduction-modelled specimen; absent otherwise.
+	Centre [][2]float64 `json:"centre,omitempty"`
 	// Targets are the target temperatures with their forecasts.
 	Targets []TargetJSON `json:"targets"`
 }
@@ -197,7 +200,11 @@ func Series(s State, name string, q SeriesQuery) (SeriesResponse, bool) {
 	if f := ch.Forecast; f != nil {
 		out.Model = f.Model
 		out.Targets = channelJSON(State{}, ch, time.Time{}).Targets
-		out.Curve = sampleCurve(f, later(out.From, f.SegmentStart), out.To)
+		out.Curve = sampleCurve(f.Curve, later(out.From, f.SegmentStart), out.To)
+		out.Centre = sampleCurve(f.Centre, later(out.From, f.SegmentStart), out.To)
+		if len(out.Centre) == 0 {
+			out.Centre = nil
+		}
 	}
 	return out, true
 }
@@ -228,16 +235,16 @@ func window(q SeriesQuery, pts []Point, f *predict.Forecast) (from, to time.Time
 	return from.UTC(), to.UTC()
 }
 
-// sampleCurve evaluates f.Curve at up to curvePoints evenly spaced times in [from, to].
-func sampleCurve(f *predict.Forecast, from, to time.Time) [][2]float64 {
+// sampleCurve evaluates curve at up to curvePoints evenly spaced times in [from, to].
+func sampleCurve(curve func(time.Time) float64, from, to time.Time) [][2]float64 {
 	out := [][2]float64{}
-	if f.Curve == nil || from.IsZero() || !to.After(from) {
+	if curve == nil || from.IsZero() || !to.After(from) {
 		return out
 	}
 	span := float64(to.Sub(from))
 	for i := range curvePoints {
 		t := from.Add(time.Duration(span * float64(i) / (curvePoints - 1)))
-		if v := f.Curve(t); finite(v) {
+		if v := curve(t); finite(v) {
 			out = append(out, [2]float64{ms(t), round3(v)})
 		}
 	}

@@ -366,6 +366,9 @@ func describeConduction(f *Forecast, cr *condResult, start time.Time, why string
 		f.Notes = append(f.Notes, "The curve does not pin the Biot number down (it ended at the search's bound); h is a bound, not an estimate.")
 	}
 	f.Curve = func(t time.Time) float64 { return c.value(t.Sub(start).Seconds()) }
+	if c.sensor != conduction.Centre {
+		f.Centre = func(t time.Time) float64 { return c.fit.Temperature(conduction.Centre, t.Sub(start).Seconds()+c.offset) }
+	}
 }
 
 // noteHandling adds the core-lag note when a handling target is judged on the

@@ -85,6 +85,14 @@ func TestAnalyzeHandlingFromCentre(t *testing.T) {
 	if !strings.Contains(strings.Join(f.Notes, " "), "handling forecast is based on the centre, which lags the surface") {
 		t.Errorf("no handling note: %q", f.Notes)
 	}
+	// The estimated centre curve (drawn on the page and in figures) follows the exact
+	// centre: 50 °C at the centre's crossing, within 2 °C.
+	if f.Centre == nil {
+		t.Fatal("surface sensor: no centre curve")
+	}
+	if c := f.Centre(t0.Add(time.Duration(tCentre * float64(time.Second)))); math.Abs(c-50) > 2 {
+		t.Errorf("centre curve at the centre's crossing: %.1f °C, want 50 ± 2", c)
+	}
 }
 
 // With the thermocouple at the centre of the same slab, the conduction model follows
@@ -102,6 +110,9 @@ func TestAnalyzeConductionCentre(t *testing.T) {
 	at := f.Targets[0].At.Sub(t0).Seconds()
 	if f.Model != ModelConductionSeries || math.Abs(at-tc) > 0.05*(tc-now) {
 		t.Errorf("with specimen: model %s, crossing %.0f s, want %.0f s; notes %q", f.Model, at, tc, f.Notes)
+	}
+	if f.Centre != nil {
+		t.Error("centre sensor: a separate centre curve was given")
 	}
 	if g := Analyze(p, t0, tg, AnalyzeOptions{}); strings.HasPrefix(g.Model, "conduction") {
 		t.Errorf("without specimen: model %s", g.Model)

@@ -141,4 +141,8 @@ type Forecast struct {
 	Targets []TargetForecast
 	// Curve evaluates the fitted model at a time (°C); nil when there is no fit.
 	Curve func(time.Time) float64 `json:"-"`
+	// Centre evaluates the fitted centre temperature (°C) where the sensor is on the
+	// surface of a conduction-modelled specimen (the handling forecast follows it); nil
+	// otherwise.
+	Centre func(time.Time) float64 `json:"-"`
 }

@@ -4,6 +4,8 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"io"
+	"log/slog"
 	"math"
 	"net/http"
 	"net/http/httptest"
@@ -20,7 +22,9 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/daq/sim"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/exporter/report"
 )
@@ -489,6 +493,15 @@ func boardFixture(t *testing.T, now time.Time) string {
 			t.Fatal(err)
 		}
 	}
+	// p04's run is in the journal from its start; the daemon's memory (the series)
+	// holds only its last ten minutes, as after a restart or a reload.
+	for i := 0; i <= 240; i++ {
+		at := now.Add(-40*time.Minute + time.Duration(i*10)*time.Second)
+		j.Append(daq.Reading{Channel: "p04-hot", Logger: "bench1", Time: at, Celsius: boardCurve(183, now.Sub(at)), Status: daq.StatusOK})
+	}
+	if err := j.Flush(); err != nil {
+		t.Fatal(err)
+	}
 	channels := boardChannels(now)
 	mux := http.NewServeMux()
 	runs := report.RunsAPI(j, report.APIOptions{Token: boardToken})
@@ -591,23 +604,27 @@ func boardSeries(name string, channels []map[string]any, now time.Time) map[stri
 		if !ok {
 			return out
 		}
-		const tau = 30 * 60.0
-		amb, start := 21.0, 0.0
-		start = amb + (end-amb)*math.Exp(40*60/tau)
-		var rs, cs [][2]float64
-		for i := 0; i <= 240; i++ {
-			s := float64(i) * 10
-			v := amb + (start-amb)*math.Exp(-s/tau)
-			ms := float64(now.Add(-40*time.Minute + time.Duration(s)*time.Second).UnixMilli())
-			rs = append(rs, [2]float64{ms, math.Round(v*1000) / 1000})
+		keep := 40 * time.Minute
+		if name == "p04-hot" {
+			keep = 10 * time.Minute
 		}
-		for i := 0; i <= 120; i++ {
-			s := float64(i) * 60
-			cs = append(cs, [2]float64{float64(now.Add(-40*time.Minute + time.Duration(s)*time.Second).UnixMilli()), amb + (start-amb)*math.Exp(-s/tau)})
+		var rs, cs [][2]float64
+		for s := keep; s >= 0; s -= 10 * time.Second {
+			rs = append(rs, [2]float64{float64(now.Add(-s).UnixMilli()), math.Round(boardCurve(end, s)*1000) / 1000})
+		}
+		for s := 40 * time.Minute; s >= -80*time.Minute; s -= time.Minute {
+			cs = append(cs, [2]float64{float64(now.Add(-s).UnixMilli()), boardCurve(end, s)})
 		}
 		out["readings"], out["curve"] = rs, cs
 	}
 	return out
+}
+
+// boardCurve is a cooling curve toward 21 °C with a 30-minute time constant that reads
+// end °C now, ago before now.
+func boardCurve(end float64, ago time.Duration) float64 {
+	const amb, tau = 21.0, 30 * 60.0
+	return amb + (end-amb)*math.Exp(ago.Seconds()/tau)
 }
 
 // TestBoardStates loads the hand-made board at three screen sizes and checks each card:
@@ -703,6 +720,10 @@ func TestBoardStates(t *testing.T) {
 			idx(order, "p04-hot") > idx(order, "p05-rough") || idx(order, "p05-rough") > idx(order, "p13-nodue") || order[len(order)-1] != "p06-empty" {
 			t.Errorf("%s: board order %v", vp.name, order)
 		}
+		// History: p04's chart reaches back to its run's start through the journal.
+		if c := byName["p04-hot"]; c.Journal < 100 || c.Readings < c.Journal+50 {
+			t.Errorf("%s: p04's chart has %d readings, %d of them from the journal; want the run's 40 minutes", vp.name, c.Readings, c.Journal)
+		}
 		saveScreenshot(t, tab, dir, "board-"+vp.name)
 	}
 	// Compact mode fits many benches; the ready card keeps its caution line.
@@ -752,4 +773,56 @@ func idxCard(cs []cardView, name string) int {
 		}
 	}
 	return 0
+}
+
+// TestPageKeepsHistoryAfterRestart runs the demo, stops the daemon and starts a new one
+// on the same journal with a logger that sends nothing: the new daemon's memory holds
+// one reading per channel, yet the page's charts show the whole run from the journal.
+func TestPageKeepsHistoryAfterRestart(t *testing.T) {
+	log := slog.New(slog.NewTextHandler(io.Discard, nil))
+	dir := t.TempDir()
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	cfg, stopSim, err := startDemo(ctx, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg.DataDir, cfg.Listen = dir, "127.0.0.1:0"
+	first, err := newDaemon(cfg, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- first.Run(ctx) }()
+	waitFor(t, "http://"+first.Addr(), 60*time.Second, func(m map[string]float64) bool {
+		return m[`settle_fit_points{channel="steel-cyl-a"}`] >= 200
+	})
+	cancel()
+	if err := <-done; err != nil {
+		t.Fatalf("first daemon: %v", err)
+	}
+	stopSim()
+	silent, err := sim.OpenPTY()
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer silent.Close()
+	cfg2 := sim.DemoScenario().DemoConfig(silent.Path())
+	cfg2.DataDir = dir
+	base := startDaemon(t, &cfg2)
+	var s exporter.SeriesResponse
+	getJSON(t, base+"/api/v1/channels/steel-cyl-a/series", &s)
+	tab := browser(t, 1400, 1000)
+	if err := chromedp.Do(tab, chromedp.Navigate(base+"/")); err != nil {
+		t.Fatal(err)
+	}
+	waitPage(t, tab, `+(document.querySelector('.card[data-channel="steel-cyl-a"] canvas.plot') || {dataset: {}}).dataset.journal > 100`,
+		30*time.Second, "the steel chart never loaded the run from the journal")
+	cards, _ := readPage(t, tab)
+	for _, c := range cards {
+		if c.Journal < 100 || c.Readings <= len(s.Readings) {
+			t.Errorf("%s: chart has %d readings (%d from the journal); the daemon's memory has %d", c.Name, c.Readings, c.Journal, len(s.Readings))
+		}
+	}
+	saveScreenshot(t, tab, shotDir(t), "restart-1400x1000")
 }

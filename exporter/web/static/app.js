@@ -128,7 +128,7 @@
     for (const n of f.notes || []) {
       if (/^model mismatch/i.test(n)) out.push("Rough forecast: the readings do not follow the model's shape, so the times are wide.");
       else if (/^no forecast yet/i.test(n)) out.push(n);
-      else if (/lags the surface/i.test(n)) out.push("Handling is judged on the estimated centre, which lags this surface sensor.");
+      else if (/lags the surface/i.test(n)) out.push("Handling is judged on the estimated centre (dotted line), which lags this surface sensor.");
       else if (/could not be fitted/i.test(n)) out.push(n);
       else if (/estimated/i.test(n) && /gap/i.test(n)) out.push(n);
     }
@@ -625,12 +625,13 @@
     const s = c.series, ch = c.ch;
     const live = s ? s.readings : [];
     const first = live.length ? live[0][0] : Infinity;
-    const reads = (c.journal || []).filter(([t]) => t < first).concat(live);
+    const older = (c.journal || []).filter(([t]) => t < first);
+    const reads = older.concat(live);
     const curve = s ? s.curve || [] : [];
     const centre = s ? s.centre || [] : [];
     const targets = (ch && ch.targets) || [];
     cv.dataset.readings = String(reads.length);
-    cv.dataset.journal = String((c.journal || []).length);
+    cv.dataset.journal = String(older.length);
     cv.dataset.curve = String(curve.length);
     const fs = Math.max(11, Math.round(parseFloat(getComputedStyle(document.documentElement).fontSize) * 0.72));
     g.font = fs + "px DejaVu Sans, sans-serif";
