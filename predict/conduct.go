@@ -367,7 +367,9 @@ func describeConduction(f *Forecast, cr *condResult, start time.Time, why string
 	}
 	f.Curve = func(t time.Time) float64 { return c.value(t.Sub(start).Seconds()) }
 	if c.sensor != conduction.Centre {
-		f.Centre = func(t time.Time) float64 { return c.fit.Temperature(conduction.Centre, t.Sub(start).Seconds()+c.offset) }
+		f.Centre = func(t time.Time) float64 {
+			return c.fit.Temperature(conduction.Centre, t.Sub(start).Seconds()+c.offset)
+		}
 	}
 }
 
