@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"image/color"
 	"io"
 	"math"
 	"os"
@@ -14,11 +13,10 @@ import (
 	"time"
 
 	"github.com/spf13/cobra"
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 
 	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -115,6 +113,7 @@ the summary then shows the handling cautions. Forecasts are estimates.`,
 // map its times back onto the file's axis.
 type fitResult struct {
 	curve    predict.CurveFile
+	whole    predict.CurveFile // the file's every row, --until or not (the figure fades the rest)
 	until    float64
 	forecast *predict.Forecast
 	origin   time.Time // the file's t_s = 0
@@ -147,13 +146,14 @@ func (r fitRequest) run() (*fitResult, error) {
 	if err != nil {
 		return nil, err
 	}
+	whole := curve
 	if r.hasUntil {
 		curve = curve.Until(r.until)
 	}
 	if len(curve.Times) == 0 {
 		return nil, fmt.Errorf("%s: no rows with a time%s", r.file, map[bool]string{true: " at or before --until", false: ""}[r.hasUntil])
 	}
-	res := &fitResult{curve: curve, until: curve.Times[len(curve.Times)-1], origin: fitOrigin}
+	res := &fitResult{curve: curve, whole: whole, until: curve.Times[len(curve.Times)-1], origin: fitOrigin}
 	if r.hasUntil {
 		res.until = r.until
 	}
@@ -373,84 +373,37 @@ func (res *fitResult) describe(tg predict.TargetForecast) string {
 	return "insufficient data for a forecast"
 }
 
-// plot writes a PNG: the readings, the fitted curve from the segment start to past the
-// last forecast, each target's level, and its interval as a shaded band.
+// plot writes the figure of the fit (see report.Figure): the readings (faded after
+// --until), the fitted curve, the estimated centre of a surface sensor, each target's
+// level and interval, and the states and notes in the caption.
 func (res *fitResult) plot(path string) error {
-	p := plot.New()
-	p.Title.Text = "settle fit: " + res.forecast.Model
-	p.X.Label.Text = "t_s (s)"
-	p.Y.Label.Text = "°C"
-	var pts plotter.XYs
-	for i, t := range res.curve.Times {
-		if c := res.curve.Celsius[i]; !math.IsNaN(c) {
-			pts = append(pts, plotter.XY{X: t, Y: c})
-		}
+	f := report.Figure{
+		Title:       "settle fit: " + res.forecast.Model,
+		Origin:      res.origin,
+		OriginLabel: "t_s = 0",
+		Forecast:    res.forecast,
+		Cautions:    exporter.HandlingCautions,
 	}
-	if len(pts) == 0 {
+	for i, t := range res.whole.Times {
+		f.Readings = append(f.Readings, report.Sample{Time: res.origin.Add(secondsDur(t)), Celsius: res.whole.Celsius[i]})
+	}
+	if len(f.Readings) == 0 {
 		return errors.New("no readings to plot")
 	}
-	sc, err := plotter.NewScatter(pts)
+	if last := res.whole.Times[len(res.whole.Times)-1]; res.until < last {
+		f.Cutoff = res.origin.Add(secondsDur(res.until))
+	}
+	for _, tg := range res.forecast.Targets {
+		f.Targets = append(f.Targets, report.FigureTarget{Name: tg.Target.Name, Celsius: tg.Celsius, Handling: tg.Target.Handling,
+			State: string(tg.State), At: tg.At, Earliest: tg.Earliest, Latest: tg.Latest})
+	}
+	out, err := os.Create(path)
 	if err != nil {
 		return err
 	}
-	sc.GlyphStyle.Radius = vg.Points(1.2)
-	p.Add(sc)
-	p.Legend.Add("readings", sc)
-	end := res.until
-	for _, tg := range res.forecast.Targets {
-		if !tg.Latest.IsZero() {
-			end = max(end, res.fileTime(tg.Latest))
-		}
-	}
-	if err := res.plotTargets(p, end); err != nil {
+	if err := report.FigurePNG(out, f, 11*vg.Inch, 7.5*vg.Inch); err != nil {
+		out.Close()
 		return err
 	}
-	if c := res.forecast.Curve; c != nil {
-		start := res.fileTime(res.forecast.SegmentStart)
-		fn := plotter.NewFunction(func(x float64) float64 {
-			if x < start {
-				return math.NaN()
-			}
-			return c(res.origin.Add(secondsDur(x)))
-		})
-		fn.Samples = 400
-		fn.Color = color.RGBA{R: 200, A: 255}
-		fn.Width = vg.Points(1.5)
-		p.Add(fn)
-		p.Legend.Add("fitted "+res.forecast.Model, fn)
-	}
-	p.X.Max = max(p.X.Max, end*1.05)
-	return p.Save(16*vg.Centimeter, 10*vg.Centimeter, path)
-}
-
-// plotTargets draws each target's level and its interval band.
-func (res *fitResult) plotTargets(p *plot.Plot, end float64) error {
-	for _, tg := range res.forecast.Targets {
-		if math.IsNaN(tg.Celsius) {
-			continue
-		}
-		line, err := plotter.NewLine(plotter.XYs{{X: 0, Y: tg.Celsius}, {X: end, Y: tg.Celsius}})
-		if err != nil {
-			return err
-		}
-		line.Dashes = []vg.Length{vg.Points(3), vg.Points(3)}
-		line.Color = color.Gray{Y: 100}
-		p.Add(line)
-		if tg.State != predict.StatePredicted {
-			continue
-		}
-		lo, hi := res.fileTime(tg.Earliest), res.fileTime(tg.Latest)
-		d := 0.02 * (p.Y.Max - p.Y.Min + 1)
-		band, err := plotter.NewPolygon(plotter.XYs{
-			{X: lo, Y: tg.Celsius - d}, {X: hi, Y: tg.Celsius - d}, {X: hi, Y: tg.Celsius + d}, {X: lo, Y: tg.Celsius + d},
-		})
-		if err != nil {
-			return err
-		}
-		band.Color = color.RGBA{B: 220, A: 90}
-		band.LineStyle.Width = 0
-		p.Add(band)
-		p.Legend.Add(fmt.Sprintf("%s: 90 %% interval", tg.Target.Name), band)
-	}
-	return nil
+	return out.Close()
 }

@@ -179,8 +179,8 @@ func checkPNG(t *testing.T, path string) {
 	if err != nil {
 		t.Fatalf("PNG %s: %v", path, err)
 	}
-	if b := img.Bounds(); b.Dx() != 960 || b.Dy() != 768 {
-		t.Errorf("PNG is %dx%d, want 960x768 (10 × 8 in at 96 dpi)", b.Dx(), b.Dy())
+	if b := img.Bounds(); b.Dx() != 1152 || b.Dy() != 864 {
+		t.Errorf("PNG is %dx%d, want 1152x864 (12 × 9 in at 96 dpi)", b.Dx(), b.Dy())
 	}
 }
 
