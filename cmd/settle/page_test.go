@@ -256,7 +256,19 @@ func TestPageShowsDemoForecasts(t *testing.T) {
 	if err := chromedp.Do(tab, chromedp.Navigate(base+"/")); err != nil {
 		t.Fatal(err)
 	}
+	// The chime is off until someone turns it on; on, it sounds when a specimen that
+	// this screen saw hot becomes ready (the first demo specimen does after ~13 s).
+	if err := chromedp.Do(tab, chromedp.WaitVisible("#t-chime")); err != nil {
+		t.Fatal(err)
+	}
+	if on, err := chromedp.Run(tab, chromedp.Evaluate[string](`document.getElementById('t-chime').getAttribute('aria-pressed')`)); err != nil || on != "false" {
+		t.Fatalf("chime on at load (%q, %v)", on, err)
+	}
+	if err := chromedp.Do(tab, chromedp.Click("#t-chime")); err != nil {
+		t.Fatal(err)
+	}
 	waitPage(t, tab, fmt.Sprintf(everyDemoCard, len(specimens)), pageWait, "the page never showed every demo specimen with a plot and one ready")
+	waitPage(t, tab, `window.settle.chimes >= 1`, 30*time.Second, "no chime when a specimen became ready")
 	dir := shotDir(t)
 	for _, vp := range viewports {
 		setViewport(t, tab, vp.w, vp.h)
