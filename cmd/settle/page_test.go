@@ -838,3 +838,80 @@ func TestPageKeepsHistoryAfterRestart(t *testing.T) {
 	}
 	saveScreenshot(t, tab, shotDir(t), "restart-1400x1000")
 }
+
+// TestBoardHandMadeConfig runs a daemon on a hand-made configuration: a text-line logger
+// on a pseudo-terminal that this test feeds (a specimen cooling from 120 °C on "pos-a",
+// run HM-1, and the room sensor), and a second logger whose port does not exist ("pos-c").
+// The board must show pos-a hot, then ready with its caution line once the API says
+// reached and the reading is below 50 °C; the room in the header, not as a card; and
+// pos-c as waiting with the logger's link in doubt, never ready.
+func TestBoardHandMadeConfig(t *testing.T) {
+	p, err := sim.OpenPTY()
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close()
+	handling := 50.0
+	target := []config.Target{{Name: "handling", Celsius: &handling, Handling: true}}
+	cfg := &config.Config{
+		Loggers: []config.Logger{
+			{Name: "bench1", Port: p.Path(), Format: "line", Line: config.LineFormat{Separator: ",", ClockColumn: 1,
+				Columns: []config.Column{{Index: 2, Channel: "pos-a"}, {Index: 3, Channel: "room"}}}},
+			{Name: "bench2", Port: "/dev/settle-test-no-such-port", Format: "line", Line: config.LineFormat{Separator: ",",
+				Columns: []config.Column{{Index: 1, Channel: "pos-c"}}}},
+		},
+		Channels: []config.Channel{
+			{Name: "pos-a", Ambient: "room", Targets: target, Run: &config.Run{Specimen: "HM-1"}},
+			{Name: "pos-c", Ambient: "room", Targets: target},
+			{Name: "room"},
+		},
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	go func() { // 2 s of logger time every 1/30 s of wall time: a 60× time-lapse
+		tick := time.NewTicker(time.Second / 30)
+		defer tick.Stop()
+		for i := 0; ; i++ {
+			s := float64(2 * i)
+			line := fmt.Sprintf("%.0f,%.2f,%.2f\n", s, 21+99*math.Exp(-s/400), 21.0+0.05*math.Sin(s/60))
+			if _, err := p.Write([]byte(line)); err != nil {
+				return
+			}
+			select {
+			case <-ctx.Done():
+				return
+			case <-tick.C:
+			}
+		}
+	}()
+	base := startDaemon(t, cfg)
+	tab := browser(t, 1400, 1000)
+	if err := chromedp.Do(tab, chromedp.Navigate(base+"/")); err != nil {
+		t.Fatal(err)
+	}
+	dir := shotDir(t)
+	waitPage(t, tab, `(document.querySelector('.card[data-channel="pos-a"]') || {dataset: {}}).dataset.state === 'hot' && document.querySelector('.card[data-channel="pos-a"] .specimen').textContent === 'HM-1'`,
+		60*time.Second, "pos-a never shown hot with its run")
+	saveScreenshot(t, tab, dir, "handmade-hot")
+	waitPage(t, tab, `document.querySelector('.card[data-channel="pos-a"]').dataset.state === 'ready'`, 90*time.Second, "pos-a never shown ready")
+	cards, b := readPage(t, tab)
+	api := apiChannels(t, base)
+	byName := map[string]cardView{}
+	for _, c := range cards {
+		checkCommon(t, c)
+		byName[c.Name] = c
+	}
+	checkCautions(t, b)
+	if len(cards) != 2 || len(b.RoomChannels) != 1 || b.RoomChannels[0] != "room" {
+		t.Errorf("cards %d (want pos-a and pos-c), room %v", len(cards), b.RoomChannels)
+	}
+	a := byName["pos-a"]
+	shown, _ := strconv.ParseFloat(a.Temp, 64)
+	if h := api["pos-a"].Targets; len(h) != 1 || h[0].State != "reached" || shown >= 50 || !a.CautionLine || a.Specimen != "HM-1" {
+		t.Errorf("pos-a ready at %q °C with API targets %+v, caution line %v, specimen %q", a.Temp, h, a.CautionLine, a.Specimen)
+	}
+	if c := byName["pos-c"]; c.State == "ready" || c.Link != "none" || !strings.Contains(c.LinkText, "check the logger's port") || c.Temp != "—" {
+		t.Errorf("pos-c (missing port): state %s, link %s %q, temperature %q", c.State, c.Link, c.LinkText, c.Temp)
+	}
+	saveScreenshot(t, tab, dir, "handmade-ready")
+}
