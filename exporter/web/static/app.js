@@ -363,7 +363,7 @@
     try {
       const d = await getJSON("/api/v1/channels/" + encodeURIComponent(name));
       const c = cards.get(name) || rooms.get(name);
-      if (c && d.last_received) c.recv = Date.parse(d.last_received) - S.skew;
+      if (c && d.last_received) { c.recv = Date.parse(d.last_received) - S.skew; tick(); }
     } catch (e) { /* the next reading sets it */ }
   }
 
