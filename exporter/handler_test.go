@@ -108,6 +108,18 @@ func TestSeriesValues(t *testing.T) {
 	if _, ok := Series(s, "nope", q); ok {
 		t.Error("a series for an unknown channel")
 	}
+	if got.Centre != nil {
+		t.Errorf("a centre curve for a fit without one: %d points", len(got.Centre))
+	}
+	// A surface sensor's fit carries the estimated centre: sampled at the curve's times.
+	bench := s.Bench.(fakeBench)
+	fc := *bench[0].Forecast
+	fc.Centre = func(t time.Time) float64 { return fc.Curve(t) + 5 }
+	bench[0].Forecast = &fc
+	got, _ = Series(s, "steel", q)
+	if len(got.Centre) != len(got.Curve) || got.Centre[0][0] != got.Curve[0][0] || math.Abs(got.Centre[0][1]-got.Curve[0][1]-5) > 1e-3 {
+		t.Errorf("centre %d points starting %v; curve %d starting %v", len(got.Centre), got.Centre[0], len(got.Curve), got.Curve[0])
+	}
 }
 
 func TestParseSeriesQuery(t *testing.T) {
@@ -487,4 +499,28 @@ func mustQuery(t *testing.T, q string) url.Values {
 		t.Fatal(err)
 	}
 	return v
+}
+
+// TestChannelsDemo checks the demo field: present with the time-lapse speed when the
+// daemon runs the demo, absent otherwise (and in the event stream's first message too,
+// which is built by the same function).
+func TestChannelsDemo(t *testing.T) {
+	for _, speed := range []float64{0, 60} {
+		h := newTestHandler(curveState(), Options{Display: config.Display{TimeLapse: speed}})
+		w := do(t, h, "GET", "/api/v1/channels", "", "")
+		var body map[string]json.RawMessage
+		if err := json.Unmarshal(w.Body.Bytes(), &body); err != nil {
+			t.Fatal(err)
+		}
+		demo, ok := body["demo"]
+		switch {
+		case speed == 0 && ok:
+			t.Errorf("not a demo, but demo = %s", demo)
+		case speed > 0 && string(demo) != `{"speed":60}` && strings.Join(strings.Fields(string(demo)), "") != `{"speed":60}`:
+			t.Errorf("demo at 60×: demo = %s", demo)
+		}
+		if resp := h.channels(t0); (resp.Demo != nil) != (speed > 0) {
+			t.Errorf("speed %g: channels() demo %+v", speed, resp.Demo)
+		}
+	}
 }

@@ -74,7 +74,7 @@ type cardView struct {
 	Notes                                                               []string
 	CautionLine, Ack, Start, Stop                                       bool
 	StripBG, StateBG                                                    string
-	Readings, Journal, Curve, Targets                                   int
+	Readings, Journal, Curve, Centre, Targets                           int
 	Top, Bottom, Left, Right                                            float64
 }
 
@@ -93,7 +93,7 @@ const readCards = `[...document.querySelectorAll('.card[data-channel]')].map(c =
     Ack: !q('.ack').hidden, Start: !q('.start').hidden, Stop: !q('.stop').hidden,
     StripBG: getComputedStyle(q('.strip')).backgroundColor,
     StateBG: (() => { const e = document.createElement('div'); e.style.background = 'var(--st-' + c.dataset.state + ')'; document.body.append(e); const v = getComputedStyle(e).backgroundColor; e.remove(); return v; })(),
-    Readings: +(cv.dataset.readings || 0), Journal: +(cv.dataset.journal || 0), Curve: +(cv.dataset.curve || 0), Targets: +(cv.dataset.targets || 0),
+    Readings: +(cv.dataset.readings || 0), Journal: +(cv.dataset.journal || 0), Curve: +(cv.dataset.curve || 0), Centre: +(cv.dataset.centre || 0), Targets: +(cv.dataset.targets || 0),
     Top: r.top, Bottom: r.bottom, Left: r.left, Right: r.right,
   };
 })`
@@ -628,6 +628,13 @@ func boardSeries(name string, channels []map[string]any, now time.Time) map[stri
 			cs = append(cs, [2]float64{float64(now.Add(-s).UnixMilli()), boardCurve(end, s)})
 		}
 		out["readings"], out["curve"] = rs, cs
+		if name == "p05-rough" { // a surface sensor: the series carries the estimated centre
+			var centre [][2]float64
+			for _, c := range cs {
+				centre = append(centre, [2]float64{c[0], c[1] + 12})
+			}
+			out["centre"] = centre
+		}
 	}
 	return out
 }
@@ -715,8 +722,8 @@ func TestBoardStates(t *testing.T) {
 		if c := byName["p10-nodata"]; c.Link != "none" || !strings.Contains(c.LinkText, "check the logger's port") || c.Temp != "—" {
 			t.Errorf("%s: no data: link %s %q, temp %q", vp.name, c.Link, c.LinkText, c.Temp)
 		}
-		if c := byName["p05-rough"]; len(c.Notes) != 1 || !strings.HasPrefix(c.Notes[0], "Rough forecast") {
-			t.Errorf("%s: model-mismatch notes %q", vp.name, c.Notes)
+		if c := byName["p05-rough"]; len(c.Notes) != 1 || !strings.HasPrefix(c.Notes[0], "Rough forecast") || c.Centre != 121 || byName["p04-hot"].Centre != 0 {
+			t.Errorf("%s: model-mismatch notes %q; centre curve %d points (want 121), p04 %d (want 0)", vp.name, c.Notes, c.Centre, byName["p04-hot"].Centre)
 		}
 		if c := byName["p04-hot"]; c.Age != "12 s ago" && c.Age != "13 s ago" && c.Age != "14 s ago" {
 			// The fixture says the reading arrived 12 s before the detail request.

@@ -633,6 +633,7 @@
     cv.dataset.readings = String(reads.length);
     cv.dataset.journal = String(older.length);
     cv.dataset.curve = String(curve.length);
+    cv.dataset.centre = String(centre.length);
     const fs = Math.max(11, Math.round(parseFloat(getComputedStyle(document.documentElement).fontSize) * 0.72));
     g.font = fs + "px DejaVu Sans, sans-serif";
     const ink = css("--plot-read"), muted = css("--muted"), grid = css("--plot-grid"), stInk = getComputedStyle(c.el).getPropertyValue("--st-ink").trim();
