@@ -674,7 +674,7 @@
       lines++;
       const yy = Y(toU(tg.celsius));
       const isH = tg.kind === "handling";
-      if (tg.earliest && tg.latest && (tg.state === "predicted" || tg.state === "holding")) {
+      if (tg === nt && tg.earliest && tg.latest) { // one band: the next target's interval
         const a = Math.max(L, X(Date.parse(tg.earliest))), b = Math.min(w - R, X(Date.parse(tg.latest)));
         if (b > a) {
           g.globalAlpha = 0.18; g.fillStyle = stInk; g.fillRect(a, T, Math.max(2, b - a), h - T - B);
