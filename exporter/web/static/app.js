@@ -83,7 +83,7 @@
   function stateOf(ch) {
     if (ch.fault) return "fault";
     const ts = ch.targets || [];
-    if (ch.state === "empty" || ts.some((t) => t.state === "empty")) return "empty";
+    if (ch.empty || ts.some((t) => t.state === "empty")) return "empty";
     const h = handlingOf(ch);
     const cel = ch.latest && ch.latest.celsius != null ? ch.latest.celsius : null;
     if (h) {
@@ -227,7 +227,7 @@
     if (c.state === "empty") { add("", "Place a specimen and start a run to forecast it."); return; }
     if (c.state === "fault") { add("", ch.fault.detail || "Check the sensor and the logger."); return; }
     if (c.state === "ready") {
-      add("", "Below " + fmtT(h.celsius) + " " + deg + (h.at ? " since " + when(Date.parse(h.at), now) : ""));
+      add("", "Below " + fmtT(h.celsius) + " " + deg + (h.at ? " since " + when(Date.parse(h.at), now) + (h.estimated ? " (fitted)" : "") : ""));
       const nt = nextTarget(ch);
       if (nt) add("interval", "next: " + nt.name + " " + dueText(nt, now));
       return;
