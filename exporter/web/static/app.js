@@ -38,7 +38,7 @@
   };
   document.getElementById("t-compact").onclick = () => {
     const on = !document.body.classList.contains("compact");
-    setPref("compact", on ? "1" : "0"); applyCompact(on);
+    setPref("compact", on ? "1" : "0"); applyCompact(on); fitCards(cards.size);
   };
 
   // ---- time ---------------------------------------------------------------
@@ -319,6 +319,20 @@
     if (faults) parts.push(document.createTextNode(" · "), b(String(faults)), document.createTextNode(faults === 1 ? " fault" : " faults"));
     sum.replaceChildren(...parts);
     document.getElementById("cautions").toggleAttribute("data-ready", ready.length > 0);
+    fitCards(list.length);
+  }
+
+  // fitCards lets a few cards use the screen: their height grows to fill it (never
+  // below the CSS height, which fits 15 positions at 1920×1080; never above 30rem).
+  function fitCards(n) {
+    const rem = parseFloat(getComputedStyle(document.documentElement).fontSize);
+    if (!n || document.body.classList.contains("compact") || innerWidth < 40 * rem) { board.style.removeProperty("--card-h"); return; }
+    const cols = getComputedStyle(board).gridTemplateColumns.split(" ").length;
+    const rows = Math.ceil(n / cols);
+    const below = document.getElementById("cautions").offsetHeight + document.querySelector(".fine").offsetHeight + 2.2 * rem;
+    const room = (innerHeight - board.getBoundingClientRect().top - below) / rows - 0.7 * rem;
+    const h = Math.min(30 * rem, Math.max(17.2 * rem, room));
+    board.style.setProperty("--card-h", Math.floor(h) + "px");
   }
 
   // ---- ages tick every second -------------------------------------------------
@@ -728,7 +742,7 @@
   setInterval(tick, 1000);
   setInterval(() => { for (const c of cards.values()) if (c.ch) renderNext(c); renderSummary(); }, 5000);
   setInterval(fetchRuns, 15000);
-  window.addEventListener("resize", () => { for (const c of cards.values()) c.dirty = true; });
+  window.addEventListener("resize", () => { fitCards(cards.size); for (const c of cards.values()) c.dirty = true; });
 
   getJSON("/api/v1/channels").then(applyChannels).then(fetchRuns).catch(() => {});
   connect();
