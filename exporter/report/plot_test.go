@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
@@ -217,5 +218,31 @@ func TestHMLabels(t *testing.T) {
 		if len(seen) < 2 || len(seen) > 9 {
 			t.Errorf("span %g s: %d labels", span, len(seen))
 		}
+	}
+}
+
+// TestFigureCaption checks the caption's state lines: the late end to plan with for a
+// handling target, an estimated crossing said so, and the cautions beside a handling
+// target only.
+func TestFigureCaption(t *testing.T) {
+	at := func(s float64) time.Time { return figT0.Add(time.Duration(s * float64(time.Second))) }
+	f := Figure{Origin: figT0, Cautions: exporter.HandlingCautions, Targets: []FigureTarget{
+		{Name: "handle", Celsius: 50, Handling: true, State: "predicted", At: at(3600), Earliest: at(3300), Latest: at(4200)},
+		{Name: "cool", Celsius: 80, State: "reached", At: at(1800), Actual: at(1800), ActualEstimated: true},
+	}}
+	got := strings.Join(f.caption(), "\n")
+	for _, want := range []string{
+		"handling target handle 50.0 °C: predicted 1:00 (~90 % interval 0:55–1:10); plan with the late end, 1:10.",
+		"target cool 80.0 °C: reached at 0:30; crossed at 0:30 (estimated from the fit: no reading there).",
+		"No fitted model.",
+		"Handling times are estimates: " + exporter.HandlingCautions[0],
+	} {
+		if !strings.Contains(got, want) {
+			t.Errorf("caption lacks %q:\n%s", want, got)
+		}
+	}
+	f.Targets = f.Targets[1:]
+	if strings.Contains(strings.Join(f.caption(), "\n"), "Handling times") {
+		t.Error("cautions without a handling target")
 	}
 }
