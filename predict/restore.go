@@ -1,6 +1,11 @@
 package predict
 
-import "time"
+import (
+	"context"
+	"runtime"
+	"sync"
+	"time"
+)
 
 // Restore loads a batch of past readings into the bench without fitting after each
 // one, then fits every channel once: how a restarted daemon resumes its forecasts from
@@ -10,8 +15,61 @@ func (b *Bench) Restore(each func(observe func(channel string, t time.Time, cels
 	b.setHold(true)
 	each(b.Observe)
 	b.setHold(false)
+	b.fitAll(runtime.GOMAXPROCS(0))
+}
+
+// fitAll fits every channel once, on up to workers goroutines.
+func (b *Bench) fitAll(workers int) {
+	next := make(chan *Tracker)
+	var wg sync.WaitGroup
+	for range max(1, workers) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for tr := range next {
+				tr.fitNow()
+			}
+		}()
+	}
 	for _, tr := range b.trackers {
-		tr.Fit()
+		next <- tr
+	}
+	close(next)
+	wg.Wait()
+}
+
+// Run fits the bench's channels on workers goroutines until ctx ends: a reading that
+// makes a fit due hands it to them instead of fitting in Observe, so the caller of
+// Observe (the daemon's analysis loop) never waits on a fit and the machine's cores
+// share the fits. Each channel is queued at most once at a time. When Run returns,
+// fits are back in Observe.
+func (b *Bench) Run(ctx context.Context, workers int) {
+	queue := make(chan *Tracker, len(b.trackers)) // room for every channel: never blocks
+	for _, tr := range b.trackers {
+		tr.mu.Lock()
+		tr.sched = func(t *Tracker) { queue <- t }
+		tr.mu.Unlock()
+	}
+	var wg sync.WaitGroup
+	for range max(1, workers) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				select {
+				case <-ctx.Done():
+					return
+				case tr := <-queue:
+					tr.fitNow()
+				}
+			}
+		}()
+	}
+	wg.Wait()
+	for _, tr := range b.trackers {
+		tr.mu.Lock()
+		tr.sched, tr.queued = nil, false
+		tr.mu.Unlock()
 	}
 }
 
@@ -25,6 +83,16 @@ func (b *Bench) FitPending() int {
 		}
 	}
 	return n
+}
+
+// busy reports whether any channel has a fit queued or running.
+func (b *Bench) busy() bool {
+	for _, tr := range b.trackers {
+		if tr.busy() {
+			return true
+		}
+	}
+	return false
 }
 
 func (b *Bench) setHold(on bool) {

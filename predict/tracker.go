@@ -61,8 +61,10 @@ type point struct {
 }
 
 // Tracker turns one channel's readings into a Forecast with the lumped model. It is
-// safe for concurrent use; a fit runs inside Add, under the tracker's lock, when the
-// schedule in TrackerOptions says one is due.
+// safe for concurrent use. When the schedule in TrackerOptions says a fit is due, Add
+// runs it before returning, or, for a tracker of a running Bench, hands it to the
+// bench's fit workers; either way the fit runs outside the tracker's lock, on a copy of
+// the segment, so Forecast and a Bench's Snapshot never wait for one.
 //
 // Segments: a segment starts at the first reading and a new one at a step of more
 // than Jump that the next reading confirms (a single outlying reading is dropped as a
@@ -87,6 +89,11 @@ type Tracker struct {
 	newPts   int
 	forecast *Forecast
 	placed   bool // a run is active on the channel (SetPlaced)
+
+	gen     uint64         // counts segments: a fit of an older one is discarded
+	fitting bool           // a fit is running (at most one at a time)
+	sched   func(*Tracker) // hands a due fit to a Bench's workers; nil: fit in Add
+	queued  bool           // handed to sched and not yet started
 }
 
 // NewTracker returns a tracker forecasting the given targets.
@@ -116,10 +123,18 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 	if math.IsNaN(celsius) || math.IsInf(celsius, 0) {
 		return
 	}
+	if tr.add(at, celsius) {
+		tr.fitNow()
+	}
+}
+
+// add stores a reading and reports whether a fit is due that the caller must run (a
+// due fit of a tracker with a scheduler is handed to it instead).
+func (tr *Tracker) add(at time.Time, celsius float64) bool {
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
 	if tr.readings > 0 && at.Before(tr.last) {
-		return
+		return false
 	}
 	tr.readings++
 	switch {
@@ -133,7 +148,7 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 	case math.Abs(celsius-tr.lastC) > tr.opt.Jump && tr.pending == nil && !tr.followsCurve(at, celsius):
 		tr.pending, tr.pendAt = &point{celsius: celsius, ambient: tr.amb}, at
 		tr.last = at
-		return
+		return false
 	}
 	tr.pending = nil
 	tr.last, tr.lastC = at, celsius
@@ -142,9 +157,17 @@ func (tr *Tracker) Add(at time.Time, celsius float64) {
 	}
 	tr.pts = append(tr.pts, point{at.Sub(tr.start).Seconds(), celsius, tr.amb})
 	tr.newPts++
-	if tr.due() {
-		tr.fit()
+	if !tr.due() {
+		return false
 	}
+	if tr.sched != nil {
+		if !tr.queued {
+			tr.queued = true
+			tr.sched(tr)
+		}
+		return false
+	}
+	return true
 }
 
 // followsCurve reports whether a reading lies within Jump of the current fit's curve:
@@ -188,26 +211,39 @@ func (tr *Tracker) SetPlaced(placed bool) {
 
 // due reports whether the schedule calls for a fit now. Callers hold mu.
 func (tr *Tracker) due() bool {
-	return !tr.hold && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
+	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
 		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
 }
 
 // FitPending fits when the schedule called for a fit (FitEvery and MinNewPoints met)
-// that the wall-clock gap held back, once the gap has passed; it reports whether it
-// fitted. A daemon calls it now and then so that readings that arrived inside the gap
+// that the wall-clock gap (or a fit already running) held back, once it has passed;
+// it reports whether it fitted here (a running Bench's workers fit it instead). A daemon calls it now and then so that readings that arrived inside the gap
 // are not left unfitted until the next reading.
 func (tr *Tracker) FitPending() bool {
 	tr.mu.Lock()
-	defer tr.mu.Unlock()
-	if len(tr.pts) == 0 || !tr.due() {
-		return false
+	due := len(tr.pts) > 0 && !tr.queued && tr.due()
+	if due && tr.sched != nil { // a running Bench's workers take it
+		tr.queued = true
+		tr.sched(tr)
+		due = false
 	}
-	tr.fit()
-	return true
+	tr.mu.Unlock()
+	if due {
+		tr.fitNow()
+	}
+	return due
+}
+
+// busy reports whether a fit is queued or running.
+func (tr *Tracker) busy() bool {
+	tr.mu.Lock()
+	defer tr.mu.Unlock()
+	return tr.queued || tr.fitting
 }
 
 // newSegment drops the stored readings and the forecast and starts a segment at at.
 func (tr *Tracker) newSegment(at time.Time) {
+	tr.gen++
 	tr.pts = tr.pts[:0]
 	tr.start, tr.fitAt = at, at
 	tr.newPts = 0
@@ -229,13 +265,8 @@ func (tr *Tracker) thin() {
 // Fit refits now, whatever the schedule, and returns the new forecast (nil before
 // the first reading).
 func (tr *Tracker) Fit() *Forecast {
-	tr.mu.Lock()
-	defer tr.mu.Unlock()
-	if len(tr.pts) == 0 {
-		return nil
-	}
-	tr.fit()
-	return copyForecast(tr.forecast)
+	tr.fitNow()
+	return tr.Forecast()
 }
 
 // Forecast returns a copy of the latest forecast, nil until the first fit of the
@@ -246,21 +277,52 @@ func (tr *Tracker) Forecast() *Forecast {
 	return copyForecast(tr.forecast)
 }
 
-// fit runs Analyze on the segment and replaces the forecast. Callers hold mu.
-func (tr *Tracker) fit() {
-	all := tr.problem()
-	p, onset, _ := Prepare(all.Times, all.Celsius, all.Ambient)
+// fitJob is what one fit needs, copied from the tracker under its lock.
+type fitJob struct {
+	all     LumpedProblem
+	start   time.Time
+	targets []Target
+	opt     TrackerOptions
+	placed  bool
+	gen     uint64
+}
+
+// fitNow fits the segment as it stands and stores the forecast, unless a fit is
+// already running or the segment changed meanwhile. The tracker's lock is held only
+// to copy the segment and to store the result.
+func (tr *Tracker) fitNow() {
+	tr.mu.Lock()
+	if tr.fitting || len(tr.pts) == 0 {
+		tr.queued = false
+		tr.mu.Unlock()
+		return
+	}
+	job := fitJob{all: tr.problem(), start: tr.start, targets: tr.targets, opt: tr.opt, placed: tr.placed, gen: tr.gen}
 	tr.fitAt, tr.newPts, tr.fitWall = tr.last, 0, time.Now()
+	tr.fitting, tr.queued = true, false
+	tr.mu.Unlock()
+
+	f := job.run()
+
+	tr.mu.Lock()
+	if job.gen == tr.gen {
+		tr.forecast = f
+	}
+	tr.fitting = false
+	tr.mu.Unlock()
+}
+
+// run is Analyze on the job's segment (or the empty-position forecast).
+func (job fitJob) run() *Forecast {
+	p, onset, _ := Prepare(job.all.Times, job.all.Celsius, job.all.Ambient)
 	if len(p.Times) == 0 {
-		tr.forecast = nil
-		return
+		return nil
 	}
-	if !tr.placed && !occupied(all) {
-		tr.forecast = emptyForecast(all, tr.start, tr.targets)
-		return
+	if !job.placed && !occupied(job.all) {
+		return emptyForecast(job.all, job.start, job.targets)
 	}
-	tr.forecast = Analyze(p, tr.start.Add(seconds(onset)), tr.targets, AnalyzeOptions{
-		Specimen: tr.opt.Specimen, Fit: tr.opt.Fit, Interval: tr.opt.Interval,
+	return Analyze(p, job.start.Add(seconds(onset)), job.targets, AnalyzeOptions{
+		Specimen: job.opt.Specimen, Fit: job.opt.Fit, Interval: job.opt.Interval,
 	})
 }
 
