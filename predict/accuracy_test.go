@@ -83,12 +83,24 @@ func engine(c CurveFile, level float64) (at, lo, hi float64, ok bool) {
 	return fromForecast(f.Targets[0])
 }
 
-// exponential3 is the plain three-parameter exponential on the same cleaned data.
+// exponential3 is the free three-parameter exponential T∞ + θi·exp(−t/τ) fitted to
+// the same cleaned data (no measured ambient, no model choice, no state rules): its
+// fitted crossing with the delta-method interval from its covariance, widened for
+// correlated residuals (Inflation), as a statistician would extrapolate it. No answer
+// when the fit fails or the fitted curve never reaches the level.
 func exponential3(c CurveFile, level float64) (at, lo, hi float64, ok bool) {
 	p, onset, _ := Prepare(c.Times, c.Celsius, nil)
-	r, _ := FitLumped(p, nil)
-	tf := ForecastLumped(&r, &p, origin.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}}, nil)
-	return fromForecast(tf[0])
+	r, err := FitLumped(p, nil)
+	if err != nil {
+		return 0, 0, 0, false
+	}
+	t, v, _, ok := lumpedFitted{&r}.crossing(level, false)
+	if !ok {
+		return 0, 0, 0, false
+	}
+	half := 1.645 * math.Sqrt(max(v, 0)) * Inflation(r.Rho, 5)
+	at = onset + t
+	return at, at - half, at + half, true
 }
 
 // linearTrend extrapolates a least-squares line through the last 10 minutes, as a
@@ -134,25 +146,46 @@ func (s *score) add(tr trial) {
 }
 
 // row formats the score as a table row's figures: median and 90th-percentile
-// relative error, coverage, median width and the share without an answer.
+// relative error (a missing answer counts as an infinite error), the median over the
+// forecasts that answered, coverage, median width and the share without an answer.
 func (s *score) row() string {
 	cov, width := "-", "-"
 	if s.judged > 0 {
 		cov = fmt.Sprintf("%.0f %%", 100*float64(s.covered)/float64(s.judged))
-		width = fmt.Sprintf("%.2f", quantile(s.widths, 0.5))
-	}
-	none := 0
-	for _, e := range s.errs {
-		if math.IsInf(e, 1) {
-			none++
+		width = "none"
+		if w := quantile(s.widths, 0.5); w < 99 {
+			width = fmt.Sprintf("%.2f", w)
 		}
 	}
-	return fmt.Sprintf("%7.1f%% %7.1f%% %9s %6s %8.0f%%  (n=%d)", 100*quantile(s.errs, 0.5), 100*quantile(s.errs, 0.9),
-		cov, width, 100*float64(none)/float64(len(s.errs)), len(s.errs))
+	var answered []float64
+	for _, e := range s.errs {
+		if !math.IsInf(e, 1) {
+			answered = append(answered, e)
+		}
+	}
+	ans := "-"
+	if len(answered) > 0 {
+		ans = pct(quantile(answered, 0.5))
+	}
+	none := len(s.errs) - len(answered)
+	return fmt.Sprintf("%8s %8s %8s %9s %6s %8.0f%%  (n=%d)", pct(quantile(s.errs, 0.5)), pct(quantile(s.errs, 0.9)),
+		ans, cov, width, 100*float64(none)/float64(len(s.errs)), len(s.errs))
+}
+
+// pct formats a relative error as a percentage; "none" for a missing answer and
+// ">999%" beyond.
+func pct(x float64) string {
+	switch {
+	case math.IsInf(x, 1):
+		return "none"
+	case x > 9.99:
+		return ">999%"
+	}
+	return fmt.Sprintf("%.1f%%", 100*x)
 }
 
 // tableHead is the header of the figures row() prints.
-const tableHead = "  median      p90  coverage  width no answer"
+const tableHead = "  median      p90 answered  coverage  width no answer"
 
 func quantile(xs []float64, q float64) float64 {
 	s := slices.Clone(xs)
