@@ -118,8 +118,12 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		m = c
 	}
 	noteResiduals(f, m, opt.Interval)
+	is := opt.Interval
+	if len(targets) > 0 {
+		is = intervalFor(f, p, m, freeOf(m), opt)
+	}
 	var notes []string
-	f.Targets, notes = forecastTargets(m, &p, start, targets, &opt.Interval)
+	f.Targets, notes = forecastTargets(m, &p, start, targets, &is)
 	f.Notes = append(f.Notes, notes...)
 	return f, m
 }
@@ -137,14 +141,7 @@ func conductionChoice(f *Forecast, p LumpedProblem, m fitted, start time.Time, k
 		f.Notes = append(f.Notes, fmt.Sprintf("The conduction model could not be fitted (%v); the lumped model stands.", err))
 		return nil
 	}
-	nFree := 3
-	switch l := m.(type) {
-	case lumpedFitted:
-		nFree = l.r.Free
-	case hFitted:
-		nFree = l.r.Free
-	}
-	ok, why := chooseConduction(cr, m, len(p.Times), nFree)
+	ok, why := chooseConduction(cr, m, len(p.Times), freeOf(m))
 	if !ok {
 		return nil
 	}
@@ -180,6 +177,17 @@ func smoothAmbient(times, amb []float64) []float64 {
 		out[i] = sum / float64(i-lo+1)
 	}
 	return out
+}
+
+// freeOf returns the number of fitted parameters of a lumped or h(T) fit, else 3.
+func freeOf(m fitted) int {
+	switch l := m.(type) {
+	case lumpedFitted:
+		return l.r.Free
+	case hFitted:
+		return l.r.Free
+	}
+	return 3
 }
 
 // minBreakRun is the fewest consecutive readings off the curve that make a break.
