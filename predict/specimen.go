@@ -35,6 +35,39 @@ type Specimen struct {
 	Sensor string `yaml:"sensor"`
 	// Material gives the properties, or names a built-in material.
 	Material SpecimenMaterial `yaml:"material"`
+	// Air (YAML key convection) says how the air around the specimen moves: "still" (natural
+	// convection), "moving" (a fan, a draught: a constant convective coefficient),
+	// or "chamber" (an oven, furnace or conditioning chamber held at ChamberC, with
+	// circulating air and walls radiating at about that temperature). Empty: the
+	// engine fits still and moving air and keeps the better by AIC, with a note.
+	Air string `yaml:"convection"`
+	// ChamberC is a chamber's set temperature, °C; required with Air "chamber",
+	// not allowed otherwise.
+	ChamberC *float64 `yaml:"chamber_c"`
+}
+
+// The settings of Specimen.Air.
+const (
+	ConvectionStill   = "still"
+	ConvectionMoving  = "moving"
+	ConvectionChamber = "chamber"
+)
+
+// convectionErr checks Air and ChamberC.
+func (s Specimen) convectionErr() error {
+	switch s.Air {
+	case "", ConvectionStill, ConvectionMoving:
+		if s.ChamberC != nil {
+			return fmt.Errorf("chamber_c: only a specimen with convection: chamber has a set temperature")
+		}
+	case ConvectionChamber:
+		if s.ChamberC == nil || math.IsNaN(*s.ChamberC) || math.IsInf(*s.ChamberC, 0) || *s.ChamberC < -273.15 {
+			return fmt.Errorf("chamber_c: convection: chamber needs the chamber's set temperature in °C")
+		}
+	default:
+		return fmt.Errorf("convection: %q is not still, moving or chamber", s.Air)
+	}
+	return nil
 }
 
 // SpecimenMaterial is a specimen's material: a built-in Name (predict/material), or
@@ -125,6 +158,7 @@ func (s Specimen) Validate() error {
 		pos("material.specific_heat_j_kgk", m.SpecificHeat),
 		pos("material.conductivity_w_mk", m.Conductivity),
 		emissivityErr(m.Emissivity),
+		s.convectionErr(),
 	)
 }
 
@@ -228,6 +262,9 @@ func (s Specimen) Conduction() (conduction.Specimen, error) {
 	}
 	if s.Sensor == "surface" {
 		c.Sensor = conduction.Surface
+	}
+	if s.Air == ConvectionMoving || s.Air == ConvectionChamber {
+		c.ForcedH = movingH[1] // the shape only: the fit scales h
 	}
 	switch shape {
 	case conduction.Slab:
