@@ -47,6 +47,9 @@ type SpecimenMaterial struct {
 	Conductivity float64 `mapstructure:"conductivity_w_mk"`
 	// Emissivity is the surface's total emissivity, 0–1.
 	Emissivity float64 `mapstructure:"emissivity"`
+	// Finish is a named material's surface, bright or oxidised (the default for
+	// metals); it picks the emissivity when none is given.
+	Finish string `mapstructure:"finish"`
 }
 
 // SpecimenProblems checks a channel's specimen, with key the channel's key path
@@ -95,6 +98,14 @@ func SpecimenProblems(key string, s *Specimen) []*Problem {
 	}
 	if !(m.Emissivity >= 0 && m.Emissivity <= 1) {
 		k.add(key+".material.emissivity", "must be within 0..1, got %g", m.Emissivity)
+	}
+	switch m.Finish {
+	case "", "bright", "oxidised", "oxidized":
+		if m.Finish != "" && m.Name == "" {
+			k.add(key+".material.finish", "a finish needs a built-in material.name (or give the emissivity)")
+		}
+	default:
+		k.add(key+".material.finish", "want bright or oxidised, got %q", m.Finish)
 	}
 	convectionProblems(k, key, s)
 	return k.problems

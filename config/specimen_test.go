@@ -25,6 +25,10 @@ func TestSpecimenProblems(t *testing.T) {
 		{func(s *Specimen) { s.Material = SpecimenMaterial{Density: 2300, SpecificHeat: 880} }, "channels[0].specimen.material.conductivity_w_mk"},
 		{func(s *Specimen) { s.Material.Emissivity = 1.5 }, "channels[0].specimen.material.emissivity"},
 		{func(s *Specimen) { s.Convection = "fan" }, "channels[0].specimen.convection"},
+		{func(s *Specimen) { s.Material.Finish = "painted" }, "channels[0].specimen.material.finish"},
+		{func(s *Specimen) {
+			s.Material = SpecimenMaterial{Density: 1, SpecificHeat: 1, Conductivity: 1, Finish: "bright"}
+		}, "channels[0].specimen.material.finish"},
 		{func(s *Specimen) { s.Convection = "chamber" }, "channels[0].specimen.chamber_c"},
 		{func(s *Specimen) { s.Convection, s.ChamberC = "moving", ptr(180) }, "channels[0].specimen.chamber_c"},
 	} {
