@@ -78,6 +78,9 @@ type SpecimenMaterial struct {
 	SpecificHeat float64 `yaml:"specific_heat_j_kgk"`
 	Conductivity float64 `yaml:"conductivity_w_mk"`
 	Emissivity   float64 `yaml:"emissivity"`
+	// Finish is a named material's surface, "bright" or "oxidised" (the default for
+	// metals: as taken out of a furnace); it picks the emissivity when none is given.
+	Finish string `yaml:"finish"`
 }
 
 // LoadSpecimen reads and checks a specimen YAML file; errors name the file and key.
@@ -112,6 +115,9 @@ func ParseSpecimen(b []byte) (Specimen, error) {
 func (s *Specimen) resolve() error {
 	m := &s.Material
 	if m.Name == "" {
+		if m.Finish != "" {
+			return fmt.Errorf("material.finish: a finish needs a built-in material.name (or give the emissivity)")
+		}
 		return nil
 	}
 	ref, ok := material.Lookup(m.Name)
@@ -126,7 +132,15 @@ func (s *Specimen) resolve() error {
 	fill(&m.Density, ref.Density)
 	fill(&m.SpecificHeat, ref.SpecificHeat)
 	fill(&m.Conductivity, ref.Conductivity)
-	fill(&m.Emissivity, ref.Emissivity)
+	emis := ref.Emissivity
+	if m.Finish != "" {
+		r, ok := ref.Finish(m.Finish)
+		if !ok {
+			return fmt.Errorf("material.finish: %q is not a finish of %s (bright or oxidised for a metal; oxidised for a non-metal)", m.Finish, ref.Name)
+		}
+		emis = math.Round(100*r.Mid()) / 100
+	}
+	fill(&m.Emissivity, emis)
 	return nil
 }
 
