@@ -109,6 +109,10 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		if start != nil {
 			still, moving := hCandidates(opt.Specimen)
 			hr, airNote = chooseAir(fitHBest(p, start, still), fitHBest(p, start, moving), opt.Specimen)
+			var emisNote string
+			if hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen); emisNote != "" {
+				airNote += " " + emisNote
+			}
 		}
 	}
 	if err != nil && hr == nil {
@@ -479,7 +483,8 @@ func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 	if sp != nil {
 		c := sp.HeatCapacityPerArea()
 		scale := c / r.Capacity
-		f.Params = append(f.Params, Param{Name: "h_scale", Value: scale, StdErr: scale * r.CapacityErr / r.Capacity})
+		f.Params = append(f.Params, Param{Name: "h_scale", Value: scale, StdErr: scale * r.CapacityErr / r.Capacity},
+			Param{Name: "emissivity", Value: r.Law.Emissivity, StdErr: math.NaN()})
 		noteBiot(f, sp, scale*r.HAt(r.Initial), "h at the segment's start temperature")
 	} else {
 		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
