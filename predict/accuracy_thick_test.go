@@ -9,14 +9,32 @@ import (
 )
 
 // caseSpecimen is the specimen description of a benchmark case, as a lab would
-// write it: the case's shape, sizes, sensor and material by name with its emissivity.
+// write it: the case's shape, sizes, sensor, material by name with its nominal
+// emissivity (not the simulation's perturbed one), and how the air moves (a fan:
+// moving; an oven: a chamber at its set point).
 func caseSpecimen(c benchgen.Case) (*Specimen, error) {
 	sp := Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, Sensor: c.Sensor,
 		Material: SpecimenMaterial{Name: c.Material, Emissivity: c.Emissivity}}
+	switch c.Air {
+	case "fan":
+		sp.Air = ConvectionMoving
+	case "oven":
+		set := c.SetC
+		sp.Air, sp.ChamberC = ConvectionChamber, &set
+	}
 	if err := sp.resolve(); err != nil {
 		return nil, err
 	}
 	return &sp, sp.Validate()
+}
+
+// withSpecimen is the engine given the specimen description.
+func withSpecimen(sp *Specimen) method {
+	return func(cf CurveFile, level float64) (at, lo, hi float64, ok bool) {
+		p, onset, _ := Prepare(cf.Times, cf.Celsius, cf.FilledAmbient())
+		f := Analyze(p, origin.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}}, AnalyzeOptions{Specimen: sp})
+		return fromForecast(f.Targets[0])
+	}
 }
 
 // thickAccuracy scores, on the benchmark's cases with Bi > 0.1 (thick or
@@ -35,12 +53,7 @@ func thickAccuracy(t *testing.T) (map[string]*score, int) {
 		if err != nil {
 			t.Fatalf("%s: %v", c.File, err)
 		}
-		withSpec := func(cf CurveFile, level float64) (at, lo, hi float64, ok bool) {
-			p, onset, _ := Prepare(cf.Times, cf.Celsius, cf.FilledAmbient())
-			f := Analyze(p, origin.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}}, AnalyzeOptions{Specimen: sp})
-			return fromForecast(f.Targets[0])
-		}
-		methods := map[string]method{"engine": engine, "engine+spec": withSpec, "exp3": exponential3}
+		methods := map[string]method{"engine": engine, "engine+spec": withSpecimen(sp), "exp3": exponential3}
 		curve := readBenchCase(t, c)
 		for _, frac := range fractions {
 			for name, m := range methods {
