@@ -25,6 +25,13 @@ type Specimen struct {
 	// Material names a built-in material or gives the properties (or both: the
 	// properties given override the named ones).
 	Material SpecimenMaterial `mapstructure:"material"`
+	// Convection is how the air around the specimen moves: still, moving (a fan or a
+	// draught) or chamber (an oven, furnace or conditioning chamber at ChamberC).
+	// Empty: the forecaster considers still and moving air and chooses.
+	Convection string `mapstructure:"convection"`
+	// ChamberC is the chamber's set temperature, °C; required with convection
+	// chamber, not allowed otherwise.
+	ChamberC *float64 `mapstructure:"chamber_c"`
 }
 
 // SpecimenMaterial is a specimen's material: a built-in Name (predict/material)
@@ -40,6 +47,9 @@ type SpecimenMaterial struct {
 	Conductivity float64 `mapstructure:"conductivity_w_mk"`
 	// Emissivity is the surface's total emissivity, 0–1.
 	Emissivity float64 `mapstructure:"emissivity"`
+	// Finish is a named material's surface, bright or oxidised (the default for
+	// metals); it picks the emissivity when none is given.
+	Finish string `mapstructure:"finish"`
 }
 
 // SpecimenProblems checks a channel's specimen, with key the channel's key path
@@ -89,7 +99,32 @@ func SpecimenProblems(key string, s *Specimen) []*Problem {
 	if !(m.Emissivity >= 0 && m.Emissivity <= 1) {
 		k.add(key+".material.emissivity", "must be within 0..1, got %g", m.Emissivity)
 	}
+	switch m.Finish {
+	case "", "bright", "oxidised", "oxidized":
+		if m.Finish != "" && m.Name == "" {
+			k.add(key+".material.finish", "a finish needs a built-in material.name (or give the emissivity)")
+		}
+	default:
+		k.add(key+".material.finish", "want bright or oxidised, got %q", m.Finish)
+	}
+	convectionProblems(k, key, s)
 	return k.problems
+}
+
+// convectionProblems checks convection and chamber_c.
+func convectionProblems(k *checker, key string, s *Specimen) {
+	switch s.Convection {
+	case "", "still", "moving":
+		if s.ChamberC != nil {
+			k.add(key+".chamber_c", "only convection: chamber has a set temperature (convection is %q)", s.Convection)
+		}
+	case "chamber":
+		if c := s.ChamberC; c == nil || math.IsNaN(*c) || math.IsInf(*c, 0) || *c < -273.15 {
+			k.add(key+".chamber_c", "convection: chamber needs the chamber's set temperature in °C")
+		}
+	default:
+		k.add(key+".convection", "want still, moving or chamber, got %q", s.Convection)
+	}
 }
 
 // checkDim checks an optional (or, with need, required) positive dimension.

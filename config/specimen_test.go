@@ -24,6 +24,13 @@ func TestSpecimenProblems(t *testing.T) {
 		{func(s *Specimen) { s.Shape = "block" }, "channels[0].specimen.width_m"},
 		{func(s *Specimen) { s.Material = SpecimenMaterial{Density: 2300, SpecificHeat: 880} }, "channels[0].specimen.material.conductivity_w_mk"},
 		{func(s *Specimen) { s.Material.Emissivity = 1.5 }, "channels[0].specimen.material.emissivity"},
+		{func(s *Specimen) { s.Convection = "fan" }, "channels[0].specimen.convection"},
+		{func(s *Specimen) { s.Material.Finish = "painted" }, "channels[0].specimen.material.finish"},
+		{func(s *Specimen) {
+			s.Material = SpecimenMaterial{Density: 1, SpecificHeat: 1, Conductivity: 1, Finish: "bright"}
+		}, "channels[0].specimen.material.finish"},
+		{func(s *Specimen) { s.Convection = "chamber" }, "channels[0].specimen.chamber_c"},
+		{func(s *Specimen) { s.Convection, s.ChamberC = "moving", ptr(180) }, "channels[0].specimen.chamber_c"},
 	} {
 		s := good
 		c.edit(&s)
@@ -31,6 +38,11 @@ func TestSpecimenProblems(t *testing.T) {
 		if err == nil || !strings.Contains(err.Error(), c.key) {
 			t.Errorf("%+v: %v, want a problem at %s", s, err, c.key)
 		}
+	}
+	oven := good
+	oven.Convection, oven.ChamberC = "chamber", ptr(180)
+	if err := oven.Check("channels[0]"); err != nil {
+		t.Errorf("specimen in a chamber at 180 °C: %v", err)
 	}
 	if (*Specimen)(nil).Check("channels[0]") != nil {
 		t.Error("nil specimen has problems")

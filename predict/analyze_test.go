@@ -24,7 +24,7 @@ func noisy(rng *rand.Rand, c []float64, sigma float64) []float64 {
 func TestAnalyzeModelChoice(t *testing.T) {
 	rng := rand.New(rand.NewPCG(31, 32))
 	exp := synth(rng, 600, 3600, 22, 300, 900, 0.1, 0.1)
-	law := SurfaceLaw{surface.HorizontalCylinder, 0.04, 0.8}
+	law := SurfaceLaw{Geometry: surface.HorizontalCylinder, LengthM: 0.04, Emissivity: 0.8}
 	h := simulateH(law, 7850*434*0.01, 22, 700, 5, 3000)
 	h.Celsius = noisy(rng, h.Celsius, 0.1)
 	for _, c := range []struct {
@@ -75,7 +75,7 @@ func TestAnalyzeSpecimenBiot(t *testing.T) {
 // interval holds it.
 func TestAnalyzeHeatingTowardWarmAmbient(t *testing.T) {
 	rng := rand.New(rand.NewPCG(35, 36))
-	law := SurfaceLaw{surface.VerticalPlate, 0.2, 0.9}
+	law := SurfaceLaw{Geometry: surface.VerticalPlate, LengthM: 0.2, Emissivity: 0.9}
 	c := 2300 * 880 * 0.02
 	full := simulateH(law, c, 23, -20, 10, 40000)
 	var cross float64

@@ -180,7 +180,8 @@ func specimenFromConfig(key string, c *config.Specimen) (Specimen, error) {
 	m := c.Material
 	s := Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, WidthM: c.WidthM, Sensor: c.Sensor,
 		Material: SpecimenMaterial{Name: m.Name, Density: m.Density, SpecificHeat: m.SpecificHeat,
-			Conductivity: m.Conductivity, Emissivity: m.Emissivity}}
+			Conductivity: m.Conductivity, Emissivity: m.Emissivity, Finish: m.Finish},
+		Air: c.Convection, ChamberC: c.ChamberC}
 	if err := s.resolve(); err != nil {
 		return Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
 	}

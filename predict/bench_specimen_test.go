@@ -20,6 +20,13 @@ func TestSpecsFromConfigSpecimen(t *testing.T) {
 	if specs[0].Specimen != nil || specs[1].Specimen == nil || specs[1].Specimen.Material.Conductivity != 1.4 {
 		t.Fatalf("specs %+v", specs)
 	}
+	set := 180.0
+	oven := *ok
+	oven.Convection, oven.ChamberC = "chamber", &set
+	ovenSpecs, err := SpecsFromConfig([]config.Channel{{Name: "c", Specimen: &oven}})
+	if err != nil || ovenSpecs[0].Specimen.Air != ConvectionChamber || *ovenSpecs[0].Specimen.ChamberC != 180 {
+		t.Errorf("chamber specimen %+v, err %v: want convection chamber at 180 °C", ovenSpecs, err)
+	}
 	b := NewBench(specs, TrackerOptions{})
 	if b.trackers[1].opt.Specimen != specs[1].Specimen || b.trackers[0].opt.Specimen != nil {
 		t.Errorf("trackers do not carry their channel's specimen")

@@ -11,7 +11,8 @@ import (
 // field documents its default.
 type IntervalSettings struct {
 	// Z is the standard-normal quantile of the two-sided interval. Zero means 1.645,
-	// a 90 % interval.
+	// a 90 % interval; Analyze takes it from Student's t with the fit's residual
+	// degrees of freedom instead (wider for a sparse record).
 	Z float64
 	// MaxInflation caps the widening for autocorrelated residuals. Zero means 5.
 	MaxInflation float64
@@ -21,7 +22,8 @@ type IntervalSettings struct {
 	// sd = ModelError·h·sqrt(h/span). No parameter covariance sees this error (the
 	// true curve is not exactly any model's); zero means 0.14, calibrated on the
 	// generated benchmark in testdata/bench so that 90 % intervals cover about 90 %
-	// (see TestAccuracyTable). Negative means none.
+	// (see TestAccuracyTable). Analyze sizes a zero ModelError from the segment's own
+	// backtest instead (backtestModelError), pooled with 0.14. Negative means none.
 	ModelError float64
 }
 

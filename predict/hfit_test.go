@@ -38,9 +38,9 @@ func TestFitHRecoversODE(t *testing.T) {
 		law              SurfaceLaw
 		c, amb, t0, span float64
 	}{
-		{"hot steel cylinder", SurfaceLaw{surface.HorizontalCylinder, 0.05, 0.7}, 7800 * 470 * 0.0125, 22, 600, 1800},
-		{"cold block warming", SurfaceLaw{surface.VerticalPlate, 0.2, 0.9}, 2300 * 880 * 0.02, 23, -20, 7200},
-		{"aluminium sphere", SurfaceLaw{surface.Sphere, 0.04, 0.1}, 2702 * 903 * 0.02 / 3, 20, 300, 3600},
+		{"hot steel cylinder", SurfaceLaw{Geometry: surface.HorizontalCylinder, LengthM: 0.05, Emissivity: 0.7}, 7800 * 470 * 0.0125, 22, 600, 1800},
+		{"cold block warming", SurfaceLaw{Geometry: surface.VerticalPlate, LengthM: 0.2, Emissivity: 0.9}, 2300 * 880 * 0.02, 23, -20, 7200},
+		{"aluminium sphere", SurfaceLaw{Geometry: surface.Sphere, LengthM: 0.04, Emissivity: 0.1}, 2702 * 903 * 0.02 / 3, 20, 300, 3600},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -80,7 +80,7 @@ func TestPhiTableInverts(t *testing.T) {
 }
 
 func benchmarkH(b *testing.B, fit func(p LumpedProblem)) {
-	law := SurfaceLaw{surface.HorizontalCylinder, 0.05, 0.7}
+	law := SurfaceLaw{Geometry: surface.HorizontalCylinder, LengthM: 0.05, Emissivity: 0.7}
 	p := simulateH(law, 7800*470*0.0125, 22, 600, 1, 1999)
 	rng := rand.New(rand.NewPCG(15, 16))
 	for i := range p.Celsius {

@@ -18,6 +18,10 @@ type SurfaceLaw struct {
 	LengthM  float64
 	// Emissivity is the grey-body emissivity, 0..1.
 	Emissivity float64
+	// ForcedH, when positive, is a constant convective coefficient, W/(m²·K), used
+	// instead of the natural-convection correlation: moving air (a fan, a draught, an
+	// oven's circulation). Radiation is kept.
+	ForcedH float64
 }
 
 // DefaultSurfaceLaw is assumed when the specimen is unknown: a vertical plate 0.1 m
@@ -32,7 +36,12 @@ const minH = 1e-3
 
 // H returns the surface coefficient, W/(m²·K), at surfaceC in an ambient at ambientC.
 func (l SurfaceLaw) H(surfaceC, ambientC float64) float64 {
-	h := surface.Coefficient(l.Geometry, l.LengthM, l.Emissivity, surfaceC, ambientC)
+	var h float64
+	if l.ForcedH > 0 {
+		h = l.ForcedH + surface.Radiation(l.Emissivity, surfaceC, ambientC)
+	} else {
+		h = surface.Coefficient(l.Geometry, l.LengthM, l.Emissivity, surfaceC, ambientC)
+	}
 	if !(h > minH) {
 		return minH
 	}

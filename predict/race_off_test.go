@@ -2,5 +2,5 @@
 
 package predict
 
-// raceEnabled is true under -race, where the long single-goroutine benchmarks skip.
+// raceEnabled is true under -race, where the long property sweeps run fewer cases.
 const raceEnabled = false

@@ -35,6 +35,39 @@ type Specimen struct {
 	Sensor string `yaml:"sensor"`
 	// Material gives the properties, or names a built-in material.
 	Material SpecimenMaterial `yaml:"material"`
+	// Air (YAML key convection) says how the air around the specimen moves: "still" (natural
+	// convection), "moving" (a fan, a draught: a constant convective coefficient),
+	// or "chamber" (an oven, furnace or conditioning chamber held at ChamberC, with
+	// circulating air and walls radiating at about that temperature). Empty: the
+	// engine fits still and moving air and keeps the better by AIC, with a note.
+	Air string `yaml:"convection"`
+	// ChamberC is a chamber's set temperature, °C; required with Air "chamber",
+	// not allowed otherwise.
+	ChamberC *float64 `yaml:"chamber_c"`
+}
+
+// The settings of Specimen.Air.
+const (
+	ConvectionStill   = "still"
+	ConvectionMoving  = "moving"
+	ConvectionChamber = "chamber"
+)
+
+// convectionErr checks Air and ChamberC.
+func (s Specimen) convectionErr() error {
+	switch s.Air {
+	case "", ConvectionStill, ConvectionMoving:
+		if s.ChamberC != nil {
+			return fmt.Errorf("chamber_c: only a specimen with convection: chamber has a set temperature")
+		}
+	case ConvectionChamber:
+		if s.ChamberC == nil || math.IsNaN(*s.ChamberC) || math.IsInf(*s.ChamberC, 0) || *s.ChamberC < -273.15 {
+			return fmt.Errorf("chamber_c: convection: chamber needs the chamber's set temperature in °C")
+		}
+	default:
+		return fmt.Errorf("convection: %q is not still, moving or chamber", s.Air)
+	}
+	return nil
 }
 
 // SpecimenMaterial is a specimen's material: a built-in Name (predict/material), or
@@ -45,6 +78,9 @@ type SpecimenMaterial struct {
 	SpecificHeat float64 `yaml:"specific_heat_j_kgk"`
 	Conductivity float64 `yaml:"conductivity_w_mk"`
 	Emissivity   float64 `yaml:"emissivity"`
+	// Finish is a named material's surface, "bright" or "oxidised" (the default for
+	// metals: as taken out of a furnace); it picks the emissivity when none is given.
+	Finish string `yaml:"finish"`
 }
 
 // LoadSpecimen reads and checks a specimen YAML file; errors name the file and key.
@@ -79,6 +115,9 @@ func ParseSpecimen(b []byte) (Specimen, error) {
 func (s *Specimen) resolve() error {
 	m := &s.Material
 	if m.Name == "" {
+		if m.Finish != "" {
+			return fmt.Errorf("material.finish: a finish needs a built-in material.name (or give the emissivity)")
+		}
 		return nil
 	}
 	ref, ok := material.Lookup(m.Name)
@@ -93,7 +132,15 @@ func (s *Specimen) resolve() error {
 	fill(&m.Density, ref.Density)
 	fill(&m.SpecificHeat, ref.SpecificHeat)
 	fill(&m.Conductivity, ref.Conductivity)
-	fill(&m.Emissivity, ref.Emissivity)
+	emis := ref.Emissivity
+	if m.Finish != "" {
+		r, ok := ref.Finish(m.Finish)
+		if !ok {
+			return fmt.Errorf("material.finish: %q is not a finish of %s (bright or oxidised for a metal; oxidised for a non-metal)", m.Finish, ref.Name)
+		}
+		emis = math.Round(100*r.Mid()) / 100
+	}
+	fill(&m.Emissivity, emis)
 	return nil
 }
 
@@ -125,6 +172,7 @@ func (s Specimen) Validate() error {
 		pos("material.specific_heat_j_kgk", m.SpecificHeat),
 		pos("material.conductivity_w_mk", m.Conductivity),
 		emissivityErr(m.Emissivity),
+		s.convectionErr(),
 	)
 }
 
@@ -228,6 +276,9 @@ func (s Specimen) Conduction() (conduction.Specimen, error) {
 	}
 	if s.Sensor == "surface" {
 		c.Sensor = conduction.Surface
+	}
+	if s.Air == ConvectionMoving || s.Air == ConvectionChamber {
+		c.ForcedH = movingH[1] // the shape only: the fit scales h
 	}
 	switch shape {
 	case conduction.Slab:

@@ -146,3 +146,31 @@ func FuzzReadCurveCSV(f *testing.F) {
 		Analyze(p, t0, []Target{{Name: "x", Celsius: 50}}, AnalyzeOptions{})
 	})
 }
+
+// A named metal without an emissivity takes the oxidised middle (out of a furnace);
+// finish: bright takes the bright one; an emissivity given wins; a finish the material
+// does not have, or one without a material name, is refused naming the key.
+func TestSpecimenFinish(t *testing.T) {
+	for _, c := range []struct {
+		yaml string
+		want float64
+		err  string
+	}{
+		{"material: {name: copper}", 0.65, ""},
+		{"material: {name: copper, finish: bright}", 0.05, ""}, // middle of 0.02–0.07, rounded
+		{"material: {name: copper, finish: oxidised, emissivity: 0.3}", 0.3, ""},
+		{"material: {name: concrete, finish: bright}", 0, "material.finish"},
+		{"material: {density_kg_m3: 7800, specific_heat_j_kgk: 450, conductivity_w_mk: 50, finish: oxidised}", 0, "material.finish"},
+	} {
+		sp, err := ParseSpecimen([]byte("shape: sphere\nsize_m: 0.01\nsensor: center\n" + c.yaml + "\n"))
+		if c.err != "" {
+			if err == nil || !strings.Contains(err.Error(), c.err) {
+				t.Errorf("%s: error %v, want one naming %s", c.yaml, err, c.err)
+			}
+			continue
+		}
+		if err != nil || math.Abs(sp.Material.Emissivity-c.want) > 1e-9 {
+			t.Errorf("%s: emissivity %g, err %v; want %g", c.yaml, sp.Material.Emissivity, err, c.want)
+		}
+	}
+}

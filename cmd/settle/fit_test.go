@@ -206,6 +206,35 @@ func TestFitSpecimenBiot(t *testing.T) {
 	}
 }
 
+// A specimen file saying the bar warms in an oven at 180 °C: settle fit takes the set
+// temperature as the ambient (no fitted room) and says so, and a bad convection key
+// is refused naming it.
+func TestFitSpecimenChamber(t *testing.T) {
+	path := writeCurve(t, 10, 1200, func(s float64) string { return fmt.Sprintf("%.1f", 180-160*math.Exp(-s/700)) })
+	dir := t.TempDir()
+	base := "shape: cylinder\nsize_m: 0.02\nsensor: center\nmaterial: {name: carbon steel}\n"
+	spec := filepath.Join(dir, "oven.yaml")
+	if err := os.WriteFile(spec, []byte(base+"convection: chamber\nchamber_c: 180\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	out, err := runFit(t, path, "--json", "--specimen", spec, "--target", "ready=170")
+	if err != nil {
+		t.Fatalf("fit: %v\n%s", err, out)
+	}
+	got, _ := decodeFit(t, out)
+	notes := strings.Join(got.Notes, " ")
+	if !strings.Contains(notes, "chamber's set temperature, 180 °C") {
+		t.Errorf("notes %q do not name the chamber's set temperature", got.Notes)
+	}
+	bad := filepath.Join(dir, "bad.yaml")
+	if err := os.WriteFile(bad, []byte(base+"convection: oven\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	if out, err := runFit(t, path, "--specimen", bad); err == nil || !strings.Contains(err.Error(), "convection") {
+		t.Errorf("bad convection: error %v, want one naming convection\n%s", err, out)
+	}
+}
+
 // Mug of hot water (mosaicData CoolingWater via shared/realdata/README.md): not a single
 // exponential; from the first hour `settle fit` must flag the mismatch.
 func TestFitMugCurve(t *testing.T) {

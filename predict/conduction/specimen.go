@@ -86,6 +86,9 @@ type Specimen struct {
 	Conductivity float64
 	// Emissivity is the surface's total emissivity (0–1), used by FitFV only.
 	Emissivity float64
+	// ForcedH, when positive, is a constant convective coefficient (moving air),
+	// W/(m²·K), used by FitFV instead of natural convection; radiation is kept.
+	ForcedH float64
 	// Sensor is where the thermocouple is (Centre, Surface, VolumeMean or a fraction).
 	Sensor Position
 }

@@ -171,3 +171,72 @@ func FuzzLookup(f *testing.F) {
 		}
 	})
 }
+
+// Each row's emissivity ranges hold the figures recalled for its surfaces, and the
+// default is the middle of the oxidised range: metal taken out of a furnace is
+// oxidised, not bright. Figures: total emissivity near room temperature to a few
+// hundred °C, from Incropera et al. 6th ed. Table A.11 where it lists the surface
+// (marked A.11) and typical handbook figures otherwise, all from memory and not
+// checked against a printed page.
+func TestEmissivityFinishes(t *testing.T) {
+	cases := []struct {
+		name             string
+		bright, oxidised []float64 // recalled figures; nil: no such finish
+	}{
+		{"carbon steel", []float64{0.07, 0.2}, []float64{0.79, 0.8}},         // polished ~0.07; oxidised mild steel ~0.79
+		{"stainless steel 304", []float64{0.17, 0.22}, []float64{0.57, 0.7}}, // A.11: polished ~0.17, cleaned ~0.22, highly oxidised ~0.7
+		{"aluminium alloy 2024-T6", []float64{0.05}, []float64{0.11, 0.2}},   // A.11: foil ~0.05; oxidised at 600 °C ~0.11–0.19
+		{"aluminium alloy 6061-T6", []float64{0.05}, []float64{0.11, 0.2}},   // as 2024 (no separate figure recalled)
+		{"pure aluminium", []float64{0.04}, []float64{0.11, 0.19}},           // A.11: highly polished ~0.04; oxidised ~0.11–0.19
+		{"copper", []float64{0.03}, []float64{0.57, 0.78}},                   // A.11: highly polished ~0.03, stably oxidised ~0.5–0.6; black oxidised ~0.78
+		{"brass", []float64{0.03, 0.1}, []float64{0.5, 0.6}},                 // highly polished ~0.03, oxidised at 600 °C ~0.6
+		{"cast iron", []float64{0.21, 0.44}, []float64{0.64, 0.95}},          // polished ~0.21, machined ~0.44; oxidised ~0.64–0.78, rough scale ~0.95
+		{"titanium alloy Ti-6Al-4V", []float64{0.19}, []float64{0.5, 0.6}},   // polished ~0.19, oxidised at 540 °C ~0.6
+		{"lead", []float64{0.06, 0.08}, []float64{0.28, 0.6}},                // polished ~0.06; grey oxidised ~0.28, oxidised at 200 °C ~0.6
+		{"concrete", nil, []float64{0.88, 0.94}},                             // A.11: concrete ~0.88–0.93
+		{"mortar", nil, []float64{0.9}},                                      // as plaster/cement ~0.9
+		{"common brick", nil, []float64{0.93}},                               // A.11: brick, red ~0.93
+		{"oak", nil, []float64{0.9}},                                         // A.11: wood ~0.82–0.92
+		{"pine", nil, []float64{0.9}},                                        // as oak
+		{"soda-lime glass", nil, []float64{0.9, 0.94}},                       // A.11: window glass ~0.90–0.95
+		{"PMMA", nil, []float64{0.86, 0.94}},                                 // acrylic ~0.86–0.94
+		{"PTFE", nil, []float64{0.85, 0.92}},                                 // PTFE ~0.85–0.92
+		{"alumina", nil, []float64{0.7, 0.9}},                                // A.11: aluminium oxide ~0.69 at 600 K to ~0.9 near room temperature
+		{"granite", nil, []float64{0.86, 0.9}},                               // rough stone ~0.86–0.93
+	}
+	if len(cases) != len(Names()) {
+		t.Fatalf("%d emissivity cases for %d materials: every row needs one", len(cases), len(Names()))
+	}
+	in := func(r Range, x float64) bool { return r.Lo <= x && x <= r.Hi }
+	for _, c := range cases {
+		m, ok := Lookup(c.name)
+		if !ok {
+			t.Fatalf("%q: missing", c.name)
+		}
+		if m.Metal != (c.bright != nil) {
+			t.Errorf("%q: metal %v, want %v", c.name, m.Metal, c.bright != nil)
+		}
+		for _, x := range c.bright {
+			if !in(m.Bright, x) {
+				t.Errorf("%q: bright range %v does not hold the recalled %g", c.name, m.Bright, x)
+			}
+		}
+		for _, x := range c.oxidised {
+			if !in(m.Oxidised, x) {
+				t.Errorf("%q: oxidised range %v does not hold the recalled %g", c.name, m.Oxidised, x)
+			}
+		}
+		if math.Abs(m.Emissivity-m.Oxidised.Mid()) > 0.006 || !strings.Contains(m.EmissivitySource, "from memory") {
+			t.Errorf("%q: default emissivity %g, want the oxidised middle %g; source %q", c.name, m.Emissivity, m.Oxidised.Mid(), m.EmissivitySource)
+		}
+		if r, ok := m.Finish("oxidized"); !ok || r != m.Oxidised {
+			t.Errorf("%q: Finish(oxidized) = %v, %v", c.name, r, ok)
+		}
+		if r, ok := m.Finish("bright"); ok != m.Metal || ok && r != m.Bright {
+			t.Errorf("%q: Finish(bright) = %v, %v", c.name, r, ok)
+		}
+	}
+	if _, ok := (Material{}).Finish("painted"); ok {
+		t.Error("an unknown finish was found")
+	}
+}

@@ -1,0 +1,395 @@
+package predict
+
+import (
+	"bufio"
+	"encoding/csv"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// realDir holds the measured curves from outside the project (sources and licences in
+// its README.md; see also testdata/predict/REALDATA.md).
+const realDir = "../../shared/realdata"
+
+// realSegment is one measured piece of a curve: a cool-down or warm-up from its
+// start (placement, power step or end of a current pulse), times in seconds from it.
+type realSegment struct {
+	family, name string
+	curve        CurveFile
+}
+
+// openReal opens a file of realDir, skipping the test when the folder is absent (a
+// plain clone has no shared folder).
+func openReal(t *testing.T, name string) *os.File {
+	t.Helper()
+	path := filepath.Join(realDir, name)
+	f, err := os.Open(path)
+	if os.IsNotExist(err) {
+		t.Skipf("%s absent (a plain clone has no shared folder)", path)
+	}
+	if err != nil {
+		t.Fatal(err)
+	}
+	return f
+}
+
+func fahrenheitToC(f float64) float64 { return (f - 32) * 5 / 9 }
+
+// realSegments reads every measured segment: the mug (mosaicData CoolingWater), the
+// four fastR2 mugs with and without an oil film, Rumford's cannon (Bates & Watts 1988
+// via R's nls examples), the rest cool-downs of the 18650 cell in its chamber
+// (ARTS-Laboratory, CC BY-SA 4.0) and the heater board's power steps (APMonitor,
+// Apache-2.0).
+func realSegments(t *testing.T) []realSegment {
+	t.Helper()
+	var out []realSegment
+	minutes, celsius := readMug(t)
+	out = append(out, realSegment{"mug", "mosaicData CoolingWater", minuteCurve(minutes, celsius)})
+	out = append(out, oilFilmSegments(t)...)
+	out = append(out, rumfordSegment(t))
+	out = append(out, cellSegments(t)...)
+	out = append(out, heaterSegments(t)...)
+	return out
+}
+
+// minuteCurve makes a curve from minutes and °C.
+func minuteCurve(minutes, celsius []float64) CurveFile {
+	c := CurveFile{Celsius: celsius}
+	for _, m := range minutes {
+		c.Times = append(c.Times, 60*m)
+	}
+	return c
+}
+
+func parseReal(t *testing.T, file string, line int, s string) float64 {
+	t.Helper()
+	v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	if err != nil {
+		t.Fatalf("%s line %d: %v", file, line, err)
+	}
+	return v
+}
+
+// oilFilmSegments reads mug-water-oil-film.csv: one segment per data set; sets 1–2
+// are in minutes, 3–4 in seconds (the file's README section).
+func oilFilmSegments(t *testing.T) []realSegment {
+	t.Helper()
+	const name = "mug-water-oil-film.csv"
+	f := openReal(t, name)
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	var out []realSegment
+	idx := map[string]int{}
+	for i, row := range rows[1:] {
+		set, cond, unit := row[0], row[2], row[3]
+		j, ok := idx[set]
+		if !ok {
+			family := "mug"
+			if cond == "oil_film" {
+				family = "mug, oil film"
+			}
+			j = len(out)
+			idx[set] = j
+			out = append(out, realSegment{family: family, name: "fastR2 " + set})
+		}
+		tm, temp := parseReal(t, name, i+2, row[4]), parseReal(t, name, i+2, row[5])
+		if unit == "F" {
+			temp = fahrenheitToC(temp)
+		}
+		if set == "CoolingWater1" || set == "CoolingWater2" {
+			tm *= 60
+		}
+		out[j].curve.Times = append(out[j].curve.Times, tm)
+		out[j].curve.Celsius = append(out[j].curve.Celsius, temp)
+	}
+	return out
+}
+
+// rumfordSegment is Rumford's cannon from testdata/predict/rumford.csv, in °C and s.
+func rumfordSegment(t *testing.T) realSegment {
+	t.Helper()
+	minutes, fahrenheit := readRumford(t)
+	c := make([]float64, len(fahrenheit))
+	for i, f := range fahrenheit {
+		c[i] = fahrenheitToC(f)
+	}
+	return realSegment{"rumford", "Rumford's cannon (1798)", minuteCurve(minutes, c)}
+}
+
+// Cell rests: readings with |current| below cellRestA for at least cellRestRows rows
+// make one cool-down, read every cellStride-th reading (a 4 s logger).
+const (
+	cellRestA    = 0.05
+	cellRestRows = 1800
+	cellStride   = 4
+)
+
+// cellSegments reads the rest periods of cell-18650-rest-cooldowns.txt: tab-separated
+// time (s, restarting between test steps), current, voltage, power, cell surface °C,
+// chamber °C; the chamber temperature is the measured ambient.
+func cellSegments(t *testing.T) []realSegment {
+	t.Helper()
+	const name = "cell-18650-rest-cooldowns.txt"
+	f := openReal(t, name)
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	line, header := 0, true
+	var out []realSegment
+	var run CurveFile
+	flush := func() {
+		if len(run.Times) >= cellRestRows {
+			c := CurveFile{}
+			for i := 0; i < len(run.Times); i += cellStride {
+				c.Times = append(c.Times, run.Times[i]-run.Times[0])
+				c.Celsius = append(c.Celsius, run.Celsius[i])
+				c.Ambient = append(c.Ambient, run.Ambient[i])
+			}
+			out = append(out, realSegment{"18650 cell", fmt.Sprintf("cell rest %d", len(out)+1), c})
+		}
+		run = CurveFile{}
+	}
+	for sc.Scan() {
+		line++
+		if header {
+			header = !strings.HasPrefix(sc.Text(), "***End_of_Header***")
+			continue
+		}
+		fs := strings.Fields(sc.Text())
+		if len(fs) < 6 {
+			continue
+		}
+		var v [6]float64
+		for i := range v {
+			v[i] = parseReal(t, name, line, fs[i])
+		}
+		if math.Abs(v[1]) >= cellRestA || len(run.Times) > 0 && v[0] < run.Times[len(run.Times)-1] {
+			flush()
+			if math.Abs(v[1]) >= cellRestA {
+				continue
+			}
+		}
+		run.Times = append(run.Times, v[0])
+		run.Celsius = append(run.Celsius, v[4])
+		run.Ambient = append(run.Ambient, v[5])
+	}
+	if err := sc.Err(); err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	flush()
+	return out
+}
+
+// heaterMinRows is the fewest rows of a heater step kept as a segment.
+const heaterMinRows = 60
+
+// heaterSegments reads transistor-heater-steps.csv: for each of the two heaters, one
+// segment from each change of its power to the next (the other heater's steps
+// disturb it a little, as a neighbour on a rack would).
+func heaterSegments(t *testing.T) []realSegment {
+	t.Helper()
+	const name = "transistor-heater-steps.csv"
+	f := openReal(t, name)
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+	var out []realSegment
+	for h := range 2 {
+		var seg CurveFile
+		var start, power float64
+		flush := func() {
+			// The first piece, before the heater's first step, only shows its
+			// neighbour warming it.
+			if len(seg.Times) >= heaterMinRows && start > 0 {
+				out = append(out, realSegment{"heater board", fmt.Sprintf("heater %d at %.0f %% from %.0f s", h+1, power, start), seg})
+			}
+			seg = CurveFile{}
+		}
+		for i, row := range rows[1:] {
+			tm := parseReal(t, name, i+2, row[0])
+			p := parseReal(t, name, i+2, row[1+h])
+			temp := parseReal(t, name, i+2, row[3+h])
+			if i == 0 || p != power {
+				flush()
+				start, power = tm, p
+			}
+			seg.Times = append(seg.Times, tm-start)
+			seg.Celsius = append(seg.Celsius, temp)
+		}
+		flush()
+	}
+	return out
+}
+
+// realLevels are the targets scored on a measured segment: the levels at these shares
+// of the way from its start to its end (both smoothed), which the curve crosses.
+var realLevels = []float64{0.5, 0.75, 0.9}
+
+// smoothed is a centred moving average over about a fiftieth of the readings (at
+// least one reading each side once there are 100), so that noise does not make the
+// truth of a crossing.
+func smoothed(c []float64) []float64 {
+	k := len(c) / 100
+	out := make([]float64, len(c))
+	for i := range c {
+		lo, hi := max(0, i-k), min(len(c)-1, i+k)
+		var s float64
+		for j := lo; j <= hi; j++ {
+			s += c[j]
+		}
+		out[i] = s / float64(hi-lo+1)
+	}
+	return out
+}
+
+// realTarget is one scored target of a segment: its level and true crossing time.
+type realTarget struct{ level, crossing float64 }
+
+// targetsOf returns the segment's targets: at each of realLevels, the first time
+// the smoothed readings cross it (interpolated). A segment that changes by less
+// than 1 K has none.
+func targetsOf(c CurveFile) []realTarget {
+	s := smoothed(c.Celsius)
+	first, last := s[0], s[len(s)-1]
+	if math.Abs(last-first) < 1 {
+		return nil
+	}
+	side := sign(first - last)
+	var out []realTarget
+	for _, share := range realLevels {
+		level := first + share*(last-first)
+		for i := 1; i < len(s); i++ {
+			if side*(s[i]-level) <= 0 {
+				f := (s[i-1] - level) / (s[i-1] - s[i])
+				out = append(out, realTarget{level, c.Times[i-1] + f*(c.Times[i]-c.Times[i-1])})
+				break
+			}
+		}
+	}
+	return out
+}
+
+// minRealReadings is the fewest readings up to a cutoff for a trial to be scored.
+const minRealReadings = 4
+
+// realAccuracy scores the engine and the two baselines on every measured segment at
+// each elapsed fraction of the time from the segment's start to each target's
+// crossing; keys are "method/fraction/family" and "method/fraction/all".
+func realAccuracy(t *testing.T) map[string]*score {
+	methods := map[string]method{"engine": engine, "exp3": exponential3, "linear": linearTrend}
+	out := map[string]*score{}
+	for _, seg := range realSegments(t) {
+		for _, tg := range targetsOf(seg.curve) {
+			for _, frac := range fractions {
+				part := seg.curve.Until(frac * tg.crossing)
+				if len(part.Times) < minRealReadings {
+					continue
+				}
+				for name, m := range methods {
+					tr := judgeAt(m, part, tg.level, tg.crossing)
+					for _, g := range []string{"all", seg.family} {
+						key := fmt.Sprintf("%s/%.2f/%s", name, frac, g)
+						if out[key] == nil {
+							out[key] = &score{}
+						}
+						out[key].add(tr)
+					}
+				}
+			}
+		}
+	}
+	return out
+}
+
+// realFamilies are the families of measured curves, in table order.
+var realFamilies = []string{"all", "mug", "mug, oil film", "rumford", "18650 cell", "heater board"}
+
+// TestRealSegments checks the loaders against the files' README: the number of
+// segments per family and their span.
+func TestRealSegments(t *testing.T) {
+	count := map[string]int{}
+	for _, seg := range realSegments(t) {
+		count[seg.family]++
+		if n := len(seg.curve.Times); n < heaterMinRows/5 || len(targetsOf(seg.curve)) != len(realLevels) {
+			t.Errorf("%s: %d readings, %d of %d targets crossed", seg.name, n, len(targetsOf(seg.curve)), len(realLevels))
+		}
+	}
+	// 1 + 2 mugs of water, 2 with an oil film, the cannon, 8 full rests of the cell
+	// (its README: "about nine"; the 90-minute rests after each discharge step), and
+	// 3 + 3 power steps of the two heaters.
+	want := map[string]int{"mug": 3, "mug, oil film": 2, "rumford": 1, "18650 cell": 8, "heater board": 6}
+	for fam, n := range want {
+		if count[fam] != n {
+			t.Errorf("%s: %d segments, want %d", fam, count[fam], n)
+		}
+	}
+}
+
+// TestAccuracyReal prints the accuracy table on the measured curves of
+// ../shared/realdata (go test ./predict -run TestAccuracyReal -v): every segment, at
+// 10, 25 and 50 % of the time to targets at 50, 75 and 90 % of its observed change,
+// the engine beside a free three-parameter exponential and a linear trend over the
+// last 10 minutes. It holds the engine to the floors it reaches today (not the
+// issue's goals; see README "How well it works").
+func TestAccuracyReal(t *testing.T) {
+	if testing.Short() {
+		t.Skip("real-curve accuracy skipped with -short")
+	}
+	sc := realAccuracy(t)
+	var b strings.Builder
+	fmt.Fprintf(&b, "\n%-14s %-7s %5s |%s\n", "family", "method", "frac", tableHead)
+	for _, fam := range realFamilies {
+		for _, m := range []string{"engine", "exp3", "linear"} {
+			for _, fr := range fractions {
+				if s := sc[fmt.Sprintf("%s/%.2f/%s", m, fr, fam)]; s != nil {
+					fmt.Fprintf(&b, "%-14s %-7s %4.0f%% | %s\n", fam, m, 100*fr, s.row())
+				}
+			}
+		}
+	}
+	t.Log(b.String())
+	realFloors(t, sc)
+}
+
+// realFloors holds the engine to what it reaches on the measured curves today (the
+// floors, not the goals): on the cell rests (measured chamber ambient) and the
+// oil-film mugs (water without evaporation), a median relative error no worse than
+// the linear trend's, and below the figures measured when the floors were set.
+func realFloors(t *testing.T, sc map[string]*score) {
+	t.Helper()
+	med := func(key string) float64 { return quantile(sc[key].errs, 0.5) }
+	for _, c := range []struct {
+		family string
+		frac   float64
+		max    float64
+	}{
+		{"18650 cell", 0.25, 0.25},    // 21.6 % measured
+		{"18650 cell", 0.50, 0.22},    // 18.3 %
+		{"mug, oil film", 0.50, 0.15}, // 12.9 %
+	} {
+		key := fmt.Sprintf("engine/%.2f/%s", c.frac, c.family)
+		if m := med(key); m > c.max {
+			t.Errorf("%s: median relative error %.1f %%, floor %.0f %%", key, 100*m, 100*c.max)
+		}
+		if m, lin := med(key), med(fmt.Sprintf("linear/%.2f/%s", c.frac, c.family)); m > lin {
+			t.Errorf("%s: median relative error %.1f %% is worse than the linear trend's %.1f %%", key, 100*m, 100*lin)
+		}
+	}
+	var covered, judged int
+	for _, fr := range fractions {
+		s := sc[fmt.Sprintf("engine/%.2f/18650 cell", fr)]
+		covered, judged = covered+s.covered, judged+s.judged
+	}
+	if c := float64(covered) / float64(judged); c < 0.70 {
+		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 70 %% (75 %% measured)", 100*c, judged)
+	}
+}
