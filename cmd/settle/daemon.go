@@ -64,6 +64,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
 		Health: d.replay.health, Placement: d.rec.placementAPI(),
 	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
+	daq.ReserveDescriptors() // low descriptors for the serial ports, before clients arrive
 	d.ln, err = net.Listen("tcp", cfg.Listen)
 	if err != nil {
 		d.rec.close()
