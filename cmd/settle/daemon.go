@@ -175,7 +175,7 @@ func (d *daemon) acquire(readings <-chan daq.Reading, queue chan<- daq.Reading) 
 // routes it. Once stopping is set it no longer feeds the trackers, so a shutdown does
 // not wait for fits. At the end it flushes the readings the cleaner still holds.
 func (d *daemon) analyse(queue <-chan daq.Reading, mark int64, stopping *atomic.Bool) {
-	d.replay.run(func() (int, error) { return d.rec.resume(d.bench, d.latest, mark) })
+	d.replay.run(func() (int, error) { return d.rec.resume(d.bench, d.latest, mark, stopping.Load) })
 	for r := range queue {
 		for _, c := range d.cleaner.Apply(r) {
 			d.route(c, !stopping.Load())

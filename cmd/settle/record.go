@@ -207,7 +207,9 @@ const replayPerChannel = 16384
 // end) and the newest valid reading of each channel into latest, so a restarted daemon
 // shows forecasts soon rather than from scratch. It returns how many readings it
 // replayed. Readings committed after the mark reach bench live.
-func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest, seq int64) (int, error) {
+//
+// It gives up early (a shutdown during a long replay) once stop returns true.
+func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest, seq int64, stop func() bool) (int, error) {
 	n, start := 0, time.Now()
 	since := start.Add(-resumeWindow)
 	r.syncPlaced(bench)
@@ -220,11 +222,12 @@ func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest, seq int
 			}
 		}
 		bench.Restore(func(observe func(string, time.Time, float64)) {
-			err = r.j.ReplayBefore(from, seq, func(rd daq.Reading) {
+			err = r.j.ReplayBefore(from, seq, func(rd daq.Reading) bool {
 				if rd.OK() && !rd.Time.Before(starts[rd.Channel]) {
 					n++
 					observe(rd.Channel, rd.Time, rd.Celsius)
 				}
+				return n%4096 != 0 || !stop()
 			})
 		})
 	}

@@ -70,3 +70,42 @@ func TestRestatus(t *testing.T) {
 		t.Errorf("spike raw %q, want 20.002", got[2].Raw)
 	}
 }
+
+// ReplayStarts bounds each channel's replay to its newest perChannel readings at the
+// mark, and ReplayBefore leaves out readings committed after the mark.
+func TestReplayBoundedAtMark(t *testing.T) {
+	j, _ := open(t, Options{CommitInterval: time.Hour})
+	for i := range 100 {
+		j.Append(reading("fast", i))
+	}
+	for i := range 5 {
+		j.Append(reading("slow", i*20))
+	}
+	mustFlush(t, j)
+	mark, err := j.LastSeq()
+	if err != nil {
+		t.Fatal(err)
+	}
+	j.Append(reading("fast", 100)) // after the mark: live, not replayed
+	mustFlush(t, j)
+	starts, err := j.ReplayStarts(t0, mark, 10)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := reading("fast", 90).Time; !starts["fast"].Equal(want) {
+		t.Errorf("fast starts at %v, want the 10th newest %v", starts["fast"], want)
+	}
+	if !starts["slow"].Equal(t0) {
+		t.Errorf("slow (5 readings) starts at %v, want since %v", starts["slow"], t0)
+	}
+	got := map[string]int{}
+	err = j.ReplayBefore(t0, mark, func(r daq.Reading) bool {
+		if !r.Time.Before(starts[r.Channel]) {
+			got[r.Channel]++
+		}
+		return true
+	})
+	if err != nil || got["fast"] != 10 || got["slow"] != 5 {
+		t.Errorf("replayed %v (%v), want fast 10 and slow 5", got, err)
+	}
+}

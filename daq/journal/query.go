@@ -77,14 +77,17 @@ func (j *Journal) LastSeq() (int64, error) {
 
 // ReplayBefore is Replay restricted to the readings with a sequence number of at most
 // seq (see LastSeq): the record as it stood at a mark, whatever the readings' clocks.
-func (j *Journal) ReplayBefore(since time.Time, seq int64, fn func(daq.Reading)) error {
+// It stops early, without error, when fn returns false.
+func (j *Journal) ReplayBefore(since time.Time, seq int64, fn func(daq.Reading) bool) error {
 	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
 		" WHERE r.t >= ? AND r.seq <= ? ORDER BY r.t, r.seq"
 	for r, err := range j.query("replay", q, lo(since), seq) {
 		if err != nil {
 			return err
 		}
-		fn(r)
+		if !fn(r) {
+			return nil
+		}
 	}
 	return nil
 }
