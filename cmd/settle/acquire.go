@@ -14,22 +14,26 @@ const (
 	// dropAnalysis: the reading is in the journal but never reached cleaning, the
 	// live view or the fits, because analysis was too far behind.
 	dropAnalysis = "analysis_queue"
+	// dropJournal: the journal's in-memory queue was full during a long disk outage;
+	// the reading is lost (also settle_journal_dropped_readings_total; the journal logs it).
+	dropJournal = "journal_queue"
 )
 
 // dropCounter counts readings dropped on the daemon's path, by cause, logs the first
-// drop of each cause, and exports settle_readings_dropped_total{cause}. The journal's
-// own drops (a disk outage longer than its queue) are settle_journal_dropped_readings_total.
+// drop of each cause, and exports settle_readings_dropped_total{cause}, with the
+// journal's own drops (a disk outage longer than its queue) as cause journal_queue.
 type dropCounter struct {
-	log    *slog.Logger
-	mu     sync.Mutex
-	counts map[string]uint64
-	desc   *prometheus.Desc
+	log     *slog.Logger
+	journal func() uint64 // the journal's dropped readings; nil until set
+	mu      sync.Mutex
+	counts  map[string]uint64
+	desc    *prometheus.Desc
 }
 
 func newDropCounter(log *slog.Logger) *dropCounter {
 	return &dropCounter{log: log, counts: map[string]uint64{dropAnalysis: 0},
 		desc: prometheus.NewDesc("settle_readings_dropped_total",
-			"Readings dropped on the daemon's path, by cause (analysis_queue: recorded in the journal but not shown or fitted).",
+			"Readings dropped on the daemon's path, by cause (analysis_queue: in the journal but not shown or fitted; journal_queue: lost in a long disk outage).",
 			[]string{"cause"}, nil)}
 }
 
@@ -59,6 +63,9 @@ func (c *dropCounter) Collect(ch chan<- prometheus.Metric) {
 	defer c.mu.Unlock()
 	for cause, n := range c.counts {
 		ch <- prometheus.MustNewConstMetric(c.desc, prometheus.CounterValue, float64(n), cause)
+	}
+	if c.journal != nil {
+		ch <- prometheus.MustNewConstMetric(c.desc, prometheus.CounterValue, float64(c.journal()), dropJournal)
 	}
 }
 

@@ -24,8 +24,8 @@ func clockConfig(path, dir string) *config.Config {
 
 func ptrTo[T any](v T) *T { return &v }
 
-// runDaemonAt starts a daemon on cfg, waits for its journal replay and returns it with
-// a function that stops it.
+// runDaemonAt starts a daemon on cfg, waits for its journal replay and its ports, and
+// returns it with a function that stops it.
 func runDaemonAt(t *testing.T, cfg *config.Config) (*daemon, func()) {
 	t.Helper()
 	d, err := newDaemon(cfg, slog.New(slog.NewTextHandler(io.Discard, nil)))
@@ -36,6 +36,7 @@ func runDaemonAt(t *testing.T, cfg *config.Config) (*daemon, func()) {
 	done := make(chan error, 1)
 	go func() { done <- d.Run(ctx) }()
 	<-d.replay.done()
+	waitPortsUp(t, d)
 	return d, func() {
 		cancel()
 		if err := <-done; err != nil {

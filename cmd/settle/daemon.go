@@ -59,6 +59,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	}
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
 	reg := exporter.NewRegistry(state)
+	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
 	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)
 	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
 		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
