@@ -109,17 +109,20 @@ const (
 
 // PlacementStatus is a detector's current state and its last decision.
 type PlacementStatus struct {
+	// Phase is one of the Phase constants.
 	Phase string `json:"phase"`
 	// Ambient is the baseline mean (phases quiet, step, decay), °C.
 	Ambient *float64 `json:"ambient_c,omitempty"`
 	// BaselineSeconds is the quiet stretch seen so far.
 	BaselineSeconds float64 `json:"baseline_s"`
-	// Peak is the reading farthest from ambient (phase decay).
-	Peak        *time.Time `json:"peak,omitempty"`
-	PeakCelsius *float64   `json:"peak_c,omitempty"`
-	// Decision is the last decision and why, Decided when it was taken.
-	Decision string     `json:"decision,omitempty"`
-	Decided  *time.Time `json:"decided,omitempty"`
+	// Peak is the time of the reading farthest from ambient (phase decay).
+	Peak *time.Time `json:"peak,omitempty"`
+	// PeakCelsius is that reading's value.
+	PeakCelsius *float64 `json:"peak_c,omitempty"`
+	// Decision is the last decision and why.
+	Decision string `json:"decision,omitempty"`
+	// Decided is the reading time of the last decision.
+	Decided *time.Time `json:"decided,omitempty"`
 }
 
 // bucketCount is how many time buckets summarise the baseline window.
@@ -225,19 +228,19 @@ func (d *PlacementDetector) Observe(r daq.Reading) (Placement, bool) {
 			d.enterDecay(r, "hot start: first reading far from the room; watching the decay")
 			return Placement{}, false
 		}
-		d.restart(r, idx, "")
+		d.restart(r, "")
 	case PhaseBaseline, PhaseQuiet:
-		d.quiet(r, idx)
+		d.quiet(r)
 	case PhaseStep:
-		d.stepping(r, idx)
+		d.stepping(r)
 	case PhaseDecay:
-		return d.decaying(r, idx)
+		return d.decaying(r)
 	}
 	return Placement{}, false
 }
 
 // restart begins a new baseline at r.
-func (d *PlacementDetector) restart(r daq.Reading, idx int, why string) {
+func (d *PlacementDetector) restart(r daq.Reading, why string) {
 	d.buckets = [bucketCount]bucket{}
 	d.phase, d.hotStart = PhaseBaseline, false
 	d.add(r)
@@ -251,7 +254,7 @@ func (d *PlacementDetector) decide(t time.Time, why string) {
 }
 
 // quiet handles a reading while a baseline is collected or ready.
-func (d *PlacementDetector) quiet(r daq.Reading, idx int) {
+func (d *PlacementDetector) quiet(r daq.Reading) {
 	amb, span, ok := d.baseline()
 	if !ok {
 		d.phase = PhaseBaseline
@@ -280,17 +283,19 @@ func (d *PlacementDetector) quiet(r daq.Reading, idx int) {
 }
 
 // stepping handles a reading while a departure is under way: it becomes a step when
-// it reaches Step within Rise of the baseline's end, a drift otherwise.
-func (d *PlacementDetector) stepping(r daq.Reading, idx int) {
+// it reaches Step within Rise of the baseline's end, a wobble when it comes back within
+// Step/4 of the ambient first, a drift otherwise.
+func (d *PlacementDetector) stepping(r daq.Reading) {
 	dev := math.Abs(r.Celsius - d.amb)
 	switch {
 	case r.Time.Sub(d.baseEnd) > d.opt.Rise:
-		d.restart(r, idx, "departure too slow for a placement (a drift): new baseline")
+		d.restart(r, "departure too slow for a placement (a drift): new baseline")
 	case dev >= d.opt.Step:
 		d.sign = math.Copysign(1, r.Celsius-d.amb)
 		d.enterDecay(r, "step from a quiet baseline; watching the peak and the decay")
 	case dev <= d.opt.Step/4:
-		d.start, d.startIdx = r.Time, idx // still near ambient: the run would start here
+		d.phase = PhaseQuiet // back at the ambient: a wobble, the baseline goes on
+		d.add(r)
 	}
 }
 
@@ -301,7 +306,7 @@ func (d *PlacementDetector) enterDecay(r daq.Reading, why string) {
 }
 
 // decaying tracks the peak (within Rise of the start) and then the decay.
-func (d *PlacementDetector) decaying(r daq.Reading, idx int) (Placement, bool) {
+func (d *PlacementDetector) decaying(r daq.Reading) (Placement, bool) {
 	if d.sign*(r.Celsius-d.peak.Celsius) > 0 && r.Time.Sub(d.start) <= d.opt.Rise {
 		d.peak, d.steps, d.falling = r, 0, 0
 		return Placement{}, false
@@ -322,12 +327,12 @@ func (d *PlacementDetector) decaying(r daq.Reading, idx int) (Placement, bool) {
 		if d.hotStart {
 			why = "hot start without a decay toward the room: new baseline"
 		}
-		d.restart(r, idx, why)
+		d.restart(r, why)
 		return Placement{}, false
 	}
 	p := Placement{Start: d.start, Index: d.startIdx, Peak: d.peak.Time, PeakCelsius: d.peak.Celsius,
 		Ambient: d.amb, Hot: d.sign > 0, HotStart: d.hotStart, Baseline: d.baseSpan}
-	d.restart(r, idx, "placement: decay seen")
+	d.restart(r, "placement: decay seen")
 	return p, true
 }
 

@@ -131,6 +131,12 @@ func TestDetectPlacementHotStartAndShortBaseline(t *testing.T) {
 		{"cold at the first reading", sampled(10*time.Minute, 2*time.Second, placed(-60, 22, -40, 600)), true, true, 0, 20},
 		{"22 to 300 after a 40 s baseline", sampled(10*time.Minute, time.Second, placed(40, 22, 300, 600)), false, true, 39, 22},
 		{"warm room at the first reading, no decay", sampled(10*time.Minute, 2*time.Second, func(float64) float64 { return 40 }), false, false, 0, 0},
+		{"a 2 °C wobble 40 s before the step keeps the baseline", sampled(10*time.Minute, 2*time.Second, func(x float64) float64 {
+			if x == 100 {
+				return 24
+			}
+			return placed(140, 22, 300, 600)(x)
+		}), false, true, 140, 22},
 		{"baseline of 20 s only is too short", sampled(10*time.Minute, 2*time.Second, placed(20, 22, 300, 600)), false, false, 0, 0},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
