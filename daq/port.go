@@ -6,6 +6,8 @@ import (
 	"errors"
 	"fmt"
 	"log/slog"
+	"slices"
+	"sync"
 	"syscall"
 	"time"
 
@@ -41,18 +43,90 @@ var errSelectLimit = errors.New("daq: too many open files for select() (descript
 // portOpener opens a serial port; tests substitute a fake.
 type portOpener func(path string, mode *serial.Mode) (serial.Port, error)
 
-// openSerial opens a real serial port after checking the select() headroom.
+// reserveFDs is how many low descriptors the reserve holds: four ports' worth.
+const reserveFDs = 4 * portFDs
+
+// fdReserve holds a few low descriptors (on /dev/null) for serial ports.
+// go.bug.st/serial opens the device and then a pipe with open(2) and pipe(2), which
+// return the lowest free descriptors, and watches them with select(), which takes only
+// descriptors below 1024. Network clients that arrive while a port is out can take
+// every low descriptor; the reserve keeps some back: releasing them just before
+// serial.Open hands them to the port, and they are taken again after it opens and
+// after it closes.
+type fdReserve struct {
+	mu  sync.Mutex
+	fds []int // ascending
+}
+
+var reserve fdReserve
+
+// ReserveDescriptors takes the serial ports' reserve of low descriptors now. Call it at
+// start-up, before network listeners accept clients; opening a port does it otherwise.
+func ReserveDescriptors() {
+	reserve.mu.Lock()
+	defer reserve.mu.Unlock()
+	reserve.fill()
+}
+
+// fill tops the reserve up with descriptors below the select() limit.
+func (r *fdReserve) fill() {
+	for len(r.fds) < reserveFDs {
+		fd, err := syscall.Open("/dev/null", syscall.O_RDONLY|syscall.O_CLOEXEC, 0)
+		if err != nil {
+			return
+		}
+		if fd+portFDs > selectFDLimit {
+			syscall.Close(fd)
+			return
+		}
+		r.fds = append(r.fds, fd)
+	}
+	slices.Sort(r.fds)
+}
+
+// release closes the lowest n reserved descriptors so the next opens get them.
+func (r *fdReserve) release(n int) {
+	n = min(n, len(r.fds))
+	for _, fd := range r.fds[:n] {
+		syscall.Close(fd)
+	}
+	r.fds = slices.Delete(r.fds, 0, n)
+}
+
+// openSerial opens a real serial port on low descriptors.
 //
-// go.bug.st/serial does not expose the port's descriptor, so the guard is twofold:
-// before opening, probe the lowest free descriptor (the kernel hands out the lowest
-// free one, so the port and its pipe get this one and the next ones) and refuse when
-// they would reach 1024; and safeRead turns a panic from Read into an error, should
-// another goroutine's open race the probe.
+// go.bug.st/serial does not expose the port's descriptor, so the guard is threefold:
+// the port opens on descriptors released from the reserve; before opening, probe the
+// lowest free descriptor (the kernel hands out the lowest free one, so the port and its
+// pipe get this one and the next ones) and refuse when they would reach 1024; and
+// safeRead turns a panic from Read into an error, should another goroutine's open race
+// the probe.
 func openSerial(path string, mode *serial.Mode) (serial.Port, error) {
+	reserve.mu.Lock()
+	defer reserve.mu.Unlock()
+	reserve.fill()
+	reserve.release(portFDs)
+	defer reserve.fill()
 	if err := checkSelectHeadroom(); err != nil {
 		return nil, err
 	}
-	return serial.Open(path, mode)
+	p, err := serial.Open(path, mode)
+	if err != nil {
+		return nil, err
+	}
+	return reservedPort{p}, nil
+}
+
+// reservedPort takes the reserve back up when the port closes, before network
+// clients can take the port's descriptors.
+type reservedPort struct{ serial.Port }
+
+func (p reservedPort) Close() error {
+	err := p.Port.Close()
+	reserve.mu.Lock()
+	reserve.fill()
+	reserve.mu.Unlock()
+	return err
 }
 
 // checkSelectHeadroom returns errSelectLimit when the next portFDs descriptors would

@@ -13,8 +13,10 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"go.bug.st/serial"
+
+	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq/ptytest"
 )
 
 func TestBackoffCapBoundsReplug(t *testing.T) {
@@ -193,19 +195,20 @@ func TestSafeReadTurnsPanicIntoError(t *testing.T) {
 	}
 }
 
-// TestSelectHeadroomGuard fills the descriptor table up to 1024 and checks that opening
-// a port is refused with an error instead of a panic in Read later.
-func TestSelectHeadroomGuard(t *testing.T) {
+// hogDescriptors takes every free descriptor below 1024 until the test ends, as
+// network clients arriving while a port is out would.
+func hogDescriptors(t *testing.T) {
+	t.Helper()
 	var lim syscall.Rlimit
 	if err := syscall.Getrlimit(syscall.RLIMIT_NOFILE, &lim); err != nil || lim.Cur < selectFDLimit+16 {
 		t.Skipf("open-file limit %d too low to reach descriptor 1024", lim.Cur)
 	}
 	var fds []int
-	defer func() {
+	t.Cleanup(func() {
 		for _, fd := range fds {
 			syscall.Close(fd)
 		}
-	}()
+	})
 	for {
 		fd, err := syscall.Open("/dev/null", syscall.O_RDONLY|syscall.O_CLOEXEC, 0)
 		if err != nil {
@@ -213,12 +216,57 @@ func TestSelectHeadroomGuard(t *testing.T) {
 		}
 		fds = append(fds, fd)
 		if fd >= selectFDLimit-2 {
-			break
+			return
 		}
 	}
+}
+
+// emptyReserve gives the reserve's descriptors back for the rest of the test.
+func emptyReserve(t *testing.T) {
+	reserve.mu.Lock()
+	reserve.release(len(reserve.fds))
+	reserve.mu.Unlock()
+	t.Cleanup(ReserveDescriptors)
+}
+
+// TestSelectHeadroomGuard fills the descriptor table up to 1024 with no reserve and
+// checks that opening a port is refused with an error instead of a panic in Read later.
+func TestSelectHeadroomGuard(t *testing.T) {
+	emptyReserve(t)
+	hogDescriptors(t)
+	reserve.mu.Lock()
+	reserve.fds = nil // the reserve cannot be refilled below 1024 either
+	reserve.mu.Unlock()
 	_, err := openSerial("/dev/null", &serial.Mode{BaudRate: DefaultBaud})
 	if !errors.Is(err, errSelectLimit) {
 		t.Errorf("openSerial with descriptors near 1024: err = %v, want errSelectLimit", err)
+	}
+}
+
+// With the reserve taken at start-up, a port opens and is read, closed and opened
+// again while every other descriptor below 1024 is taken.
+func TestReserveKeepsPortsBelow1024(t *testing.T) {
+	emptyReserve(t)
+	ReserveDescriptors()
+	hogDescriptors(t)
+	p := ptytest.Open(t)
+	for round := range 3 {
+		port, err := openSerial(p.Path(), &serial.Mode{BaudRate: DefaultBaud})
+		if err != nil {
+			t.Fatalf("round %d: open with the descriptor table full: %v", round, err)
+		}
+		if err := port.SetReadTimeout(time.Second); err != nil {
+			t.Fatal(err)
+		}
+		p.WriteLine(t, "21.5")
+		buf := make([]byte, 64)
+		n, err := safeRead(port, buf)
+		if err != nil || !strings.HasPrefix(string(buf[:n]), "21.5") {
+			t.Errorf("round %d: read %q, %v; want the line", round, buf[:n], err)
+		}
+		if err := port.Close(); err != nil {
+			t.Fatal(err)
+		}
 	}
 }
 

@@ -23,9 +23,13 @@ const (
 	StatusSpike
 	// StatusStuck is a value the cleaner flagged as stuck (no change for too long).
 	StatusStuck
+	// StatusClock is a reading whose time jumps far ahead of the wall clock or of the
+	// channel's previous readings (a garbled clock digit, a logger clock set years
+	// ahead). It is kept in the record and never reaches a fit.
+	StatusClock
 )
 
-var statusNames = [...]string{"ok", "open", "range", "unparsable", "spike", "stuck"}
+var statusNames = [...]string{"ok", "open", "range", "unparsable", "spike", "stuck", "clock"}
 
 // String returns the lower-case name used in logs, the journal and the API.
 func (s Status) String() string {

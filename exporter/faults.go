@@ -14,7 +14,7 @@ import (
 const DefaultStaleAfter = 30 * time.Second
 
 // The fault kinds a channel can be in, besides the reading statuses ("open", "range",
-// "unparsable", "spike", "stuck").
+// "unparsable", "spike", "stuck", "clock").
 const (
 	// FaultPortDown: the serial port of the channel's logger is not open.
 	FaultPortDown = "port_down"
@@ -54,8 +54,11 @@ func channelFault(s State, channel string, now time.Time) *FaultJSON {
 		return nil
 	}
 	detail := fmt.Sprintf("latest reading is %s", r.Status)
-	if r.Status == daq.StatusOpen {
+	switch r.Status {
+	case daq.StatusOpen:
 		detail = "open thermocouple: check the wire and the connector"
+	case daq.StatusClock:
+		detail = "reading time far ahead of the host's clock or of the channel's previous readings: check the logger's clock"
 	}
 	if r.Raw != "" {
 		detail += fmt.Sprintf(" (logger sent %q)", r.Raw)

@@ -50,19 +50,25 @@ type Options struct {
 	MaxStreams int
 	// Now replaces the wall clock in tests (default time.Now).
 	Now func() time.Time
+	// Placement, when set, serves GET /api/v1/placement (the placement rule's state).
+	Placement http.Handler
+	// Health adds fields to /healthz (the daemon: whether the start-up replay of the
+	// journal is done). Nil adds none.
+	Health func() map[string]any
 }
 
 // Handler is the daemon's HTTP handler:
 //
 //	GET  /                                   status page (embedded assets under /static/)
 //	GET  /metrics                            Prometheus metrics
-//	GET  /healthz                            liveness
+//	GET  /healthz                            liveness (and Options.Health)
 //	GET  /api/v1/channels                    every channel with its forecast
 //	GET  /api/v1/channels/{name}             one channel with the fit in full
 //	GET  /api/v1/channels/{name}/series      readings and fitted curve, downsampled
 //	GET  /api/v1/events                      server-sent events
 //	POST /api/v1/notify/test                 send a test notification (token)
 //	     /api/v1/runs[/...]                  the runs API, when Options.Runs is set
+//	GET  /api/v1/placement                   the placement rule's state, when Options.Placement is set
 //
 // Its Run method polls for forecast and fault changes; NewServer runs it.
 type Handler struct {
@@ -130,7 +136,12 @@ func (h *Handler) routes(reg *prometheus.Registry) {
 		Registry: reg, MaxRequestsInFlight: 4, Timeout: 10 * time.Second,
 	}))
 	m.HandleFunc("GET /healthz", func(w http.ResponseWriter, r *http.Request) {
-		WriteJSON(w, http.StatusOK, map[string]string{"status": "ok"})
+		out := map[string]any{}
+		if h.opt.Health != nil {
+			out = h.opt.Health()
+		}
+		out["status"] = "ok"
+		WriteJSON(w, http.StatusOK, out)
 	})
 	m.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
 		WriteJSON(w, http.StatusOK, h.channels(h.opt.Now()))
@@ -139,6 +150,9 @@ func (h *Handler) routes(reg *prometheus.Registry) {
 	m.HandleFunc("GET /api/v1/channels/{name}/series", h.serveSeries)
 	m.HandleFunc("GET /api/v1/events", h.serveEvents)
 	m.HandleFunc("POST /api/v1/notify/test", h.serveNotifyTest)
+	if h.opt.Placement != nil {
+		m.Handle("GET /api/v1/placement", h.opt.Placement)
+	}
 	if h.opt.Runs != nil {
 		m.Handle("/api/v1/runs", h.opt.Runs)
 		m.Handle("/api/v1/runs/", h.opt.Runs)

@@ -34,6 +34,7 @@ type Server struct {
 
 	mu      sync.Mutex // guards started against a Shutdown racing Serve
 	started bool
+	lim     *limitListener // the listener Serve wraps, for OpenConns
 	ctx     context.Context
 	stop    context.CancelFunc
 	wg      sync.WaitGroup
@@ -60,6 +61,9 @@ type ServerOptions struct {
 	WriteTimeout time.Duration
 	// IdleTimeout bounds an idle keep-alive connection (default 60 s).
 	IdleTimeout time.Duration
+	// MaxConns bounds the connections held open at once (default DefaultMaxConns);
+	// at the limit a new connection replaces the longest-idle one.
+	MaxConns int
 }
 
 // NewServer returns a server for h. If h is a *Handler, the server also runs its
@@ -79,6 +83,9 @@ func NewServer(h http.Handler, opt ServerOptions) *Server {
 		IdleTimeout:       def(opt.IdleTimeout, 60*time.Second),
 		MaxHeaderBytes:    16 << 10,
 	}}
+	if s.opt.MaxConns <= 0 {
+		s.opt.MaxConns = DefaultMaxConns
+	}
 	s.ctx, s.stop = context.WithCancel(context.Background())
 	if bg, ok := h.(background); ok {
 		s.bg = bg
@@ -91,8 +98,9 @@ func NewServer(h http.Handler, opt ServerOptions) *Server {
 // TLS reports whether the server speaks HTTPS.
 func (s *Server) TLS() bool { return s.opt.TLSCert != "" && s.opt.TLSKey != "" }
 
-// Serve accepts connections on ln until Shutdown. With TLS configured it loads the
-// certificate first and fails, naming the files, if they cannot be used.
+// Serve accepts connections on ln until Shutdown, holding at most MaxConns open. With
+// TLS configured it loads the certificate first and fails, naming the files, if they
+// cannot be used.
 func (s *Server) Serve(ln net.Listener) error {
 	if s.TLS() {
 		cert, err := tls.LoadX509KeyPair(s.opt.TLSCert, s.opt.TLSKey)
@@ -109,6 +117,12 @@ func (s *Server) Serve(ln net.Listener) error {
 		go func() { defer s.wg.Done(); s.bg.Run(s.ctx) }()
 	}
 	s.mu.Unlock()
+	lim := newLimitListener(ln, s.opt.MaxConns)
+	s.mu.Lock()
+	s.lim = lim
+	s.mu.Unlock()
+	s.srv.ConnState = lim.track
+	ln = lim
 	var err error
 	if s.TLS() {
 		err = s.srv.ServeTLS(ln, "", "")
@@ -119,6 +133,17 @@ func (s *Server) Serve(ln net.Listener) error {
 		return nil
 	}
 	return err
+}
+
+// OpenConns is the number of HTTP connections the server holds open.
+func (s *Server) OpenConns() int {
+	s.mu.Lock()
+	lim := s.lim
+	s.mu.Unlock()
+	if lim == nil {
+		return 0
+	}
+	return lim.open()
 }
 
 // Shutdown stops accepting connections, ends event streams and background work, and

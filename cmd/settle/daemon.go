@@ -7,6 +7,7 @@ import (
 	"log/slog"
 	"net"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/settle-lab/settle/config"
@@ -23,9 +24,12 @@ type daemon struct {
 	log     *slog.Logger
 	sources []daq.Source
 	cleaner *clean.Cleaner
+	clock   *clean.ClockCheck
 	rec     *recorder
 	bench   *predict.Bench
 	latest  *exporter.Latest
+	drops   *dropCounter
+	replay  replayState
 	ln      net.Listener
 	srv     *exporter.Server
 }
@@ -33,7 +37,7 @@ type daemon struct {
 // newDaemon builds every source and the bench from cfg and binds the listen address, so
 // that configuration and port-in-use errors surface before anything starts running.
 func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
-	d := &daemon{cfg: cfg, log: log, latest: exporter.NewLatest()}
+	d := &daemon{cfg: cfg, log: log, latest: exporter.NewLatest(), drops: newDropCounter(log)}
 	specs, err := predict.SpecsFromConfig(cfg.Channels)
 	if err != nil {
 		return nil, err
@@ -42,6 +46,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	// replay must not spend the CPU on fits (the maintenance loop fits what is left).
 	d.bench = predict.NewBench(specs, predict.TrackerOptions{MinFitGap: time.Second})
 	d.cleaner = clean.New(cfg.Loggers)
+	d.clock = clean.NewClockCheck(cfg.Loggers, clean.ClockOptions{})
 	for _, lc := range cfg.Loggers {
 		src, err := daq.NewSource(lc, log.With("logger", lc.Name))
 		if err != nil {
@@ -54,10 +59,13 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	}
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats}
 	reg := exporter.NewRegistry(state)
-	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health))
+	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
+	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)
 	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
 		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
+		Health: d.replay.health, Placement: d.rec.placementAPI(),
 	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
+	daq.ReserveDescriptors() // low descriptors for the serial ports, before clients arrive
 	d.ln, err = net.Listen("tcp", cfg.Listen)
 	if err != nil {
 		d.rec.close()
@@ -79,10 +87,25 @@ func (d *daemon) portStats() []daq.PortStats {
 	return out
 }
 
-// Run serves until ctx ends, then stops the sources, drains the readings already
+// analysisQueue is how many readings may wait for cleaning and fitting. Readings are
+// journaled before they enter it; when it is full (fits far behind) a reading still
+// reaches the record but not the forecasts, and is counted as dropped.
+const analysisQueue = 1 << 16
+
+// Run serves until ctx ends, then stops the sources, commits the readings already
 // received and shuts the HTTP server down with a timeout.
+//
+// Readings take two paths: acquisition screens each one (range, clock) and appends it
+// to the journal at once, then hands it to analysis through a bounded queue; analysis
+// replays the journal first (in the background: HTTP serves at once), then cleans,
+// shows, detects placements and fits. A slow fit delays forecasts, never the record.
 func (d *daemon) Run(ctx context.Context) error {
-	d.rec.resume(d.bench, d.latest)
+	// The readings committed before the sources start are replayed; later ones are live.
+	mark, err := d.rec.j.LastSeq()
+	if err != nil {
+		d.log.Warn("journal replay skipped", "err", err)
+		mark = -1
+	}
 	readings := make(chan daq.Reading, 1024)
 	srcCtx, stopSources := context.WithCancel(ctx)
 	defer stopSources()
@@ -102,20 +125,25 @@ func (d *daemon) Run(ctx context.Context) error {
 	go func() { httpErr <- d.srv.Serve(d.ln) }()
 	d.log.Info("serving", "addr", d.Addr(), "loggers", len(d.sources), "channels", len(d.cfg.Channels))
 
-	consumed := make(chan struct{})
-	go func() { d.consume(readings); close(consumed) }()
+	queue := make(chan daq.Reading, analysisQueue)
+	acquired := make(chan struct{})
+	go func() { d.acquire(readings, queue); close(queue); close(acquired) }()
+	var stopping atomic.Bool
+	analysed := make(chan struct{})
+	go func() { d.analyse(queue, mark, &stopping); close(analysed) }()
 	histCtx, stopHistory := context.WithCancel(context.Background())
 	histDone := make(chan struct{})
-	go func() { d.rec.maintain(histCtx, d.bench); close(histDone) }()
+	go func() { d.rec.maintain(histCtx, d.bench, d.replay.done()); close(histDone) }()
 
-	var err error
 	select {
 	case <-ctx.Done():
 	case err = <-httpErr:
 		err = fmt.Errorf("http server on %s: %w", d.Addr(), err)
 	}
 	stopSources()
-	<-consumed
+	<-acquired
+	stopping.Store(true) // the rest of the queue is only cleaned and recorded, not fitted
+	<-analysed
 	stopHistory()
 	<-histDone
 	shutCtx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
@@ -129,25 +157,46 @@ func (d *daemon) Run(ctx context.Context) error {
 	return err
 }
 
-// consume cleans each reading, then records it, shows it and, when valid, fits it. At the
-// end it flushes the readings the cleaner still holds.
-func (d *daemon) consume(readings <-chan daq.Reading) {
+// acquire screens each reading, journals it and passes it on to analysis without
+// ever waiting for it: a full analysis queue drops the reading from the forecasts
+// only (it is in the journal) and counts it.
+func (d *daemon) acquire(readings <-chan daq.Reading, queue chan<- daq.Reading) {
 	for r := range readings {
-		for _, c := range d.cleaner.Apply(r) {
-			d.route(c)
+		r = d.clock.Check(d.cleaner.Screen(r), time.Now())
+		d.rec.j.Append(r)
+		select {
+		case queue <- r:
+		default:
+			d.drops.add(dropAnalysis)
 		}
-	}
-	for _, c := range d.cleaner.Flush() {
-		d.route(c)
 	}
 }
 
-// route sends one cleaned reading to the journal, the latest-reading table and, when
-// valid, the bench. A fault reading is kept in the record but never reaches a fit.
-func (d *daemon) route(r daq.Reading) {
+// analyse replays the journal into the trackers, then cleans each queued reading and
+// routes it. Once stopping is set it no longer feeds the trackers, so a shutdown does
+// not wait for fits. At the end it flushes the readings the cleaner still holds.
+func (d *daemon) analyse(queue <-chan daq.Reading, mark int64, stopping *atomic.Bool) {
+	d.replay.run(func() (int, error) { return d.rec.resume(d.bench, d.latest, mark, stopping.Load) })
+	for r := range queue {
+		for _, c := range d.cleaner.Apply(r) {
+			d.route(c, !stopping.Load())
+		}
+	}
+	for _, c := range d.cleaner.Flush() {
+		d.route(c, false)
+	}
+}
+
+// route records the cleaner's verdict on one reading when it changed its status, shows
+// it, offers it to the placement watcher and, when valid and fit is set, to the bench.
+// A fault reading is kept in the record but never reaches a fit.
+func (d *daemon) route(r daq.Reading, fit bool) {
+	if r.Status == daq.StatusSpike || r.Status == daq.StatusStuck {
+		d.rec.j.Restatus(r) // journaled as ok a few readings ago
+	}
 	d.rec.observe(r)
 	d.latest.Record(r)
-	if r.OK() {
+	if fit && r.OK() {
 		d.bench.Observe(r.Channel, r.Time, r.Celsius)
 	}
 }

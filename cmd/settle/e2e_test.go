@@ -38,6 +38,11 @@ func startDaemon(t *testing.T, cfg *config.Config) string {
 			t.Errorf("daemon.Run: %v", err)
 		}
 	})
+	select { // the start-up replay of the journal runs in the background
+	case <-d.replay.done():
+	case <-time.After(30 * time.Second):
+		t.Fatal("journal replay not done after 30 s")
+	}
 	return "http://" + d.Addr()
 }
 
@@ -253,7 +258,16 @@ func TestRestartResumesFromJournal(t *testing.T) {
 	defer silent.Close()
 	cfg2 := sim.DemoScenario().DemoConfig(silent.Path())
 	cfg2.DataDir = dir
-	m := scrape(t, startDaemon(t, &cfg2))
+	url := startDaemon(t, &cfg2)
+	var health struct {
+		ReplayDone bool  `json:"replay_done"`
+		Replayed   int64 `json:"replayed_readings"`
+	}
+	getJSON(t, url+"/healthz", &health)
+	if !health.ReplayDone || health.Replayed < 40 {
+		t.Errorf("/healthz after the replay: %+v, want replay_done and at least 40 readings", health)
+	}
+	m := scrape(t, url)
 	pts := m[`settle_fit_points{channel="steel-cyl-a"}`]
 	if pts < before[`settle_fit_points{channel="steel-cyl-a"}`] {
 		t.Errorf("after restart the steel fit has %v points, want at least the %v it had", pts,

@@ -85,18 +85,21 @@ func (r *recorder) startConfigured(channels []config.Channel) {
 	}
 }
 
-// observe records rd and starts a run when it completes a placement on a channel that
-// has targets and no active run.
+// observe starts a run when rd (already journaled) completes a placement on a channel
+// that has targets and no active run. It logs each decision of the placement rule.
 func (r *recorder) observe(rd daq.Reading) {
-	r.j.Append(rd)
 	if len(r.targets[rd.Channel]) == 0 {
 		return
 	}
-	p, ok := r.watch.Observe(rd)
+	p, ok, decision := r.watch.Observe(rd)
+	if decision != "" && !ok {
+		r.log.Info("placement rule", "channel", rd.Channel, "decision", decision, "at", rd.Time)
+	}
 	if !ok {
 		return
 	}
-	if _, busy := r.j.ActiveRunID(rd.Channel); busy {
+	if id, busy := r.j.ActiveRunID(rd.Channel); busy {
+		r.log.Info("placement rule: placement seen, run already active", "channel", rd.Channel, "run", id, "start", p.Start)
 		return
 	}
 	run, err := r.j.StartRun(journal.RunSpec{
@@ -110,7 +113,16 @@ func (r *recorder) observe(rd daq.Reading) {
 		r.log.Warn("auto run not started", "channel", rd.Channel, "err", err)
 		return
 	}
-	r.log.Info("specimen placed: run started", "run", run.ID, "channel", rd.Channel, "start", p.Start)
+	r.log.Info("specimen placed: run started", "run", run.ID, "channel", rd.Channel, "start", p.Start,
+		"ambient", p.Ambient, "peak", p.PeakCelsius, "hot_start", p.HotStart, "baseline", p.Baseline)
+}
+
+// placementAPI serves GET /api/v1/placement: each targeted channel's placement-rule
+// phase and last decision.
+func (r *recorder) placementAPI() http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) {
+		exporter.WriteJSON(w, http.StatusOK, map[string]any{"channels": r.watch.Status()})
+	})
 }
 
 func targetsJSON(ts []predict.Target) json.RawMessage {
@@ -143,22 +155,32 @@ func (r *recorder) runsAPI(bench *predict.Bench, token string) http.Handler {
 
 // maintain runs until ctx ends: every second it fits channels whose last readings
 // arrived inside the fit gap, and every historyEvery it offers bench's forecasts to the
-// journal's forecast history.
-func (r *recorder) maintain(ctx context.Context, bench *predict.Bench) {
+// journal's forecast history. Fits and history wait until replayed is closed, so the
+// history never records the empty forecasts of a daemon still replaying.
+func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed <-chan struct{}) {
 	t := time.NewTicker(time.Second)
 	defer t.Stop()
 	last := time.Now()
 	for {
 		select {
 		case <-ctx.Done():
-			report.RecordBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
+			select {
+			case <-replayed:
+				report.RecordBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
+			default:
+			}
 			return
 		case now := <-t.C:
 			r.syncPlaced(bench)
-			bench.FitPending()
 			if r.pendingConfigured != nil {
 				r.startConfigured(r.pendingConfigured)
 			}
+			select {
+			case <-replayed:
+			default:
+				continue
+			}
+			bench.FitPending()
 			if now.Sub(last) >= historyEvery {
 				report.RecordBench(r.j, bench.Snapshot())
 				last = now
@@ -176,21 +198,39 @@ func (r *recorder) syncPlaced(bench *predict.Bench) {
 	}
 }
 
-// resume reloads the last resumeWindow of readings into bench in one pass (one fit per
-// channel at the end) and the newest valid reading of each channel into latest, so a
-// restarted daemon shows forecasts at once rather than from scratch.
-func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest) {
+// replayPerChannel bounds the readings of each channel a restart feeds to the trackers
+// (the trackers keep at most 4,096 points per segment, thinned as it grows).
+const replayPerChannel = 16384
+
+// resume reloads the last resumeWindow of readings committed up to the mark seq (at
+// most replayPerChannel per channel) into bench in one pass (one fit per channel at the
+// end) and the newest valid reading of each channel into latest, so a restarted daemon
+// shows forecasts soon rather than from scratch. It returns how many readings it
+// replayed. Readings committed after the mark reach bench live.
+//
+// It gives up early (a shutdown during a long replay) once stop returns true.
+func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest, seq int64, stop func() bool) (int, error) {
 	n, start := 0, time.Now()
-	var err error
+	since := start.Add(-resumeWindow)
 	r.syncPlaced(bench)
-	bench.Restore(func(observe func(string, time.Time, float64)) {
-		err = r.j.Replay(start.Add(-resumeWindow), func(rd daq.Reading) {
-			if rd.OK() {
-				n++
-				observe(rd.Channel, rd.Time, rd.Celsius)
+	starts, err := r.j.ReplayStarts(since, seq, replayPerChannel)
+	if err == nil {
+		from := start
+		for _, t := range starts {
+			if t.Before(from) {
+				from = t
 			}
+		}
+		bench.Restore(func(observe func(string, time.Time, float64)) {
+			err = r.j.ReplayBefore(from, seq, func(rd daq.Reading) bool {
+				if rd.OK() && !rd.Time.Before(starts[rd.Channel]) {
+					n++
+					observe(rd.Channel, rd.Time, rd.Celsius)
+				}
+				return n%4096 != 0 || !stop()
+			})
 		})
-	})
+	}
 	if err != nil {
 		r.log.Warn("resume from journal incomplete", "err", err)
 	}
@@ -201,9 +241,8 @@ func (r *recorder) resume(bench *predict.Bench, latest *exporter.Latest) {
 			}
 		}
 	}
-	if n > 0 {
-		r.log.Info("resumed from journal", "readings", n, "took", time.Since(start).Round(time.Millisecond))
-	}
+	r.log.Info("journal replay done", "readings", n, "took", time.Since(start).Round(time.Millisecond))
+	return n, err
 }
 
 // close flushes and closes the journal; it is the last thing the daemon does.

@@ -88,9 +88,11 @@ func runDaemon(ctx context.Context, f runFlags, listenSet bool, reload <-chan os
 			return err
 		}
 		defer stopSim()
-		if err := f.demoDataDir(cfg, log); err != nil {
+		cleanup, err := f.demoDataDir(cfg, log)
+		if err != nil {
 			return err
 		}
+		defer cleanup()
 		f.applyOverrides(cfg, listenSet)
 		load = nil // the demo has no file to reload
 	} else if cfg, err = load(); err != nil {
@@ -110,21 +112,32 @@ func (f runFlags) applyOverrides(cfg *config.Config, listenSet bool) {
 }
 
 // demoDataDir gives the demo a journal folder of its own unless --data-dir or
-// SETTLE_DATA_DIR names one, and logs where it is.
-func (f *runFlags) demoDataDir(cfg *config.Config, log *slog.Logger) error {
+// SETTLE_DATA_DIR names one, and logs where it is. cleanup removes a temporary folder
+// (on a clean exit; a killed demo leaves it in the temporary directory) and says so.
+func (f *runFlags) demoDataDir(cfg *config.Config, log *slog.Logger) (cleanup func(), err error) {
+	cleanup = func() {}
 	if f.dataDir == "" {
 		f.dataDir = os.Getenv(config.EnvDataDir)
 	}
 	if f.dataDir == "" {
 		dir, err := os.MkdirTemp("", "settle-demo-")
 		if err != nil {
-			return fmt.Errorf("demo data folder: %w", err)
+			return nil, fmt.Errorf("demo data folder: %w", err)
 		}
 		f.dataDir = dir
+		cleanup = func() {
+			if err := os.RemoveAll(dir); err != nil {
+				log.Warn("demo: temporary journal folder not removed", "data_dir", dir, "err", err)
+				return
+			}
+			log.Info("demo: temporary journal folder removed", "data_dir", dir)
+		}
+		log.Info("demo: journal in a temporary folder, removed on a clean exit (give --data-dir to keep it)", "data_dir", dir)
+	} else {
+		log.Info("demo: journal in the folder given", "data_dir", f.dataDir)
 	}
 	cfg.DataDir = f.dataDir
-	log.Info("demo: journal in a folder of its own", "data_dir", cfg.DataDir)
-	return nil
+	return cleanup, nil
 }
 
 // serveReloading runs a daemon on cfg until ctx ends. On a signal from reload it loads

@@ -89,8 +89,8 @@ type Cleaner struct {
 	scratch  []float64
 }
 
-// statusCount bounds the statuses counted (daq.StatusStuck is the last one).
-const statusCount = int(daq.StatusStuck) + 1
+// statusCount bounds the statuses counted (daq.StatusClock is the last one).
+const statusCount = int(daq.StatusClock) + 1
 
 // New returns a cleaner with each logger's clean section; readings of a logger not
 // in loggers get the defaults.
@@ -126,12 +126,30 @@ func (c *Cleaner) Apply(r daq.Reading) []daq.Reading {
 		ch = &channel{s: s}
 		c.chans[k] = ch
 	}
-	if r.OK() && (r.Celsius < ch.s.lo || r.Celsius > ch.s.hi) {
-		r.Status, r.Raw = daq.StatusRange, fmtFloat(r.Celsius)
-	}
+	r = ch.s.screen(r)
 	ch.pending = append(ch.pending, r)
 	c.release(k, ch, false)
 	return c.out
+}
+
+// Screen returns r with the checks that need no neighbours applied: a value outside
+// the logger's plausible range becomes daq.StatusRange. Apply does the same, so a
+// reading may be screened first (to journal it at once) and applied later.
+func (c *Cleaner) Screen(r daq.Reading) daq.Reading {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	s, ok := c.byLogger[r.Logger]
+	if !ok {
+		s = c.def
+	}
+	return s.screen(r)
+}
+
+func (s settings) screen(r daq.Reading) daq.Reading {
+	if r.OK() && (r.Celsius < s.lo || r.Celsius > s.hi) {
+		r.Status, r.Raw = daq.StatusRange, fmtFloat(r.Celsius)
+	}
+	return r
 }
 
 // Flush returns every reading still held, judged with the window it has, and

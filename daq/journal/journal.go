@@ -124,6 +124,7 @@ type Journal struct {
 	spare    []daq.Reading
 	inflight int
 	fqueue   []forecastRow
+	squeue   []daq.Reading // status changes of readings already appended
 	lastFc   map[fcKey]forecastRow
 	active   map[string]string // channel → active run id, for the writer
 	health   Health
@@ -136,7 +137,8 @@ type Journal struct {
 	done    chan struct{}
 	closeMu sync.Once
 	closeE  error
-	closed  bool // under mu: set by Close; later appends are dropped and counted
+	closed  bool     // under mu: set by Close; later appends are dropped and counted
+	lock    *os.File // the data directory's lock, held while writing (under flushMu)
 }
 
 type chanKey struct{ logger, name string }
@@ -169,7 +171,10 @@ func Open(dir string, opt Options) (*Journal, error) {
 		return j, j.openReadOnly()
 	}
 	if err := j.openWriter(); err != nil {
-		if errors.Is(err, ErrSchemaTooNew) {
+		if errors.Is(err, ErrSchemaTooNew) || errors.Is(err, ErrLocked) {
+			if j.lock != nil {
+				j.lock.Close()
+			}
 			return nil, err
 		}
 		j.fail(err)
@@ -213,6 +218,13 @@ func (j *Journal) openReadOnly() error {
 func (j *Journal) openWriter() error {
 	if err := os.MkdirAll(filepath.Dir(j.path), 0o750); err != nil {
 		return fmt.Errorf("journal: create data directory: %w", err)
+	}
+	if j.lock == nil {
+		l, err := lockDir(filepath.Dir(j.path))
+		if err != nil {
+			return err
+		}
+		j.lock = l
 	}
 	pragmas := []string{"busy_timeout(5000)", "journal_mode(WAL)", "synchronous(FULL)", "foreign_keys(1)"}
 	if j.opt.MaxBytes > 0 {
@@ -275,6 +287,18 @@ func (j *Journal) Append(r daq.Reading) {
 	}
 }
 
+// Restatus queues a change of status for a reading already appended (same logger,
+// channel and time): the cleaner judges a spike or a stuck value a few readings after
+// the reading was journaled. It is committed with the next batch, after the readings.
+func (j *Journal) Restatus(r daq.Reading) {
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	if j.opt.ReadOnly || j.closed {
+		return
+	}
+	j.squeue = append(j.squeue, r)
+}
+
 // Health returns the journal's current state.
 func (j *Journal) Health() Health {
 	j.mu.Lock()
@@ -324,6 +348,9 @@ func (j *Journal) Close() error {
 			}
 		}
 		j.wdb, j.rdb = nil, nil
+		if j.lock != nil {
+			j.lock.Close() // releases the flock
+		}
 	})
 	return j.closeE
 }
@@ -376,13 +403,14 @@ func (j *Journal) flush() error {
 		}
 	}
 	for {
-		batch, fcs, all, reuse := j.take()
-		err := j.commit(batch, fcs)
+		batch, fcs, sts, all, reuse := j.take()
+		err := j.commit(batch, fcs, sts)
 		j.mu.Lock()
 		j.inflight = 0
 		if err != nil {
 			j.queue = append(batch, j.queue...)
 			j.fqueue = append(fcs, j.fqueue...)
+			j.squeue = append(sts, j.squeue...)
 		} else if reuse {
 			j.spare = batch[:0]
 		}
@@ -402,7 +430,7 @@ func (j *Journal) flush() error {
 // take removes the next batch from the queue: all of it (all true), swapped with the
 // spare buffer (reuse true unless it grew large), or, after an outage, the first
 // maxCommit readings so that one transaction stays short.
-func (j *Journal) take() (batch []daq.Reading, fcs []forecastRow, all, reuse bool) {
+func (j *Journal) take() (batch []daq.Reading, fcs []forecastRow, sts []daq.Reading, all, reuse bool) {
 	j.mu.Lock()
 	defer j.mu.Unlock()
 	limit := max(maxCommit, j.opt.BatchSize)
@@ -410,15 +438,16 @@ func (j *Journal) take() (batch []daq.Reading, fcs []forecastRow, all, reuse boo
 	if len(j.queue) > limit {
 		batch, j.queue = j.queue[:limit:limit], j.queue[limit:]
 		j.inflight = len(batch)
-		return batch, fcs, false, false
+		return batch, fcs, nil, false, false
 	}
+	sts, j.squeue = j.squeue, nil
 	batch, reuse = j.queue, cap(j.queue) <= 4*limit
 	if !reuse {
 		j.spare = nil // let a buffer grown during an outage go
 	}
 	j.queue, j.spare = j.spare[:0], nil
 	j.inflight = len(batch)
-	return batch, fcs, true, reuse
+	return batch, fcs, sts, true, reuse
 }
 
 // maxCommit is the most readings written in one transaction (unless BatchSize is
@@ -453,8 +482,8 @@ func (j *Journal) ok(n int) {
 }
 
 // commit writes one batch of readings and forecast points in one transaction.
-func (j *Journal) commit(batch []daq.Reading, fcs []forecastRow) error {
-	if len(batch) == 0 && len(fcs) == 0 {
+func (j *Journal) commit(batch []daq.Reading, fcs []forecastRow, sts []daq.Reading) error {
+	if len(batch) == 0 && len(fcs) == 0 && len(sts) == 0 {
 		return nil
 	}
 	db := j.writer()
@@ -469,6 +498,9 @@ func (j *Journal) commit(batch []daq.Reading, fcs []forecastRow) error {
 	defer tx.Rollback()
 	added := map[chanKey]int64{}
 	if err := j.insertReadings(ctx, tx, batch, added); err != nil {
+		return err
+	}
+	if err := j.updateStatuses(ctx, tx, sts, added); err != nil {
 		return err
 	}
 	if err := insertForecasts(ctx, tx, fcs); err != nil {
@@ -499,6 +531,29 @@ func (j *Journal) insertReadings(ctx context.Context, tx *sql.Tx, batch []daq.Re
 		}
 		if _, err := stmt.ExecContext(ctx, id, r.Time.UnixNano(), nullFloat(r.Celsius), r.Status.String(), r.Raw); err != nil {
 			return fmt.Errorf("journal %s: insert reading of %s: %w", j.path, r.Channel, err)
+		}
+	}
+	return nil
+}
+
+// updateStatuses applies Restatus changes; a reading not in the journal (dropped while
+// the disk was full) is skipped.
+func (j *Journal) updateStatuses(ctx context.Context, tx *sql.Tx, sts []daq.Reading, added map[chanKey]int64) error {
+	if len(sts) == 0 {
+		return nil
+	}
+	stmt, err := tx.PrepareContext(ctx, "UPDATE readings SET status = ?, raw = ? WHERE channel_id = ? AND t = ?")
+	if err != nil {
+		return fmt.Errorf("journal %s: prepare status update: %w", j.path, err)
+	}
+	defer stmt.Close()
+	for _, r := range sts {
+		id, err := j.channelID(ctx, tx, chanKey{r.Logger, r.Channel}, added)
+		if err != nil {
+			return err
+		}
+		if _, err := stmt.ExecContext(ctx, r.Status.String(), r.Raw, id, r.Time.UnixNano()); err != nil {
+			return fmt.Errorf("journal %s: update status of %s: %w", j.path, r.Channel, err)
 		}
 	}
 	return nil

@@ -1,8 +1,10 @@
 package journal
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 	"time"
 
@@ -90,7 +92,7 @@ func TestPlacementWatcherReportsOnce(t *testing.T) {
 	first := curve(3000, placed(300, 22, 200, 900))
 	var got []Placement
 	for _, r := range first {
-		if p, ok := w.Observe(r); ok {
+		if p, ok, _ := w.Observe(r); ok {
 			got = append(got, p)
 			if d := r.Time.Sub(p.Peak); d < 2*time.Minute*9/10 || d > 2*time.Minute+10*time.Second {
 				t.Errorf("reported %v after the peak, want about the 2 min decay window", d)
@@ -101,8 +103,98 @@ func TestPlacementWatcherReportsOnce(t *testing.T) {
 		t.Fatalf("placements %+v, want exactly one starting 290..300 s", got)
 	}
 	other := daq.Reading{Channel: "c2", Time: t0, Celsius: 22, Status: daq.StatusOK}
-	if _, ok := w.Observe(other); ok {
+	if _, ok, _ := w.Observe(other); ok {
 		t.Error("a single reading of another channel reported a placement")
+	}
+}
+
+// sampled is like curve with a chosen reading interval and no noise.
+func sampled(span, every time.Duration, celsius func(s float64) float64) []daq.Reading {
+	var out []daq.Reading
+	for d := time.Duration(0); d <= span; d += every {
+		out = append(out, daq.Reading{Channel: "c1", Time: t0.Add(d), Celsius: celsius(d.Seconds()), Status: daq.StatusOK})
+	}
+	return out
+}
+
+// The issue-14 cases: a specimen hot at the first reading, and a placement after a
+// baseline shorter than the default 2 min.
+func TestDetectPlacementHotStartAndShortBaseline(t *testing.T) {
+	for _, tc := range []struct {
+		name            string
+		readings        []daq.Reading
+		hotStart, found bool
+		startS          float64
+		ambient         float64
+	}{
+		{"hot at the first reading", sampled(10*time.Minute, 2*time.Second, placed(-60, 22, 300, 600)), true, true, 0, 20},
+		{"cold at the first reading", sampled(10*time.Minute, 2*time.Second, placed(-60, 22, -40, 600)), true, true, 0, 20},
+		{"22 to 300 after a 40 s baseline", sampled(10*time.Minute, time.Second, placed(40, 22, 300, 600)), false, true, 39, 22},
+		{"warm room at the first reading, no decay", sampled(10*time.Minute, 2*time.Second, func(float64) float64 { return 40 }), false, false, 0, 0},
+		{"a 2 °C wobble 40 s before the step keeps the baseline", sampled(10*time.Minute, 2*time.Second, func(x float64) float64 {
+			if x == 100 {
+				return 24
+			}
+			return placed(140, 22, 300, 600)(x)
+		}), false, true, 140, 22},
+		{"baseline of 20 s only is too short", sampled(10*time.Minute, 2*time.Second, placed(20, 22, 300, 600)), false, false, 0, 0},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			p, ok := DetectPlacement(tc.readings, PlacementOptions{})
+			if ok != tc.found {
+				t.Fatalf("found %v (%+v), want %v", ok, p, tc.found)
+			}
+			if !ok {
+				return
+			}
+			if p.HotStart != tc.hotStart || math.Abs(p.Start.Sub(t0).Seconds()-tc.startS) > 1 || math.Abs(p.Ambient-tc.ambient) > 0.05 {
+				t.Errorf("placement %+v (start %v), want hot start %v, start %v s, ambient %v", p, p.Start.Sub(t0), tc.hotStart, tc.startS, tc.ambient)
+			}
+			if found := p.Peak.Sub(t0); found > 5*time.Minute {
+				t.Errorf("peak at %v, want within the rise window", found)
+			}
+		})
+	}
+}
+
+func TestPlacementStatusShowsDecisions(t *testing.T) {
+	d := NewPlacementDetector(PlacementOptions{})
+	rs := sampled(10*time.Minute, 2*time.Second, placed(120, 22, 200, 600))
+	var phases []string
+	for _, r := range rs {
+		_, ok := d.Observe(r)
+		st := d.Status()
+		if len(phases) == 0 || phases[len(phases)-1] != st.Phase {
+			phases = append(phases, st.Phase)
+		}
+		if ok {
+			if st.Decision != "placement: decay seen" || st.Decided == nil || !st.Decided.Equal(r.Time) {
+				t.Errorf("status after the placement %+v, want the decision at %v", st, r.Time)
+			}
+			break
+		}
+	}
+	want := []string{PhaseBaseline, PhaseQuiet, PhaseDecay, PhaseBaseline}
+	if !slices.Equal(phases, want) {
+		t.Errorf("phases %v, want %v", phases, want)
+	}
+}
+
+// BenchmarkPlacementPerReading measures the detector's cost per reading at 1, 10 and
+// 100 readings per second (it must not grow with the rate: constant work per reading).
+func BenchmarkPlacementPerReading(b *testing.B) {
+	for _, hz := range []int{1, 10, 100} {
+		b.Run(fmt.Sprintf("%dHz", hz), func(b *testing.B) {
+			every := time.Second / time.Duration(hz)
+			rs := sampled(20*time.Minute, every, placed(300, 22, 200, 900))
+			w := NewPlacementWatcher(PlacementOptions{})
+			b.ReportAllocs()
+			for i := range b.N {
+				r := rs[i%len(rs)]
+				r.Time = t0.Add(time.Duration(i) * every)
+				w.Observe(r)
+			}
+		})
 	}
 }
 

@@ -3,6 +3,7 @@ package journal
 import (
 	"context"
 	"database/sql"
+	"errors"
 	"fmt"
 	"iter"
 	"math"
@@ -58,6 +59,81 @@ func (j *Journal) Replay(since time.Time, fn func(daq.Reading)) error {
 		fn(r)
 	}
 	return nil
+}
+
+// LastSeq returns the sequence number of the newest committed reading (0 when none):
+// a mark that tells the readings committed so far from later ones.
+func (j *Journal) LastSeq() (int64, error) {
+	db, err := j.reader()
+	if err != nil {
+		return 0, err
+	}
+	var seq sql.NullInt64
+	if err := db.QueryRow("SELECT max(seq) FROM readings").Scan(&seq); err != nil {
+		return 0, fmt.Errorf("journal %s: last reading: %w", j.path, err)
+	}
+	return seq.Int64, nil
+}
+
+// ReplayBefore is Replay restricted to the readings with a sequence number of at most
+// seq (see LastSeq): the record as it stood at a mark, whatever the readings' clocks.
+// It stops early, without error, when fn returns false.
+func (j *Journal) ReplayBefore(since time.Time, seq int64, fn func(daq.Reading) bool) error {
+	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
+		" WHERE r.t >= ? AND r.seq <= ? ORDER BY r.t, r.seq"
+	for r, err := range j.query("replay", q, lo(since), seq) {
+		if err != nil {
+			return err
+		}
+		if !fn(r) {
+			return nil
+		}
+	}
+	return nil
+}
+
+// ReplayStarts returns, for every channel, the time of its perChannel-th newest
+// committed reading with Time >= since and a sequence number of at most seq (since
+// when it has fewer). ReplayBefore from the earliest of them, skipping each channel's
+// readings before its own start, feeds at most perChannel readings of each channel: a
+// restart's cost stays bounded however fast the loggers read.
+func (j *Journal) ReplayStarts(since time.Time, seq int64, perChannel int) (map[string]time.Time, error) {
+	db, err := j.reader()
+	if err != nil {
+		return nil, err
+	}
+	rows, err := db.Query("SELECT id, name FROM channels")
+	if err != nil {
+		return nil, fmt.Errorf("journal %s: list channels: %w", j.path, err)
+	}
+	ids := map[int64]string{}
+	for rows.Next() {
+		var id int64
+		var name string
+		if err := rows.Scan(&id, &name); err != nil {
+			rows.Close()
+			return nil, fmt.Errorf("journal %s: list channels: %w", j.path, err)
+		}
+		ids[id] = name
+	}
+	rows.Close()
+	out := map[string]time.Time{}
+	for id, name := range ids {
+		var ns int64
+		err := db.QueryRow("SELECT t FROM readings WHERE channel_id = ? AND t >= ? AND seq <= ? ORDER BY t DESC LIMIT 1 OFFSET ?",
+			id, lo(since), seq, perChannel-1).Scan(&ns)
+		switch {
+		case errors.Is(err, sql.ErrNoRows):
+			out[name] = since
+		case err != nil:
+			return nil, fmt.Errorf("journal %s: replay start of %s: %w", j.path, name, err)
+		default:
+			if t := time.Unix(0, ns); t.After(out[name]) {
+				out[name] = t
+			}
+		}
+	}
+	return out, nil
 }
 
 // Latest returns the newest committed reading of every channel, by channel name.
