@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"log/slog"
 	"net"
+	"runtime"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -128,6 +129,11 @@ func (d *daemon) Run(ctx context.Context) error {
 	queue := make(chan daq.Reading, analysisQueue)
 	acquired := make(chan struct{})
 	go func() { d.acquire(readings, queue); close(queue); close(acquired) }()
+	// Fits run on a pool of workers, one per core: analysis hands them over and goes
+	// on, and the API and /metrics read snapshots that never wait for a fit.
+	fitCtx, stopFits := context.WithCancel(context.Background())
+	fitsDone := make(chan struct{})
+	go func() { d.bench.Run(fitCtx, runtime.GOMAXPROCS(0)); close(fitsDone) }()
 	var stopping atomic.Bool
 	analysed := make(chan struct{})
 	go func() { d.analyse(queue, mark, &stopping); close(analysed) }()
@@ -144,6 +150,8 @@ func (d *daemon) Run(ctx context.Context) error {
 	<-acquired
 	stopping.Store(true) // the rest of the queue is only cleaned and recorded, not fitted
 	<-analysed
+	stopFits()
+	<-fitsDone // a fit under way finishes (tens of milliseconds)
 	stopHistory()
 	<-histDone
 	shutCtx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
