@@ -27,6 +27,9 @@ type State struct {
 	// StaleAfter is the shortest silence after which a channel is reported stale
 	// (0: DefaultStaleAfter).
 	StaleAfter time.Duration
+	// LoggerOf names the logger that reads each channel (config), so a channel that
+	// has never had a reading still shows its logger's lost port; nil: unknown.
+	LoggerOf map[string]string
 }
 
 // Collector is a prometheus.Collector that builds every settle metric from State at

@@ -38,6 +38,12 @@ func channelFault(s State, channel string, now time.Time) *FaultJSON {
 	}
 	rc, ok := s.Latest.Reception(channel)
 	if !ok {
+		// Never read: a logger whose port failed (a wrong port at start-up, an
+		// adapter not plugged in) is the reason, and says so.
+		if p, down := portDown(s, s.LoggerOf[channel]); down {
+			return &FaultJSON{Kind: FaultPortDown,
+				Detail: fmt.Sprintf("logger %s: port %s is not open, and no reading has arrived yet; settle keeps retrying", p.Logger, p.Port)}
+		}
 		return nil
 	}
 	if p, down := portDown(s, rc.Logger); down {

@@ -236,7 +236,19 @@ func TestChannelFaults(t *testing.T) {
 	if k := kind(t0.Add(time.Second)); k != FaultPortDown {
 		t.Errorf("port failed: fault %q, want port_down", k)
 	}
+	// A channel that has never had a reading: its logger's failed port is the fault
+	// (a wrong port at start-up), once the configuration says which logger reads it.
+	if f := channelFault(s, "never", t0); f != nil {
+		t.Errorf("never-read channel without a logger map: fault %+v, want none", f)
+	}
+	s.LoggerOf = map[string]string{"never": "rack2"}
+	if f := channelFault(s, "never", t0); f == nil || f.Kind != FaultPortDown || f.Since != nil {
+		t.Errorf("never-read channel on a failed port: fault %+v, want port_down with no since", f)
+	}
 	up, failed = true, false
+	if f := channelFault(s, "never", t0); f != nil {
+		t.Errorf("never-read channel on an open port: fault %+v, want none", f)
+	}
 	arrived = t0.Add(2 * time.Second)
 	l.Record(daq.Reading{Logger: "rack2", Channel: "a", Time: t0.Add(2 * time.Second), Status: daq.StatusOpen})
 	f := channelFault(s, "a", arrived)
