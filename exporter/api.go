@@ -48,6 +48,9 @@ type ChannelJSON struct {
 	Targets  []TargetJSON  `json:"targets"`
 	Fault    *FaultJSON    `json:"fault"`
 	Cautions []string      `json:"cautions,omitempty"`
+	// Acknowledged is the acknowledgement of the specimen now on the channel (a
+	// technician saw it ready); null when there is none.
+	Acknowledged *Ack `json:"acknowledged"`
 }
 
 // ReadingJSON is a channel's newest reading.
@@ -138,6 +141,9 @@ func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
 		if tf.Target.Handling && !f.Empty {
 			out.Cautions = HandlingCautions
 		}
+	}
+	if a, ok := s.Acks.Get(ch.Name, f.SegmentStart); ok && !f.Empty {
+		out.Acknowledged = &a
 	}
 	return out
 }

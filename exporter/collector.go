@@ -30,6 +30,9 @@ type State struct {
 	// LoggerOf names the logger that reads each channel (config), so a channel that
 	// has never had a reading still shows its logger's lost port; nil: unknown.
 	LoggerOf map[string]string
+	// Acks holds the acknowledgements of ready specimens; nil: none are kept and the
+	// acknowledge endpoint answers 404.
+	Acks *Acks
 }
 
 // Collector is a prometheus.Collector that builds every settle metric from State at

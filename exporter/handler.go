@@ -66,6 +66,7 @@ type Options struct {
 //	GET  /api/v1/channels/{name}             one channel with the fit in full
 //	GET  /api/v1/channels/{name}/series      readings and fitted curve, downsampled
 //	GET  /api/v1/events                      server-sent events
+//	POST /api/v1/channels/{name}/acknowledge a ready specimen was seen (token)
 //	POST /api/v1/notify/test                 send a test notification (token)
 //	     /api/v1/runs[/...]                  the runs API, when Options.Runs is set
 //	GET  /api/v1/placement                   the placement rule's state, when Options.Placement is set
@@ -149,6 +150,7 @@ func (h *Handler) routes(reg *prometheus.Registry) {
 	m.HandleFunc("GET /api/v1/channels/{name}", h.serveDetail)
 	m.HandleFunc("GET /api/v1/channels/{name}/series", h.serveSeries)
 	m.HandleFunc("GET /api/v1/events", h.serveEvents)
+	m.HandleFunc("POST /api/v1/channels/{name}/acknowledge", h.serveAcknowledge)
 	m.HandleFunc("POST /api/v1/notify/test", h.serveNotifyTest)
 	if h.opt.Placement != nil {
 		m.Handle("GET /api/v1/placement", h.opt.Placement)

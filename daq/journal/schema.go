@@ -8,7 +8,7 @@ import (
 )
 
 // SchemaVersion is the schema version this package writes (SQLite user_version).
-const SchemaVersion = 2
+const SchemaVersion = 3
 
 // ErrSchemaTooNew is returned by Open when the file was written by a newer settle.
 var ErrSchemaTooNew = errors.New("journal: schema is newer than this settle understands")
@@ -65,6 +65,16 @@ var migrations = []string{
 	// readings, or at a surface-sensed specimen's unseen core, is marked estimated.
 	`ALTER TABLE crossings ADD COLUMN estimated INTEGER NOT NULL DEFAULT 0;
 	ALTER TABLE forecasts ADD COLUMN estimated INTEGER NOT NULL DEFAULT 0;`,
+	// 3: a technician's acknowledgement that a ready specimen was seen (from the page
+	// or the API), one per channel and specimen (the fit's segment start).
+	`CREATE TABLE acknowledgements (
+		channel TEXT NOT NULL,
+		segment INTEGER NOT NULL, -- Unix nanoseconds: the specimen's segment start
+		at      INTEGER NOT NULL,
+		by      TEXT NOT NULL DEFAULT '',
+		run_id  TEXT NOT NULL DEFAULT '',
+		PRIMARY KEY (channel, segment)
+	);`,
 }
 
 // migrate brings the schema of db up to SchemaVersion, one transaction per step.

@@ -1,0 +1,49 @@
+package journal
+
+import (
+	"errors"
+	"testing"
+	"time"
+)
+
+// An acknowledgement is kept across a restart; the first of two for the same specimen
+// wins; a read-only journal refuses to store one.
+func TestAcknowledgementsSurviveRestart(t *testing.T) {
+	dir := t.TempDir()
+	j, err := Open(dir, Options{Logger: quiet})
+	if err != nil {
+		t.Fatal(err)
+	}
+	seg := t0.Add(-30 * time.Minute)
+	first := Ack{Channel: "p1", Segment: seg, At: t0, By: "AK", RunID: "20260314T083000Z-p1"}
+	for _, a := range []Ack{first, {Channel: "p1", Segment: seg, At: t0.Add(time.Minute), By: "ZZ"},
+		{Channel: "p2", Segment: seg.Add(time.Minute), At: t0.Add(2 * time.Minute)}} {
+		if err := j.Acknowledge(a); err != nil {
+			t.Fatal(err)
+		}
+	}
+	j.Close()
+	j, err = Open(dir, Options{Logger: quiet})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer j.Close()
+	got, err := j.Acknowledgements(t0.Add(-time.Hour))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 2 || got[0] != first || got[1].Channel != "p2" || !got[1].Segment.Equal(seg.Add(time.Minute)) {
+		t.Fatalf("after restart: %+v, want %+v then p2's", got, first)
+	}
+	if later, err := j.Acknowledgements(t0.Add(90 * time.Second)); err != nil || len(later) != 1 || later[0].Channel != "p2" {
+		t.Errorf("since t0+90s: %+v, %v; want p2's only", later, err)
+	}
+	ro, err := Open(dir, Options{Logger: quiet, ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer ro.Close()
+	if err := ro.Acknowledge(Ack{Channel: "p3", Segment: seg, At: t0}); !errors.Is(err, ErrReadOnly) {
+		t.Errorf("read-only Acknowledge: %v, want ErrReadOnly", err)
+	}
+}

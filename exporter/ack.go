@@ -1,0 +1,187 @@
+package exporter
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"net/http"
+	"strings"
+	"sync"
+	"time"
+	"unicode"
+)
+
+// MaxAckByLen caps the "by" field of an acknowledgement (initials or a short name).
+const MaxAckByLen = 40
+
+// Ack is a technician's acknowledgement that a ready specimen was seen: the page's
+// acknowledge button or POST /api/v1/channels/{name}/acknowledge. It belongs to one
+// specimen on one position (the fit's segment start), so the next specimen placed
+// there starts unacknowledged.
+type Ack struct {
+	Channel string    `json:"channel"`
+	Segment time.Time `json:"segment_start"`
+	At      time.Time `json:"at"`
+	By      string    `json:"by,omitempty"`
+	RunID   string    `json:"run_id,omitempty"`
+}
+
+// AckOptions configures NewAcks.
+type AckOptions struct {
+	// Save stores an acknowledgement durably (the daemon: the journal) before it is
+	// answered; an error refuses it. Nil keeps acknowledgements in memory only.
+	Save func(Ack) error
+	// RunOf names the channel's active run, if any (recorded with the acknowledgement).
+	RunOf func(channel string) string
+	// Restored are acknowledgements kept from before a restart.
+	Restored []Ack
+}
+
+// Acks holds the newest acknowledgement of each channel. Safe for concurrent use.
+type Acks struct {
+	opt  AckOptions
+	mu   sync.Mutex
+	last map[string]Ack
+}
+
+// NewAcks returns the acknowledgements table, holding opt.Restored.
+func NewAcks(opt AckOptions) *Acks {
+	a := &Acks{opt: opt, last: map[string]Ack{}}
+	for _, x := range opt.Restored {
+		a.keep(x)
+	}
+	return a
+}
+
+func (a *Acks) keep(x Ack) {
+	if old, ok := a.last[x.Channel]; !ok || !x.Segment.Before(old.Segment) {
+		a.last[x.Channel] = x
+	}
+}
+
+// Get returns channel's acknowledgement of the specimen whose segment started at
+// segment, if there is one.
+func (a *Acks) Get(channel string, segment time.Time) (Ack, bool) {
+	if a == nil {
+		return Ack{}, false
+	}
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	x, ok := a.last[channel]
+	if !ok || !x.Segment.Equal(segment) {
+		return Ack{}, false
+	}
+	return x, true
+}
+
+// add saves x (first) and keeps it; an existing acknowledgement of the same specimen
+// is returned unchanged.
+func (a *Acks) add(x Ack) (Ack, error) {
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	if old, ok := a.last[x.Channel]; ok && old.Segment.Equal(x.Segment) {
+		return old, nil
+	}
+	if a.opt.RunOf != nil {
+		x.RunID = a.opt.RunOf(x.Channel)
+	}
+	if a.opt.Save != nil {
+		if err := a.opt.Save(x); err != nil {
+			return Ack{}, err
+		}
+	}
+	a.keep(x)
+	return x, nil
+}
+
+// AckRequest is the optional body of POST /api/v1/channels/{name}/acknowledge.
+type AckRequest struct {
+	// By says who saw the specimen (initials or a short name, at most MaxAckByLen
+	// characters, printable).
+	By string `json:"by"`
+}
+
+// readyToHandle reports whether c is what the page shows as ready to handle: no
+// fault, a position that holds a specimen, a handling target reached, and the newest
+// reading below that target. Only such a channel can be acknowledged.
+func readyToHandle(c ChannelJSON) bool {
+	if c.Fault != nil || c.Empty || c.Role == "ambient" || c.Forecast == nil || c.Latest == nil || c.Latest.Celsius == nil {
+		return false
+	}
+	for _, t := range c.Targets {
+		if t.Kind == "handling" && t.Celsius != nil {
+			return t.State == "reached" && *c.Latest.Celsius < *t.Celsius
+		}
+	}
+	return false
+}
+
+func (h *Handler) serveAcknowledge(w http.ResponseWriter, r *http.Request) {
+	if h.state.Acks == nil {
+		writeError(w, http.StatusNotFound, "this server keeps no acknowledgements")
+		return
+	}
+	name := r.PathValue("name")
+	ch, ok := findChannel(h.state, name)
+	if !ok {
+		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
+		return
+	}
+	req, err := decodeAck(r.Body)
+	if err != nil {
+		writeError(w, ackErrStatus(err), err.Error())
+		return
+	}
+	now := h.opt.Now()
+	c := channelJSON(h.state, ch, now)
+	if c.Acknowledged != nil {
+		WriteJSON(w, http.StatusOK, c.Acknowledged)
+		return
+	}
+	if !readyToHandle(c) {
+		writeError(w, http.StatusConflict, fmt.Sprintf("%s is not ready to handle: only a specimen the readings show below its handling target can be acknowledged", quote(name)))
+		return
+	}
+	a, err := h.state.Acks.add(Ack{Channel: name, Segment: c.Forecast.SegmentStart, At: now.UTC(), By: req.By})
+	if err != nil {
+		h.opt.Log.Error("acknowledgement not recorded", "channel", name, "err", err)
+		writeError(w, http.StatusServiceUnavailable, "the acknowledgement could not be recorded: "+err.Error())
+		return
+	}
+	h.opt.Log.Info("ready specimen acknowledged", "channel", name, "by", a.By, "run", a.RunID)
+	WriteJSON(w, http.StatusOK, a)
+}
+
+var errAckTooBig = errors.New("request body over 64 KiB")
+
+func decodeAck(body io.Reader) (AckRequest, error) {
+	var req AckRequest
+	dec := json.NewDecoder(body)
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&req); err != nil && !errors.Is(err, io.EOF) {
+		var tooBig *http.MaxBytesError
+		if errors.As(err, &tooBig) {
+			return req, errAckTooBig
+		}
+		return req, fmt.Errorf("body: %w", err)
+	}
+	if dec.More() {
+		return req, errors.New("body: data after the JSON object")
+	}
+	req.By = strings.TrimSpace(req.By)
+	if len([]rune(req.By)) > MaxAckByLen {
+		return req, fmt.Errorf("by: at most %d characters", MaxAckByLen)
+	}
+	if strings.IndexFunc(req.By, func(r rune) bool { return !unicode.IsPrint(r) }) >= 0 {
+		return req, errors.New("by: printable characters only")
+	}
+	return req, nil
+}
+
+func ackErrStatus(err error) int {
+	if errors.Is(err, errAckTooBig) {
+		return http.StatusRequestEntityTooLarge
+	}
+	return http.StatusBadRequest
+}
