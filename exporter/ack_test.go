@@ -127,7 +127,6 @@ func TestAcknowledge(t *testing.T) {
 
 type channelMap map[string]ChannelJSON
 
-
 func channelsOf(t *testing.T, h http.Handler) channelMap {
 	t.Helper()
 	w := do(t, h, "GET", "/api/v1/channels", "", "")

@@ -58,7 +58,8 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	if d.rec, err = openRecorder(cfg, specs, log); err != nil {
 		return nil, err
 	}
-	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats, LoggerOf: cfg.ChannelLoggers()}
+	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats, LoggerOf: cfg.ChannelLoggers(),
+		Acks: d.rec.acks()}
 	reg := exporter.NewRegistry(state)
 	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
 	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"maps"
 	"math"
 	"net/http"
 	"net/http/httptest"
@@ -15,6 +16,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
@@ -493,7 +495,7 @@ const boardToken = "bench-token-3"
 // with a hand-made channel list: 15 positions in every state the board knows and two
 // ambient sensors, as the daemon's API describes them (role, due and the empty state
 // included). Data time is now, so ages and "today" are real.
-func boardFixture(t *testing.T, now time.Time) string {
+func boardFixture(t *testing.T, now time.Time) (string, *fixtureAcks) {
 	t.Helper()
 	j, err := journal.Open(t.TempDir(), journal.Options{})
 	if err != nil {
@@ -519,8 +521,19 @@ func boardFixture(t *testing.T, now time.Time) string {
 	runs := report.RunsAPI(j, report.APIOptions{Token: boardToken})
 	mux.Handle("/api/v1/runs", runs)
 	mux.Handle("/api/v1/runs/", runs)
+	acks := &fixtureAcks{byChannel: map[string]map[string]any{}}
 	mux.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
-		exporter.WriteJSON(w, http.StatusOK, map[string]any{"generated_at": time.Now().UTC(), "channels": channels})
+		exporter.WriteJSON(w, http.StatusOK, map[string]any{"generated_at": time.Now().UTC(), "channels": acks.apply(channels)})
+	})
+	// The daemon's acknowledge endpoint is tested in exporter (TestAcknowledge); here it
+	// checks the token and keeps the acknowledgement, as the daemon does, so that the
+	// page's request, its answer and a second screen can be seen.
+	mux.HandleFunc("POST /api/v1/channels/{name}/acknowledge", func(w http.ResponseWriter, r *http.Request) {
+		if r.Header.Get("Authorization") != "Bearer "+boardToken {
+			exporter.WriteJSON(w, http.StatusForbidden, exporter.ErrorJSON{Error: "wrong token"})
+			return
+		}
+		exporter.WriteJSON(w, http.StatusOK, acks.add(r.PathValue("name"), now))
 	})
 	mux.HandleFunc("GET /api/v1/channels/{name}", func(w http.ResponseWriter, r *http.Request) {
 		exporter.WriteJSON(w, http.StatusOK, map[string]any{"name": r.PathValue("name"), "last_received": time.Now().Add(-12 * time.Second).UTC()})
@@ -530,7 +543,7 @@ func boardFixture(t *testing.T, now time.Time) string {
 	})
 	mux.HandleFunc("GET /api/v1/events", func(w http.ResponseWriter, r *http.Request) {
 		w.Header().Set("Content-Type", "text/event-stream")
-		b, _ := json.Marshal(map[string]any{"generated_at": time.Now().UTC(), "channels": channels})
+		b, _ := json.Marshal(map[string]any{"generated_at": time.Now().UTC(), "channels": acks.apply(channels)})
 		fmt.Fprintf(w, "event: channels\ndata: %s\n\n", b)
 		w.(http.Flusher).Flush()
 		<-r.Context().Done()
@@ -540,7 +553,7 @@ func boardFixture(t *testing.T, now time.Time) string {
 	mux.Handle("GET /static/", page)
 	srv := httptest.NewServer(mux)
 	t.Cleanup(srv.Close)
-	return srv.URL
+	return srv.URL, acks
 }
 
 // boardChannels is the hand-made channel list. Times are RFC 3339; a handling target's
@@ -656,7 +669,7 @@ func boardCurve(end float64, ago time.Duration) float64 {
 // from the page with and without the token.
 func TestBoardStates(t *testing.T) {
 	now := time.Now().UTC().Truncate(time.Second)
-	base := boardFixture(t, now)
+	base, acks := boardFixture(t, now)
 	tab := browser(t, 1920, 1080)
 	if err := chromedp.Do(tab, chromedp.Navigate(base+"/")); err != nil {
 		t.Fatal(err)
@@ -771,16 +784,68 @@ func TestBoardStates(t *testing.T) {
 	if err := chromedp.Do(tab, chromedp.Click("#t-compact")); err != nil {
 		t.Fatal(err)
 	}
-	// Acknowledge moves the ready card below the other alerts; nothing is sent.
+	// Start and stop from the page: p04's run is stopped, a new one started.
+	runsFromPage(t, tab, base, "p04-hot", boardToken)
+	// Acknowledge (with the token the tab now keeps) goes to the daemon: the ready card
+	// says so and moves below the other alerts, on this screen and on a fresh one.
 	if err := chromedp.Do(tab, chromedp.Click(`.card[data-channel="p01-ready"] .ack`)); err != nil {
 		t.Fatal(err)
 	}
-	cards, _ = readPage(t, tab)
-	if cards[0].Name == "p01-ready" || !strings.Contains(cards[idxCard(cards, "p01-ready")].Class, "st-ready") {
-		t.Errorf("after acknowledging, the board starts with %s", cards[0].Name)
+	waitPage(t, tab, `document.querySelector('.card[data-channel="p01-ready"] .next').textContent.includes('acknowledged')`, 10*time.Second, "acknowledge: the card never said so")
+	if got := acks.count(); got != 1 {
+		t.Errorf("acknowledge sent %d requests to the daemon, want 1", got)
 	}
-	// Start and stop from the page: p04's run is stopped, a new one started.
-	runsFromPage(t, tab, base, "p04-hot", boardToken)
+	for _, screen := range []string{"this screen", "a fresh screen"} {
+		if screen == "a fresh screen" {
+			if err := chromedp.Do(tab, chromedp.Reload()); err != nil {
+				t.Fatal(err)
+			}
+			waitPage(t, tab, `document.querySelectorAll('.card[data-channel]').length === 15`, 30*time.Second, "reload: the board never loaded")
+		}
+		cards, _ = readPage(t, tab)
+		c := cards[idxCard(cards, "p01-ready")]
+		if cards[0].Name == "p01-ready" || !strings.Contains(c.Class, "st-ready") || c.Ack || !strings.Contains(c.Next, "acknowledged") {
+			t.Errorf("%s after acknowledging: board starts with %s; p01 class %q, button shown %v, says %q", screen, cards[0].Name, c.Class, c.Ack, c.Next)
+		}
+	}
+	saveScreenshot(t, tab, dir, "board-1920x1080-acknowledged")
+}
+
+// fixtureAcks keeps the board fixture's acknowledgements, as the daemon's API shows them.
+type fixtureAcks struct {
+	mu        sync.Mutex
+	byChannel map[string]map[string]any
+	n         int
+}
+
+func (a *fixtureAcks) add(name string, now time.Time) map[string]any {
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	a.n++
+	ack := map[string]any{"channel": name, "segment_start": now.Add(-40 * time.Minute).UTC(), "at": now.UTC()}
+	a.byChannel[name] = ack
+	return ack
+}
+
+func (a *fixtureAcks) count() int {
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	return a.n
+}
+
+// apply returns channels with each one's acknowledgement (copies; channels is shared).
+func (a *fixtureAcks) apply(channels []map[string]any) []map[string]any {
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	out := make([]map[string]any, len(channels))
+	for i, c := range channels {
+		cp := maps.Clone(c)
+		if ack, ok := a.byChannel[fmt.Sprint(c["name"])]; ok {
+			cp["acknowledged"] = ack
+		}
+		out[i] = cp
+	}
+	return out
 }
 
 func idx(s []string, v string) int {

@@ -153,6 +153,28 @@ func (r *recorder) runsAPI(bench *predict.Bench, token string) http.Handler {
 	})
 }
 
+// ackMemory is how far back the acknowledgements of ready specimens are restored at
+// start-up: a specimen acknowledged longer ago has long left the rack.
+const ackMemory = 7 * 24 * time.Hour
+
+// acks returns the acknowledgements table over the journal: each one is written to
+// the journal before it is answered, and those of the last week are restored.
+func (r *recorder) acks() *exporter.Acks {
+	restored, err := r.j.Acknowledgements(time.Now().Add(-ackMemory))
+	if err != nil {
+		r.log.Warn("acknowledgements not restored", "err", err)
+	}
+	var list []exporter.Ack
+	for _, a := range restored {
+		list = append(list, exporter.Ack(a))
+	}
+	return exporter.NewAcks(exporter.AckOptions{
+		Save:     func(a exporter.Ack) error { return r.j.Acknowledge(journal.Ack(a)) },
+		RunOf:    func(ch string) string { id, _ := r.j.ActiveRunID(ch); return id },
+		Restored: list,
+	})
+}
+
 // maintain runs until ctx ends: every second it fits channels whose last readings
 // arrived inside the fit gap, and every historyEvery it offers bench's forecasts to the
 // journal's forecast history. Fits and history wait until replayed is closed, so the

@@ -13,7 +13,7 @@
   const cards = new Map(); // channel → {el, ch, series, history, recv, state}
   const runs = new Map(); // channel → active run
   const rooms = new Map(); // ambient channel → {el, ch, recv, pts}
-  const S = { chimes: 0, skew: 0, demo: null, ready: [], acks: new Set(), historyLoads: 0 };
+  const S = { chimes: 0, skew: 0, demo: null, ready: [], historyLoads: 0 };
   window.settle = S; // read by the browser test
 
   // ---- settings (URL wins, then this browser) --------------------------------
@@ -102,7 +102,7 @@
   const RANK = { ready: 0, fault: 1, nearly: 2, hot: 3, holding: 4, track: 5, wait: 6, empty: 8 };
   function sortKey(c) {
     let r = RANK[c.state] ?? 7;
-    if (c.state === "ready" && S.acks.has(ackKey(c))) r = 7;
+    if (c.state === "ready" && acked(c)) r = 7;
     const nt = nextTarget(c.ch);
     return [r, nt && due(nt) ? Date.parse(due(nt)) : Infinity, c.ch.name];
   }
@@ -115,7 +115,9 @@
     }
     return best;
   }
-  const ackKey = (c) => c.ch.name + "|" + (runs.get(c.ch.name) || {}).id;
+  // acked: the daemon holds an acknowledgement of the specimen now on the position
+  // (from any screen, kept across restarts).
+  const acked = (c) => !!(c.ch && c.ch.acknowledged);
 
   // isAmbient: the API's role, else a channel that another names as its ambient.
   let ambientNames = new Set();
@@ -172,9 +174,9 @@
     el.querySelector(".caution-line").hidden = !ready;
     el.querySelector(".notes").replaceChildren(...plainNotes(ch).slice(0, 2).map((n) => li(n)));
     el.querySelector(".notes").title = ch.forecast ? (ch.forecast.notes || []).join("\n") : "";
-    el.toggleAttribute("data-acked", ready && S.acks.has(ackKey(c)));
-    el.querySelector(".ack").hidden = !ready || S.acks.has(ackKey(c));
-    if (ready && was && was !== "ready" && !S.acks.has(ackKey(c))) chime();
+    el.toggleAttribute("data-acked", ready && acked(c));
+    el.querySelector(".ack").hidden = !ready || acked(c);
+    if (ready && was && was !== "ready" && !acked(c)) chime();
     c.dirty = true;
   }
   const li = (text) => { const e = document.createElement("li"); e.textContent = text; return e; };
@@ -228,6 +230,8 @@
     if (c.state === "fault") { add("", ch.fault.detail || "Check the sensor and the logger."); return; }
     if (c.state === "ready") {
       add("", "Below " + fmtT(h.celsius) + " " + deg + (h.at ? " since " + when(Date.parse(h.at), now) + (h.estimated ? " (fitted)" : "") : ""));
+      const a = ch.acknowledged;
+      if (a) add("interval acked", "acknowledged " + when(Date.parse(a.at), now) + (a.by ? " by " + a.by : ""));
       const nt = nextTarget(ch);
       if (nt) add("interval", "next: " + nt.name + " " + dueText(nt, now));
       return;
@@ -526,7 +530,7 @@
   // post sends a state-changing request with the token, asking for it once if needed.
   async function post(url, body) {
     let tok = token() || (await askToken());
-    if (!tok) { say("Not sent: starting and stopping runs needs the API token.", "error"); return null; }
+    if (!tok) { say("Not sent: starting or stopping a run, or acknowledging, needs the API token.", "error"); return null; }
     const send = async () => {
       const r = await fetch(url, { method: "POST", headers: { "Content-Type": "application/json", Authorization: "Bearer " + tok }, body: JSON.stringify(body || {}) });
       let data = {};
@@ -582,16 +586,19 @@
     const done = await post("/api/v1/runs/" + encodeURIComponent(run.id) + "/stop", {});
     if (done) { say("Run " + done.id + " stopped."); await fetchRuns(); }
   }
-  // acknowledge marks a ready specimen as seen on this screen: its chime stops and it
-  // moves below the unacknowledged ones. It changes nothing on the daemon.
-  function acknowledge(name) {
+  // acknowledge tells the daemon (with the token) that a ready specimen was seen: the
+  // daemon records it in the journal, every screen shows it, its chime stops and it
+  // moves below the unacknowledged ones. The daemon refuses it unless the readings
+  // show the specimen ready.
+  async function acknowledge(name) {
     const c = cards.get(name);
     if (!c) return;
-    S.acks.add(ackKey(c));
-    sessionStorage.setItem("settle.acks", JSON.stringify([...S.acks]));
+    const a = await post("/api/v1/channels/" + encodeURIComponent(name) + "/acknowledge", {});
+    if (!a) return;
+    c.ch.acknowledged = a;
+    say(name + ": acknowledged; the record keeps who saw it ready and when.");
     render(c.ch); renderSummary();
   }
-  try { for (const k of JSON.parse(sessionStorage.getItem("settle.acks") || "[]")) S.acks.add(k); } catch (e) { /* none */ }
 
   let audio = null;
   const chimeBtn = document.getElementById("t-chime");
