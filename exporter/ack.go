@@ -75,9 +75,10 @@ func (a *Acks) Get(channel string, segment time.Time) (Ack, bool) {
 	return x, true
 }
 
-// add saves x (first) and keeps it; an existing acknowledgement of the same specimen
-// is returned unchanged.
-func (a *Acks) add(x Ack) (Ack, error) {
+// Add saves x (first: an error keeps nothing) and keeps it, with the channel's run; an
+// existing acknowledgement of the same specimen is returned unchanged. It does not
+// check that the specimen is ready: the acknowledge endpoint does.
+func (a *Acks) Add(x Ack) (Ack, error) {
 	a.mu.Lock()
 	defer a.mu.Unlock()
 	if old, ok := a.last[x.Channel]; ok && old.Segment.Equal(x.Segment) {
@@ -143,7 +144,7 @@ func (h *Handler) serveAcknowledge(w http.ResponseWriter, r *http.Request) {
 		writeError(w, http.StatusConflict, fmt.Sprintf("%s is not ready to handle: only a specimen the readings show below its handling target can be acknowledged", quote(name)))
 		return
 	}
-	a, err := h.state.Acks.add(Ack{Channel: name, Segment: c.Forecast.SegmentStart, At: now.UTC(), By: req.By})
+	a, err := h.state.Acks.Add(Ack{Channel: name, Segment: c.Forecast.SegmentStart, At: now.UTC(), By: req.By})
 	if err != nil {
 		h.opt.Log.Error("acknowledgement not recorded", "channel", name, "err", err)
 		writeError(w, http.StatusServiceUnavailable, "the acknowledgement could not be recorded: "+err.Error())

@@ -9,6 +9,8 @@ import (
 	"time"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -46,5 +48,34 @@ func TestConfiguredRunWaitsForTheDisk(t *testing.T) {
 	}
 	if id, ok := rec.j.ActiveRunID("disc-3"); !ok || id == "" {
 		t.Error("no active run for disc-3 after the retry")
+	}
+}
+
+// TestAcknowledgementsKeptByTheJournal: an acknowledgement made through the daemon's
+// table is in the journal with the channel's run, and a restarted daemon shows it.
+func TestAcknowledgementsKeptByTheJournal(t *testing.T) {
+	cfg := &config.Config{DataDir: t.TempDir()}
+	log := slog.New(slog.NewTextHandler(io.Discard, nil))
+	rec, err := openRecorder(cfg, []predict.ChannelSpec{{Name: "bar-2"}}, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	seg := time.Now().Add(-time.Hour).UTC().Truncate(time.Millisecond)
+	run, err := rec.j.StartRun(journal.RunSpec{Channel: "bar-2", Specimen: "Q-12", Start: seg})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := rec.acks().Add(exporter.Ack{Channel: "bar-2", Segment: seg, At: seg.Add(50 * time.Minute), By: "AK"})
+	if err != nil || want.RunID != run.ID {
+		t.Fatalf("acknowledge: %+v, %v; want run %s", want, err, run.ID)
+	}
+	rec.close()
+	rec, err = openRecorder(cfg, []predict.ChannelSpec{{Name: "bar-2"}}, log)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rec.close()
+	if got, ok := rec.acks().Get("bar-2", seg); !ok || got != want {
+		t.Errorf("after a restart: %+v (%v), want %+v", got, ok, want)
 	}
 }
