@@ -800,7 +800,7 @@ func TestBoardStates(t *testing.T) {
 			if err := chromedp.Do(tab, chromedp.Reload()); err != nil {
 				t.Fatal(err)
 			}
-			waitPage(t, tab, `document.querySelectorAll('.card[data-channel]').length === 15`, 30*time.Second, "reload: the board never loaded")
+			waitPage(t, tab, `document.querySelectorAll('.card[data-channel]').length === 15 && document.querySelector('.card[data-channel="p01-ready"] .specimen').textContent === 'B7-101'`, 30*time.Second, "reload: the board never loaded")
 		}
 		cards, _ = readPage(t, tab)
 		c := cards[idxCard(cards, "p01-ready")]

@@ -188,7 +188,8 @@
   function renderWho(c) {
     const run = runs.get(c.ch.name);
     const el = c.el;
-    el.querySelector(".specimen").textContent = run ? run.specimen : c.state === "empty" ? "" : "no run";
+    // "no run" only once the runs list has answered: before that (a reload) it is unknown.
+    el.querySelector(".specimen").textContent = run ? run.specimen : c.state === "empty" || !S.runsOK ? "" : "no run";
     const r = el.querySelector(".run");
     r.textContent = run ? "run since " + when(Date.parse(run.started), dataNow(c.ch)) : "";
     r.title = run ? "run " + run.id : "";
