@@ -2,8 +2,11 @@ package exporter
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
+	"net"
 	"net/http"
+	"os"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -22,8 +25,12 @@ const (
 	DefaultClientBuffer = 512
 	// DefaultMaxStreams caps the event-stream clients served at once.
 	DefaultMaxStreams = 32
-	// streamWriteTimeout bounds each write to a stream client.
-	streamWriteTimeout = 10 * time.Second
+	// DefaultMaxStreamsPerAddr caps the event-stream clients served at once to one
+	// remote address (IP), so one machine's clients cannot take every stream.
+	DefaultMaxStreamsPerAddr = 4
+	// DefaultStreamWriteTimeout bounds each write to a stream client: a client that has
+	// not taken an event within it (its connection's buffers full) is dropped.
+	DefaultStreamWriteTimeout = 10 * time.Second
 )
 
 // event is one server-sent event, its data already encoded.
@@ -49,36 +56,52 @@ type FaultEvent struct {
 // broker fans events out to stream clients. Publishing never blocks: a client whose
 // buffer is full is dropped, and its stream ends.
 type broker struct {
-	mu      sync.Mutex
-	clients map[*client]struct{}
-	buffer  int
-	max     int
-	n       atomic.Int32 // clients, read without the lock by publishers
-	dropped atomic.Uint64
-	closing chan struct{}
-	closed  sync.Once
+	mu       sync.Mutex
+	clients  map[*client]struct{}
+	perAddr  map[string]int // clients by remote address
+	buffer   int
+	max      int
+	maxAddr  int
+	n        atomic.Int32  // clients, read without the lock by publishers
+	dropped  atomic.Uint64 // clients dropped for falling a buffer behind
+	timedOut atomic.Uint64 // clients dropped for a write past the deadline
+	closing  chan struct{}
+	closed   sync.Once
 }
 
 type client struct {
 	ch   chan event
 	gone chan struct{} // closed when the broker drops the client
+	addr string
 }
 
-func newBroker(buffer, maxClients int) *broker {
-	return &broker{clients: map[*client]struct{}{}, buffer: buffer, max: maxClients, closing: make(chan struct{})}
+func newBroker(buffer, maxClients, maxPerAddr int) *broker {
+	return &broker{clients: map[*client]struct{}{}, perAddr: map[string]int{}, buffer: buffer,
+		max: maxClients, maxAddr: maxPerAddr, closing: make(chan struct{})}
 }
 
-// join adds a client; false when the broker is full.
-func (b *broker) join() (*client, bool) {
+// Why join refused a client.
+var (
+	errBrokerFull = errors.New("too many event-stream clients; try again later")
+	errAddrFull   = errors.New("too many event-stream clients from this address; close one or try again later")
+)
+
+// join adds a client from the remote address addr; an error when the broker or the
+// address is full.
+func (b *broker) join(addr string) (*client, error) {
 	b.mu.Lock()
 	defer b.mu.Unlock()
-	if len(b.clients) >= b.max {
-		return nil, false
+	switch {
+	case b.perAddr[addr] >= b.maxAddr:
+		return nil, errAddrFull
+	case len(b.clients) >= b.max:
+		return nil, errBrokerFull
 	}
-	c := &client{ch: make(chan event, b.buffer), gone: make(chan struct{})}
+	c := &client{ch: make(chan event, b.buffer), gone: make(chan struct{}), addr: addr}
 	b.clients[c] = struct{}{}
+	b.perAddr[addr]++
 	b.n.Store(int32(len(b.clients)))
-	return c, true
+	return c, nil
 }
 
 // leave removes c (idempotent).
@@ -91,6 +114,9 @@ func (b *broker) leave(c *client) {
 func (b *broker) remove(c *client) {
 	if _, ok := b.clients[c]; ok {
 		delete(b.clients, c)
+		if b.perAddr[c.addr]--; b.perAddr[c.addr] <= 0 {
+			delete(b.perAddr, c.addr)
+		}
 		close(c.gone)
 		b.n.Store(int32(len(b.clients)))
 	}
@@ -129,13 +155,27 @@ func readingEvent(r daq.Reading) ReadingEvent {
 	return ev
 }
 
+// remoteHost is the IP of a request's peer (the whole RemoteAddr when it has no port).
+func remoteHost(r *http.Request) string {
+	if host, _, err := net.SplitHostPort(r.RemoteAddr); err == nil {
+		return host
+	}
+	return r.RemoteAddr
+}
+
 // serveEvents streams server-sent events: "channels" (the full list) on connect, then
 // "reading", "forecast" (a channel whose fit or target states changed), "fault" and
-// "heartbeat".
+// "heartbeat". A client is refused over the limit per address (429) or in all (503),
+// and dropped when a write to it does not complete within Options.StreamWriteTimeout.
 func (h *Handler) serveEvents(w http.ResponseWriter, r *http.Request) {
-	c, ok := h.broker.join()
-	if !ok {
-		writeError(w, http.StatusServiceUnavailable, "too many event-stream clients; try again later")
+	c, err := h.broker.join(remoteHost(r))
+	if err != nil {
+		status := http.StatusServiceUnavailable
+		if errors.Is(err, errAddrFull) {
+			status = http.StatusTooManyRequests
+		}
+		w.Header().Set("Retry-After", "10")
+		writeError(w, status, err.Error())
 		return
 	}
 	defer h.broker.leave(c)
@@ -145,11 +185,15 @@ func (h *Handler) serveEvents(w http.ResponseWriter, r *http.Request) {
 	w.Header().Set("X-Accel-Buffering", "no")
 	w.WriteHeader(http.StatusOK)
 	send := func(ev event) bool {
-		_ = rc.SetWriteDeadline(time.Now().Add(streamWriteTimeout))
-		if _, err := fmt.Fprintf(w, "event: %s\ndata: %s\n\n", ev.name, ev.data); err != nil {
-			return false
+		_ = rc.SetWriteDeadline(time.Now().Add(h.opt.StreamWriteTimeout))
+		_, err := fmt.Fprintf(w, "event: %s\ndata: %s\n\n", ev.name, ev.data)
+		if err == nil {
+			err = rc.Flush()
 		}
-		return rc.Flush() == nil
+		if errors.Is(err, os.ErrDeadlineExceeded) {
+			h.broker.timedOut.Add(1)
+		}
+		return err == nil
 	}
 	first, _ := json.Marshal(h.channels(time.Now()))
 	if !send(event{name: "channels", data: first}) {

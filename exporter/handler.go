@@ -50,6 +50,13 @@ type Options struct {
 	ClientBuffer int
 	// MaxStreams caps concurrent event-stream clients (default DefaultMaxStreams).
 	MaxStreams int
+	// MaxStreamsPerAddr caps concurrent event-stream clients from one remote IP
+	// (default DefaultMaxStreamsPerAddr). Behind a reverse proxy every client has the
+	// proxy's address: raise it there.
+	MaxStreamsPerAddr int
+	// StreamWriteTimeout drops an event-stream client that has not taken a write
+	// within it (default DefaultStreamWriteTimeout).
+	StreamWriteTimeout time.Duration
 	// Now replaces the wall clock in tests (default time.Now).
 	Now func() time.Time
 	// Placement, when set, serves GET /api/v1/placement (the placement rule's state).
@@ -87,7 +94,7 @@ type Handler struct {
 func NewHandler(s State, reg *prometheus.Registry, opt Options) *Handler {
 	opt = handlerDefaults(opt)
 	h := &Handler{state: s, opt: opt, mux: http.NewServeMux(),
-		broker: newBroker(opt.ClientBuffer, opt.MaxStreams)}
+		broker: newBroker(opt.ClientBuffer, opt.MaxStreams, opt.MaxStreamsPerAddr)}
 	nopt := opt.Notify
 	nopt.Registerer, nopt.Cautions = reg, HandlingCautions
 	if nopt.Log == nil {
@@ -116,6 +123,12 @@ func handlerDefaults(opt Options) Options {
 	}
 	if opt.MaxStreams <= 0 {
 		opt.MaxStreams = DefaultMaxStreams
+	}
+	if opt.MaxStreamsPerAddr <= 0 {
+		opt.MaxStreamsPerAddr = DefaultMaxStreamsPerAddr
+	}
+	if opt.StreamWriteTimeout <= 0 {
+		opt.StreamWriteTimeout = DefaultStreamWriteTimeout
 	}
 	if opt.Now == nil {
 		opt.Now = time.Now
