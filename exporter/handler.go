@@ -89,9 +89,17 @@ type Handler struct {
 	unsub    func()
 }
 
+// Metrics is what the handler needs of a registry: it registers the notifications'
+// counters and gathers what /metrics serves. NewRegistry's Registry is the daemon's.
+type Metrics interface {
+	prometheus.Registerer
+	prometheus.Gatherer
+}
+
 // NewHandler returns the handler over s. Counters of the notifications are registered
-// with reg, which also serves /metrics.
-func NewHandler(s State, reg *prometheus.Registry, opt Options) *Handler {
+// with reg, which also serves /metrics (a Registry from NewRegistry(s) for the
+// channels' series).
+func NewHandler(s State, reg Metrics, opt Options) *Handler {
 	opt = handlerDefaults(opt)
 	h := &Handler{state: s, opt: opt, mux: http.NewServeMux(),
 		broker: newBroker(opt.ClientBuffer, opt.MaxStreams, opt.MaxStreamsPerAddr)}
@@ -145,7 +153,7 @@ func (h *Handler) channels(now time.Time) ChannelsResponse {
 	return resp
 }
 
-func (h *Handler) routes(reg *prometheus.Registry) {
+func (h *Handler) routes(reg Metrics) {
 	m := h.mux
 	m.Handle("GET /metrics", promhttp.HandlerFor(reg, promhttp.HandlerOpts{
 		Registry: reg, MaxRequestsInFlight: 4, Timeout: 10 * time.Second,

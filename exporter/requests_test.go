@@ -10,8 +10,6 @@ import (
 	"testing"
 	"time"
 
-	"github.com/prometheus/client_golang/prometheus"
-
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/exporter/report"
@@ -30,7 +28,7 @@ func apiWithRuns(t *testing.T, logs *bytes.Buffer) http.Handler {
 	}
 	t.Cleanup(func() { j.Close() })
 	runs := report.RunsAPI(j, report.APIOptions{Token: token, Logger: log})
-	return exporter.NewHandler(exporter.State{}, prometheus.NewRegistry(), exporter.Options{Token: token, Runs: runs, Log: log})
+	return exporter.NewHandler(exporter.State{}, exporter.NewRegistry(exporter.State{}), exporter.Options{Token: token, Runs: runs, Log: log})
 }
 
 func request(h http.Handler, method, target, body string) *httptest.ResponseRecorder {
