@@ -149,7 +149,6 @@ func (c *refCollector) collectTarget(channel string, tf predict.TargetForecast, 
 	}
 }
 
-
 // benchFunc is a bench whose snapshot a test can change between scrapes.
 type benchFunc func() []predict.ChannelState
 
