@@ -195,8 +195,9 @@ func (c *Collector) Gather() []*dto.MetricFamily {
 	var out [nFamilies][]*dto.Metric
 	for _, name := range names {
 		cs := c.channels[name]
-		for i, s := range cs.samples {
-			out[s.fam] = append(out[s.fam], cs.metrics[i])
+		for k, i := range cs.order {
+			f := cs.samples[i].fam
+			out[f] = append(out[f], cs.metrics[k])
 		}
 	}
 	c.portMetrics(&out)
@@ -337,36 +338,53 @@ type sample struct {
 	v      float64
 }
 
-// same reports whether a and b build the same metric (NaN values included).
-func (a sample) same(b sample) bool {
-	return a.fam == b.fam && a.l1 == b.l1 && a.l2 == b.l2 && math.Float64bits(a.v) == math.Float64bits(b.v)
-}
-
 // channelSeries is one channel's built series and the samples they were built from.
 type channelSeries struct {
 	first   *dto.LabelPair // channel="name", shared by every series of the channel
 	gen     uint64         // the scrape that last saw the channel
 	next    []sample       // this scrape's samples, being collected
-	samples []sample       // the samples behind metrics, sorted as the exposition orders them
-	metrics []*dto.Metric
+	samples []sample       // the samples behind metrics, as collected
+	order   []int          // indexes into samples in exposition order
+	metrics []*dto.Metric  // in exposition order
 }
 
-// update sorts this scrape's samples and rebuilds the metrics of those that differ from
-// the last scrape's at the same place; the rest are kept as they are.
+// update takes this scrape's samples. When they are the last scrape's series with new
+// values (the usual case: a new reading), only the metrics whose value changed are
+// rebuilt; when series appeared, vanished or were relabelled, the channel's metrics
+// are rebuilt and put in exposition order again.
 func (cs *channelSeries) update(fams *[nFamilies]family) {
-	slices.SortFunc(cs.next, func(a, b sample) int { return compareSamples(fams, a, b) })
-	metrics := cs.metrics
-	if len(cs.next) != len(cs.samples) {
-		metrics = make([]*dto.Metric, len(cs.next))
-		copy(metrics, cs.metrics)
-	}
-	for i, s := range cs.next {
-		if i >= len(cs.samples) || !s.same(cs.samples[i]) {
-			metrics[i] = fams[s.fam].build(cs.first, s)
+	if sameSeries(cs.next, cs.samples) {
+		for k, i := range cs.order {
+			if s := cs.next[i]; math.Float64bits(s.v) != math.Float64bits(cs.samples[i].v) {
+				cs.metrics[k] = fams[s.fam].build(cs.first, s)
+			}
+		}
+	} else {
+		cs.order = cs.order[:0]
+		for i := range cs.next {
+			cs.order = append(cs.order, i)
+		}
+		slices.SortFunc(cs.order, func(a, b int) int { return compareSamples(fams, cs.next[a], cs.next[b]) })
+		cs.metrics = make([]*dto.Metric, len(cs.next))
+		for k, i := range cs.order {
+			cs.metrics[k] = fams[cs.next[i].fam].build(cs.first, cs.next[i])
 		}
 	}
-	cs.metrics = metrics
 	cs.samples, cs.next = cs.next, cs.samples
+}
+
+// sameSeries reports whether a and b hold the same series (families and labels) in the
+// same order, whatever their values.
+func sameSeries(a, b []sample) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i].fam != b[i].fam || a[i].l1 != b[i].l1 || a[i].l2 != b[i].l2 {
+			return false
+		}
+	}
+	return true
 }
 
 // compareSamples orders samples by family, then as the exposition orders a family's
