@@ -6,10 +6,13 @@ import (
 	"fmt"
 	"net"
 	"net/http"
+	"net/netip"
 	"os"
 	"sync"
 	"sync/atomic"
 	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
 
 	"github.com/settle-lab/settle/exporter/jsonval"
 
@@ -62,9 +65,10 @@ type broker struct {
 	buffer   int
 	max      int
 	maxAddr  int
-	n        atomic.Int32  // clients, read without the lock by publishers
-	dropped  atomic.Uint64 // clients dropped for falling a buffer behind
-	timedOut atomic.Uint64 // clients dropped for a write past the deadline
+	n        atomic.Int32     // clients, read without the lock by publishers
+	dropped  atomic.Uint64    // clients dropped for falling a buffer behind
+	timedOut atomic.Uint64    // clients dropped for a write past the deadline
+	refused  [2]atomic.Uint64 // clients refused: [0] over the limit in all, [1] per address
 	closing  chan struct{}
 	closed   sync.Once
 }
@@ -93,8 +97,10 @@ func (b *broker) join(addr string) (*client, error) {
 	defer b.mu.Unlock()
 	switch {
 	case b.perAddr[addr] >= b.maxAddr:
+		b.refused[1].Add(1)
 		return nil, errAddrFull
 	case len(b.clients) >= b.max:
+		b.refused[0].Add(1)
 		return nil, errBrokerFull
 	}
 	c := &client{ch: make(chan event, b.buffer), gone: make(chan struct{}), addr: addr}
@@ -155,12 +161,52 @@ func readingEvent(r daq.Reading) ReadingEvent {
 	return ev
 }
 
-// remoteHost is the IP of a request's peer (the whole RemoteAddr when it has no port).
+// remoteHost is the address a request's peer is counted under for the per-address
+// stream limit: its IPv4 address, or the /64 network of an IPv6 one (one host usually
+// holds a whole /64); the whole RemoteAddr when it is neither.
 func remoteHost(r *http.Request) string {
-	if host, _, err := net.SplitHostPort(r.RemoteAddr); err == nil {
-		return host
+	host, _, err := net.SplitHostPort(r.RemoteAddr)
+	if err != nil {
+		host = r.RemoteAddr
 	}
-	return r.RemoteAddr
+	ip, err := netip.ParseAddr(host)
+	switch {
+	case err != nil:
+		return host
+	case ip.Is4() || ip.Is4In6():
+		return ip.Unmap().String()
+	}
+	p, _ := ip.WithZone("").Prefix(64)
+	return p.String()
+}
+
+// streamCollector exports the broker's counts of dropped and refused stream clients.
+type streamCollector struct {
+	b       *broker
+	dropped *prometheus.Desc
+	refused *prometheus.Desc
+}
+
+func newStreamCollector(b *broker) streamCollector {
+	return streamCollector{b: b,
+		dropped: prometheus.NewDesc("settle_event_stream_dropped_total",
+			"Event-stream clients dropped: cause behind (fell the client buffer behind) or write_timeout (took no write within the deadline).", []string{"cause"}, nil),
+		refused: prometheus.NewDesc("settle_event_stream_refused_total",
+			"Event-stream clients refused: cause limit (streams in all) or address_limit (streams from one address).", []string{"cause"}, nil)}
+}
+
+// Describe sends both descriptors.
+func (s streamCollector) Describe(out chan<- *prometheus.Desc) { out <- s.dropped; out <- s.refused }
+
+// Collect sends the four counters.
+func (s streamCollector) Collect(out chan<- prometheus.Metric) {
+	c := func(d *prometheus.Desc, n uint64, cause string) {
+		out <- prometheus.MustNewConstMetric(d, prometheus.CounterValue, float64(n), cause)
+	}
+	c(s.dropped, s.b.dropped.Load(), "behind")
+	c(s.dropped, s.b.timedOut.Load(), "write_timeout")
+	c(s.refused, s.b.refused[0].Load(), "limit")
+	c(s.refused, s.b.refused[1].Load(), "address_limit")
 }
 
 // serveEvents streams server-sent events: "channels" (the full list) on connect, then

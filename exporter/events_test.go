@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"net"
 	"net/http"
+	"net/http/httptest"
 	"strings"
 	"syscall"
 	"testing"
@@ -127,6 +128,20 @@ func TestIdleStreamClientsCannotCloseTheStream(t *testing.T) {
 	case <-time.After(20 * time.Second):
 		t.Fatal("127.0.0.2 stopped getting events")
 	}
+	// The counts are on /metrics: 28 idle clients and the fifth request refused on the
+	// address limit, the 4 idle streams dropped at the deadline.
+	waitFor(t, "every idle client's request to be answered", func() bool { return h.broker.refused[1].Load() == 29 })
+	metrics := do(t, h, "GET", "/metrics", "", "").Body.String()
+	for _, line := range []string{
+		`settle_event_stream_refused_total{cause="address_limit"} 29`,
+		`settle_event_stream_refused_total{cause="limit"} 0`,
+		`settle_event_stream_dropped_total{cause="write_timeout"} 4`,
+		`settle_event_stream_dropped_total{cause="behind"} 0`,
+	} {
+		if !strings.Contains(metrics, line+"\n") {
+			t.Errorf("/metrics lacks %s", line)
+		}
+	}
 	// The freed slots take new clients from the first address.
 	again, err := clientFrom("127.0.0.1").Get("http://" + addr + "/api/v1/events")
 	if err != nil {
@@ -135,5 +150,22 @@ func TestIdleStreamClientsCannotCloseTheStream(t *testing.T) {
 	again.Body.Close()
 	if again.StatusCode != http.StatusOK {
 		t.Errorf("a stream from 127.0.0.1 after the idle ones were dropped: %d, want 200", again.StatusCode)
+	}
+}
+
+func TestRemoteHost(t *testing.T) {
+	for _, c := range []struct{ remote, want string }{
+		{"127.0.0.1:51234", "127.0.0.1"},
+		{"[::ffff:192.0.2.7]:80", "192.0.2.7"}, // IPv4-mapped: the IPv4 address
+		{"[2001:db8:1:2:aaaa::1]:80", "2001:db8:1:2::/64"},
+		{"[2001:db8:1:2:bbbb::9]:81", "2001:db8:1:2::/64"}, // same /64, same count
+		{"[fe80::1%eth0]:8391", "fe80::/64"},
+		{"@", "@"}, // a Unix socket's peer: taken whole
+	} {
+		r := httptest.NewRequest("GET", "/api/v1/events", nil)
+		r.RemoteAddr = c.remote
+		if got := remoteHost(r); got != c.want {
+			t.Errorf("remoteHost(%q) = %q, want %q", c.remote, got, c.want)
+		}
 	}
 }

@@ -109,6 +109,7 @@ func NewHandler(s State, reg Metrics, opt Options) *Handler {
 		nopt.Log = opt.Log
 	}
 	h.notifier = notify.New(opt.Webhooks, nopt)
+	reg.MustRegister(newStreamCollector(h.broker))
 	if s.Latest != nil {
 		h.unsub = s.Latest.subscribe(func(r daq.Reading) { h.broker.publish("reading", readingEvent(r)) })
 	}
