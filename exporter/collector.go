@@ -2,9 +2,13 @@ package exporter
 
 import (
 	"math"
+	"slices"
+	"strings"
+	"sync"
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
+	dto "github.com/prometheus/client_model/go"
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/predict"
@@ -35,167 +39,394 @@ type State struct {
 	Acks *Acks
 }
 
-// Collector is a prometheus.Collector that builds every settle metric from State at
-// scrape time. Descriptors are built once; values are made fresh on each scrape.
+// Collector builds every settle metric from State at scrape time. It keeps each
+// channel's series as built metrics and rebuilds only those whose value or labels
+// changed since the last scrape, so a scrape of a thousand unchanged channels builds
+// nothing. Gather serves them without a registry's per-metric checks (the daemon's
+// /metrics); as a prometheus.Collector it sends the same metrics through a registry
+// (tests, lint).
 type Collector struct {
 	state State
-	d     descs
+	fams  [nFamilies]family
+
+	mu       sync.Mutex
+	channels map[string]*channelSeries
+	gen      uint64
 }
 
-type descs struct {
-	temp, readingTime, fault, faults                        *prometheus.Desc
-	eta, etaEarliest, etaLatest, due, reached, info, target *prometheus.Desc
-	empty, chInfo                                           *prometheus.Desc
-	tau, rmse, biot, valid, fitInfo, fitPoints              *prometheus.Desc
-	portUp, reconnects, readErrs, parseErrs, lastRead       *prometheus.Desc
+// The metric families, by index into Collector.fams.
+const (
+	fTemp = iota
+	fReadingTime
+	fFault
+	fFaults
+	fETA
+	fETAEarliest
+	fETALatest
+	fDue
+	fEmpty
+	fChInfo
+	fReached
+	fTargetInfo
+	fTarget
+	fTau
+	fRMSE
+	fBiot
+	fValid
+	fFitInfo
+	fFitPoints
+	fPortUp
+	fReconnects
+	fReadErrs
+	fParseErrs
+	fLastRead
+	nFamilies
+)
+
+// family is one metric family: its descriptor and how its label pairs are laid out.
+type family struct {
+	name, help string
+	typ        dto.MetricType
+	labels     []string
+	byName     []int // indexes into labels in name order (the order of dto label pairs)
+	desc       *prometheus.Desc
 }
 
 // NewCollector returns a collector over s.
 func NewCollector(s State) *Collector {
+	c := &Collector{state: s, channels: map[string]*channelSeries{}}
 	ch, tg, lg := []string{"channel"}, []string{"channel", "target"}, []string{"logger"}
-	d := func(name, help string, labels ...string) *prometheus.Desc {
-		return prometheus.NewDesc("settle_"+name, help, labels, nil)
+	gauge, counter := dto.MetricType_GAUGE, dto.MetricType_COUNTER
+	def := func(i int, name string, typ dto.MetricType, help string, labels ...string) {
+		f := family{name: "settle_" + name, help: help, typ: typ, labels: labels}
+		f.byName = make([]int, len(labels))
+		for j := range f.byName {
+			f.byName[j] = j
+		}
+		slices.SortFunc(f.byName, func(a, b int) int { return strings.Compare(labels[a], labels[b]) })
+		f.desc = prometheus.NewDesc(f.name, help, labels, nil)
+		c.fams[i] = f
 	}
-	return &Collector{state: s, d: descs{
-		temp:        d("temperature_celsius", "Latest valid temperature of the channel.", ch...),
-		readingTime: d("reading_timestamp_seconds", "Unix time of the channel's latest reading, valid or not.", ch...),
-		fault:       d("channel_fault", "1 while the channel's latest reading is a fault of this status.", "channel", "status"),
-		faults:      d("channel_faults_total", "Fault readings received on the channel, by status.", "channel", "status"),
-		eta:         d("target_eta_timestamp_seconds", "Predicted Unix time at which the channel reaches the target (an estimate).", tg...),
-		etaEarliest: d("target_eta_earliest_timestamp_seconds", "Lower end of the ~90 % interval of the predicted crossing.", tg...),
-		etaLatest:   d("target_eta_latest_timestamp_seconds", "Upper end of the ~90 % interval of the predicted crossing.", tg...),
-		due:         d("target_due_timestamp_seconds", "Unix time to plan with: for a handling target the late end of the ~90 % interval (below the target by then with high confidence), else the predicted crossing.", tg...),
-		empty:       d("channel_empty", "1 while a specimen position holds no specimen (its targets are not forecast).", ch...),
-		chInfo:      d("channel_info", "Always 1; role is position (a specimen position) or ambient (the room's air, never forecast).", "channel", "role"),
-		reached:     d("target_reached", "1 once the channel has reached the target in the current segment.", tg...),
-		info:        d("target_info", "Always 1; kind is handling, temperature or settle.", "channel", "target", "kind"),
-		target:      d("target_celsius", "Resolved target temperature.", tg...),
-		tau:         d("fit_time_constant_seconds", "Fitted time constant of the channel's model.", ch...),
-		rmse:        d("fit_rmse_celsius", "Root-mean-square residual of the channel's fit.", ch...),
-		biot:        d("fit_biot", "Biot number of the channel's specimen, where known.", ch...),
-		valid:       d("fit_valid", "1 when the model is used within its validity range.", ch...),
-		fitInfo:     d("fit_info", "Always 1; names the model fitted to the channel.", "channel", "model"),
-		fitPoints:   d("fit_points", "Readings used by the channel's latest fit.", ch...),
-		portUp:      d("port_up", "1 while the logger's serial port is open and readable.", lg...),
-		reconnects:  d("port_reconnects_total", "Times the logger's port was reopened after a failure.", lg...),
-		readErrs:    d("port_read_errors_total", "Read errors on the logger's port.", lg...),
-		parseErrs:   d("parse_errors_total", "Lines from the logger that could not be parsed.", lg...),
-		lastRead:    d("last_reading_timestamp_seconds", "Unix time of the logger's latest reading.", lg...),
-	}}
+	def(fTemp, "temperature_celsius", gauge, "Latest valid temperature of the channel.", ch...)
+	def(fReadingTime, "reading_timestamp_seconds", gauge, "Unix time of the channel's latest reading, valid or not.", ch...)
+	def(fFault, "channel_fault", gauge, "1 while the channel's latest reading is a fault of this status.", "channel", "status")
+	def(fFaults, "channel_faults_total", counter, "Fault readings received on the channel, by status.", "channel", "status")
+	def(fETA, "target_eta_timestamp_seconds", gauge, "Predicted Unix time at which the channel reaches the target (an estimate).", tg...)
+	def(fETAEarliest, "target_eta_earliest_timestamp_seconds", gauge, "Lower end of the ~90 % interval of the predicted crossing.", tg...)
+	def(fETALatest, "target_eta_latest_timestamp_seconds", gauge, "Upper end of the ~90 % interval of the predicted crossing.", tg...)
+	def(fDue, "target_due_timestamp_seconds", gauge, "Unix time to plan with: for a handling target the late end of the ~90 % interval (below the target by then with high confidence), else the predicted crossing.", tg...)
+	def(fEmpty, "channel_empty", gauge, "1 while a specimen position holds no specimen (its targets are not forecast).", ch...)
+	def(fChInfo, "channel_info", gauge, "Always 1; role is position (a specimen position) or ambient (the room's air, never forecast).", "channel", "role")
+	def(fReached, "target_reached", gauge, "1 once the channel has reached the target in the current segment.", tg...)
+	def(fTargetInfo, "target_info", gauge, "Always 1; kind is handling, temperature or settle.", "channel", "target", "kind")
+	def(fTarget, "target_celsius", gauge, "Resolved target temperature.", tg...)
+	def(fTau, "fit_time_constant_seconds", gauge, "Fitted time constant of the channel's model.", ch...)
+	def(fRMSE, "fit_rmse_celsius", gauge, "Root-mean-square residual of the channel's fit.", ch...)
+	def(fBiot, "fit_biot", gauge, "Biot number of the channel's specimen, where known.", ch...)
+	def(fValid, "fit_valid", gauge, "1 when the model is used within its validity range.", ch...)
+	def(fFitInfo, "fit_info", gauge, "Always 1; names the model fitted to the channel.", "channel", "model")
+	def(fFitPoints, "fit_points", gauge, "Readings used by the channel's latest fit.", ch...)
+	def(fPortUp, "port_up", gauge, "1 while the logger's serial port is open and readable.", lg...)
+	def(fReconnects, "port_reconnects_total", counter, "Times the logger's port was reopened after a failure.", lg...)
+	def(fReadErrs, "port_read_errors_total", counter, "Read errors on the logger's port.", lg...)
+	def(fParseErrs, "parse_errors_total", counter, "Lines from the logger that could not be parsed.", lg...)
+	def(fLastRead, "last_reading_timestamp_seconds", gauge, "Unix time of the logger's latest reading.", lg...)
+	return c
 }
 
 // Describe sends every descriptor.
 func (c *Collector) Describe(out chan<- *prometheus.Desc) {
-	for _, d := range []*prometheus.Desc{c.d.temp, c.d.readingTime, c.d.fault, c.d.faults,
-		c.d.eta, c.d.etaEarliest, c.d.etaLatest, c.d.due, c.d.empty, c.d.chInfo, c.d.reached, c.d.info, c.d.target,
-		c.d.tau, c.d.rmse, c.d.biot, c.d.valid, c.d.fitInfo, c.d.fitPoints,
-		c.d.portUp, c.d.reconnects, c.d.readErrs, c.d.parseErrs, c.d.lastRead} {
-		out <- d
+	for _, f := range c.fams {
+		out <- f.desc
 	}
 }
 
-// Collect snapshots State and sends fresh metrics.
+// Collect sends the metrics of Gather through a registry.
 func (c *Collector) Collect(out chan<- prometheus.Metric) {
-	gauge := func(d *prometheus.Desc, v float64, labels ...string) {
-		out <- prometheus.MustNewConstMetric(d, prometheus.GaugeValue, v, labels...)
+	descs := make(map[string]*prometheus.Desc, nFamilies)
+	for _, f := range c.fams {
+		descs[f.name] = f.desc
 	}
-	counter := func(d *prometheus.Desc, v float64, labels ...string) {
-		out <- prometheus.MustNewConstMetric(d, prometheus.CounterValue, v, labels...)
+	for _, mf := range c.Gather() {
+		for _, m := range mf.Metric {
+			out <- builtMetric{descs[mf.GetName()], m}
+		}
 	}
-	if c.state.Latest != nil {
-		c.collectLatest(gauge, counter)
-	}
+}
+
+// builtMetric is a metric built by the collector, sent through Collect.
+type builtMetric struct {
+	desc *prometheus.Desc
+	m    *dto.Metric
+}
+
+func (b builtMetric) Desc() *prometheus.Desc { return b.desc }
+
+// Write shares the built label pairs and value: built metrics are never changed.
+func (b builtMetric) Write(out *dto.Metric) error {
+	out.Label, out.Gauge, out.Counter = b.m.Label, b.m.Gauge, b.m.Counter
+	return nil
+}
+
+// Gather returns the settle metric families, sorted by name with each family's
+// metrics in label order (as a registry would). Series of a channel whose value and
+// labels are unchanged since the last call are the same metrics, not rebuilt; the
+// returned families are the caller's, the metrics in them are shared and never changed.
+func (c *Collector) Gather() []*dto.MetricFamily {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	c.gen++
 	if c.state.Bench != nil {
 		for _, ch := range c.state.Bench.Snapshot() {
-			c.collectChannel(ch, gauge)
+			cs := c.channel(ch.Name)
+			cs.next = c.benchSamples(cs.next, ch)
 		}
 	}
-	if c.state.Ports != nil {
-		for _, p := range c.state.Ports() {
-			gauge(c.d.portUp, boolFloat(p.Up), p.Logger)
-			counter(c.d.reconnects, float64(p.Reconnects), p.Logger)
-			counter(c.d.readErrs, float64(p.ReadErrors), p.Logger)
-			counter(c.d.parseErrs, float64(p.ParseErrors), p.Logger)
-			if !p.LastReading.IsZero() {
-				gauge(c.d.lastRead, unixSeconds(p.LastReading), p.Logger)
-			}
+	if c.state.Latest != nil {
+		c.latestSamples()
+	}
+	names := make([]string, 0, len(c.channels))
+	for name, cs := range c.channels {
+		if cs.gen != c.gen {
+			delete(c.channels, name) // gone from the state: its series vanish
+			continue
+		}
+		cs.update(&c.fams)
+		names = append(names, name)
+	}
+	slices.Sort(names)
+	var out [nFamilies][]*dto.Metric
+	for _, name := range names {
+		cs := c.channels[name]
+		for k, i := range cs.order {
+			f := cs.samples[i].fam
+			out[f] = append(out[f], cs.metrics[k])
 		}
 	}
+	c.portMetrics(&out)
+	return c.families(&out)
 }
 
-type emit func(d *prometheus.Desc, v float64, labels ...string)
+// families wraps each non-empty family's metrics, sorted by name. The metrics are in
+// label order already: channels by name, each channel's samples by compareSamples
+// (TestCachedCollectorMatchesFreshBuild checks the order against a registry's).
+func (c *Collector) families(out *[nFamilies][]*dto.Metric) []*dto.MetricFamily {
+	mfs := make([]*dto.MetricFamily, 0, nFamilies)
+	for i, ms := range out {
+		if len(ms) == 0 {
+			continue
+		}
+		f := &c.fams[i]
+		mfs = append(mfs, &dto.MetricFamily{Name: &f.name, Help: &f.help, Type: f.typ.Enum(), Metric: ms})
+	}
+	slices.SortFunc(mfs, func(a, b *dto.MetricFamily) int { return strings.Compare(a.GetName(), b.GetName()) })
+	return mfs
+}
 
-func (c *Collector) collectLatest(gauge, counter emit) {
-	c.state.Latest.mu.Lock()
-	defer c.state.Latest.mu.Unlock()
-	for name, r := range c.state.Latest.readings {
-		gauge(c.d.readingTime, unixSeconds(r.Time), name)
+// channel returns the series of the named channel, marked as present in this scrape.
+func (c *Collector) channel(name string) *channelSeries {
+	cs := c.channels[name]
+	if cs == nil {
+		cs = &channelSeries{first: labelPair("channel", name)}
+		c.channels[name] = cs
+	}
+	if cs.gen != c.gen {
+		cs.gen, cs.next = c.gen, cs.next[:0]
+	}
+	return cs
+}
+
+func (c *Collector) latestSamples() {
+	l := c.state.Latest
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	for name, r := range l.readings {
+		cs := c.channel(name)
+		cs.next = append(cs.next, sample{fam: fReadingTime, v: unixSeconds(r.Time)})
 		if !r.OK() {
-			gauge(c.d.fault, 1, name, r.Status.String())
+			cs.next = append(cs.next, sample{fam: fFault, l1: r.Status.String(), v: 1})
 		}
 	}
-	for k, n := range c.state.Latest.faults {
-		counter(c.d.faults, float64(n), k.channel, k.status.String())
+	for k, n := range l.faults {
+		cs := c.channel(k.channel)
+		cs.next = append(cs.next, sample{fam: fFaults, l1: k.status.String(), v: float64(n)})
 	}
 }
 
-func (c *Collector) collectChannel(ch predict.ChannelState, gauge emit) {
+// benchSamples appends the series of one channel's forecast state to out.
+func (c *Collector) benchSamples(out []sample, ch predict.ChannelState) []sample {
 	if ch.Readings > 0 {
-		gauge(c.d.temp, ch.LastCelsius, ch.Name)
+		out = append(out, sample{fam: fTemp, v: ch.LastCelsius})
 	}
 	role := ch.Role
 	if role == "" {
 		role = predict.RolePosition
 	}
-	gauge(c.d.chInfo, 1, ch.Name, role)
+	out = append(out, sample{fam: fChInfo, l1: role, v: 1})
 	f := ch.Forecast
 	if f == nil {
-		return
+		return out
 	}
 	if role == predict.RolePosition {
-		gauge(c.d.empty, boolFloat(f.Empty), ch.Name)
+		out = append(out, sample{fam: fEmpty, v: boolFloat(f.Empty)})
 	}
-	if f.Empty {
-		for _, tf := range f.Targets {
-			c.collectTarget(ch.Name, tf, gauge)
+	if !f.Empty {
+		out = append(out, sample{fam: fFitInfo, l1: f.Model, v: 1},
+			sample{fam: fFitPoints, v: float64(f.Points)},
+			sample{fam: fValid, v: boolFloat(!f.OutOfRange)})
+		if f.TimeConstant > 0 {
+			out = append(out, sample{fam: fTau, v: f.TimeConstant.Seconds()})
 		}
-		return
-	}
-	gauge(c.d.fitInfo, 1, ch.Name, f.Model)
-	gauge(c.d.fitPoints, float64(f.Points), ch.Name)
-	gauge(c.d.valid, boolFloat(!f.OutOfRange), ch.Name)
-	if f.TimeConstant > 0 {
-		gauge(c.d.tau, f.TimeConstant.Seconds(), ch.Name)
-	}
-	if finite(f.RMSE) {
-		gauge(c.d.rmse, f.RMSE, ch.Name)
-	}
-	if finite(f.Biot) {
-		gauge(c.d.biot, f.Biot, ch.Name)
+		if finite(f.RMSE) {
+			out = append(out, sample{fam: fRMSE, v: f.RMSE})
+		}
+		if finite(f.Biot) {
+			out = append(out, sample{fam: fBiot, v: f.Biot})
+		}
 	}
 	for _, tf := range f.Targets {
-		c.collectTarget(ch.Name, tf, gauge)
+		out = targetSamples(out, tf)
+	}
+	return out
+}
+
+func targetSamples(out []sample, tf predict.TargetForecast) []sample {
+	name := tf.Target.Name
+	out = append(out, sample{fam: fTargetInfo, l1: name, l2: TargetKind(tf.Target), v: 1},
+		sample{fam: fReached, l1: name, v: boolFloat(tf.State == predict.StateReached)})
+	if finite(tf.Celsius) {
+		out = append(out, sample{fam: fTarget, l1: name, v: tf.Celsius})
+	}
+	if tf.State != predict.StatePredicted && tf.State != predict.StateHolding {
+		return out
+	}
+	for _, p := range []struct {
+		fam int
+		t   time.Time
+	}{{fETA, tf.At}, {fETAEarliest, tf.Earliest}, {fETALatest, tf.Latest}, {fDue, tf.Due()}} {
+		if !p.t.IsZero() {
+			out = append(out, sample{fam: p.fam, l1: name, v: unixSeconds(p.t)})
+		}
+	}
+	return out
+}
+
+// portMetrics appends each logger's series (a handful: built on every scrape).
+func (c *Collector) portMetrics(out *[nFamilies][]*dto.Metric) {
+	if c.state.Ports == nil {
+		return
+	}
+	ports := c.state.Ports()
+	slices.SortStableFunc(ports, func(a, b daq.PortStats) int { return strings.Compare(a.Logger, b.Logger) })
+	for _, p := range ports {
+		first := labelPair("logger", p.Logger)
+		add := func(fam int, v float64) {
+			out[fam] = append(out[fam], c.fams[fam].build(first, sample{fam: fam, v: v}))
+		}
+		add(fPortUp, boolFloat(p.Up))
+		add(fReconnects, float64(p.Reconnects))
+		add(fReadErrs, float64(p.ReadErrors))
+		add(fParseErrs, float64(p.ParseErrors))
+		if !p.LastReading.IsZero() {
+			add(fLastRead, unixSeconds(p.LastReading))
+		}
 	}
 }
 
-func (c *Collector) collectTarget(channel string, tf predict.TargetForecast, gauge emit) {
-	name := tf.Target.Name
-	gauge(c.d.info, 1, channel, name, TargetKind(tf.Target))
-	gauge(c.d.reached, boolFloat(tf.State == predict.StateReached), channel, name)
-	if finite(tf.Celsius) {
-		gauge(c.d.target, tf.Celsius, channel, name)
-	}
-	if tf.State != predict.StatePredicted && tf.State != predict.StateHolding {
-		return
-	}
-	for _, p := range []struct {
-		d *prometheus.Desc
-		t time.Time
-	}{{c.d.eta, tf.At}, {c.d.etaEarliest, tf.Earliest}, {c.d.etaLatest, tf.Latest}, {c.d.due, tf.Due()}} {
-		if !p.t.IsZero() {
-			gauge(p.d, unixSeconds(p.t), channel, name)
+// sample is one series before it is built: its family, the values of the labels after
+// the first (the channel's or logger's), in the family's label order, and its value.
+type sample struct {
+	fam    int
+	l1, l2 string
+	v      float64
+}
+
+// channelSeries is one channel's built series and the samples they were built from.
+type channelSeries struct {
+	first   *dto.LabelPair // channel="name", shared by every series of the channel
+	gen     uint64         // the scrape that last saw the channel
+	next    []sample       // this scrape's samples, being collected
+	samples []sample       // the samples behind metrics, as collected
+	order   []int          // indexes into samples in exposition order
+	metrics []*dto.Metric  // in exposition order
+}
+
+// update takes this scrape's samples. When they are the last scrape's series with new
+// values (the usual case: a new reading), only the metrics whose value changed are
+// rebuilt; when series appeared, vanished or were relabelled, the channel's metrics
+// are rebuilt and put in exposition order again.
+func (cs *channelSeries) update(fams *[nFamilies]family) {
+	if sameSeries(cs.next, cs.samples) {
+		for k, i := range cs.order {
+			if s := cs.next[i]; math.Float64bits(s.v) != math.Float64bits(cs.samples[i].v) {
+				cs.metrics[k] = fams[s.fam].build(cs.first, s)
+			}
+		}
+	} else {
+		cs.order = cs.order[:0]
+		for i := range cs.next {
+			cs.order = append(cs.order, i)
+		}
+		slices.SortFunc(cs.order, func(a, b int) int { return compareSamples(fams, cs.next[a], cs.next[b]) })
+		cs.metrics = make([]*dto.Metric, len(cs.next))
+		for k, i := range cs.order {
+			cs.metrics[k] = fams[cs.next[i].fam].build(cs.first, cs.next[i])
 		}
 	}
+	cs.samples, cs.next = cs.next, cs.samples
+}
+
+// sameSeries reports whether a and b hold the same series (families and labels) in the
+// same order, whatever their values.
+func sameSeries(a, b []sample) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i].fam != b[i].fam || a[i].l1 != b[i].l1 || a[i].l2 != b[i].l2 {
+			return false
+		}
+	}
+	return true
+}
+
+// compareSamples orders samples by family, then as the exposition orders a family's
+// metrics: by label values in label-name order.
+func compareSamples(fams *[nFamilies]family, a, b sample) int {
+	if a.fam != b.fam {
+		return a.fam - b.fam
+	}
+	va, vb := [3]string{"", a.l1, a.l2}, [3]string{"", b.l1, b.l2}
+	for _, i := range fams[a.fam].byName {
+		if c := strings.Compare(va[i], vb[i]); c != 0 {
+			return c
+		}
+	}
+	return 0
+}
+
+// build makes the metric of s, whose first label pair is first.
+func (f *family) build(first *dto.LabelPair, s sample) *dto.Metric {
+	vals := [3]string{"", s.l1, s.l2}
+	m := &dto.Metric{Label: make([]*dto.LabelPair, len(f.labels))}
+	for j, i := range f.byName {
+		if i == 0 {
+			m.Label[j] = first
+		} else {
+			m.Label[j] = labelPair(f.labels[i], vals[i])
+		}
+	}
+	v := s.v
+	if f.typ == dto.MetricType_COUNTER {
+		m.Counter = &dto.Counter{Value: &v}
+	} else {
+		m.Gauge = &dto.Gauge{Value: &v}
+	}
+	return m
+}
+
+func labelPair(name, value string) *dto.LabelPair {
+	return &dto.LabelPair{Name: &name, Value: &value}
 }
 
 // TargetKind classifies a target for the settle_target_info metric and the API:

@@ -1,9 +1,11 @@
 package exporter
 
 import (
+	"bytes"
 	"crypto/subtle"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"io"
 	"log/slog"
 	"net/http"
@@ -48,6 +50,13 @@ type Options struct {
 	ClientBuffer int
 	// MaxStreams caps concurrent event-stream clients (default DefaultMaxStreams).
 	MaxStreams int
+	// MaxStreamsPerAddr caps concurrent event-stream clients from one remote IP
+	// (default DefaultMaxStreamsPerAddr). Behind a reverse proxy every client has the
+	// proxy's address: raise it there.
+	MaxStreamsPerAddr int
+	// StreamWriteTimeout drops an event-stream client that has not taken a write
+	// within it (default DefaultStreamWriteTimeout).
+	StreamWriteTimeout time.Duration
 	// Now replaces the wall clock in tests (default time.Now).
 	Now func() time.Time
 	// Placement, when set, serves GET /api/v1/placement (the placement rule's state).
@@ -81,18 +90,27 @@ type Handler struct {
 	unsub    func()
 }
 
+// Metrics is what the handler needs of a registry: it registers the notifications'
+// counters and gathers what /metrics serves. NewRegistry's Registry is the daemon's.
+type Metrics interface {
+	prometheus.Registerer
+	prometheus.Gatherer
+}
+
 // NewHandler returns the handler over s. Counters of the notifications are registered
-// with reg, which also serves /metrics.
-func NewHandler(s State, reg *prometheus.Registry, opt Options) *Handler {
+// with reg, which also serves /metrics (a Registry from NewRegistry(s) for the
+// channels' series).
+func NewHandler(s State, reg Metrics, opt Options) *Handler {
 	opt = handlerDefaults(opt)
 	h := &Handler{state: s, opt: opt, mux: http.NewServeMux(),
-		broker: newBroker(opt.ClientBuffer, opt.MaxStreams)}
+		broker: newBroker(opt.ClientBuffer, opt.MaxStreams, opt.MaxStreamsPerAddr)}
 	nopt := opt.Notify
 	nopt.Registerer, nopt.Cautions = reg, HandlingCautions
 	if nopt.Log == nil {
 		nopt.Log = opt.Log
 	}
 	h.notifier = notify.New(opt.Webhooks, nopt)
+	reg.MustRegister(newStreamCollector(h.broker))
 	if s.Latest != nil {
 		h.unsub = s.Latest.subscribe(func(r daq.Reading) { h.broker.publish("reading", readingEvent(r)) })
 	}
@@ -116,6 +134,12 @@ func handlerDefaults(opt Options) Options {
 	if opt.MaxStreams <= 0 {
 		opt.MaxStreams = DefaultMaxStreams
 	}
+	if opt.MaxStreamsPerAddr <= 0 {
+		opt.MaxStreamsPerAddr = DefaultMaxStreamsPerAddr
+	}
+	if opt.StreamWriteTimeout <= 0 {
+		opt.StreamWriteTimeout = DefaultStreamWriteTimeout
+	}
 	if opt.Now == nil {
 		opt.Now = time.Now
 	}
@@ -131,7 +155,7 @@ func (h *Handler) channels(now time.Time) ChannelsResponse {
 	return resp
 }
 
-func (h *Handler) routes(reg *prometheus.Registry) {
+func (h *Handler) routes(reg Metrics) {
 	m := h.mux
 	m.Handle("GET /metrics", promhttp.HandlerFor(reg, promhttp.HandlerOpts{
 		Registry: reg, MaxRequestsInFlight: 4, Timeout: 10 * time.Second,
@@ -179,24 +203,74 @@ func (h *Handler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 			return
 		}
 	}
-	if _, pattern := h.mux.Handler(r); pattern == "" {
+	if _, pattern := h.mux.Handler(r); pattern == "" || r.Method == http.MethodOptions {
 		h.notFound(w, r)
+		return
+	}
+	if !oneJSONBody(w, r) {
 		return
 	}
 	h.mux.ServeHTTP(w, r)
 }
 
-// notFound answers a request no route takes, in JSON: 405 when the path exists for
-// GET, else 404.
+// notFound answers a request no route takes, and every OPTIONS request, in JSON: 405
+// with an Allow header when the path exists for another method, else 404.
 func (h *Handler) notFound(w http.ResponseWriter, r *http.Request) {
-	get := r.Clone(r.Context())
-	get.Method = http.MethodGet
-	if _, pattern := h.mux.Handler(get); pattern != "" && r.Method != http.MethodGet {
-		w.Header().Set("Allow", "GET, HEAD")
-		writeError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed on "+quote(r.URL.Path))
+	if allow := h.allowed(r); allow != "" {
+		w.Header().Set("Allow", allow)
+		writeError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed on "+quote(r.URL.Path)+"; allowed: "+allow)
 		return
 	}
 	writeError(w, http.StatusNotFound, "no such page: "+quote(r.URL.Path))
+}
+
+// allowed lists the methods some route takes on r's path ("" when none does). A path
+// handed whole to another handler (the runs API) lists that API's methods.
+func (h *Handler) allowed(r *http.Request) string {
+	var out []string
+	for _, m := range []string{http.MethodGet, http.MethodPost} {
+		probe := r.Clone(r.Context())
+		probe.Method = m
+		if _, pattern := h.mux.Handler(probe); pattern != "" {
+			out = append(out, m)
+			if m == http.MethodGet {
+				out = append(out, http.MethodHead)
+			}
+		}
+	}
+	return strings.Join(out, ", ")
+}
+
+// oneJSONBody refuses a request body that holds anything after its first JSON value
+// (400, in JSON), so a client's concatenated or garbled body is never half-applied. It
+// buffers the body (at most MaxBodyBytes: 413 beyond) and hands it on unchanged; a body
+// that is not JSON at all is left to the route, which says what is wrong with it.
+func oneJSONBody(w http.ResponseWriter, r *http.Request) bool {
+	if r.Body == nil || r.Method == http.MethodGet || r.Method == http.MethodHead {
+		return true
+	}
+	b, err := io.ReadAll(r.Body)
+	if err != nil {
+		var tooBig *http.MaxBytesError
+		if errors.As(err, &tooBig) {
+			writeError(w, http.StatusRequestEntityTooLarge, "request body over 64 KiB")
+		} else {
+			writeError(w, http.StatusBadRequest, "body: "+err.Error())
+		}
+		return false
+	}
+	r.Body = io.NopCloser(bytes.NewReader(b))
+	dec := json.NewDecoder(bytes.NewReader(b))
+	var first json.RawMessage
+	if dec.Decode(&first) != nil {
+		return true
+	}
+	end := dec.InputOffset()
+	if _, err := dec.Token(); !errors.Is(err, io.EOF) {
+		writeError(w, http.StatusBadRequest, fmt.Sprintf("body: unexpected data after the JSON value (offset %d); send one JSON value per request", end))
+		return false
+	}
+	return true
 }
 
 // checkToken returns 0 when the Authorization header carries token, else the status and

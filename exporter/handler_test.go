@@ -448,11 +448,11 @@ func TestEventStream(t *testing.T) {
 }
 
 func TestSlowStreamClientIsDropped(t *testing.T) {
-	b := newBroker(4, 2)
-	slow, _ := b.join()
-	fast, _ := b.join()
-	if _, ok := b.join(); ok {
-		t.Error("a third client joined a broker capped at 2")
+	b := newBroker(4, 2, 2)
+	slow, _ := b.join("192.0.2.1")
+	fast, _ := b.join("192.0.2.2")
+	if _, err := b.join("192.0.2.3"); err != errBrokerFull {
+		t.Errorf("a third client joined a broker capped at 2: %v", err)
 	}
 	for i := range 10 {
 		b.publish("reading", i)

@@ -7,8 +7,10 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 	"time"
+	"unicode/utf8"
 )
 
 // ErrRunActive is returned by StartRun when the channel already has an active run.
@@ -209,16 +211,22 @@ func (j *Journal) loadActive() error {
 	return nil
 }
 
+// MaxSpecimenBytes caps a run's specimen id: room for a sample number or a short name
+// (and a UTF-8 one), small enough that logs, figures and the status page show it whole.
+const MaxSpecimenBytes = 128
+
 func checkSpec(spec *RunSpec) error {
 	switch {
 	case strings.TrimSpace(spec.Channel) == "":
 		return fmt.Errorf("start run: channel is empty: %w", ErrInvalid)
 	case strings.TrimSpace(spec.Specimen) == "":
 		return fmt.Errorf("start run: specimen is empty: %w", ErrInvalid)
+	case len(spec.Specimen) > MaxSpecimenBytes:
+		return fmt.Errorf("start run: specimen %s is %d bytes, over the limit of %d: %w", clip(spec.Specimen), len(spec.Specimen), MaxSpecimenBytes, ErrInvalid)
 	case spec.ID != "" && (slug(spec.ID) != spec.ID || len(spec.ID) > 128):
-		return fmt.Errorf("start run: id %q: use at most 128 letters, digits, '-', '_' and '.': %w", spec.ID, ErrInvalid)
+		return fmt.Errorf("start run: id %s: use at most 128 letters, digits, '-', '_' and '.': %w", clip(spec.ID), ErrInvalid)
 	case len(spec.Targets) > 0 && !json.Valid(spec.Targets):
-		return fmt.Errorf("start run on %s: targets are not valid JSON: %w", spec.Channel, ErrInvalid)
+		return fmt.Errorf("start run on %s: targets are not valid JSON: %w", clip(spec.Channel), ErrInvalid)
 	}
 	if spec.Start.IsZero() {
 		spec.Start = time.Now()
@@ -433,4 +441,17 @@ func clampStart(ctx context.Context, tx *sql.Tx, spec *RunSpec) error {
 		spec.Start = time.Unix(0, last.Int64+1).UTC()
 	}
 	return nil
+}
+
+// clip quotes s for an error message, its first 40 bytes and an ellipsis when longer,
+// so a hostile value is never echoed or logged whole.
+func clip(s string) string {
+	if len(s) <= 40 {
+		return strconv.Quote(s)
+	}
+	cut := 40
+	for cut > 0 && !utf8.RuneStart(s[cut]) {
+		cut--
+	}
+	return strconv.Quote(s[:cut]) + "…"
 }

@@ -3,8 +3,10 @@ package journal
 import (
 	"encoding/json"
 	"errors"
+	"strings"
 	"testing"
 	"time"
+	"unicode/utf8"
 
 	"github.com/settle-lab/settle/daq"
 )
@@ -118,6 +120,31 @@ func TestStartRunRejects(t *testing.T) {
 	}
 	if _, err := j.Run("nope"); !errors.Is(err, ErrNoRun) {
 		t.Errorf("Run(nope): %v, want ErrNoRun", err)
+	}
+}
+
+// A specimen id over MaxSpecimenBytes is refused with its length and only a clipped
+// prefix in the message (the message reaches API clients and logs); one at the limit,
+// multi-byte letters included, is kept whole.
+func TestSpecimenIDBound(t *testing.T) {
+	j, _ := open(t, Options{})
+	huge := strings.Repeat("S", 60<<10)
+	_, err := j.StartRun(RunSpec{Channel: "c1", Specimen: huge})
+	if !errors.Is(err, ErrInvalid) {
+		t.Fatalf("StartRun with a 60 KiB specimen: %v, want ErrInvalid", err)
+	}
+	msg := err.Error()
+	if !strings.Contains(msg, "61440 bytes, over the limit of 128") || len(msg) > 200 {
+		t.Errorf("error (%d bytes) = %.300s, want the length and limit, under 200 bytes", len(msg), msg)
+	}
+	longID := strings.Repeat("é", 65) // 130 bytes: the clip must not split a letter
+	if _, err := j.StartRun(RunSpec{Channel: "c1", Specimen: longID}); err == nil || !utf8.ValidString(err.Error()) {
+		t.Errorf("StartRun with a 130-byte specimen: %v, want a valid UTF-8 refusal", err)
+	}
+	atLimit := strings.Repeat("é", 64) // 128 bytes
+	run, err := j.StartRun(RunSpec{Channel: "c1", Specimen: atLimit})
+	if err != nil || run.Specimen != atLimit {
+		t.Errorf("StartRun with a 128-byte specimen: %+v, %v; want it kept whole", run, err)
 	}
 }
 
