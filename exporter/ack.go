@@ -167,9 +167,7 @@ func decodeAck(body io.Reader) (AckRequest, error) {
 		}
 		return req, fmt.Errorf("body: %w", err)
 	}
-	if dec.More() {
-		return req, errors.New("body: data after the JSON object")
-	}
+	// Data after the object is refused by the handler before any route runs.
 	req.By = strings.TrimSpace(req.By)
 	if len([]rune(req.By)) > MaxAckByLen {
 		return req, fmt.Errorf("by: at most %d characters", MaxAckByLen)

@@ -63,7 +63,7 @@ func TestAcknowledge(t *testing.T) {
 		{"empty position", "p3", bearer, "", http.StatusConflict, "not ready to handle"},
 		{"room sensor", "room", bearer, "", http.StatusConflict, "not ready to handle"},
 		{"unknown field", "steel", bearer, `{"who":"AK"}`, http.StatusBadRequest, `unknown field "who"`},
-		{"trailing data", "steel", bearer, `{"by":"AK"} {}`, http.StatusBadRequest, "data after the JSON object"},
+		{"trailing data", "steel", bearer, `{"by":"AK"} {}`, http.StatusBadRequest, "after the JSON value"},
 		{"long name", "steel", bearer, `{"by":"` + strings.Repeat("x", 41) + `"}`, http.StatusBadRequest, "at most 40"},
 		{"control character", "steel", bearer, `{"by":"A\u0007K"}`, http.StatusBadRequest, "printable"},
 	} {
