@@ -171,7 +171,7 @@ func unknownKeys(parent string, keys []string) []*Problem {
 		if strings.Contains(k, ".") {
 			msg += "; write a dotted key as nested keys"
 		}
-		out[i] = &Problem{Msg: msg}
+		out[i] = &Problem{Msg: msg, at: path}
 	}
 	return out
 }

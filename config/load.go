@@ -70,17 +70,25 @@ func Load(path string) (*Config, error) {
 
 // Parse is Load for a configuration already in memory; name stands for the file name
 // in messages. Environment overrides apply here too.
+//
+// A syntax error, or keys of one mapping that differ only in case (which viper would
+// merge silently), stop the reading before decoding; every other problem is found
+// and returned at once, each with the line of its key where the file has it.
 func Parse(name string, yaml []byte) (*Config, error) {
-	v, problems := readYAML(yaml)
+	t, problems := readTree(yaml)
 	if problems != nil {
 		return nil, inFile(name, problems)
 	}
+	v, problems := readYAML(yaml)
+	if problems != nil {
+		return nil, inFile(name, t.locate(problems))
+	}
 	var c Config
 	if err := v.UnmarshalExact(&c, decoderOptions); err != nil {
-		return nil, inFile(name, decodeProblems(err))
+		return nil, inFile(name, t.locate(decodeProblems(err)))
 	}
 	if problems := c.validate(); len(problems) > 0 {
-		return nil, inFile(name, problems)
+		return nil, inFile(name, t.locate(problems))
 	}
 	return &c, nil
 }

@@ -35,12 +35,22 @@ func TestConfigCheck(t *testing.T) {
 		{"good/full.yaml", "good/full.yaml: ok (2 loggers, 3 channels, 4 targets)\n", "", ""},
 		{"good/minimal.yaml", "good/minimal.yaml: ok (1 logger, 1 channel, 0 targets)\n", "", ""},
 		{"bad/unknown-deep.yaml", "",
-			`bad/unknown-deep.yaml: unknown key "loggers[0].line.columns[1].chanel" (known keys here: channel, index)` + "\n" +
-				`bad/unknown-deep.yaml: unknown key "channels[0].targets[1].celcius" (known keys here: celsius, handling, hold, name, within)` + "\n",
+			`bad/unknown-deep.yaml: line 7: unknown key "loggers[0].line.columns[1].chanel" (known keys here: channel, index)` + "\n" +
+				`bad/unknown-deep.yaml: line 12: unknown key "channels[0].targets[1].celcius" (known keys here: celsius, handling, hold, name, within)` + "\n",
 			"bad/unknown-deep.yaml: 2 problems"},
 		{"bad/zero-index.yaml", "",
-			"bad/zero-index.yaml: loggers[0].line.columns[1].index: must be ≥ 1 (fields count from 1), got 0\n",
+			"bad/zero-index.yaml: line 7: loggers[0].line.columns[1].index: must be ≥ 1 (fields count from 1), got 0\n",
 			"bad/zero-index.yaml: 1 problem"},
+		// Keys that differ only in case are refused, naming both key paths (issue 15).
+		{"bad/case-keys.yaml", "",
+			"bad/case-keys.yaml: line 4: LISTEN: differs only in case from listen at line 3; keys are read without regard to case, so one would silently replace the other: keep one\n" +
+				"bad/case-keys.yaml: line 8: loggers[0].Port: differs only in case from loggers[0].port at line 7; keys are read without regard to case, so one would silently replace the other: keep one\n" +
+				"bad/case-keys.yaml: line 13: Channels: differs only in case from channels at line 11; keys are read without regard to case, so one would silently replace the other: keep one\n",
+			"bad/case-keys.yaml: 3 problems"},
+		// An indentation slip on line 5 is reported at line 5 (was "near line 2").
+		{"bad/indent-line5.yaml", "",
+			"bad/indent-line5.yaml: line 5: did not find expected '-' indicator (is this line indented like the keys it belongs with?)\n",
+			"bad/indent-line5.yaml: 1 problem"},
 		{"absent.yaml", "", "config: open absent.yaml: no such file or directory\n", "absent.yaml: 1 problem"},
 	}
 	for _, tt := range tests {
