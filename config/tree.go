@@ -113,7 +113,7 @@ func (t *tree) line(path string) int {
 }
 
 // syntaxBudget bounds the bytes re-parsed to find the line of a syntax error.
-const syntaxBudget = 8 << 20
+const syntaxBudget = 4 << 20
 
 // syntaxProblems turns a YAML syntax error into a problem at the line of the mistake.
 //

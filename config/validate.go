@@ -211,8 +211,8 @@ func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, r
 	if lf.ClockColumn < 0 {
 		k.add(key+".clock_column", "must be ≥ 0 (0: use the host's receive time), got %d", lf.ClockColumn)
 	}
-	if _, ok := ClockLayout(lf.ClockFormat); !ok {
-		k.add(key+".clock_format", "want seconds, unix, rfc3339 or a Go time layout such as %q, got %q", "2006-01-02 15:04:05", lf.ClockFormat)
+	if _, err := ClockFormatLayout(lf.ClockFormat); err != nil {
+		k.add(key+".clock_format", "%q: %v", lf.ClockFormat, err)
 	}
 	if len(lf.Columns) == 0 && len(fields.named) == 0 {
 		k.add(key+".columns", "at least one column is needed")
