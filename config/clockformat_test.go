@@ -137,3 +137,31 @@ func FuzzStrftimeLayout(f *testing.F) {
 		}
 	})
 }
+
+// Every worked example in the example configuration's clock_format table reads its
+// sample timestamp (so the comments stay true).
+func TestExampleClockFormats(t *testing.T) {
+	n := 0
+	for _, line := range strings.Split(Example, "\n") {
+		line = strings.TrimSpace(strings.TrimPrefix(strings.TrimSpace(line), "#"))
+		q := strings.Index(line, `"%`)
+		if q < 0 || !strings.HasPrefix(line, "20") && !strings.HasPrefix(line, "0") && !strings.HasPrefix(line, "1") {
+			continue
+		}
+		value := strings.TrimSpace(line[:q])
+		format := line[q+1:]
+		format = format[:strings.Index(format, `"`)]
+		layout, err := ClockFormatLayout(format)
+		if err != nil {
+			t.Errorf("example %q: %v", format, err)
+			continue
+		}
+		if _, err := time.Parse(layout, value); err != nil {
+			t.Errorf("example %q cannot read its sample %q: %v", format, value, err)
+		}
+		n++
+	}
+	if n != 6 {
+		t.Errorf("checked %d worked examples, want the 6 of example.yaml", n)
+	}
+}
