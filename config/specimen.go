@@ -2,7 +2,6 @@ package config
 
 import (
 	"math"
-	"strings"
 
 	"github.com/settle-lab/settle/predict/material"
 )
@@ -83,8 +82,8 @@ func SpecimenProblems(key string, s *Specimen) []*Problem {
 	}
 	m := s.Material
 	if _, ok := material.Lookup(m.Name); m.Name != "" && !ok {
-		k.add(key+".material.name", "no built-in material %q; known: %s (or give density_kg_m3, specific_heat_j_kgk, conductivity_w_mk)",
-			m.Name, strings.Join(material.Names(), ", "))
+		k.add(key+".material.name", "no built-in material %q; give one of these names, or density_kg_m3, specific_heat_j_kgk and conductivity_w_mk:\n%s",
+			m.Name, MaterialList("    "))
 	}
 	if m.Name == "" {
 		for _, p := range []struct {

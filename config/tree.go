@@ -2,8 +2,10 @@ package config
 
 import (
 	"bytes"
+	"cmp"
 	"fmt"
 	"os"
+	"slices"
 	"strings"
 
 	"go.yaml.in/yaml/v3"
@@ -77,7 +79,8 @@ var envKeys = map[string]string{"listen": EnvListen, "data_dir": EnvDataDir, "ht
 
 // locate sets the line of each problem that has none from its key path: the line of
 // the key itself or, for a key the file leaves out, of the nearest enclosing key or
-// list item that is in the file. A nil tree locates nothing.
+// list item that is in the file; and it sorts the problems by line. A nil tree
+// locates nothing.
 func (t *tree) locate(ps []*Problem) []*Problem {
 	for _, p := range ps {
 		path := p.Key
@@ -93,6 +96,9 @@ func (t *tree) locate(ps []*Problem) []*Problem {
 		}
 		p.Line = t.line(path)
 	}
+	// In the order of the file, as a reader goes through it; problems without a line
+	// (a section the file leaves out) first.
+	slices.SortStableFunc(ps, func(a, b *Problem) int { return cmp.Compare(a.Line, b.Line) })
 	return ps
 }
 
