@@ -36,8 +36,10 @@ func TestConfigCheck(t *testing.T) {
 		{"good/minimal.yaml", "good/minimal.yaml: ok (1 logger, 1 channel, 0 targets)\n", "", ""},
 		{"bad/unknown-deep.yaml", "",
 			`bad/unknown-deep.yaml: line 7: unknown key "loggers[0].line.columns[1].chanel" (known keys here: channel, index)` + "\n" +
-				`bad/unknown-deep.yaml: line 12: unknown key "channels[0].targets[1].celcius" (known keys here: celsius, handling, hold, name, within)` + "\n",
-			"bad/unknown-deep.yaml: 2 problems"},
+				`bad/unknown-deep.yaml: line 7: loggers[0].line.columns[1].channel: must not be empty` + "\n" +
+				`bad/unknown-deep.yaml: line 12: unknown key "channels[0].targets[1].celcius" (known keys here: celsius, handling, hold, name, within)` + "\n" +
+				`bad/unknown-deep.yaml: line 12: channels[0].targets[1]: give celsius (a fixed temperature) or within (a band around the settling temperature)` + "\n",
+			"bad/unknown-deep.yaml: 4 problems"},
 		{"bad/zero-index.yaml", "",
 			"bad/zero-index.yaml: line 7: loggers[0].line.columns[1].index: must be ≥ 1 (fields count from 1), got 0\n",
 			"bad/zero-index.yaml: 1 problem"},
