@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"cmp"
 	"fmt"
+	"math"
 	"os"
 	"slices"
 	"strings"
@@ -97,8 +98,8 @@ func (t *tree) locate(ps []*Problem) []*Problem {
 		p.Line = t.line(path)
 	}
 	// In the order of the file, as a reader goes through it; problems without a line
-	// (a section the file leaves out) first.
-	slices.SortStableFunc(ps, func(a, b *Problem) int { return cmp.Compare(a.Line, b.Line) })
+	// (a section the file leaves out) last.
+	slices.SortStableFunc(ps, func(a, b *Problem) int { return cmp.Compare(sortLine(a), sortLine(b)) })
 	return ps
 }
 
@@ -138,7 +139,7 @@ func syntaxProblems(data []byte, err error) []*Problem {
 	}
 	if line, ok := firstBadLine(data); ok {
 		ps[0].Line, ps[0].near = line, false
-		if strings.Contains(ps[0].Msg, "expected key") || strings.Contains(ps[0].Msg, "'-' indicator") {
+		if m := ps[0].Msg; strings.Contains(m, "expected key") || strings.Contains(m, "'-' indicator") || strings.Contains(m, "mapping values are not allowed") {
 			ps[0].Msg += " (is this line indented like the keys it belongs with?)"
 		}
 	}
@@ -179,4 +180,11 @@ func lineEnds(data []byte) []int {
 		ends = ends[:len(ends)-1] // the last line ends the file: it is line len(ends)
 	}
 	return ends
+}
+
+func sortLine(p *Problem) int {
+	if p.Line == 0 {
+		return math.MaxInt
+	}
+	return p.Line
 }
