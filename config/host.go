@@ -90,7 +90,7 @@ func checkPort(k *checker, key, port string) {
 	case err != nil:
 		k.warn(key, "cannot look at %s: %v", port, unwrapPath(err))
 	case fi.Mode()&os.ModeCharDevice == 0:
-		k.warn(key, "%s is not a serial device (%s)", port, fi.Mode().Type())
+		k.warn(key, "%s is %s, not a serial device", port, fileKind(fi.Mode()))
 	default:
 		if err := canReadWrite(port); err != nil {
 			k.warn(key, "%s cannot be opened for reading and writing by this user (%v); on Linux, add the user to the group that owns it (often dialout)", port, err)
@@ -131,4 +131,14 @@ func unwrapOp(err error) error {
 		return oe.Err
 	}
 	return err
+}
+
+func fileKind(m os.FileMode) string {
+	switch {
+	case m.IsRegular():
+		return "a plain file"
+	case m.IsDir():
+		return "a directory"
+	}
+	return "a special file"
 }
