@@ -139,6 +139,9 @@ func decodeProblemsIn(root reflect.Type, err error) []*Problem {
 			out = append(out, unknownKeys(root, de.Name(), strings.Split(keys, ", "))...)
 			continue
 		}
+		if name := de.Name(); strings.HasSuffix(name, "material") && strings.HasPrefix(msg, `want a mapping of keys, got "`) {
+			msg += fmt.Sprintf("; write a material's name as material: {name: %s}", strings.TrimSuffix(strings.TrimPrefix(msg, `want a mapping of keys, got "`), `"`))
+		}
 		out = append(out, &Problem{Key: de.Name(), Msg: msg})
 	}
 	return out
@@ -233,8 +236,9 @@ var yamlLine = regexp.MustCompile(`line (\d+): (.*)`)
 //
 // For a syntax error go.yaml.in/yaml/v3 (v3.0.4, decode.go, parser.fail) reports the
 // line where the enclosing block starts, not the line of the mistake, which is often
-// a few lines further down; such a line is marked "near". The lines of "unmarshal
-// errors" (such as a key given twice) are exact.
+// a few lines further down; such a line is marked "near" here, and syntaxProblems
+// replaces it with the mistake's line where it can. The lines of "unmarshal errors"
+// (such as a key given twice) are exact.
 func yamlProblems(err error) []*Problem {
 	approx := !strings.HasPrefix(err.Error(), "yaml: unmarshal errors:")
 	var out []*Problem

@@ -136,7 +136,7 @@ func (s *Specimen) resolve() error {
 	}
 	ref, ok := material.Lookup(m.Name)
 	if !ok {
-		return fmt.Errorf("material.name: unknown material %q (known: %v)", m.Name, material.Names())
+		return fmt.Errorf("material.name: no built-in material %q; give one of these names, or density_kg_m3, specific_heat_j_kgk and conductivity_w_mk:\n%s", m.Name, config.MaterialList("    "))
 	}
 	fill := func(dst *float64, v float64) {
 		if *dst == 0 {
