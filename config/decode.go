@@ -121,6 +121,12 @@ func describe(data any) string {
 // "'loggers[0]' has invalid keys: baudrate, speed" (go-viper/mapstructure v2.4.0,
 // decodeStructFromMap), which becomes one problem per key.
 func decodeProblems(err error) []*Problem {
+	return decodeProblemsIn(reflect.TypeFor[Config](), err)
+}
+
+// decodeProblemsIn is decodeProblems for a decode into root (Config or Specimen), whose
+// mapstructure tags name the known keys.
+func decodeProblemsIn(root reflect.Type, err error) []*Problem {
 	var out []*Problem
 	for _, leaf := range leaves(err) {
 		var de *mapstructure.DecodeError
@@ -130,8 +136,11 @@ func decodeProblems(err error) []*Problem {
 		}
 		msg := de.Unwrap().Error()
 		if keys, ok := strings.CutPrefix(msg, "has invalid keys: "); ok {
-			out = append(out, unknownKeys(de.Name(), strings.Split(keys, ", "))...)
+			out = append(out, unknownKeys(root, de.Name(), strings.Split(keys, ", "))...)
 			continue
+		}
+		if name := de.Name(); strings.HasSuffix(name, "material") && strings.HasPrefix(msg, `want a mapping of keys, got "`) {
+			msg += fmt.Sprintf("; write a material's name as material: {name: %s}", strings.TrimSuffix(strings.TrimPrefix(msg, `want a mapping of keys, got "`), `"`))
 		}
 		out = append(out, &Problem{Key: de.Name(), Msg: msg})
 	}
@@ -159,8 +168,8 @@ func leaves(err error) []error {
 	return []error{err}
 }
 
-func unknownKeys(parent string, keys []string) []*Problem {
-	known := strings.Join(knownKeys(parent), ", ")
+func unknownKeys(root reflect.Type, parent string, keys []string) []*Problem {
+	known := strings.Join(knownKeys(root, parent), ", ")
 	out := make([]*Problem, len(keys))
 	for i, k := range keys {
 		path := k
@@ -171,17 +180,17 @@ func unknownKeys(parent string, keys []string) []*Problem {
 		if strings.Contains(k, ".") {
 			msg += "; write a dotted key as nested keys"
 		}
-		out[i] = &Problem{Msg: msg}
+		out[i] = &Problem{Msg: msg, at: path}
 	}
 	return out
 }
 
 var indexPart = regexp.MustCompile(`\[\d+\]`)
 
-// knownKeys lists the keys allowed at a key path such as "loggers[0].line", read
-// from the mapstructure tags of the schema.
-func knownKeys(path string) []string {
-	t := reflect.TypeFor[Config]()
+// knownKeys lists the keys allowed at a key path such as "loggers[0].line" under
+// root, read from the mapstructure tags of the schema.
+func knownKeys(root reflect.Type, path string) []string {
+	t := root
 	if path != "" {
 		for _, part := range strings.Split(indexPart.ReplaceAllString(path, ""), ".") {
 			f, ok := fieldByTag(t, part)
@@ -199,7 +208,9 @@ func knownKeys(path string) []string {
 	}
 	var keys []string
 	for i := range t.NumField() {
-		keys = append(keys, t.Field(i).Tag.Get("mapstructure"))
+		if tag := t.Field(i).Tag.Get("mapstructure"); tag != "-" {
+			keys = append(keys, tag)
+		}
 	}
 	sort.Strings(keys)
 	return keys
@@ -225,8 +236,9 @@ var yamlLine = regexp.MustCompile(`line (\d+): (.*)`)
 //
 // For a syntax error go.yaml.in/yaml/v3 (v3.0.4, decode.go, parser.fail) reports the
 // line where the enclosing block starts, not the line of the mistake, which is often
-// a few lines further down; such a line is marked "near". The lines of "unmarshal
-// errors" (such as a key given twice) are exact.
+// a few lines further down; such a line is marked "near" here, and syntaxProblems
+// replaces it with the mistake's line where it can. The lines of "unmarshal errors"
+// (such as a key given twice) are exact.
 func yamlProblems(err error) []*Problem {
 	approx := !strings.HasPrefix(err.Error(), "yaml: unmarshal errors:")
 	var out []*Problem

@@ -2,6 +2,7 @@ package config
 
 import (
 	"cmp"
+	"errors"
 	"fmt"
 	"math"
 	"regexp"
@@ -45,27 +46,40 @@ var namedLayouts = map[string]string{
 
 // ClockLayout returns the Go time layout for a clock_format. It returns "" and true
 // for the number formats ("", "seconds", "unix"), the layout and true for a named
-// format or a Go layout with at least a date or time element, and false otherwise.
+// format, a strftime-style format (with '%') or a Go layout with at least a date or
+// time element, and false otherwise. ClockFormatLayout says why a format is refused.
 func ClockLayout(format string) (string, bool) {
+	layout, err := ClockFormatLayout(format)
+	return layout, err == nil
+}
+
+// ClockFormatLayout is ClockLayout with the reason a format is refused: for a
+// strftime-style format, the token or text that cannot be converted.
+func ClockFormatLayout(format string) (string, error) {
 	switch lower := strings.ToLower(format); lower {
 	case "", "seconds", "unix":
-		return "", true
+		return "", nil
 	default:
 		if l, ok := namedLayouts[lower]; ok {
-			return l, true
+			return l, nil
 		}
+	}
+	if strings.Contains(format, "%") {
+		return StrftimeLayout(format)
 	}
 	// A layout must change when a time is formatted with it, and read back.
 	ref := time.Date(2009, 11, 10, 23, 0, 1, 0, time.UTC)
 	s := ref.Format(format)
 	if s == format {
-		return "", false
+		return "", errNotClockFormat
 	}
 	if _, err := time.Parse(format, s); err != nil {
-		return "", false
+		return "", errNotClockFormat
 	}
-	return format, true
+	return format, nil
 }
+
+var errNotClockFormat = errors.New(`want seconds, unix, rfc3339, a strftime-style format such as "%Y-%m-%d %H:%M:%S" or a Go time layout such as "2006-01-02 15:04:05"`)
 
 // lineFields describes the fields a line format yields.
 type lineFields struct {

@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"slices"
+	"strings"
 	"sync/atomic"
 	"time"
 
@@ -70,19 +72,48 @@ func Load(path string) (*Config, error) {
 
 // Parse is Load for a configuration already in memory; name stands for the file name
 // in messages. Environment overrides apply here too.
+//
+// A syntax error, or keys of one mapping that differ only in case (which viper would
+// merge silently), stop the reading before decoding; every other problem is found
+// and returned at once, each with the line of its key where the file has it.
 func Parse(name string, yaml []byte) (*Config, error) {
-	v, problems := readYAML(yaml)
+	t, problems := readTree(yaml)
 	if problems != nil {
 		return nil, inFile(name, problems)
 	}
-	var c Config
-	if err := v.UnmarshalExact(&c, decoderOptions); err != nil {
-		return nil, inFile(name, decodeProblems(err))
+	v, problems := readYAML(yaml)
+	if problems != nil {
+		return nil, inFile(name, t.locate(problems))
 	}
-	if problems := c.validate(); len(problems) > 0 {
-		return nil, inFile(name, problems)
+	var c Config
+	var decoded []*Problem
+	if err := v.UnmarshalExact(&c, decoderOptions); err != nil {
+		decoded = decodeProblems(err)
+	}
+	if problems := afterDecode(decoded, c.validate()); len(problems) > 0 {
+		return nil, inFile(name, t.locate(problems))
 	}
 	return &c, nil
+}
+
+// afterDecode returns the decoding problems followed by the validation problems of
+// what was decoded (mapstructure decodes every value it can), leaving out a
+// validation problem at or under a key that could not be decoded: "baud: want a
+// whole number, got "fast"" is not followed by "baud: must be positive, got 0".
+func afterDecode(decoded, validated []*Problem) []*Problem {
+	out := decoded
+	for _, p := range validated {
+		if !slices.ContainsFunc(decoded, func(d *Problem) bool { return d.Key != "" && under(p.Key, d.Key) }) {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
+// under reports whether key is parent or a key path inside it.
+func under(key, parent string) bool {
+	rest, ok := strings.CutPrefix(key, parent)
+	return ok && (rest == "" || rest[0] == '.' || rest[0] == '[')
 }
 
 // Reload loads the file at path and, only when it is valid, stores it in current.

@@ -162,10 +162,11 @@ func TestEnvOverrides(t *testing.T) {
 			t.Errorf("%s: listen, data_dir = %q, %q; want the environment's 0.0.0.0:9999, /srv/settle", file, c.Listen, c.DataDir)
 		}
 	}
-	// An override is validated like the file.
+	// An override is validated like the file, and the problem names the variable,
+	// not a line of the file (full.yaml has listen on line 2).
 	t.Setenv(EnvListen, "nonsense")
-	_, err := Load(filepath.Join(testdataDir, "good", "minimal.yaml"))
-	want := `../testdata/config/good/minimal.yaml: listen: want host:port such as "127.0.0.1:8391" or ":8391", got "nonsense"`
+	_, err := Load(filepath.Join(testdataDir, "good", "full.yaml"))
+	want := `../testdata/config/good/full.yaml: listen: want host:port such as "127.0.0.1:8391" or ":8391", got "nonsense" (from SETTLE_LISTEN)`
 	if err == nil || err.Error() != want {
 		t.Errorf("bad SETTLE_LISTEN: err = %v, want %s", err, want)
 	}

@@ -12,8 +12,9 @@ import (
 type Problem struct {
 	// File is the file name as given to Load or Parse; empty from Validate alone.
 	File string
-	// Line is the 1-based line in File, when known (YAML errors); else 0. For a
-	// syntax error it is where the parser noticed, at or above the mistake.
+	// Line is the 1-based line in File, when known: the line of the key (or, for a
+	// key the file leaves out, of the enclosing key or list item), or of a YAML
+	// mistake; else 0.
 	Line int
 	// Key is the key path, such as "loggers[0].line.columns[2].index"; empty when the
 	// problem concerns the whole file or the message names the key itself.
@@ -21,11 +22,17 @@ type Problem struct {
 	// Msg says what is wrong and, where it helps, what is wanted.
 	Msg string
 
-	near bool // Line is where the YAML parser noticed, not where the mistake is
+	// Warning marks a problem that does not stop settle from starting, such as a
+	// serial port that is not plugged in yet; Error shows "warning: ".
+	Warning bool
+
+	near bool   // Line is where the YAML parser noticed, not where the mistake is
+	at   string // the key path named in Msg, for its line (unknown keys)
 }
 
 // Error formats the problem as "FILE: line N: KEY: MSG", leaving out the parts that
-// are empty; "near line N" for a YAML syntax error, whose line is approximate.
+// are empty, with "warning: " before KEY for a warning; "near line N" where the line
+// of a YAML syntax error could not be found exactly.
 func (p *Problem) Error() string {
 	var b strings.Builder
 	if p.File != "" {
@@ -36,6 +43,9 @@ func (p *Problem) Error() string {
 	}
 	if p.Line > 0 {
 		fmt.Fprintf(&b, "line %d: ", p.Line)
+	}
+	if p.Warning {
+		b.WriteString("warning: ")
 	}
 	if p.Key != "" {
 		b.WriteString(p.Key + ": ")

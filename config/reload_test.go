@@ -53,7 +53,7 @@ func TestReload(t *testing.T) {
 
 	copyFile(t, filepath.Join(testdataDir, "bad", "zero-index.yaml"), path)
 	err = Reload(path, &current)
-	if err == nil || !strings.HasPrefix(err.Error(), path+": loggers[0].line.columns[1].index:") {
+	if err == nil || !strings.HasPrefix(err.Error(), path+": line 7: loggers[0].line.columns[1].index:") {
 		t.Errorf("Reload(bad) = %v, want the zero-index problem naming %s", err, path)
 	}
 	if current.Load() != first {

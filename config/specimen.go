@@ -57,11 +57,21 @@ type SpecimenMaterial struct {
 // table: the shape and sensor names, positive sizes with the dimensions each shape
 // needs, and, without a material name, all three properties.
 func SpecimenProblems(key string, s *Specimen) []*Problem {
+	return specimenProblems(key+".specimen", s)
+}
+
+// specimenProblems checks a specimen whose keys sit under key ("" for a specimen
+// file, whose keys are at the top).
+func specimenProblems(key string, s *Specimen) []*Problem {
 	if s == nil {
 		return nil
 	}
 	k := &checker{}
-	key += ".specimen"
+	defer func() {
+		for _, p := range k.problems {
+			p.Key = strings.TrimPrefix(p.Key, ".") // the top of a specimen file
+		}
+	}()
 	switch s.Shape {
 	case "slab", "cylinder", "sphere", "short-cylinder", "block":
 	default:
@@ -83,8 +93,8 @@ func SpecimenProblems(key string, s *Specimen) []*Problem {
 	}
 	m := s.Material
 	if _, ok := material.Lookup(m.Name); m.Name != "" && !ok {
-		k.add(key+".material.name", "no built-in material %q; known: %s (or give density_kg_m3, specific_heat_j_kgk, conductivity_w_mk)",
-			m.Name, strings.Join(material.Names(), ", "))
+		k.add(key+".material.name", "no built-in material %q; give one of these names, or density_kg_m3, specific_heat_j_kgk and conductivity_w_mk:\n%s",
+			m.Name, MaterialList("    "))
 	}
 	if m.Name == "" {
 		for _, p := range []struct {
@@ -101,8 +111,12 @@ func SpecimenProblems(key string, s *Specimen) []*Problem {
 	}
 	switch m.Finish {
 	case "", "bright", "oxidised", "oxidized":
-		if m.Finish != "" && m.Name == "" {
+		ref, named := material.Lookup(m.Name)
+		switch {
+		case m.Finish != "" && m.Name == "":
 			k.add(key+".material.finish", "a finish needs a built-in material.name (or give the emissivity)")
+		case m.Finish != "" && named && !hasFinish(ref, m.Finish):
+			k.add(key+".material.finish", "%s has no %s finish (a metal is bright or oxidised; a non-metal only oxidised, its surface as found)", ref.Name, m.Finish)
 		}
 	default:
 		k.add(key+".material.finish", "want bright or oxidised, got %q", m.Finish)
@@ -141,4 +155,9 @@ func checkDim(k *checker, key string, v float64, need bool, why string) {
 // Config.Validate reports the same problems through SpecimenProblems.
 func (s *Specimen) Check(key string) error {
 	return joinProblems(SpecimenProblems(key, s))
+}
+
+func hasFinish(m material.Material, finish string) bool {
+	_, ok := m.Finish(finish)
+	return ok
 }

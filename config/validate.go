@@ -3,6 +3,8 @@ package config
 import (
 	"fmt"
 	"net"
+	"regexp"
+	"strconv"
 	"strings"
 )
 
@@ -35,9 +37,7 @@ func (k *checker) add(key, format string, args ...any) {
 
 func (c *Config) validate() []*Problem {
 	k := &checker{}
-	if _, _, err := net.SplitHostPort(c.Listen); err != nil {
-		k.add("listen", "want host:port such as %q or %q, got %q", DefaultListen, ":8391", c.Listen)
-	}
+	checkListen(k, c.Listen)
 	if strings.TrimSpace(c.DataDir) == "" {
 		k.add("data_dir", "must not be empty")
 	}
@@ -211,8 +211,8 @@ func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, r
 	if lf.ClockColumn < 0 {
 		k.add(key+".clock_column", "must be ≥ 0 (0: use the host's receive time), got %d", lf.ClockColumn)
 	}
-	if _, ok := ClockLayout(lf.ClockFormat); !ok {
-		k.add(key+".clock_format", "want seconds, unix, rfc3339 or a Go time layout such as %q, got %q", "2006-01-02 15:04:05", lf.ClockFormat)
+	if _, err := ClockFormatLayout(lf.ClockFormat); err != nil {
+		k.add(key+".clock_format", "%q: %v", lf.ClockFormat, err)
 	}
 	if len(lf.Columns) == 0 && len(fields.named) == 0 {
 		k.add(key+".columns", "at least one column is needed")
@@ -258,3 +258,23 @@ func checkColumnChannel(k *checker, key, name string, channels map[string]int, r
 	}
 	readBy[name] = key
 }
+
+// checkListen checks that listen is host:port with a port number 0–65535 (0: any free
+// port) and a host that is empty (every address), an IP address or a host name.
+func checkListen(k *checker, listen string) {
+	host, port, err := net.SplitHostPort(listen)
+	if err != nil {
+		k.add("listen", "want host:port such as %q or %q, got %q", DefaultListen, ":8391", listen)
+		return
+	}
+	if n, err := strconv.Atoi(port); err != nil || n < 0 || n > 65535 {
+		k.add("listen", "port %q of %q: want a number 0–65535, such as 8391", port, listen)
+	}
+	if ip := net.ParseIP(host); host != "" && ip == nil && (!hostName.MatchString(host) || strings.Trim(host, "0123456789.") == "") {
+		k.add("listen", "host %q of %q: want an IP address (127.0.0.1, ::1), a host name or nothing (every address)", host, listen)
+	}
+}
+
+// hostName matches a DNS host name (RFC 1123 labels); one of only digits and dots is
+// refused separately, as a mistyped IPv4 address.
+var hostName = regexp.MustCompile(`^(?:[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}[A-Za-z0-9])?\.)*[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}[A-Za-z0-9])?$`)

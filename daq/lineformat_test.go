@@ -78,6 +78,12 @@ func TestLineClockFormats(t *testing.T) {
 		{"unix", "1741964400.5", time.Unix(1741964400, 5e8)},
 		{"rfc3339", "2025-03-14T16:00:00+01:00", time.Date(2025, 3, 14, 16, 0, 0, 0, berlin)},
 		{"2006-01-02T15:04:05.000Z07:00", "2025-03-14T15:00:00.250Z", t0.Add(250 * time.Millisecond)},
+		// strftime-style formats, as in the README's worked examples; the expected
+		// times agree with Python's datetime.strptime (testdata/config/clock).
+		{"%Y-%m-%dT%H:%M:%S%z", "2025-03-14T16:00:00+0100", time.Date(2025, 3, 14, 16, 0, 0, 0, berlin)},
+		{"%d/%m/%Y %H:%M:%S", "14/03/2025 16:00:09", time.Date(2025, 3, 14, 16, 0, 9, 0, time.Local)},
+		{"%m/%d/%Y %I:%M:%S %p", "03/14/2025 04:00:09 PM", time.Date(2025, 3, 14, 16, 0, 9, 0, time.Local)},
+		{"%Y-%m-%d %H:%M:%S.%f", "2025-03-14 16:00:09.25", time.Date(2025, 3, 14, 16, 0, 9, 25e7, time.Local)},
 	}
 	for _, tt := range tests {
 		p := mustParserFor(t, config.Logger{Name: "clk", Line: config.LineFormat{

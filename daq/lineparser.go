@@ -57,9 +57,10 @@ type LineParser struct {
 	comma    bool           // decimal comma
 	clock    int            // 1-based clock field, 0 for none
 	clockFmt int            // clockSeconds, clockUnix or clockLayout
-	layout   string
-	maxField int   // highest 1-based field that must be present
-	slot     []int // slot[i] is the column position of 1-based field i+1, or -1
+	layout   string         // Go layout of the clock field
+	format   string         // clock_format as configured, for messages
+	maxField int            // highest 1-based field that must be present
+	slot     []int          // slot[i] is the column position of 1-based field i+1, or -1
 	channels []string
 	conv     *conversion
 
@@ -150,12 +151,12 @@ func (p *LineParser) setSplit(f *config.LineFormat) error {
 
 // setClock reads the clock format.
 func (p *LineParser) setClock(format string) error {
-	layout, ok := config.ClockLayout(format)
+	layout, err := config.ClockFormatLayout(format)
 	switch {
-	case !ok:
-		return fmt.Errorf("line.clock_format %q: want seconds, unix, rfc3339 or a Go time layout", format)
+	case err != nil:
+		return fmt.Errorf("line.clock_format %q: %w", format, err)
 	case layout != "":
-		p.clockFmt, p.layout = clockLayout, layout
+		p.clockFmt, p.layout, p.format = clockLayout, layout, format
 	case strings.EqualFold(format, "unix"):
 		p.clockFmt = clockUnix
 	}
@@ -324,7 +325,7 @@ func (p *LineParser) timeOf(clockField []byte, received time.Time) (time.Time, e
 	case p.clockFmt == clockLayout:
 		t, err := time.ParseInLocation(p.layout, string(clockField), time.Local)
 		if err != nil {
-			return time.Time{}, fmt.Errorf("logger %q: %w: field %d is %q, want layout %q", p.logger, ErrBadClock, p.clock, clockField, p.layout)
+			return time.Time{}, fmt.Errorf("logger %q: %w: field %d is %q, want clock_format %q", p.logger, ErrBadClock, p.clock, clockField, p.format)
 		}
 		return t, nil
 	}

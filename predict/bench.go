@@ -177,11 +177,7 @@ func specimenFromConfig(key string, c *config.Specimen) (Specimen, error) {
 	if err := c.Check(key); err != nil {
 		return Specimen{}, err
 	}
-	m := c.Material
-	s := Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, WidthM: c.WidthM, Sensor: c.Sensor,
-		Material: SpecimenMaterial{Name: m.Name, Density: m.Density, SpecificHeat: m.SpecificHeat,
-			Conductivity: m.Conductivity, Emissivity: m.Emissivity, Finish: m.Finish},
-		Air: c.Convection, ChamberC: c.ChamberC}
+	s := fromConfig(c)
 	if err := s.resolve(); err != nil {
 		return Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
 	}

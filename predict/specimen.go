@@ -1,14 +1,11 @@
 package predict
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"math"
-	"os"
 
-	"go.yaml.in/yaml/v3"
-
+	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/predict/conduction"
 	"github.com/settle-lab/settle/predict/material"
 	"github.com/settle-lab/settle/predict/surface"
@@ -83,32 +80,49 @@ type SpecimenMaterial struct {
 	Finish string `yaml:"finish"`
 }
 
-// LoadSpecimen reads and checks a specimen YAML file; errors name the file and key.
+// LoadSpecimen reads and checks a specimen YAML file. It reports every problem at
+// once, each naming the file, the line and the key, in the words of `settle config
+// check` (config.LoadSpecimen).
 func LoadSpecimen(path string) (Specimen, error) {
-	b, err := os.ReadFile(path)
+	c, err := config.LoadSpecimen(path)
 	if err != nil {
-		return Specimen{}, fmt.Errorf("predict: specimen: %w", err)
+		return Specimen{}, err
 	}
-	s, err := ParseSpecimen(b)
-	if err != nil {
-		return Specimen{}, fmt.Errorf("predict: specimen %s: %w", path, err)
-	}
-	return s, nil
+	return specimenFrom(c, path)
 }
 
 // ParseSpecimen decodes a specimen from YAML, rejecting unknown keys, resolves a
-// named material and checks the values; errors name the key.
+// named material and checks the values; every problem is reported, with its line and
+// key (config.ParseSpecimen).
 func ParseSpecimen(b []byte) (Specimen, error) {
-	var s Specimen
-	dec := yaml.NewDecoder(bytes.NewReader(b))
-	dec.KnownFields(true)
-	if err := dec.Decode(&s); err != nil {
-		return Specimen{}, fmt.Errorf("decode: %w", err)
-	}
-	if err := s.resolve(); err != nil {
+	c, err := config.ParseSpecimen("", b)
+	if err != nil {
 		return Specimen{}, err
 	}
-	return s, s.Validate()
+	return specimenFrom(c, "")
+}
+
+// specimenFrom converts a checked specimen file and resolves its material; name is
+// the file, for messages.
+func specimenFrom(c *config.Specimen, name string) (Specimen, error) {
+	s := fromConfig(c)
+	err := s.resolve()
+	if err == nil {
+		err = s.Validate()
+	}
+	if err != nil && name != "" {
+		return Specimen{}, fmt.Errorf("%s: %w", name, err)
+	}
+	return s, err
+}
+
+// fromConfig converts a configured specimen without checking it.
+func fromConfig(c *config.Specimen) Specimen {
+	m := c.Material
+	return Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, WidthM: c.WidthM, Sensor: c.Sensor,
+		Material: SpecimenMaterial{Name: m.Name, Density: m.Density, SpecificHeat: m.SpecificHeat,
+			Conductivity: m.Conductivity, Emissivity: m.Emissivity, Finish: m.Finish},
+		Air: c.Convection, ChamberC: c.ChamberC}
 }
 
 // resolve fills the properties not given from the named built-in material.
@@ -122,7 +136,7 @@ func (s *Specimen) resolve() error {
 	}
 	ref, ok := material.Lookup(m.Name)
 	if !ok {
-		return fmt.Errorf("material.name: unknown material %q (known: %v)", m.Name, material.Names())
+		return fmt.Errorf("material.name: no built-in material %q; give one of these names, or density_kg_m3, specific_heat_j_kgk and conductivity_w_mk:\n%s", m.Name, config.MaterialList("    "))
 	}
 	fill := func(dst *float64, v float64) {
 		if *dst == 0 {

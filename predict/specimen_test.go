@@ -46,7 +46,7 @@ func TestParseSpecimenErrors(t *testing.T) {
 		"shape: slab\nsize_m: 0.1\nsensor: center\ncolour: red\nmaterial: {name: copper}":                "colour",
 		"shape: slab\nsize_m: 0.1\nlength_m: -2\nsensor: center\nmaterial: {name: copper}":               "length_m:",
 		"shape: sphere\nsize_m: 0.1\nsensor: surface\nmaterial: {name: copper, conductivity_w_mk: .inf}": "conductivity_w_mk",
-		"shape: [slab]": "decode",
+		"shape: [slab]": "line 1: shape: want a string, got a list",
 	}
 	for in, want := range cases {
 		if _, err := ParseSpecimen([]byte(in)); err == nil || !strings.Contains(err.Error(), want) {

@@ -18,14 +18,16 @@ func newConfigCmd() *cobra.Command {
 		Long: `Work with settle's YAML configuration file.
 
   settle config example > settle.yaml   write a commented example to start from
-  settle config check settle.yaml       report every problem, with its key path
+  settle config check settle.yaml       report every problem, with its line and key path
+  settle config materials               list the built-in specimen materials
 
-Keys are case-insensitive and unknown keys are errors. SETTLE_LISTEN and
-SETTLE_DATA_DIR override listen and data_dir; no other key has an environment override.`,
+Keys are case-insensitive: two keys of one section that differ only in case are an
+error. Unknown keys are errors. SETTLE_LISTEN and SETTLE_DATA_DIR override listen and
+data_dir (and SETTLE_TOKEN http.token); no other key has an environment override.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error { return cmd.Help() },
 	}
-	cmd.AddCommand(newConfigCheckCmd(), newConfigExampleCmd())
+	cmd.AddCommand(newConfigCheckCmd(), newConfigExampleCmd(), newConfigMaterialsCmd())
 	return cmd
 }
 
@@ -34,10 +36,15 @@ func newConfigCheckCmd() *cobra.Command {
 		Use:   "check FILE",
 		Short: "Validate a configuration file and report every problem",
 		Long: `Check reads FILE as the daemon would (defaults, SETTLE_LISTEN and SETTLE_DATA_DIR
-overrides, unknown keys rejected, validation) without opening any serial port.
+overrides, unknown keys rejected, validation), then looks at this computer without
+opening any serial port: TLS files that cannot be read are errors; a serial port that
+does not exist (yet) or cannot be opened by this user, and a listen port already in use,
+are warnings, since the logger may be plugged in later.
 
-On success it prints "FILE: ok (N loggers, M channels, K targets)" and exits 0. Otherwise
-it prints every problem, one per line as "FILE: KEY: what is wrong", and exits 1.`,
+Every problem is printed on its own line as "FILE: line N: KEY: what is wrong" (a
+warning as "FILE: line N: warning: KEY: …"). With no errors it prints
+"FILE: ok (N loggers, M channels, K targets)", with the number of warnings, and exits
+0; otherwise it exits 1.`,
 		Example: "  settle config check /etc/settle/settle.yaml",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -61,24 +68,50 @@ specimens and the room air) that passes "settle config check". Edit it to match 
 	}
 }
 
-// checkConfig loads path and reports the result: a summary line on out, or every
-// problem on errOut and an error that makes the exit code non-zero.
+// checkConfig checks path and reports the result: every problem and warning on
+// errOut, then a summary line on out, or an error that makes the exit code non-zero.
 func checkConfig(out, errOut io.Writer, path string) error {
-	c, err := config.Load(path)
-	if err != nil {
-		problems := config.Problems(err)
+	c, problems := config.Check(path)
+	for _, p := range problems {
+		fmt.Fprintln(errOut, p.Error())
+	}
+	if c == nil {
+		errs := 0
 		for _, p := range problems {
-			fmt.Fprintln(errOut, p.Error())
+			if !p.Warning {
+				errs++
+			}
 		}
-		return fmt.Errorf("%s: %s", path, plural(len(problems), "problem"))
+		return fmt.Errorf("%s: %s", path, plural(errs, "problem"))
 	}
 	targets := 0
 	for _, ch := range c.Channels {
 		targets += len(ch.Targets)
 	}
-	_, err = fmt.Fprintf(out, "%s: ok (%s, %s, %s)\n", path,
-		plural(len(c.Loggers), "logger"), plural(len(c.Channels), "channel"), plural(targets, "target"))
+	warned := ""
+	if len(problems) > 0 {
+		warned = ", " + plural(len(problems), "warning")
+	}
+	_, err := fmt.Fprintf(out, "%s: ok (%s, %s, %s)%s\n", path,
+		plural(len(c.Loggers), "logger"), plural(len(c.Channels), "channel"), plural(targets, "target"), warned)
 	return err
+}
+
+func newConfigMaterialsCmd() *cobra.Command {
+	return &cobra.Command{
+		Use:   "materials",
+		Short: "List the built-in specimen materials and their properties",
+		Long: `Materials lists the materials a specimen's material.name can name, one per line, with
+the properties a name stands for (room temperature; each row's source is in
+predict/material). Give the properties yourself for any other material, or to
+override a named one: density_kg_m3, specific_heat_j_kgk, conductivity_w_mk, emissivity.`,
+		Example: "  settle config materials",
+		Args:    cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			_, err := fmt.Fprintln(cmd.OutOrStdout(), config.MaterialList(""))
+			return err
+		},
+	}
 }
 
 func plural(n int, noun string) string {

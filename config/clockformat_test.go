@@ -1,0 +1,167 @@
+package config
+
+import (
+	"bufio"
+	"os"
+	"strings"
+	"testing"
+	"time"
+)
+
+// TestStrftimeAgainstPython reads each timestamp of testdata/config/clock/strptime.tsv
+// with the layout StrftimeLayout makes and compares with the result of Python's
+// datetime.strptime written beside it (the reference; regenerate with
+// python3 testdata/config/clock/strptime.py). Both succeed with the same time, or both
+// refuse the value.
+func TestStrftimeAgainstPython(t *testing.T) {
+	f, err := os.Open("../testdata/config/clock/strptime.tsv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	rows := 0
+	sc := bufio.NewScanner(f)
+	for sc.Scan() {
+		if strings.HasPrefix(sc.Text(), "#") {
+			continue
+		}
+		cols := strings.Split(sc.Text(), "\t")
+		if len(cols) != 3 {
+			t.Fatalf("bad row %q", sc.Text())
+		}
+		format, value, python := cols[0], cols[1], cols[2]
+		rows++
+		layout, err := StrftimeLayout(format)
+		if err != nil {
+			t.Errorf("StrftimeLayout(%q): %v", format, err)
+			continue
+		}
+		got := "error"
+		if tm, err := time.Parse(layout, value); err == nil {
+			got = tm.Format("2006-01-02T15:04:05.000000")
+			if strings.Contains(format, "%z") {
+				got += tm.Format("-0700")
+			}
+		}
+		if got != python {
+			t.Errorf("%q with %q (layout %q): Go %s, Python %s", value, format, layout, got, python)
+		}
+	}
+	if err := sc.Err(); err != nil || rows < 30 {
+		t.Fatalf("read %d rows (%v), want at least 30", rows, err)
+	}
+}
+
+// The layouts of the common logger timestamps (the README's worked examples), against
+// Go's own layout elements.
+func TestStrftimeLayouts(t *testing.T) {
+	for _, c := range []struct{ format, layout string }{
+		{"%Y-%m-%dT%H:%M:%S", "2006-1-2T15:4:5"},
+		{"%Y-%m-%d %H:%M:%S", "2006-1-2 15:4:5"},
+		{"%d/%m/%Y %H:%M:%S", "2/1/2006 15:4:5"},
+		{"%m/%d/%Y %I:%M:%S %p", "1/2/2006 3:4:5 PM"},
+		{"%Y-%m-%d %H:%M:%S.%f", "2006-1-2 15:4:5.999999999"},
+		{"%Y-%m-%dT%H:%M:%S%:z", "2006-1-2T15:4:5Z07:00"},
+		{"%d %b %Y %H:%M:%S %%", "2 Jan 2006 15:4:5 %"},
+	} {
+		if got, err := StrftimeLayout(c.format); err != nil || got != c.layout {
+			t.Errorf("StrftimeLayout(%q) = %q, %v; want %q", c.format, got, err, c.layout)
+		}
+	}
+}
+
+// A format settle cannot read the same way as strptime is refused, naming the token or
+// the text (common practice: say what to write instead).
+func TestStrftimeErrors(t *testing.T) {
+	for _, c := range []struct{ format, want string }{
+		{"%Y-%m-%d %H:%M:%Q", "unknown token %Q; known: %Y %y %m %d %j %H %I %M %S %f %p %b %B %a %A %z %:z %%"},
+		{"%Y-%m-%d %H:%M:%S %Z", "%Z (a time zone name) cannot be read reliably"},
+		{"%Y-%m-%d %H:%M:%", `a lone "%" ends the format`},
+		{"%H:%M:%S%f", `%f (fractional seconds) must follow a "." or ","`},
+		{"%d/%m/%Y %I:%M", "%I (hour 1–12) needs %p"},
+		{"%d/%m/%Y %H:%M %p", "%p (AM or PM) goes with %I"},
+		{"%Y-%m-%d 1%H:%M", `the text " 1" between tokens would be read as part of a date or time`},
+		{"Mon %H:%M", `the text "Mon " between tokens`},
+		{"%m%S", "tokens run together"},
+		{"%Y_%d", "tokens run together"},
+		{"%%", "has no date or time token"},
+		{"%A %p %z", "has no date or time token"},
+	} {
+		_, err := StrftimeLayout(c.format)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("StrftimeLayout(%q) = %v, want an error with %q", c.format, err, c.want)
+		}
+	}
+}
+
+// ClockLayout also takes the number formats, the names, strftime and Go layouts.
+func TestClockLayoutStrftime(t *testing.T) {
+	for _, c := range []struct {
+		format, layout string
+		ok             bool
+	}{
+		{"", "", true}, {"seconds", "", true}, {"UNIX", "", true},
+		{"rfc3339", time.RFC3339, true},
+		{"2006-01-02 15:04:05", "2006-01-02 15:04:05", true},
+		{"%Y-%m-%d %H:%M:%S", "2006-1-2 15:4:5", true},
+		{"dd.mm.yyyy", "", false},
+		{"%Y-%q", "", false},
+	} {
+		layout, ok := ClockLayout(c.format)
+		if layout != c.layout || ok != c.ok {
+			t.Errorf("ClockLayout(%q) = %q, %v; want %q, %v", c.format, layout, ok, c.layout, c.ok)
+		}
+	}
+}
+
+// FuzzStrftimeLayout feeds any format to StrftimeLayout: no panic, and an accepted
+// layout reads what it prints, and prints what it read back to the same time (a
+// weekday is printed but not read, so the first round may change it).
+func FuzzStrftimeLayout(f *testing.F) {
+	for _, s := range []string{"%Y-%m-%dT%H:%M:%S", "%d/%m/%Y %I:%M:%S %p", "%H:%M:%S,%f", "%Y%j", "%%%", "%:z", "Jan%d"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, format string) {
+		layout, err := StrftimeLayout(format)
+		if err != nil {
+			return
+		}
+		s := clockRef.Format(layout)
+		back, err := time.Parse(layout, s)
+		if err != nil {
+			t.Fatalf("%q → %q cannot read %q: %v", format, layout, s, err)
+		}
+		again, err := time.Parse(layout, back.Format(layout))
+		if err != nil || !again.Equal(back) {
+			t.Fatalf("%q → %q: %v printed as %q reads as %v (%v)", format, layout, back, back.Format(layout), again, err)
+		}
+	})
+}
+
+// Every worked example in the example configuration's clock_format table reads its
+// sample timestamp (so the comments stay true).
+func TestExampleClockFormats(t *testing.T) {
+	n := 0
+	for _, line := range strings.Split(Example, "\n") {
+		line = strings.TrimSpace(strings.TrimPrefix(strings.TrimSpace(line), "#"))
+		q := strings.Index(line, `"%`)
+		if q < 0 || !strings.HasPrefix(line, "20") && !strings.HasPrefix(line, "0") && !strings.HasPrefix(line, "1") {
+			continue
+		}
+		value := strings.TrimSpace(line[:q])
+		format := line[q+1:]
+		format = format[:strings.Index(format, `"`)]
+		layout, err := ClockFormatLayout(format)
+		if err != nil {
+			t.Errorf("example %q: %v", format, err)
+			continue
+		}
+		if _, err := time.Parse(layout, value); err != nil {
+			t.Errorf("example %q cannot read its sample %q: %v", format, value, err)
+		}
+		n++
+	}
+	if n != 6 {
+		t.Errorf("checked %d worked examples, want the 6 of example.yaml", n)
+	}
+}
