@@ -34,6 +34,16 @@ const hMaxIter = 60
 // of the same data (start), whose ambient, excess and τ give the first guess. It
 // returns the result and its error (the Status's sentinel).
 func FitH(p HProblem, start *LumpedResult) (HResult, error) {
+	r, err := fitH(p, start)
+	if r.table != nil {
+		r.table.complete()
+	}
+	return r, err
+}
+
+// fitH is FitH leaving the result's Φ table lazy: the caller completes it
+// (phiTable.complete) before the result leaves the goroutine.
+func fitH(p HProblem, start *LumpedResult) (HResult, error) {
 	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
 	if p.Ambient != nil {
 		res.Free = 2
@@ -80,6 +90,12 @@ type levmar struct {
 	jac  *mat.Dense
 	ssr  float64
 
+	// tables holds the Φ tables built so far by ambient, newest last (a trial step's
+	// table is the next iteration's when the step is taken; a measured ambient needs
+	// one for the whole fit); scratch holds a trial's residuals.
+	tables  []*phiTable
+	scratch []float64
+
 	priorAmb, priorW2 float64 // the ambient prior's mean and weight (0: none)
 }
 
@@ -98,12 +114,12 @@ func (lm *levmar) jacobian() {
 		lm.r = make([]float64, n)
 		lm.jac = mat.NewDense(n, lm.free, nil)
 	}
-	lm.tb = newPhiTable(lm.m.law, lm.x[2], lm.m.side, lm.m.tmax)
+	lm.tb = lm.table(lm.x[2])
 	lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac)
 	if lm.free < 3 {
 		return
 	}
-	tb := newPhiTable(lm.m.law, lm.x[2]+ambDelta, lm.m.side, lm.m.tmax)
+	tb := lm.table(lm.x[2] + ambDelta)
 	phi0 := tb.at(lm.x[0])
 	hint := -1
 	for i, t := range lm.m.ts {
@@ -118,9 +134,29 @@ func (lm *levmar) ssrAt(x []float64) float64 {
 	if !(x[1] > 0) || !(x[0] < math.Log(lm.m.tmax)) {
 		return math.Inf(1)
 	}
-	tb := newPhiTable(lm.m.law, x[2], lm.m.side, lm.m.tmax)
-	r := make([]float64, len(lm.m.ts))
-	return lm.m.residuals(tb, x[0], x[1], r, nil)
+	if lm.scratch == nil {
+		lm.scratch = make([]float64, len(lm.m.ts))
+	}
+	return lm.m.residuals(lm.table(x[2]), x[0], x[1], lm.scratch, nil)
+}
+
+// lmTables is how many recent Φ tables a fit keeps for reuse.
+const lmTables = 4
+
+// table returns the Φ table at ambient amb, reusing one built before at the same
+// ambient.
+func (lm *levmar) table(amb float64) *phiTable {
+	for _, tb := range lm.tables {
+		if tb.amb == amb {
+			return tb
+		}
+	}
+	tb := newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
+	if len(lm.tables) == lmTables {
+		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
+	}
+	lm.tables = append(lm.tables, tb)
+	return tb
 }
 
 // run iterates to convergence; false when the normal equations are singular.
