@@ -119,13 +119,17 @@ func (lm *levmar) jacobian() {
 	if lm.free < 3 {
 		return
 	}
+	// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ moves w
+	// by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ taken as a finite difference over
+	// a table at T∞ + ambDelta (Φ(w; T∞) at a reading is Φ(w0) − q·t, the value
+	// inverted); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)). Table look-ups at known w, no
+	// second inversion of the readings.
 	tb := lm.table(lm.x[2] + ambDelta)
-	phi0 := tb.at(lm.x[0])
-	hint := -1
+	phi0 := lm.tb.at(lm.x[0])
+	da0 := (tb.at(lm.x[0]) - phi0) / ambDelta
 	for i, t := range lm.m.ts {
-		w, _ := tb.invert(phi0-lm.x[1]*t, &hint)
-		shifted := tb.amb + lm.m.side*math.Exp(w)
-		lm.jac.Set(i, 2, (shifted-(lm.m.y[i]-lm.r[i]))/ambDelta)
+		da := (tb.at(lm.m.w[i]) - (phi0 - lm.x[1]*t)) / ambDelta
+		lm.jac.Set(i, 2, 1+lm.m.th[i]*(da0-da))
 	}
 }
 

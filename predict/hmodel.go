@@ -273,15 +273,21 @@ type hModel struct {
 	tmax     float64 // table extent, K
 	measured bool
 	amb      float64 // the measured reference ambient
+
+	w, th []float64 // each reading's w and θ·h at the last Jacobian
 }
 
 // residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
-// rows with ∂model/∂(w0, q) (the ambient column is filled by the caller).
+// rows with ∂model/∂(w0, q) and m.w, m.th with each reading's w and θ·h (for the
+// ambient column, which the caller fills).
 func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense) float64 {
 	var ssr float64
 	phi0 := tb.at(w0)
 	h0 := tb.law.H(tb.amb+tb.side*math.Exp(w0), tb.amb)
 	hint := -1
+	if jac != nil && m.w == nil {
+		m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+	}
 	for i, t := range m.ts {
 		w, h := tb.invert(phi0-q*t, &hint)
 		theta := m.side * math.Exp(w)
@@ -291,6 +297,7 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
 			jac.Set(i, 0, theta*h/h0)
 			jac.Set(i, 1, -theta*h*t)
+			m.w[i], m.th[i] = w, theta*h
 		}
 	}
 	return ssr
