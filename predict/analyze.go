@@ -98,20 +98,19 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	} else {
 		f.Notes = append(f.Notes, "The ambient is fitted as a constant.")
 	}
-	fp := fitSubset(p, maxFitPoints)
-	lr, err := FitLumped(fp, &opt.Fit)
+	lr, err := FitLumped(p, &opt.Fit)
 	var hr *HResult
 	airNote := ""
 	if n >= minPointsH {
 		start := &lr
 		if err != nil {
-			start = roughStart(fp)
+			start = roughStart(p)
 		}
 		if start != nil {
 			still, moving := hCandidates(opt.Specimen)
-			hr, airNote = chooseAir(fitHBest(fp, start, still), fitHBest(fp, start, moving), opt.Specimen)
+			hr, airNote = chooseAir(fitHBest(p, start, still), fitHBest(p, start, moving), opt.Specimen)
 			var emisNote string
-			if hr, emisNote = fitEmissivity(fp, start, hr, opt.Specimen); emisNote != "" {
+			if hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen); emisNote != "" {
 				airNote += " " + emisNote
 			}
 		}
@@ -138,50 +137,18 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	} else {
 		describeLumped(f, &lr, start, p.Ambient != nil, opt.Specimen)
 	}
-	if c := conductionChoice(f, fp, m, start, keep, targets, opt.Specimen); c != nil {
+	if c := conductionChoice(f, p, m, start, keep, targets, opt.Specimen); c != nil {
 		m = c
 	}
 	noteResiduals(f, m, opt.Interval)
 	is := opt.Interval
 	if len(targets) > 0 {
-		is = intervalFor(f, fp, m, freeOf(m), opt)
+		is = intervalFor(f, p, m, freeOf(m), opt)
 	}
 	var notes []string
 	f.Targets, notes = forecastTargets(m, &p, start, targets, &is)
 	f.Notes = append(f.Notes, notes...)
 	return f, m
-}
-
-// maxFitPoints caps the readings the models are fitted to (fitSubset). A fit's cost
-// grows with its readings and a daemon refits every channel every few seconds; 400
-// evenly spread readings resolve any curve a specimen makes (the FV fit has the same
-// cap, maxFVPoints). The forecasts' observed states (reached, holding) always use
-// every reading.
-var maxFitPoints = 400
-
-// fitSubset returns p, or at most n of its readings evenly spread over its record
-// (by index, so the first and the last are kept and a tracker's thinned history
-// stays as it is weighted), ambient included. Least squares weighs every reading
-// alike, so an even subset weighs the curve's parts as all the readings do, with
-// more noise; the residual statistics (σ, lag-1 correlation) are those of the subset,
-// whose intervals follow from them as from the full record.
-func fitSubset(p LumpedProblem, n int) LumpedProblem {
-	if len(p.Times) <= n || n < 2 {
-		return p
-	}
-	step := float64(len(p.Times)-1) / float64(n-1)
-	q := LumpedProblem{Times: make([]float64, n), Celsius: make([]float64, n), FixExcess: p.FixExcess, Excess: p.Excess}
-	if p.Ambient != nil {
-		q.Ambient = make([]float64, n)
-	}
-	for i := range n {
-		k := min(int(math.Round(float64(i)*step)), len(p.Times)-1)
-		q.Times[i], q.Celsius[i] = p.Times[k], p.Celsius[k]
-		if p.Ambient != nil {
-			q.Ambient[i] = p.Ambient[k]
-		}
-	}
-	return q
 }
 
 // conductionChoice fits the conduction models when the specimen is known and, when

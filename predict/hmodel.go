@@ -275,6 +275,7 @@ type hModel struct {
 	amb      float64 // the measured reference ambient
 
 	w, th []float64 // each reading's w and θ·h at the last Jacobian
+	wt    []float64 // each point's weight (the square root of a bin's count), nil for 1
 }
 
 // residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
@@ -291,13 +292,17 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 	for i, t := range m.ts {
 		w, h := tb.invert(phi0-q*t, &hint)
 		theta := m.side * math.Exp(w)
-		r[i] = m.y[i] - (tb.amb + theta)
+		wt := 1.0
+		if m.wt != nil {
+			wt = m.wt[i]
+		}
+		r[i] = wt * (m.y[i] - (tb.amb + theta))
 		ssr += r[i] * r[i]
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
-			jac.Set(i, 0, theta*h/h0)
-			jac.Set(i, 1, -theta*h*t)
-			m.w[i], m.th[i] = w, theta*h
+			jac.Set(i, 0, wt*theta*h/h0)
+			jac.Set(i, 1, -wt*theta*h*t)
+			m.w[i], m.th[i] = w, wt*theta*h
 		}
 	}
 	return ssr
