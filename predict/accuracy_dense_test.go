@@ -13,7 +13,8 @@ var dense = flag.Bool("dense", false, "run TestAccuracyDense (the benchmark 8 ti
 // TestAccuracyDense scores the generated benchmark's cases simulated again with about
 // 3,200 readings to the crossing, at least 1 s apart (testdata/bench has about 400,
 // at least 2 s): the density of a logger read every second, where the forecasts at
-// 25 and 50 % elapsed fit more than maxFitPoints readings and so a subset of them.
+// 25 and 50 % elapsed have more than maxFitPoints readings, so the h(T) fits iterate
+// on bins of them (binned).
 // Run it with go test ./predict -run TestAccuracyDense -v -dense (a few minutes); it
 // prints the table (compare it with a run before a change to the fits; it asserts
 // nothing).

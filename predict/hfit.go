@@ -97,11 +97,11 @@ func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
 
 // maxFitPoints is about the most points an h(T) fit iterates on (binned): a fit's
 // cost grows with its points and a daemon refits every channel every few seconds.
-const maxFitPoints = 300
+const maxFitPoints = 200
 
 // binBias is the largest bias, as a share of the readings' noise σ (and at least
 // binBiasMin K), that evaluating the model at a bin's mean time instead of averaging
-// it over the bin's readings may bring: ½·|T''|·var(t) ≤ binBias·σ.
+// it over the bin's readings may bring: ½·|d²T/dt²|·var(t) ≤ binBias·σ.
 const (
 	binBias    = 0.005
 	binBiasMin = 1e-4
@@ -157,7 +157,7 @@ func noise(y []float64) float64 {
 // reading) and weighted by their counts, so that its weighted least squares are
 // those of all the readings up to a constant (the spread within the bins) — or nil
 // when m has at most maxPts readings. A bin holds at most ⌈n/maxPts⌉ readings, and
-// fewer where the curve bends: its T'' (from the lumped start, θ·e^(−t/τ)/τ²) times
+// fewer where the curve bends: its d²T/dt² (from the lumped start, θ·e^(−t/τ)/τ²) times
 // the variance of its times stays within binBias of the noise (from second
 // differences), so the mean of the
 // model over a bin and the model at the bin's mean time agree. Unlike every k-th

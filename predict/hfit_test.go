@@ -141,7 +141,7 @@ func TestFitHBinnedMatchesFull(t *testing.T) {
 				t.Fatal(err)
 			}
 			all, err1 := fitHBinned(hp, &lr, len(c.p.Times))
-			bin, err2 := fitHBinned(hp, &lr, 300)
+			bin, err2 := fitHBinned(hp, &lr, maxFitPoints)
 			if err1 != nil || err2 != nil {
 				t.Fatal(err1, err2)
 			}
