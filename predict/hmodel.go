@@ -280,8 +280,9 @@ type hModel struct {
 
 // residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
 // rows with ∂model/∂(w0, q) and m.w, m.th with each reading's w and θ·h (for the
-// ambient column, which the caller fills).
-func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense) float64 {
+// ambient column, which the caller fills). It returns the sum of squares, or stops
+// at the first partial sum above limit and returns that.
+func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense, limit float64) float64 {
 	var ssr float64
 	phi0 := tb.at(w0)
 	h0 := tb.law.H(tb.amb+tb.side*math.Exp(w0), tb.amb)
@@ -298,6 +299,9 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 		}
 		r[i] = wt * (m.y[i] - (tb.amb + theta))
 		ssr += r[i] * r[i]
+		if ssr > limit {
+			return ssr
+		}
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
 			jac.Set(i, 0, wt*theta*h/h0)
