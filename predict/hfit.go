@@ -3,6 +3,7 @@ package predict
 import (
 	"errors"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -209,9 +210,16 @@ type levmar struct {
 
 	// tables holds the Φ tables built so far by ambient, newest last (a trial step's
 	// table is the next iteration's when the step is taken; a measured ambient needs
-	// one for the whole fit); scratch holds a trial's residuals.
-	tables  []*phiTable
-	scratch []float64
+	// one for the whole fit).
+	tables []*phiTable
+	// A trial step's residuals and Jacobian rows (the ambient column aside), its
+	// point, sum of squares and whether the sum ran to the end: when the step is
+	// taken they are the next Jacobian's, so the readings are not inverted twice.
+	tr    []float64
+	tjac  *mat.Dense
+	tx    []float64
+	tssr  float64
+	tfull bool
 
 	priorAmb, priorW2 float64 // the ambient prior's mean and weight (0: none)
 }
@@ -232,7 +240,14 @@ func (lm *levmar) jacobian() {
 		lm.jac = mat.NewDense(n, lm.free, nil)
 	}
 	lm.tb = lm.table(lm.x[2])
-	lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac, math.Inf(1))
+	if lm.tfull && slices.Equal(lm.tx, lm.x) {
+		lm.r, lm.tr = lm.tr, lm.r
+		lm.jac, lm.tjac = lm.tjac, lm.jac
+		lm.ssr = lm.tssr
+	} else {
+		lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac, math.Inf(1))
+	}
+	lm.tfull = false
 	if lm.free < 3 {
 		return
 	}
@@ -257,13 +272,18 @@ func (lm *levmar) jacobian() {
 // ssrAt returns the residual sum of squares at x, or a partial sum above limit as
 // soon as it exceeds limit (the trial step is then refused whatever the rest).
 func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
+	lm.tfull = false
 	if !(x[1] > 0) || !(x[0] < math.Log(lm.m.tmax)) {
 		return math.Inf(1)
 	}
-	if lm.scratch == nil {
-		lm.scratch = make([]float64, len(lm.m.ts))
+	if lm.tr == nil {
+		lm.tr = make([]float64, len(lm.m.ts))
+		lm.tjac = mat.NewDense(len(lm.m.ts), lm.free, nil)
 	}
-	return lm.m.residuals(lm.table(x[2]), x[0], x[1], lm.scratch, nil, limit)
+	lm.tssr = lm.m.residuals(lm.table(x[2]), x[0], x[1], lm.tr, lm.tjac, limit)
+	lm.tx = append(lm.tx[:0], x...)
+	lm.tfull = !(lm.tssr > limit)
+	return lm.tssr
 }
 
 // lmTables is how many recent Φ tables a fit keeps for reuse.
