@@ -1,6 +1,7 @@
 package predict
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -80,4 +81,19 @@ func BenchmarkAnalyzeExp2000Measured(b *testing.B) {
 	benchmarkCurve(b, p, func(p LumpedProblem) {
 		Analyze(p, t0, []Target{{Name: "handle", Celsius: 50}}, AnalyzeOptions{})
 	})
+}
+
+// BenchmarkAnalyzeEarly is the whole engine on the first readings of the steel bar
+// (100, 200 and 400 s of it, ambient fitted): early in a segment the data barely fix
+// the ambient, and the h(T) fits' iterations run long.
+func BenchmarkAnalyzeEarly(b *testing.B) {
+	hot := hotBar()
+	for _, n := range []int{100, 200, 400} {
+		p := LumpedProblem{Times: hot.Times[:n], Celsius: hot.Celsius[:n]}
+		b.Run(fmt.Sprint(n), func(b *testing.B) {
+			benchmarkCurve(b, p, func(p LumpedProblem) {
+				Analyze(p, t0, []Target{{Name: "handle", Celsius: 50}}, AnalyzeOptions{})
+			})
+		})
+	}
 }
