@@ -173,3 +173,30 @@ func TestFitHBinnedMatchesFull(t *testing.T) {
 		})
 	}
 }
+
+// A lazily built Φ table (nodes computed outward from the first one asked for) must
+// give the differences of Φ a table computed from its low end gives, to rounding:
+// only differences enter the model. And an early-stopped residual sum must stop only
+// above its limit.
+func TestPhiTableLazyMatchesComplete(t *testing.T) {
+	lazy := newPhiTable(DefaultSurfaceLaw, 20, 1, 900)
+	full := newPhiTable(DefaultSurfaceLaw, 20, 1, 900)
+	full.complete()
+	// Ask the lazy table in the middle first, then below and above it.
+	for _, pair := range [][2]float64{{4, 5}, {1, 4.5}, {-5, 6.5}, {-8, 7.9}} {
+		a, b := pair[0], pair[1]
+		got, want := lazy.at(b)-lazy.at(a), full.at(b)-full.at(a)
+		if math.Abs(got-want) > 1e-12*math.Abs(want) {
+			t.Errorf("Φ(%g) − Φ(%g): lazy %.15g, complete %.15g", b, a, got, want)
+		}
+	}
+	m := &hModel{ts: []float64{0, 10, 20, 30}, y: []float64{500, 480, 470, 300}, law: DefaultSurfaceLaw, side: 1}
+	r := make([]float64, 4)
+	all := m.residuals(full, math.Log(480), 1e-5, r, nil, math.Inf(1))
+	for _, limit := range []float64{0, all / 2, all, 2 * all} {
+		got := m.residuals(full, math.Log(480), 1e-5, r, nil, limit)
+		if limit < all && !(got > limit) || limit >= all && got != all {
+			t.Errorf("limit %g: sum %g (all %g)", limit, got, all)
+		}
+	}
+}
