@@ -176,9 +176,10 @@ func BenchmarkFitLumpedCurveFit(b *testing.B) {
 // BenchmarkFitLumpedVsCurveFit times FitLumped and scipy's curve_fit on the same
 // 2,000-point curve in one run: testdata/predict/curvefit.py --time first reports
 // curve_fit's CPU time per fit as the script sets it up (its own start, numerical
-// Jacobian) and well started (at the parameters the curve was made with, with the
-// analytic Jacobian), then FitLumped runs; the metrics are both CPU times per fit and
-// their ratios to FitLumped's (x-default, x-well-started). Skipped without scipy.
+// Jacobian), with the analytic Jacobian, and well started (at the parameters the
+// curve was made with, analytic Jacobian), then FitLumped runs; the metrics are the
+// CPU times per fit and their ratios to FitLumped's (x-default, x-jacobian,
+// x-well-started). Skipped without scipy.
 func BenchmarkFitLumpedVsCurveFit(b *testing.B) {
 	py := scipyPython(b)
 	const csv = "../testdata/predict/curvefit_curve.csv"
@@ -188,6 +189,7 @@ func BenchmarkFitLumpedVsCurveFit(b *testing.B) {
 	}
 	var cf struct {
 		Default     float64 `json:"default"`
+		Jacobian    float64 `json:"jacobian"`
 		WellStarted float64 `json:"well_started"`
 	}
 	if err := json.Unmarshal(out, &cf); err != nil {
@@ -208,7 +210,9 @@ func BenchmarkFitLumpedVsCurveFit(b *testing.B) {
 	us := float64(c.Nanoseconds()) / 1e3 / float64(b.N)
 	b.ReportMetric(us*1e3, "cpu-ns/op")
 	b.ReportMetric(cf.Default, "curvefit-default-us")
+	b.ReportMetric(cf.Jacobian, "curvefit-jacobian-us")
 	b.ReportMetric(cf.WellStarted, "curvefit-well-started-us")
 	b.ReportMetric(cf.Default/us, "x-default")
+	b.ReportMetric(cf.Jacobian/us, "x-jacobian")
 	b.ReportMetric(cf.WellStarted/us, "x-well-started")
 }
