@@ -198,15 +198,19 @@ var fractions = []float64{0.10, 0.25, 0.50}
 // accuracy scores every method on every case of the benchmark at each fraction of the
 // elapsed time to the crossing; keys are "method/fraction/group".
 func accuracy(t testing.TB) map[string]*score {
-	idx := benchIndex(t)
+	return scoreCases(t, benchIndex(t).Cases, func(c benchgen.Case) (benchgen.Case, CurveFile) { return c, readBenchCase(t, c) })
+}
+
+// scoreCases is accuracy on the given cases, whose curves (and truth) read returns.
+func scoreCases(t testing.TB, cases []benchgen.Case, read func(benchgen.Case) (benchgen.Case, CurveFile)) map[string]*score {
 	out := map[string]*score{}
-	for _, c := range idx.Cases {
+	for _, c := range cases {
 		sp, err := caseSpecimen(c)
 		if err != nil {
 			t.Fatalf("%s: %v", c.File, err)
 		}
 		methods := map[string]method{"engine": engine, "engine+spec": withSpecimen(sp), "exp3": exponential3, "linear": linearTrend}
-		curve := readBenchCase(t, c)
+		c, curve := read(c)
 		for _, frac := range fractions {
 			for name, m := range methods {
 				tr := judge(m, curve, c, frac)
@@ -291,18 +295,7 @@ func TestAccuracyTable(t *testing.T) {
 		t.Skip("accuracy benchmark skipped with -short")
 	}
 	sc := accuracy(t)
-	var b strings.Builder
-	fmt.Fprintf(&b, "\n%-8s %-8s %5s |%s\n", "method", "group", "frac", tableHead)
-	for _, g := range []string{"all", "hot", "warm", "warming", "fan", "oven"} {
-		for _, m := range []string{"engine", "engine+spec", "exp3", "linear"} {
-			for _, fr := range fractions {
-				if s := sc[fmt.Sprintf("%s/%.2f/%s", m, fr, g)]; s != nil {
-					fmt.Fprintf(&b, "%-8s %-8s %4.0f%% | %s\n", m, g, 100*fr, s.row())
-				}
-			}
-		}
-	}
-	t.Log(b.String())
+	t.Log(accuracyTable(sc))
 	for _, c := range []struct {
 		key string
 		max float64
@@ -329,4 +322,20 @@ func TestAccuracyTable(t *testing.T) {
 			t.Errorf("%s: 90 %% interval coverage %.1f %% over %d forecasts, floor %.0f–%.0f %%", c.method, 100*cov, judged, 100*c.lo, 100*c.hi)
 		}
 	}
+}
+
+// accuracyTable formats scores by group, method and elapsed fraction.
+func accuracyTable(sc map[string]*score) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "\n%-8s %-8s %5s |%s\n", "method", "group", "frac", tableHead)
+	for _, g := range []string{"all", "hot", "warm", "warming", "fan", "oven"} {
+		for _, m := range []string{"engine", "engine+spec", "exp3", "linear"} {
+			for _, fr := range fractions {
+				if s := sc[fmt.Sprintf("%s/%.2f/%s", m, fr, g)]; s != nil {
+					fmt.Fprintf(&b, "%-8s %-8s %4.0f%% | %s\n", m, g, 100*fr, s.row())
+				}
+			}
+		}
+	}
+	return b.String()
 }

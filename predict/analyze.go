@@ -353,7 +353,7 @@ func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw) *HResult {
 		if p.Ambient == nil {
 			hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
 		}
-		r, err := FitH(hp, lr)
+		r, err := fitH(hp, lr)
 		if err == nil && (best == nil || r.RMSE < best.RMSE) {
 			best = &r
 		}
@@ -475,6 +475,7 @@ func describeLumped(f *Forecast, r *LumpedResult, start time.Time, measured bool
 // describeH fills the forecast fields of an h(T) fit.
 func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 	f.Model, f.Ambient, f.RMSE = ModelLumpedH, r.Ambient, r.RMSE
+	r.table.complete() // f.Curve may be called from any goroutine
 	last := r.Value(f.FittedAt.Sub(start).Seconds())
 	// The local time constant C/h(T) at the last reading.
 	f.TimeConstant = seconds(r.Capacity / r.HAt(last))

@@ -146,7 +146,7 @@ func refit(head LumpedProblem, m fitted, opt AnalyzeOptions) fitted {
 		if head.Ambient == nil {
 			hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
 		}
-		r, err := FitH(hp, start)
+		r, err := fitH(hp, start)
 		if err != nil {
 			return nil
 		}

@@ -89,7 +89,7 @@ func TestFitLumpedCurveFitGolden(t *testing.T) {
 // scipyPython returns Debian's python3 when it can import scipy and numpy; otherwise
 // it skips, or fails under CI=true, where .ci/run installs python3-scipy and
 // python3-numpy and the comparison must run.
-func scipyPython(t *testing.T) string {
+func scipyPython(t testing.TB) string {
 	t.Helper()
 	const py = "/usr/bin/python3"
 	out, err := exec.Command(py, "-c", "import scipy, numpy").CombinedOutput()
@@ -171,4 +171,48 @@ func BenchmarkFitLumpedCurveFit(b *testing.B) {
 	if c := cpuTime() - c0; c > 0 {
 		b.ReportMetric(float64(c.Nanoseconds())/float64(b.N), "cpu-ns/op")
 	}
+}
+
+// BenchmarkFitLumpedVsCurveFit times FitLumped and scipy's curve_fit on the same
+// 2,000-point curve in one run: testdata/predict/curvefit.py --time first reports
+// curve_fit's CPU time per fit as the script sets it up (its own start, numerical
+// Jacobian), with the analytic Jacobian, and well started (at the parameters the
+// curve was made with, analytic Jacobian), then FitLumped runs; the metrics are the
+// CPU times per fit and their ratios to FitLumped's (x-default, x-jacobian,
+// x-well-started). Skipped without scipy.
+func BenchmarkFitLumpedVsCurveFit(b *testing.B) {
+	py := scipyPython(b)
+	const csv = "../testdata/predict/curvefit_curve.csv"
+	out, err := exec.Command(py, "../testdata/predict/curvefit.py", "--time", csv, "200").Output()
+	if err != nil {
+		b.Fatalf("curvefit.py --time: %v", err)
+	}
+	var cf struct {
+		Default     float64 `json:"default"`
+		Jacobian    float64 `json:"jacobian"`
+		WellStarted float64 `json:"well_started"`
+	}
+	if err := json.Unmarshal(out, &cf); err != nil {
+		b.Fatalf("curvefit.py --time printed %q: %v", out, err)
+	}
+	p := readCurve(b, csv)
+	b.ReportAllocs()
+	c0 := cpuTime()
+	for b.Loop() {
+		if _, err := FitLumped(p, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+	c := cpuTime() - c0
+	if c <= 0 {
+		return
+	}
+	us := float64(c.Nanoseconds()) / 1e3 / float64(b.N)
+	b.ReportMetric(us*1e3, "cpu-ns/op")
+	b.ReportMetric(cf.Default, "curvefit-default-us")
+	b.ReportMetric(cf.Jacobian, "curvefit-jacobian-us")
+	b.ReportMetric(cf.WellStarted, "curvefit-well-started-us")
+	b.ReportMetric(cf.Default/us, "x-default")
+	b.ReportMetric(cf.Jacobian/us, "x-jacobian")
+	b.ReportMetric(cf.WellStarted/us, "x-well-started")
 }

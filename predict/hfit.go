@@ -3,6 +3,7 @@ package predict
 import (
 	"errors"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -34,6 +35,21 @@ const hMaxIter = 60
 // of the same data (start), whose ambient, excess and τ give the first guess. It
 // returns the result and its error (the Status's sentinel).
 func FitH(p HProblem, start *LumpedResult) (HResult, error) {
+	r, err := fitH(p, start)
+	if r.table != nil {
+		r.table.complete()
+	}
+	return r, err
+}
+
+// fitH is FitH leaving the result's Φ table lazy: the caller completes it
+// (phiTable.complete) before the result leaves the goroutine.
+func fitH(p HProblem, start *LumpedResult) (HResult, error) {
+	return fitHBinned(p, start, maxFitPoints)
+}
+
+// fitHBinned is fitH iterating on at most about maxPts binned points (binned).
+func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
 	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
 	if p.Ambient != nil {
 		res.Free = 2
@@ -62,12 +78,124 @@ func FitH(p HProblem, start *LumpedResult) (HResult, error) {
 		lm.priorAmb = p.AmbientPrior
 		lm.priorW2 = math.Pow(max(start.Sigma, 0.05)/p.AmbientPriorSD, 2)
 	}
+	full := m
+	if b := binned(m, start, maxPts); b != nil {
+		lm.m = b
+	}
 	if !lm.run() {
 		res.Status = FitSingular
 		return res, res.Status.Err()
 	}
+	if lm.m != full {
+		// The residual statistics are those of every reading at the optimum the bins
+		// found; the weighted bins' Jacobian stands for every reading's (JᵀJ differs
+		// by the spread of the rows within a bin, of relative order (bin width/τ)²).
+		lm.r = interpolatedResiduals(full, lm.m, lm.r, lm.x[1])
+	}
 	lm.finish(&res)
 	return res, res.Status.Err()
+}
+
+// maxFitPoints is about the most points an h(T) fit iterates on (binned): a fit's
+// cost grows with its points and a daemon refits every channel every few seconds.
+const maxFitPoints = 200
+
+// binBias is the largest bias, as a share of the readings' noise σ (and at least
+// binBiasMin K), that evaluating the model at a bin's mean time instead of averaging
+// it over the bin's readings may bring: ½·|d²T/dt²|·var(t) ≤ binBias·σ. It is set
+// low because the curvature is taken from the lumped start, which under-reads the
+// early bend of a hot specimen's h(T) curve several-fold (TestFitHBinnedMatchesFull).
+const (
+	binBias    = 0.005
+	binBiasMin = 1e-4
+)
+
+// interpolatedResiduals returns every reading's residual for a fit iterated on bins
+// b (whose weighted residuals rb, and θ·h in b.th, are at the optimum with q): the
+// model at each reading is the cubic Hermite interpolant of its values and slopes
+// dT/dt = −q·θ·h at the bins' mean times, which are at most a few seconds apart where
+// the curve bends (binBias), so the interpolation error is far below the noise and
+// no reading is inverted through the Φ table.
+func interpolatedResiduals(m, b *hModel, rb []float64, q float64) []float64 {
+	nb := len(b.ts)
+	v, d := make([]float64, nb), make([]float64, nb)
+	for k := range nb {
+		v[k] = b.y[k] - rb[k]/b.wt[k]
+		d[k] = -q * b.th[k] / b.wt[k]
+	}
+	r := make([]float64, len(m.ts))
+	k := 0
+	for i, t := range m.ts {
+		for k < nb-2 && t > b.ts[k+1] {
+			k++
+		}
+		r[i] = m.y[i] - hermiteAt(t, b.ts[k], b.ts[k+1], v[k], v[k+1], d[k], d[k+1])
+	}
+	return r
+}
+
+// hermiteAt evaluates at t the cubic through (t0, v0) and (t1, v1) with slopes d0, d1.
+func hermiteAt(t, t0, t1, v0, v1, d0, d1 float64) float64 {
+	h := t1 - t0
+	if !(h > 0) {
+		return v0
+	}
+	s := (t - t0) / h
+	s2, s3 := s*s, s*s*s
+	return (2*s3-3*s2+1)*v0 + (s3-2*s2+s)*h*d0 + (-2*s3+3*s2)*v1 + (s3-s2)*h*d1
+}
+
+// noise estimates the noise σ of readings y from their second differences (a smooth
+// curve's are far smaller): y[i+1] − 2y[i] + y[i−1] has variance 6σ² for white noise.
+func noise(y []float64) float64 {
+	if len(y) < 3 {
+		return 0
+	}
+	var ss float64
+	for i := 1; i < len(y)-1; i++ {
+		d := y[i+1] - 2*y[i] + y[i-1]
+		ss += d * d
+	}
+	return math.Sqrt(ss / float64(6*(len(y)-2)))
+}
+
+// binned returns m with its readings averaged in bins of consecutive readings (time,
+// reading) and weighted by their counts, so that its weighted least squares are
+// those of all the readings up to a constant (the spread within the bins) — or nil
+// when m has at most maxPts readings. A bin holds at most ⌈n/maxPts⌉ readings, and
+// fewer where the curve bends: its d²T/dt² (from the lumped start, θ·e^(−t/τ)/τ²) times
+// the variance of its times stays within binBias of the noise (from second
+// differences), so the mean of the
+// model over a bin and the model at the bin's mean time agree. Unlike every k-th
+// reading, the bins keep all the readings' information on the parameters.
+func binned(m *hModel, start *LumpedResult, maxPts int) *hModel {
+	n := len(m.ts)
+	if n <= maxPts || !(start.Tau > 0) {
+		return nil
+	}
+	kmax := (n + maxPts - 1) / maxPts
+	tol := max(binBias*noise(m.y), binBiasMin)
+	b := *m
+	b.ts, b.y, b.wt, b.w, b.th = nil, nil, nil, nil, nil
+	for i := 0; i < n; {
+		curv := math.Abs(start.Excess) * math.Exp(-m.ts[i]/start.Tau) / (start.Tau * start.Tau)
+		var st, sy, stt float64
+		k := 0
+		for i+k < n && k < kmax {
+			t := m.ts[i+k]
+			nt, ntt := st+t, stt+t*t
+			c := float64(k + 1)
+			if k > 0 && curv*(ntt/c-(nt/c)*(nt/c))/2 > tol {
+				break
+			}
+			st, stt, sy = nt, ntt, sy+m.y[i+k]
+			k++
+		}
+		c := float64(k)
+		b.ts, b.y, b.wt = append(b.ts, st/c), append(b.y, sy/c), append(b.wt, math.Sqrt(c))
+		i += k
+	}
+	return &b
 }
 
 // levmar is the Levenberg–Marquardt state of an h(T) fit.
@@ -79,6 +207,19 @@ type levmar struct {
 	r    []float64
 	jac  *mat.Dense
 	ssr  float64
+
+	// tables holds the Φ tables built so far by ambient, newest last (a trial step's
+	// table is the next iteration's when the step is taken; a measured ambient needs
+	// one for the whole fit).
+	tables []*phiTable
+	// A trial step's residuals and Jacobian rows (the ambient column aside), its
+	// point, sum of squares and whether the sum ran to the end: when the step is
+	// taken they are the next Jacobian's, so the readings are not inverted twice.
+	tr    []float64
+	tjac  *mat.Dense
+	tx    []float64
+	tssr  float64
+	tfull bool
 
 	priorAmb, priorW2 float64 // the ambient prior's mean and weight (0: none)
 }
@@ -98,29 +239,70 @@ func (lm *levmar) jacobian() {
 		lm.r = make([]float64, n)
 		lm.jac = mat.NewDense(n, lm.free, nil)
 	}
-	lm.tb = newPhiTable(lm.m.law, lm.x[2], lm.m.side, lm.m.tmax)
-	lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac)
+	lm.tb = lm.table(lm.x[2])
+	if lm.tfull && slices.Equal(lm.tx, lm.x) {
+		lm.r, lm.tr = lm.tr, lm.r
+		lm.jac, lm.tjac = lm.tjac, lm.jac
+		lm.ssr = lm.tssr
+	} else {
+		lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac, math.Inf(1))
+	}
+	lm.tfull = false
 	if lm.free < 3 {
 		return
 	}
-	tb := newPhiTable(lm.m.law, lm.x[2]+ambDelta, lm.m.side, lm.m.tmax)
-	phi0 := tb.at(lm.x[0])
-	hint := -1
+	// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ moves w
+	// by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ taken as a finite difference over
+	// a table at T∞ + ambDelta (Φ(w; T∞) at a reading is Φ(w0) − q·t, the value
+	// inverted); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)). Table look-ups at known w, no
+	// second inversion of the readings.
+	tb := lm.table(lm.x[2] + ambDelta)
+	phi0 := lm.tb.at(lm.x[0])
+	da0 := (tb.at(lm.x[0]) - phi0) / ambDelta
 	for i, t := range lm.m.ts {
-		w, _ := tb.invert(phi0-lm.x[1]*t, &hint)
-		shifted := tb.amb + lm.m.side*math.Exp(w)
-		lm.jac.Set(i, 2, (shifted-(lm.m.y[i]-lm.r[i]))/ambDelta)
+		da := (tb.at(lm.m.w[i]) - (phi0 - lm.x[1]*t)) / ambDelta
+		wt := 1.0
+		if lm.m.wt != nil {
+			wt = lm.m.wt[i]
+		}
+		lm.jac.Set(i, 2, wt+lm.m.th[i]*(da0-da))
 	}
 }
 
-// ssrAt returns the residual sum of squares at x.
-func (lm *levmar) ssrAt(x []float64) float64 {
+// ssrAt returns the residual sum of squares at x, or a partial sum above limit as
+// soon as it exceeds limit (the trial step is then refused whatever the rest).
+func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
+	lm.tfull = false
 	if !(x[1] > 0) || !(x[0] < math.Log(lm.m.tmax)) {
 		return math.Inf(1)
 	}
-	tb := newPhiTable(lm.m.law, x[2], lm.m.side, lm.m.tmax)
-	r := make([]float64, len(lm.m.ts))
-	return lm.m.residuals(tb, x[0], x[1], r, nil)
+	if lm.tr == nil {
+		lm.tr = make([]float64, len(lm.m.ts))
+		lm.tjac = mat.NewDense(len(lm.m.ts), lm.free, nil)
+	}
+	lm.tssr = lm.m.residuals(lm.table(x[2]), x[0], x[1], lm.tr, lm.tjac, limit)
+	lm.tx = append(lm.tx[:0], x...)
+	lm.tfull = !(lm.tssr > limit)
+	return lm.tssr
+}
+
+// lmTables is how many recent Φ tables a fit keeps for reuse.
+const lmTables = 4
+
+// table returns the Φ table at ambient amb, reusing one built before at the same
+// ambient.
+func (lm *levmar) table(amb float64) *phiTable {
+	for _, tb := range lm.tables {
+		if tb.amb == amb {
+			return tb
+		}
+	}
+	tb := newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
+	if len(lm.tables) == lmTables {
+		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
+	}
+	lm.tables = append(lm.tables, tb)
+	return tb
 }
 
 // run iterates to convergence; false when the normal equations are singular.
@@ -178,7 +360,12 @@ func (lm *levmar) run() bool {
 				next[i] += dx.AtVec(i)
 				small = small && math.Abs(dx.AtVec(i)) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
 			}
-			s := lm.ssrAt(next) + lm.penalty(next[2])
+			pen := lm.penalty(next[2])
+			limit := math.Inf(1)
+			if !small {
+				limit = cur - pen // a larger sum refuses the step
+			}
+			s := lm.ssrAt(next, limit) + pen
 			if s < cur || small {
 				converged := cur-s <= 1e-10*cur || small
 				copy(lm.x, next)

@@ -66,28 +66,70 @@ const (
 )
 
 // phiTable tabulates Φ(w) for one ambient and side (+1 above the ambient, −1 below).
+// Its nodes are computed lazily, outward from the first one asked for: a fit only
+// ever looks at the part of the table its readings span (often a tenth of it), and
+// each node costs two evaluations of h(T) (air properties, a cube root). Φ is kept
+// relative to that first node, which changes no difference of Φ (all the model uses:
+// Φ's origin is arbitrary). A table that leaves the package (an HResult's) is
+// completed first (complete), so concurrent readers never extend it.
 type phiTable struct {
 	amb, side float64
 	law       SurfaceLaw
-	phi       []float64 // Φ at w = phiLow + i·phiStep
-	inv       []float64 // 1/h at the nodes (dΦ/dw)
+	phi       []float64 // Φ at w = phiLow + i·phiStep, valid for lo <= i <= hi
+	inv       []float64 // 1/h at the nodes (dΦ/dw), valid for lo <= i <= hi
+	lo, hi    int       // the computed nodes; lo > hi before the first
 }
+
+// phiGrowth is the fewest nodes a table is extended by at a time.
+const phiGrowth = 8
 
 func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64) *phiTable {
 	n := int(math.Ceil((math.Log(max(thetaMax, 1))-phiLow)/phiStep)) + 2
-	tb := &phiTable{amb: amb, side: side, law: law, phi: make([]float64, n), inv: make([]float64, n)}
-	for i := range n {
-		w := phiLow + float64(i)*phiStep
-		tb.inv[i] = 1 / law.H(amb+side*math.Exp(w), amb)
-	}
-	// Midpoint values make each cell's integral Simpson's rule.
-	for i := 1; i < n; i++ {
-		wm := phiLow + (float64(i)-0.5)*phiStep
-		mid := 1 / law.H(amb+side*math.Exp(wm), amb)
-		tb.phi[i] = tb.phi[i-1] + phiStep*(tb.inv[i-1]+4*mid+tb.inv[i])/6
-	}
-	return tb
+	return &phiTable{amb: amb, side: side, law: law, phi: make([]float64, n), inv: make([]float64, n), lo: 1, hi: 0}
 }
+
+// invH returns 1/h at w.
+func (tb *phiTable) invH(w float64) float64 {
+	return 1 / tb.law.H(tb.amb+tb.side*math.Exp(w), tb.amb)
+}
+
+// cell returns the integral of 1/h over cell i (nodes i and i+1), by Simpson's rule
+// with the nodes' values and the midpoint's.
+func (tb *phiTable) cell(i int) float64 {
+	mid := tb.invH(phiLow + (float64(i)+0.5)*phiStep)
+	return phiStep * (tb.inv[i] + 4*mid + tb.inv[i+1]) / 6
+}
+
+// ensure computes the nodes from i to j (clamped to the table), extending the
+// computed range by at least phiGrowth nodes at a time.
+func (tb *phiTable) ensure(i, j int) {
+	n := len(tb.phi)
+	i, j = max(i, 0), min(j, n-1)
+	if tb.lo > tb.hi {
+		tb.lo, tb.hi = i, i
+		tb.inv[i] = tb.invH(phiLow + float64(i)*phiStep)
+		tb.phi[i] = 0
+	}
+	if i < tb.lo {
+		to := max(0, min(i, tb.lo-phiGrowth))
+		for k := tb.lo - 1; k >= to; k-- {
+			tb.inv[k] = tb.invH(phiLow + float64(k)*phiStep)
+			tb.phi[k] = tb.phi[k+1] - tb.cell(k)
+		}
+		tb.lo = to
+	}
+	if j > tb.hi {
+		to := min(n-1, max(j, tb.hi+phiGrowth))
+		for k := tb.hi + 1; k <= to; k++ {
+			tb.inv[k] = tb.invH(phiLow + float64(k)*phiStep)
+			tb.phi[k] = tb.phi[k-1] + tb.cell(k-1)
+		}
+		tb.hi = to
+	}
+}
+
+// complete computes every node.
+func (tb *phiTable) complete() { tb.ensure(0, len(tb.phi)-1) }
 
 // at returns Φ(w), with the end slopes continued beyond the table.
 func (tb *phiTable) at(w float64) float64 {
@@ -95,11 +137,14 @@ func (tb *phiTable) at(w float64) float64 {
 	n := len(tb.phi)
 	switch {
 	case x <= 0:
+		tb.ensure(0, 0)
 		return tb.phi[0] + (w-phiLow)*tb.inv[0]
 	case x >= float64(n-1):
+		tb.ensure(n-1, n-1)
 		return tb.phi[n-1] + (w-phiLow-float64(n-1)*phiStep)*tb.inv[n-1]
 	}
 	i := int(x)
+	tb.ensure(i, i+1)
 	return tb.hermite(i, x-float64(i))
 }
 
@@ -110,33 +155,55 @@ func (tb *phiTable) hermite(i int, s float64) float64 {
 		(-2*s3+3*s2)*tb.phi[i+1] + (s3-s2)*phiStep*tb.inv[i+1]
 }
 
+// cover extends the computed nodes until they bracket f (or reach an end of the
+// table), so that f can be inverted; the table must have a node.
+func (tb *phiTable) cover(f float64) {
+	for tb.lo > 0 && f < tb.phi[tb.lo] {
+		tb.ensure(tb.lo-max(phiGrowth, (tb.hi-tb.lo)/2), tb.hi)
+	}
+	for tb.hi < len(tb.phi)-1 && f > tb.phi[tb.hi] {
+		tb.ensure(tb.lo, tb.hi+max(phiGrowth, (tb.hi-tb.lo)/2))
+	}
+}
+
 // invert returns the w with Φ(w) = f and h there (from the interpolant's slope); hint is a cell index to start
 // from (the previous answer when walking a time series), updated in place.
 func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	n := len(tb.phi)
-	if f <= tb.phi[0] {
+	if tb.lo > tb.hi {
+		tb.ensure(n/2, n/2)
+	}
+	tb.cover(f)
+	if f <= tb.phi[0] && tb.lo == 0 {
 		return phiLow + (f-tb.phi[0])/tb.inv[0], 1 / tb.inv[0]
 	}
-	if f >= tb.phi[n-1] {
+	if f >= tb.phi[n-1] && tb.hi == n-1 {
 		return phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1], 1 / tb.inv[n-1]
 	}
 	i := *hint
-	if i < 0 || i >= n-1 || !(tb.phi[i] <= f && f <= tb.phi[i+1]) {
-		if i >= 0 && i < n-2 && tb.phi[i+1] <= f && f <= tb.phi[i+2] {
+	if i < tb.lo || i >= tb.hi || !(tb.phi[i] <= f && f <= tb.phi[i+1]) {
+		if i >= tb.lo && i < tb.hi-1 && tb.phi[i+1] <= f && f <= tb.phi[i+2] {
 			i++
-		} else if i > 0 && i < n && tb.phi[i-1] <= f && f <= tb.phi[i] {
+		} else if i > tb.lo && i <= tb.hi && tb.phi[i-1] <= f && f <= tb.phi[i] {
 			i--
 		} else {
-			i = max(0, min(sort.SearchFloat64s(tb.phi, f)-1, n-2))
+			i = tb.lo + max(0, min(sort.SearchFloat64s(tb.phi[tb.lo:tb.hi+1], f)-1, tb.hi-tb.lo-1))
 		}
 	}
 	*hint = i
 	// Newton on the cell's cubic from the linear estimate; Φ' = 1/h > 0.
+	// Newton converges quadratically: after a step under 1e-8 of a cell the error
+	// left is of order 1e-16, so it stops there (at most 4 steps, as before).
 	s := (f - tb.phi[i]) / (tb.phi[i+1] - tb.phi[i])
 	for range 4 {
 		d := tb.hermite(i, s) - f
 		ds := tb.slope(i, s)
-		s = max(0, min(1, s-d/ds))
+		next := max(0, min(1, s-d/ds))
+		step := math.Abs(next - s)
+		s = next
+		if step < 1e-8 {
+			break
+		}
 	}
 	w = phiLow + (float64(i)+s)*phiStep
 	// h = 1/(dΦ/dw) of the interpolant itself, so the Jacobian is the derivative of
@@ -206,24 +273,40 @@ type hModel struct {
 	tmax     float64 // table extent, K
 	measured bool
 	amb      float64 // the measured reference ambient
+
+	w, th []float64 // each reading's w and θ·h at the last Jacobian
+	wt    []float64 // each point's weight (the square root of a bin's count), nil for 1
 }
 
 // residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
-// rows with ∂model/∂(w0, q) (the ambient column is filled by the caller).
-func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense) float64 {
+// rows with ∂model/∂(w0, q) and m.w, m.th with each reading's w and θ·h (for the
+// ambient column, which the caller fills). It returns the sum of squares, or stops
+// at the first partial sum above limit and returns that.
+func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense, limit float64) float64 {
 	var ssr float64
 	phi0 := tb.at(w0)
 	h0 := tb.law.H(tb.amb+tb.side*math.Exp(w0), tb.amb)
 	hint := -1
+	if jac != nil && m.w == nil {
+		m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+	}
 	for i, t := range m.ts {
 		w, h := tb.invert(phi0-q*t, &hint)
 		theta := m.side * math.Exp(w)
-		r[i] = m.y[i] - (tb.amb + theta)
+		wt := 1.0
+		if m.wt != nil {
+			wt = m.wt[i]
+		}
+		r[i] = wt * (m.y[i] - (tb.amb + theta))
 		ssr += r[i] * r[i]
+		if ssr > limit {
+			return ssr
+		}
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
-			jac.Set(i, 0, theta*h/h0)
-			jac.Set(i, 1, -theta*h*t)
+			jac.Set(i, 0, wt*theta*h/h0)
+			jac.Set(i, 1, -wt*theta*h*t)
+			m.w[i], m.th[i] = w, wt*theta*h
 		}
 	}
 	return ssr

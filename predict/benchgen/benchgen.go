@@ -312,8 +312,13 @@ func (c Case) crossing(sensor []float64) float64 {
 
 // Run simulates a case and returns it with CrossingS and Biot filled, and the CSV. A
 // door event's start, drawn as a share of the time to the crossing, is placed from a
-// first simulation without it.
-func Run(c Case) (Case, string) {
+// first simulation without it. The readings come about 400 to the crossing, at least
+// 2 s apart.
+func Run(c Case) (Case, string) { return RunEvery(c, 400, 2) }
+
+// RunEvery is Run with about readings readings to the crossing, at least minStepS
+// apart: a denser record, as a logger reading every second makes.
+func RunEvery(c Case, readings int, minStepS float64) (Case, string) {
 	if c.DoorLenS > 0 {
 		quiet := c
 		quiet.DoorLenS, quiet.DoorDropK = 0, 0
@@ -325,7 +330,7 @@ func Run(c Case) (Case, string) {
 	c.Biot = biot
 	c.CrossingS = c.crossing(sensor)
 	end := c.PlacedS + float64(len(sensor)-1)*simStep
-	c.StepS = math.Max(2, math.Round((c.CrossingS-c.PlacedS)/400))
+	c.StepS = math.Max(minStepS, math.Round((c.CrossingS-c.PlacedS)/float64(readings)))
 	rng := rand.New(rand.NewPCG(Seed, uint64(len(c.File))*7919+uint64(c.File[3])*31+uint64(c.File[4])))
 	var b strings.Builder
 	b.WriteString("t_s,temp_c")

@@ -12,6 +12,14 @@ The curve is our own: T = 22 + 180·exp(−t/900) °C over an hour, Gaussian
 noise σ = 0.1 °C from a fixed seed, quantised to 0.1 °C like a logger.
 
 Usage: python3 curvefit.py [OUTDIR]   (Debian: apt-get install python3-scipy)
+       python3 curvefit.py --time CSV [REPS]
+
+With --time it only times curve_fit on the curve in CSV and prints one JSON line of
+CPU microseconds per fit: "default" as above (the script's own start, numerical
+Jacobian), "jacobian" (the script's own start, analytic Jacobian) and
+"well_started" (started at the parameters the curve was made with, 22, 180, 900,
+with the analytic Jacobian), the most favourable set-up for curve_fit. The Go
+benchmark BenchmarkFitLumpedVsCurveFit runs it beside predict.FitLumped.
 """
 import json
 import os
@@ -26,7 +34,36 @@ def model(t, amb, exc, tau):
     return amb + exc * np.exp(-t / tau)
 
 
+def jacobian(t, amb, exc, tau):
+    e = np.exp(-t / tau)
+    return np.stack([np.ones_like(t), e, exc * t * e / tau**2], axis=1)
+
+
+def cpu_per_fit(fit, reps):
+    fit()  # warm-up
+    c0 = time.process_time()
+    for _ in range(reps):
+        fit()
+    return (time.process_time() - c0) / reps * 1e6
+
+
+def time_only(path, reps):
+    data = np.loadtxt(path, delimiter=",", skiprows=1)
+    t, y = data[:, 0], data[:, 1]
+    p0 = (y[-1], y[0] - y[-1], (t[-1] - t[0]) / 3)
+    out = {
+        "default": cpu_per_fit(lambda: curve_fit(model, t, y, p0=p0), reps),
+        "jacobian": cpu_per_fit(lambda: curve_fit(model, t, y, p0=p0, jac=jacobian), reps),
+        "well_started": cpu_per_fit(lambda: curve_fit(model, t, y, p0=(22.0, 180.0, 900.0), jac=jacobian), reps),
+        "reps": reps,
+    }
+    print(json.dumps(out))
+
+
 def main():
+    if len(sys.argv) > 2 and sys.argv[1] == "--time":
+        time_only(sys.argv[2], int(sys.argv[3]) if len(sys.argv) > 3 else 300)
+        return
     out = sys.argv[1] if len(sys.argv) > 1 else os.path.dirname(os.path.abspath(__file__))
     rng = np.random.default_rng(20260101)
     n = 2000

@@ -1,0 +1,34 @@
+package predict
+
+import (
+	"flag"
+	"strings"
+	"testing"
+
+	"github.com/settle-lab/settle/predict/benchgen"
+)
+
+var dense = flag.Bool("dense", false, "run TestAccuracyDense (the benchmark 8 times denser; minutes)")
+
+// TestAccuracyDense scores the generated benchmark's cases simulated again with about
+// 3,200 readings to the crossing, at least 1 s apart (testdata/bench has about 400,
+// at least 2 s): the density of a logger read every second, where the forecasts at
+// 25 and 50 % elapsed have more than maxFitPoints readings, so the h(T) fits iterate
+// on bins of them (binned).
+// Run it with go test ./predict -run TestAccuracyDense -v -dense (a few minutes); it
+// prints the table (compare it with a run before a change to the fits; it asserts
+// nothing).
+func TestAccuracyDense(t *testing.T) {
+	if !*dense {
+		t.Skip("dense accuracy benchmark runs with -dense")
+	}
+	sc := scoreCases(t, benchgen.Cases(), func(c benchgen.Case) (benchgen.Case, CurveFile) {
+		c, text := benchgen.RunEvery(c, 3200, 1)
+		curve, err := ReadCurveCSV(strings.NewReader(text), c.File)
+		if err != nil {
+			t.Fatalf("%s: %v", c.File, err)
+		}
+		return c, curve
+	})
+	t.Log(accuracyTable(sc))
+}
