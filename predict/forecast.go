@@ -420,6 +420,34 @@ func (f *forecaster) asymptoteSeen() bool {
 		readingsSettled(f.p.Times, f.p.Celsius)
 }
 
+// trendReaches reports whether the readings' own recent trend reaches level within
+// twice the time they span: the least-squares line through their second half, heading
+// for level by more than twice its standard error. A curve still moving toward a target
+// that fast has not clearly settled short of it, whatever a fitted settling temperature
+// says (a door opening or a re-warm early in the segment can bend a fit's asymptote and
+// pass a slow curve off as settled). A straight line overstates how fast a settling
+// curve gets anywhere, so this errs toward "insufficient", never toward "unreachable".
+func (f *forecaster) trendReaches(level float64) bool {
+	t, c := f.p.Times, f.p.Celsius
+	n := len(c)
+	h := n / 2
+	if h < 10 {
+		return false
+	}
+	b, se := slope(t[n-h:], c[n-h:])
+	var mt, mc float64
+	for i := n - h; i < n; i++ {
+		mt += t[i]
+		mc += c[i]
+	}
+	now := mc/float64(h) + b*(t[n-1]-mt/float64(h)) // the line at the last reading
+	gap := level - now
+	if math.Abs(b) <= 2*se || gap*b <= 0 {
+		return false
+	}
+	return gap/b <= 2*(t[n-1]-t[0])
+}
+
 // maxSettledRho: residuals more correlated than this (lag 1) mean the fit's settling
 // temperature and its standard error are not to be trusted for "unreachable".
 const maxSettledRho = 0.5
@@ -518,6 +546,11 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		if !out.Target.IsWithin() && (math.Abs(out.Celsius-f.fit.ambient()) <= u || f.mismatch || !f.asymptoteSeen()) {
 			out.State = StateInsufficient
 			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C lies short of %.1f °C, but the readings have not visibly settled toward it (or the model does not fit them well enough) to say the target is never reached.",
+				f.fit.ambient(), out.Celsius))
+		}
+		if out.State == StateUnreachable && f.p.Ambient == nil && f.trendReaches(out.Celsius) {
+			out.State = StateInsufficient
+			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C lies short of %.1f °C, but the readings are still heading for the target, so settle does not call it unreachable.",
 				f.fit.ambient(), out.Celsius))
 		}
 		if out.State == StateUnreachable && !f.plausibleRoom() {
