@@ -340,7 +340,9 @@ func (j *Journal) Close() error {
 		}
 		j.dbMu.Lock()
 		defer j.dbMu.Unlock()
-		for _, db := range []*sql.DB{j.wdb, j.rdb} {
+		// The reader first: the last connection to close folds the write-ahead log into
+		// the database, and only the writer can.
+		for _, db := range []*sql.DB{j.rdb, j.wdb} {
 			if db != nil {
 				if err := db.Close(); err != nil && j.closeE == nil {
 					j.closeE = fmt.Errorf("journal %s: close: %w", j.path, err)

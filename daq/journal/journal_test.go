@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"os"
 	"path/filepath"
 	"testing"
 	"time"
@@ -216,5 +217,38 @@ func TestAppendAfterClose(t *testing.T) {
 	}
 	if err := j.Flush(); !errors.Is(err, ErrClosed) {
 		t.Errorf("Flush after Close = %v, want ErrClosed", err)
+	}
+}
+
+// TestCloseFoldsTheLog: a clean close folds the write-ahead log into the database, so
+// the record is one file (what a backup or a copy to another machine takes).
+func TestCloseFoldsTheLog(t *testing.T) {
+	dir := t.TempDir()
+	j, err := Open(dir, Options{Logger: quiet})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range 2000 {
+		j.Append(reading("c1", i))
+	}
+	if err := j.Flush(); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := j.Count(""); err != nil { // the reader's connection is open too
+		t.Fatal(err)
+	}
+	if err := j.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := os.Stat(j.Path() + "-wal"); !os.IsNotExist(err) {
+		t.Errorf("after Close the write-ahead log is still there (%v)", err)
+	}
+	j, err = Open(dir, Options{Logger: quiet, ReadOnly: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer j.Close()
+	if n, err := j.Count(""); err != nil || n != 2000 {
+		t.Errorf("reopened: %d readings (%v), want 2000", n, err)
 	}
 }
