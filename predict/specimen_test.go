@@ -106,7 +106,7 @@ func TestReadCurveCSV(t *testing.T) {
 		t.Errorf("Until(10) kept %d rows, want 3", len(u.Times))
 	}
 	for in, want := range map[string]string{
-		"t,temp\n1,2\n":          "must name the columns t_s and temp_c",
+		"t,temp\n1,2\n":          "must name a time column in seconds (t_s, or elapsed_s",
 		"t_s,temp_c\n2,1\n1,1\n": "line 3: t_s 1 is before",
 		"":                       "header",
 	} {
