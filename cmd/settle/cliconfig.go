@@ -115,8 +115,8 @@ func (f *cliFlags) openRecord() (*journal.Journal, cliConfig, error) {
 		if !filepath.IsAbs(dir) {
 			hint = " (a relative data_dir is relative to the daemon's working directory; give the daemon an absolute data_dir)"
 		}
-		return nil, c, fmt.Errorf("no record in %s (the data directory from %s): no %s there yet; "+
-			"start the daemon with this configuration first, or name the daemon's data directory%s", abs, from, journal.FileName, hint)
+		return nil, c, fmt.Errorf("no record in %s (the data directory from %s): no %s there; "+
+			"the daemon creates it when it starts, so start it first, or name the data directory it uses%s", abs, from, journal.FileName, hint)
 	}
 	return j, c, err
 }
@@ -208,7 +208,7 @@ func clientTLS(certFile string) *tls.Config {
 // listKnown formats known names for an error: all of them up to max, then a count.
 func listKnown(names []string, max int) string {
 	if len(names) == 0 {
-		return "none yet"
+		return "none"
 	}
 	if len(names) <= max {
 		return strings.Join(names, ", ")

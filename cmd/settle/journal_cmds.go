@@ -180,7 +180,7 @@ func runReport(stdout io.Writer, f *cliFlags, runID, out string) error {
 	defer j.Close()
 	run, err := findRun(j, runID)
 	if err != nil {
-		return err
+		return fmt.Errorf("report: %w", err)
 	}
 	fc, err := reportForecast(j, c, run)
 	if err != nil {

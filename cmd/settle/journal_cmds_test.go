@@ -104,7 +104,7 @@ func TestExportErrors(t *testing.T) {
 		{[]string{"export", "--channel", "x"}, "--data-dir"},
 		{[]string{"export", "--data-dir", dir, "--channel", "x", "--from", "yesterday"}, `--from "yesterday"`},
 		{[]string{"export", "--data-dir", t.TempDir(), "--channel", "x"}, journal.FileName},
-		{[]string{"report", "nope", "--data-dir", dir}, `unknown run "nope": the record has no runs yet`},
+		{[]string{"report", "nope", "--data-dir", dir}, `report: unknown run "nope": the record has no runs yet`},
 	} {
 		if _, err := executeJournalCmd(t, tc.args...); err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%v: %v, want an error mentioning %q", tc.args, err, tc.want)
