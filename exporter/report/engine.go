@@ -47,8 +47,9 @@ func (e Engine) spec(channel string) (predict.ChannelSpec, bool) {
 // That is the forecast the daemon showed when it recorded its last forecast of the
 // run (the daemon records one as a run stops), on the condition that it fitted those
 // same readings: true unless the daemon was restarted during the run with more than
-// ResumeWindow or ResumePerChannel readings behind it, or a gap in the readings hid a
-// step of more than the tracker's jump (20 °C) that the live fit bridged.
+// ResumeWindow or ResumePerChannel readings behind it, or two consecutive readings
+// were more than the tracker's jump (20 °C) apart, a step the live fit bridges when its
+// curve predicts it and a replay, which fits once at the end, cannot.
 //
 // A channel that is no longer configured falls back to Refit (with a note saying so).
 func (e Engine) Forecast(j *journal.Journal, run journal.Run) (*predict.Forecast, error) {
