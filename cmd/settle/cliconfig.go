@@ -57,6 +57,9 @@ func (f *cliFlags) addDaemonFlags(cmd *cobra.Command) {
 type cliConfig struct {
 	path string
 	cfg  *config.Config
+	// skipped is why the default file, found but not loaded, was left aside; it is
+	// reported only when nothing else names what the command needs.
+	skipped error
 }
 
 // loadConfig finds and loads the configuration: --config, then SETTLE_CONFIG, then
@@ -70,7 +73,11 @@ func (f *cliFlags) loadConfig() (cliConfig, error) {
 		if _, err := os.Stat(defaultConfigPath); err != nil {
 			return cliConfig{}, nil
 		}
-		path = defaultConfigPath
+		cfg, err := config.Load(defaultConfigPath)
+		if err != nil { // unreadable by this user, say: flags may still say enough
+			return cliConfig{skipped: fmt.Errorf("%w (read by default; give --config FILE to name another)", err)}, nil
+		}
+		return cliConfig{path: defaultConfigPath, cfg: cfg}, nil
 	}
 	cfg, err := config.Load(path)
 	if err != nil {
@@ -92,6 +99,8 @@ func (f *cliFlags) resolveDataDir(c cliConfig) (dir, from string, err error) {
 		return os.Getenv(config.EnvDataDir), config.EnvDataDir, nil
 	case c.cfg != nil:
 		return c.cfg.DataDir, "data_dir in " + c.path, nil
+	case c.skipped != nil:
+		return "", "", c.skipped
 	}
 	return "", "", errNoDataDir
 }
@@ -159,6 +168,9 @@ func (f *cliFlags) daemon(c cliConfig) (daemonTarget, error) {
 	}
 	if t.token != "" {
 		return t, nil
+	}
+	if c.skipped != nil {
+		return t, c.skipped
 	}
 	if c.cfg != nil {
 		return t, fmt.Errorf("no API token: the daemon needs http.token set in %s (or %s in the daemon's environment) "+
