@@ -72,6 +72,8 @@ func TestCurveDialect(t *testing.T) {
 		{name: "only blank and comment lines", in: "\n# a note\n\n", err: "x.csv: empty file"},
 		{name: "no time column", in: "time;temp\n1;2\n",
 			err: `x.csv line 1: header "time;temp" must name a time column in seconds (t_s, or elapsed_s as settle export writes) and a temperature column (temp_c or celsius)`},
+		{name: "a quote never closed", in: "t_s,temp_c\n0,200\n5,\"190\n10,180\n",
+			err: `x.csv line 3: extraneous or missing " in quoted-field`},
 		{name: "time going back", in: "t_s,temp_c\n2,1\n1,1\n", err: "x.csv line 3: t_s 1 is before the previous row's 2"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {

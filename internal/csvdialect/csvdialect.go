@@ -47,7 +47,6 @@ func NewReader(r io.Reader) (*Reader, error) {
 	cr.Comma = comma
 	cr.Comment = '#'
 	cr.FieldsPerRecord = -1
-	cr.LazyQuotes = true
 	head, err := cr.Read()
 	if errors.Is(err, io.EOF) {
 		return nil, ErrEmpty
@@ -92,14 +91,14 @@ func sniff(br *bufio.Reader) (rune, []byte, error) {
 }
 
 // Read returns the next row and its line number; io.EOF after the last. The slice is
-// reused by the next call. A row the CSV rules cannot split (a stray quote) is an
-// error naming the line.
+// reused by the next call. A row the CSV rules cannot split (a stray quote, a quote
+// never closed) is an error naming the line the row starts on.
 func (r *Reader) Read() ([]string, int, error) {
 	rec, err := r.cr.Read()
 	if err != nil {
 		var pe *csv.ParseError
-		if errors.As(err, &pe) {
-			return nil, pe.Line, fmt.Errorf("line %d: %v", pe.Line, pe.Err)
+		if errors.As(err, &pe) { // the line where the row starts, as a user looks for it
+			return nil, pe.StartLine, fmt.Errorf("line %d: %v", pe.StartLine, pe.Err)
 		}
 		return nil, 0, err
 	}
