@@ -106,7 +106,7 @@ func TestReadCurveCSV(t *testing.T) {
 		t.Errorf("Until(10) kept %d rows, want 3", len(u.Times))
 	}
 	for in, want := range map[string]string{
-		"t,temp\n1,2\n":          "must name the columns t_s and temp_c",
+		"t,temp\n1,2\n":          "must name a time column in seconds (t_s, or elapsed_s",
 		"t_s,temp_c\n2,1\n1,1\n": "line 3: t_s 1 is before",
 		"":                       "header",
 	} {
@@ -128,6 +128,10 @@ func FuzzReadCurveCSV(f *testing.F) {
 		}
 		f.Add(b[:min(len(b), 2000)])
 	}
+	// The other members of the dialect family: ';' with decimal commas, and an export.
+	f.Add([]byte("\ufefft_s;temp_c;ambient_c\r\n0;200,5;21\r\n5;190,25;\r\nfoo;1;2\r\n"))
+	f.Add([]byte("time,elapsed_s,channel,logger,celsius,status,raw\r\n2026-03-14T09:00:00.000Z,0.000,a,b,150.5,ok,150.5\r\n" +
+		"2026-03-14T09:00:10.000Z,10.000,a,b,,open,\"OPEN,TC\"\r\n"))
 	f.Fuzz(func(t *testing.T, b []byte) {
 		c, err := ReadCurveCSV(bytes.NewReader(b), "fuzz")
 		if err != nil {
@@ -140,6 +144,9 @@ func FuzzReadCurveCSV(f *testing.F) {
 			if math.IsInf(c.Celsius[i], 0) {
 				t.Fatalf("infinite temperature at %d", i)
 			}
+		}
+		if len(c.Malformed) > MaxMalformed || len(c.Malformed) > c.MalformedRows {
+			t.Fatalf("%d malformed rows listed of %d", len(c.Malformed), c.MalformedRows)
 		}
 		// Whatever was read must go through the engine without a panic.
 		p, _, _ := Prepare(c.Times, c.Celsius, c.FilledAmbient())

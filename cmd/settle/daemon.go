@@ -15,6 +15,7 @@ import (
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/clean"
 	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -43,9 +44,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	if err != nil {
 		return nil, err
 	}
-	// At most one fit per channel per wall-clock second: a time-lapse demo or a fast
-	// replay must not spend the CPU on fits (the maintenance loop fits what is left).
-	d.bench = predict.NewBench(specs, predict.TrackerOptions{MinFitGap: time.Second})
+	d.bench = predict.NewBench(specs, trackerOptions)
 	d.cleaner = clean.New(cfg.Loggers)
 	d.clock = clean.NewClockCheck(cfg.Loggers, clean.ClockOptions{})
 	for _, lc := range cfg.Loggers {
@@ -64,7 +63,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
 	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)
 	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
-		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
+		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token, &report.Engine{Specs: specs, Options: trackerOptions}), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
 		Health: d.replay.health, Placement: d.rec.placementAPI(),
 	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
 	daq.ReserveDescriptors() // low descriptors for the serial ports, before clients arrive
@@ -88,6 +87,12 @@ func (d *daemon) portStats() []daq.PortStats {
 	}
 	return out
 }
+
+// trackerOptions are the daemon's tracker settings; reports replay runs with the same
+// (report.Engine). At most one fit per channel per wall-clock second: a time-lapse demo
+// or a fast replay must not spend the CPU on fits (the maintenance loop fits what is
+// left); a replay fits once, so the gap does not change its result.
+var trackerOptions = predict.TrackerOptions{MinFitGap: time.Second}
 
 // analysisQueue is how many readings may wait for cleaning and fitting. Readings are
 // journaled before they enter it; when it is full (fits far behind) a reading still

@@ -32,6 +32,9 @@ type fitRequest struct {
 	band         float64
 	specimenPath string
 	plotPath     string
+	// progress receives progress lines for a fit that takes more than a second
+	// (standard error; nil: none).
+	progress io.Writer
 }
 
 // handlingMaxC is the highest fixed target that `settle fit` treats as a handling
@@ -52,8 +55,15 @@ lumped model with a temperature-dependent surface coefficient and, for a describ
 specimen whose Biot number is 0.1 or more, conduction inside it; intervals) and
 forecast when it reaches its targets.
 
-FILE is a CSV with a header naming t_s (seconds) and temp_c, and optionally
-ambient_c (a measured ambient). An empty or non-numeric cell is a missing reading.
+FILE is a CSV with a header naming the time in seconds (t_s, or elapsed_s as
+'settle export' writes it), the temperature (temp_c or celsius) and optionally a
+measured ambient (ambient_c); other columns are ignored, so an export is read as is.
+Fields are separated by ',' or ';' (found from the header), and numbers take '.' or
+',' as the decimal mark ("21,5" in a ';' file). An empty or non-numeric temperature is
+a missing reading; a row with a cell missing or one too many, or a time that is not a
+number, is left out and named with its line number in the notes (the first few, then a
+count). An empty file is an error. A fit that takes more than a second shows its
+progress on standard error (never on standard output, where --json writes).
 
 --until S uses only rows with t_s <= S: the forecast as it would have been live at S.
 --target NAME=CELSIUS adds a fixed target (repeatable); --settle-band C adds a target
@@ -84,6 +94,7 @@ the summary then shows the handling cautions. Forecasts are estimates.`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			r.file = args[0]
 			r.hasUntil = cmd.Flags().Changed("until")
+			r.progress = cmd.ErrOrStderr()
 			res, err := r.run()
 			if err != nil {
 				return fmt.Errorf("fit: %w", err)
@@ -142,7 +153,13 @@ func (r fitRequest) run() (*fitResult, error) {
 		return nil, err
 	}
 	defer f.Close()
-	curve, err := predict.ReadCurveCSV(f, r.file)
+	var size int64
+	if st, err := f.Stat(); err == nil {
+		size = st.Size()
+	}
+	prog := startProgress(r.progress, r.file, size)
+	defer prog.end()
+	curve, err := predict.ReadCurveCSV(prog.reader(f), r.file)
 	if err != nil {
 		return nil, err
 	}
@@ -157,11 +174,15 @@ func (r fitRequest) run() (*fitResult, error) {
 	if r.hasUntil {
 		res.until = r.until
 	}
+	prog.setPhase("fitting " + thousands(len(curve.Times)) + " readings")
 	p, onset, dropped := predict.Prepare(curve.Times, curve.Celsius, curve.FilledAmbient())
 	res.dropped = dropped
 	res.forecast = predict.Analyze(p, fitOrigin.Add(secondsDur(onset)), markHandling(targets, curve), opt)
 	if dropped > 0 {
 		res.forecast.Notes = append(res.forecast.Notes, fmt.Sprintf("%d readings were left out as missing, non-numeric or spikes.", dropped))
+	}
+	if note := curve.MalformedNote(); note != "" {
+		res.forecast.Notes = append(res.forecast.Notes, note)
 	}
 	return res, nil
 }

@@ -10,7 +10,9 @@ import (
 	"net/http"
 	"net/url"
 	"os"
+	"slices"
 	"strings"
+	"text/tabwriter"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -22,27 +24,6 @@ import (
 
 func init() {
 	subcommands = append(subcommands, newExportCmd, newReportCmd, newRunsCmd, newRunStartCmd, newRunStopCmd)
-}
-
-// journalDataDir resolves --data-dir, then SETTLE_DATA_DIR.
-func journalDataDir(flag string) (string, error) {
-	if flag != "" {
-		return flag, nil
-	}
-	if env := os.Getenv("SETTLE_DATA_DIR"); env != "" {
-		return env, nil
-	}
-	return "", errors.New("give --data-dir DIR or set SETTLE_DATA_DIR (the daemon's data_dir)")
-}
-
-// openJournalRO opens the journal in a data directory read-only; it is safe while the
-// daemon writes it.
-func openJournalRO(dirFlag string) (*journal.Journal, error) {
-	dir, err := journalDataDir(dirFlag)
-	if err != nil {
-		return nil, err
-	}
-	return journal.Open(dir, journal.Options{ReadOnly: true})
 }
 
 // journalTimeLayouts are the accepted --from/--to forms; those without a zone are
@@ -63,19 +44,25 @@ func parseJournalTime(flag, s string) (time.Time, error) {
 }
 
 func newExportCmd() *cobra.Command {
-	var dataDir, channel, from, to, out string
+	var f cliFlags
+	var channel, from, to, out string
 	cmd := &cobra.Command{
-		Use:   "export --channel C [--from T] [--to T] [--out FILE]",
-		Short: "Write a channel's recorded readings as CSV a spreadsheet opens as is",
+		Use:   "export --channel C [--from T] [--to T] [--out FILE] [--config FILE]",
+		Short: "Write a channel's recorded readings as CSV (settle fit reads it back)",
 		Long: `Write the readings of one channel from the journal as CSV: a header row, comma
 separated, '.' as decimal point, ISO 8601 UTC times, seconds since the first reading,
-°C (empty for a fault) and the reading's status. --from is inclusive, --to exclusive;
-times without a zone are local. It reads the journal read-only, so it is safe while the
-daemon runs.`,
-		Example: "  settle export --data-dir /var/lib/settle --channel rack-3 --from 2026-03-14 --to 2026-03-15 --out rack-3.csv",
+°C (empty for a fault) and the reading's status. A spreadsheet opens it as is, and
+'settle fit' reads it back (it takes elapsed_s as the time and celsius as the
+temperature). --from is inclusive, --to exclusive; times without a zone are local.
+
+The data directory comes from --data-dir, else SETTLE_DATA_DIR, else data_dir in the
+configuration (--config, else SETTLE_CONFIG, else ` + defaultConfigPath + ` if it exists).
+It reads the journal read-only, so it is safe while the daemon runs. A channel the
+record has never seen is an error that lists the known ones.`,
+		Example: "  settle export --config /etc/settle/settle.yaml --channel rack-3 --from 2026-03-14 --to 2026-03-15 --out rack-3.csv",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			f, err := parseJournalTime("from", from)
+			fr, err := parseJournalTime("from", from)
 			if err != nil {
 				return err
 			}
@@ -83,11 +70,11 @@ daemon runs.`,
 			if err != nil {
 				return err
 			}
-			return runExport(cmd.OutOrStdout(), cmd.ErrOrStderr(), dataDir, channel, f, t, out)
+			return runExport(cmd.OutOrStdout(), cmd.ErrOrStderr(), &f, channel, fr, t, out)
 		},
 	}
 	fl := cmd.Flags()
-	fl.StringVar(&dataDir, "data-dir", "", "the daemon's data directory (default $SETTLE_DATA_DIR)")
+	f.addRecordFlags(cmd)
 	fl.StringVar(&channel, "channel", "", "channel name (required)")
 	fl.StringVar(&from, "from", "", "first time, inclusive (default: the first reading)")
 	fl.StringVar(&to, "to", "", "last time, exclusive (default: the last reading)")
@@ -96,12 +83,15 @@ daemon runs.`,
 	return cmd
 }
 
-func runExport(stdout, stderr io.Writer, dataDir, channel string, from, to time.Time, out string) error {
-	j, err := openJournalRO(dataDir)
+func runExport(stdout, stderr io.Writer, f *cliFlags, channel string, from, to time.Time, out string) error {
+	j, c, err := f.openRecord()
 	if err != nil {
 		return err
 	}
 	defer j.Close()
+	if err := checkChannel(j, c, channel); err != nil {
+		return fmt.Errorf("export: %w", err)
+	}
 	var buf bytes.Buffer
 	n, err := report.WriteCSV(&buf, j.Readings(channel, from, to), time.Time{})
 	if err != nil {
@@ -121,41 +111,78 @@ func runExport(stdout, stderr io.Writer, dataDir, channel string, from, to time.
 	return nil
 }
 
+// knownChannels are the channels the record has readings of and those the
+// configuration names, sorted.
+func knownChannels(j *journal.Journal, c cliConfig) ([]string, error) {
+	names, err := j.Channels()
+	if err != nil {
+		return nil, err
+	}
+	if c.cfg != nil {
+		for _, ch := range c.cfg.Channels {
+			names = append(names, ch.Name)
+		}
+	}
+	slices.Sort(names)
+	return slices.Compact(names), nil
+}
+
+// checkChannel refuses a channel that neither the record nor the configuration knows,
+// listing the known ones.
+func checkChannel(j *journal.Journal, c cliConfig, channel string) error {
+	known, err := knownChannels(j, c)
+	if err != nil || slices.Contains(known, channel) {
+		return err
+	}
+	return fmt.Errorf("unknown channel %q: known channels: %s", channel, listKnown(known, 20))
+}
+
 func newReportCmd() *cobra.Command {
-	var dataDir, out string
+	var f cliFlags
+	var out string
 	cmd := &cobra.Command{
-		Use:   "report RUN [--out DIR]",
+		Use:   "report RUN [--out DIR] [--config FILE]",
 		Short: "Write a run's report: readings CSV, JSON summary and PNG figure",
 		Long: `Write the report of a recorded run from the journal: RUN-readings.csv, RUN-summary.json
 (specimen, model, fitted parameters, h, Biot number, each target's observed crossing and
-how the forecast converged) and RUN.png. The model is refitted from the recorded
-readings. The journal is opened read-only, so this is safe while the daemon runs.
-'settle runs' lists run ids.
+how the forecast converged) and RUN.png.
+
+The forecast is made as the daemon made it: the configuration's specimen and targets
+for the channel, its measured ambient channel, and the readings up to the daemon's last
+recorded forecast of the run (it records one whenever the forecast moves, and as the
+run or the daemon stops), replayed through the daemon's engine. A report of a stopped
+run therefore shows the figures the status page and the API showed when it stopped.
+So give the daemon's configuration (--config, else SETTLE_CONFIG, else
+` + defaultConfigPath + ` if it exists); without one the run is refitted with its own stored
+targets and a fitted ambient, and the report says so.
+
+The journal is opened read-only, so this is safe while the daemon runs. 'settle runs'
+lists run ids; an unknown id is an error that lists the newest ones.
 
 Forecasts are estimates. Before handling a specimen, verify its temperature with a
 contact thermometer and follow your lab's rules.`,
-		Example: "  settle report 20260314T090000Z-rack-3 --data-dir /var/lib/settle --out reports/",
+		Example: "  settle report 20260314T090000Z-rack-3 --config /etc/settle/settle.yaml --out reports/",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return runReport(cmd.OutOrStdout(), dataDir, args[0], out)
+			return runReport(cmd.OutOrStdout(), &f, args[0], out)
 		},
 	}
-	cmd.Flags().StringVar(&dataDir, "data-dir", "", "the daemon's data directory (default $SETTLE_DATA_DIR)")
+	f.addRecordFlags(cmd)
 	cmd.Flags().StringVar(&out, "out", ".", "folder for the report files")
 	return cmd
 }
 
-func runReport(stdout io.Writer, dataDir, runID, out string) error {
-	j, err := openJournalRO(dataDir)
+func runReport(stdout io.Writer, f *cliFlags, runID, out string) error {
+	j, c, err := f.openRecord()
 	if err != nil {
 		return err
 	}
 	defer j.Close()
-	run, err := j.Run(runID)
+	run, err := findRun(j, runID)
 	if err != nil {
-		return err
+		return fmt.Errorf("report: %w", err)
 	}
-	fc, err := report.Refit(j, run, predict.TrackerOptions{})
+	fc, err := reportForecast(j, c, run)
 	if err != nil {
 		return err
 	}
@@ -167,39 +194,125 @@ func runReport(stdout io.Writer, dataDir, runID, out string) error {
 	return nil
 }
 
+// reportForecast is the forecast of a report: the daemon's engine with the
+// configuration, a refit without one.
+func reportForecast(j *journal.Journal, c cliConfig, run journal.Run) (*predict.Forecast, error) {
+	if c.cfg == nil {
+		fc, err := report.Refit(j, run, predict.TrackerOptions{})
+		if fc != nil {
+			fc.Notes = append(fc.Notes, "Made without the daemon's configuration (give --config): the daemon's figures may differ.")
+		}
+		return fc, err
+	}
+	specs, err := predict.SpecsFromConfig(c.cfg.Channels)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", c.path, err)
+	}
+	return report.Engine{Specs: specs, Options: trackerOptions}.Forecast(j, run)
+}
+
+// findRun looks a run up; an unknown id is an error listing the newest runs.
+func findRun(j *journal.Journal, id string) (journal.Run, error) {
+	run, err := j.Run(id)
+	if !errors.Is(err, journal.ErrNoRun) {
+		return run, err
+	}
+	runs, lerr := j.Runs(journal.RunFilter{Limit: 11})
+	if lerr != nil {
+		return run, lerr
+	}
+	if len(runs) == 0 {
+		return run, fmt.Errorf("unknown run %q: the record has no runs yet", id)
+	}
+	ids := make([]string, 0, len(runs))
+	for _, r := range runs {
+		ids = append(ids, r.ID)
+	}
+	more := ""
+	if len(ids) > 10 {
+		ids, more = ids[:10], "; settle runs lists them all"
+	}
+	return run, fmt.Errorf("unknown run %q: newest runs: %s%s", id, strings.Join(ids, ", "), more)
+}
+
 func newRunsCmd() *cobra.Command {
-	var dataDir, channel string
+	var f cliFlags
+	var channel, specimen string
 	var active bool
 	cmd := &cobra.Command{
-		Use:   "runs [--channel C] [--active]",
+		Use:   "runs [--channel C] [--specimen ID] [--active] [--config FILE]",
 		Short: "List recorded runs, newest first",
-		Args:  cobra.NoArgs,
+		Long: `List the recorded runs, newest first, under a header: run id, channel, specimen,
+start and stop (UTC). It prints "no runs yet" when there are none. An unknown channel
+or specimen is an error that lists the known ones. The data directory is found as for
+'settle export'.`,
+		Example: "  settle runs --config /etc/settle/settle.yaml --channel rack-3",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			j, err := openJournalRO(dataDir)
-			if err != nil {
-				return err
-			}
-			defer j.Close()
-			runs, err := j.Runs(journal.RunFilter{Channel: channel, ActiveOnly: active})
-			if err != nil {
-				return err
-			}
-			w := cmd.OutOrStdout()
-			for _, r := range runs {
-				stop := "active"
-				if !r.Active() {
-					stop = r.Stopped.Format(time.RFC3339)
-				}
-				fmt.Fprintf(w, "%s\t%s\t%s\t%s\t%s\n", r.ID, r.Channel, r.Specimen, r.Started.Format(time.RFC3339), stop)
-			}
-			return nil
+			return runRuns(cmd.OutOrStdout(), &f, journal.RunFilter{Channel: channel, ActiveOnly: active}, specimen)
 		},
 	}
 	fl := cmd.Flags()
-	fl.StringVar(&dataDir, "data-dir", "", "the daemon's data directory (default $SETTLE_DATA_DIR)")
+	f.addRecordFlags(cmd)
 	fl.StringVar(&channel, "channel", "", "only this channel")
+	fl.StringVar(&specimen, "specimen", "", "only this specimen id")
 	fl.BoolVar(&active, "active", false, "only active runs")
 	return cmd
+}
+
+func runRuns(w io.Writer, f *cliFlags, filter journal.RunFilter, specimen string) error {
+	j, c, err := f.openRecord()
+	if err != nil {
+		return err
+	}
+	defer j.Close()
+	if filter.Channel != "" {
+		if err := checkChannel(j, c, filter.Channel); err != nil {
+			return fmt.Errorf("runs: %w", err)
+		}
+	}
+	filter.Limit = 1 << 30
+	runs, err := j.Runs(filter)
+	if err != nil {
+		return err
+	}
+	if specimen != "" {
+		if runs, err = bySpecimen(runs, specimen); err != nil {
+			return fmt.Errorf("runs: %w", err)
+		}
+	}
+	if len(runs) == 0 {
+		_, err := fmt.Fprintln(w, "no runs yet")
+		return err
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "RUN\tCHANNEL\tSPECIMEN\tSTARTED\tSTOPPED")
+	for _, r := range runs {
+		stop := "active"
+		if !r.Active() {
+			stop = r.Stopped.UTC().Format(time.RFC3339)
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\n", r.ID, r.Channel, r.Specimen, r.Started.UTC().Format(time.RFC3339), stop)
+	}
+	return tw.Flush()
+}
+
+// bySpecimen keeps the runs of one specimen; a specimen no run has is an error that
+// lists the known ones.
+func bySpecimen(runs []journal.Run, specimen string) ([]journal.Run, error) {
+	var out []journal.Run
+	var known []string
+	for _, r := range runs {
+		if r.Specimen == specimen {
+			out = append(out, r)
+		}
+		known = append(known, r.Specimen)
+	}
+	if len(out) > 0 {
+		return out, nil
+	}
+	slices.Sort(known)
+	return nil, fmt.Errorf("unknown specimen %q: known specimens: %s", specimen, listKnown(slices.Compact(known), 20))
 }
 
 // daemonClient talks to a running daemon's runs API.
@@ -208,20 +321,25 @@ type daemonClient struct {
 	http        *http.Client
 }
 
-func newDaemonClient(addr, token string) (*daemonClient, error) {
-	if token == "" {
-		token = os.Getenv("SETTLE_TOKEN")
+// newDaemonClient finds the daemon's address and token (flags, SETTLE_ variables, the
+// configuration) and returns a client and the configuration it found.
+func newDaemonClient(f *cliFlags) (*daemonClient, cliConfig, error) {
+	c, err := f.loadConfig()
+	if err != nil {
+		return nil, c, err
 	}
-	if token == "" {
-		return nil, errors.New("give --token or set SETTLE_TOKEN (the daemon's API token)")
+	t, err := f.daemon(c)
+	if err != nil {
+		return nil, c, err
 	}
-	if !strings.Contains(addr, "://") {
-		addr = "http://" + addr
+	if _, err := url.Parse(t.url); err != nil {
+		return nil, c, fmt.Errorf("daemon address %q: %w", t.url, err)
 	}
-	if _, err := url.Parse(addr); err != nil {
-		return nil, fmt.Errorf("--addr %q: %w", addr, err)
+	hc := &http.Client{Timeout: 15 * time.Second}
+	if t.tls != nil {
+		hc.Transport = &http.Transport{TLSClientConfig: t.tls}
 	}
-	return &daemonClient{addr: strings.TrimRight(addr, "/"), token: token, http: &http.Client{Timeout: 15 * time.Second}}, nil
+	return &daemonClient{addr: t.url, token: t.token, http: hc}, c, nil
 }
 
 // call sends a request and decodes a JSON reply into out, turning an API error into
@@ -243,7 +361,7 @@ func (c *daemonClient) call(ctx context.Context, method, path string, body, out 
 	req.Header.Set("Content-Type", "application/json")
 	resp, err := c.http.Do(req)
 	if err != nil {
-		return fmt.Errorf("daemon at %s: %w (is `settle run` running there?)", c.addr, err)
+		return fmt.Errorf("daemon at %s: %w (is `settle run` running there? its address is listen in the configuration)", c.addr, err)
 	}
 	defer resp.Body.Close()
 	b, err := io.ReadAll(io.LimitReader(resp.Body, 1<<20))
@@ -263,20 +381,43 @@ func (c *daemonClient) call(ctx context.Context, method, path string, body, out 
 	return nil
 }
 
+// configuredChannel refuses a channel the configuration does not name, listing the
+// ones it does (without a configuration the daemon judges).
+func configuredChannel(c cliConfig, channel string) error {
+	if c.cfg == nil {
+		return nil
+	}
+	var known []string
+	for _, ch := range c.cfg.Channels {
+		if ch.Name == channel {
+			return nil
+		}
+		known = append(known, ch.Name)
+	}
+	slices.Sort(known)
+	return fmt.Errorf("unknown channel %q: channels in %s: %s", channel, c.path, listKnown(known, 20))
+}
+
 func newRunStartCmd() *cobra.Command {
-	var addr, token, specFile, targets string
+	var f cliFlags
+	var specFile, targets string
 	var spec journal.RunSpec
 	cmd := &cobra.Command{
-		Use:   "run-start --channel C --specimen ID [--description TEXT] [--specimen-file FILE] [--targets JSON]",
+		Use:   "run-start --channel C --specimen ID [--description TEXT] [--specimen-file FILE] [--targets JSON] [--config FILE]",
 		Short: "Tell the running daemon that a specimen is on a channel (start a run)",
 		Long: `Start a run on the running daemon: from now, the channel's readings, forecasts and
 target crossings belong to the specimen. --specimen-file is the specimen description
-(the YAML 'settle fit --specimen' reads: shape, size_m, length_m, sensor, material)
-stored with the run and used by reports; --targets a JSON array such
+(the YAML 'settle fit --specimen' reads: shape, size_m, length_m, sensor, material),
+stored with the run (the daemon and reports forecast with the channel's configured
+specimen, channels[].specimen); --targets a JSON array such
 as [{"name":"handle","celsius":45,"handling":true},{"name":"settled","within":2}]
-(default: the channel's configured targets). Needs the daemon's API token (--token or
-SETTLE_TOKEN).`,
-		Example: "  settle run-start --channel rack-3 --specimen S-2026-041 --description 'quenched bar'",
+stored with the run (default: the channel's configured targets).
+
+The daemon's address and API token come from the configuration (--config, else
+SETTLE_CONFIG, else ` + defaultConfigPath + ` if it exists: listen and http.token), with
+--addr/SETTLE_LISTEN and --token/SETTLE_TOKEN overriding. The daemon refuses run
+changes until http.token is set in its configuration.`,
+		Example: "  settle run-start --config /etc/settle/settle.yaml --channel rack-3 --specimen S-2026-041 --description 'quenched bar'",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			if specFile != "" {
@@ -295,9 +436,12 @@ SETTLE_TOKEN).`,
 				}
 				spec.Targets = json.RawMessage(targets)
 			}
-			c, err := newDaemonClient(addr, token)
+			c, cc, err := newDaemonClient(&f)
 			if err != nil {
 				return err
+			}
+			if err := configuredChannel(cc, spec.Channel); err != nil {
+				return fmt.Errorf("run-start: %w", err)
 			}
 			spec.Origin = "cli"
 			var run journal.Run
@@ -314,39 +458,40 @@ SETTLE_TOKEN).`,
 	fl.StringVar(&spec.Description, "description", "", "free text")
 	fl.StringVar(&specFile, "specimen-file", "", "specimen description file (YAML, as for settle fit --specimen)")
 	fl.StringVar(&targets, "targets", "", "targets as a JSON array")
-	addDaemonFlags(cmd, &addr, &token)
+	f.addDaemonFlags(cmd)
 	_ = cmd.MarkFlagRequired("channel")
 	_ = cmd.MarkFlagRequired("specimen")
 	return cmd
 }
 
 func newRunStopCmd() *cobra.Command {
-	var addr, token, channel, runID string
+	var f cliFlags
+	var channel, runID string
 	cmd := &cobra.Command{
-		Use:   "run-stop (--channel C | --run ID)",
+		Use:   "run-stop (--channel C | --run ID) [--config FILE]",
 		Short: "Tell the running daemon that a run has ended (specimen removed)",
-		Args:  cobra.NoArgs,
+		Long: `Stop a run on the running daemon: the active run of --channel, or the run --run
+names. The daemon records the forecast it shows at that moment as the run's last, so a
+later 'settle report' shows the same figures. The address and token are found as for
+'settle run-start'.`,
+		Example: "  settle run-stop --config /etc/settle/settle.yaml --channel rack-3",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			if (channel == "") == (runID == "") {
 				return errors.New("run-stop: give exactly one of --channel C or --run ID")
 			}
-			c, err := newDaemonClient(addr, token)
+			c, cc, err := newDaemonClient(&f)
 			if err != nil {
 				return err
 			}
 			if runID == "" {
-				var list struct{ Runs []journal.Run }
-				if err := c.call(cmd.Context(), http.MethodGet, "/api/v1/runs?active=true&channel="+url.QueryEscape(channel), nil, &list); err != nil {
+				if runID, err = activeRunID(cmd.Context(), c, cc, channel); err != nil {
 					return err
 				}
-				if len(list.Runs) == 0 {
-					return fmt.Errorf("run-stop: no active run on channel %s", channel)
-				}
-				runID = list.Runs[0].ID
 			}
 			var run journal.Run
 			if err := c.call(cmd.Context(), http.MethodPost, "/api/v1/runs/"+url.PathEscape(runID)+"/stop", struct{}{}, &run); err != nil {
-				return err
+				return unknownRun(cmd.Context(), c, runID, err)
 			}
 			fmt.Fprintf(cmd.OutOrStdout(), "stopped run %s (%s on %s)\n", run.ID, run.Specimen, run.Channel)
 			return nil
@@ -355,11 +500,43 @@ func newRunStopCmd() *cobra.Command {
 	fl := cmd.Flags()
 	fl.StringVar(&channel, "channel", "", "stop the active run of this channel")
 	fl.StringVar(&runID, "run", "", "stop this run")
-	addDaemonFlags(cmd, &addr, &token)
+	f.addDaemonFlags(cmd)
 	return cmd
 }
 
-func addDaemonFlags(cmd *cobra.Command, addr, token *string) {
-	cmd.Flags().StringVar(addr, "addr", defaultListen, "the daemon's HTTP address")
-	cmd.Flags().StringVar(token, "token", "", "the daemon's API token (default $SETTLE_TOKEN)")
+// activeRunID is the id of channel's active run; none is an error that names the
+// channels that have one.
+func activeRunID(ctx context.Context, c *daemonClient, cc cliConfig, channel string) (string, error) {
+	if err := configuredChannel(cc, channel); err != nil {
+		return "", fmt.Errorf("run-stop: %w", err)
+	}
+	var list struct{ Runs []journal.Run }
+	if err := c.call(ctx, http.MethodGet, "/api/v1/runs?active=true", nil, &list); err != nil {
+		return "", err
+	}
+	var busy []string
+	for _, r := range list.Runs {
+		if r.Channel == channel {
+			return r.ID, nil
+		}
+		busy = append(busy, r.Channel)
+	}
+	slices.Sort(busy)
+	return "", fmt.Errorf("run-stop: no active run on channel %s; channels with an active run: %s", channel, listKnown(busy, 20))
+}
+
+// unknownRun turns the daemon's "no such run" into an error listing its newest runs.
+func unknownRun(ctx context.Context, c *daemonClient, id string, err error) error {
+	if !strings.Contains(err.Error(), "HTTP 404") {
+		return err
+	}
+	var list struct{ Runs []journal.Run }
+	if c.call(ctx, http.MethodGet, "/api/v1/runs?limit=10", nil, &list) != nil {
+		return err
+	}
+	ids := []string{}
+	for _, r := range list.Runs {
+		ids = append(ids, r.ID)
+	}
+	return fmt.Errorf("run-stop: unknown run %q: newest runs: %s", id, listKnown(ids, 10))
 }

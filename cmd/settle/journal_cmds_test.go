@@ -104,7 +104,7 @@ func TestExportErrors(t *testing.T) {
 		{[]string{"export", "--channel", "x"}, "--data-dir"},
 		{[]string{"export", "--data-dir", dir, "--channel", "x", "--from", "yesterday"}, `--from "yesterday"`},
 		{[]string{"export", "--data-dir", t.TempDir(), "--channel", "x"}, journal.FileName},
-		{[]string{"report", "nope", "--data-dir", dir}, "no such run"},
+		{[]string{"report", "nope", "--data-dir", dir}, `report: unknown run "nope": the record has no runs yet`},
 	} {
 		if _, err := executeJournalCmd(t, tc.args...); err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("%v: %v, want an error mentioning %q", tc.args, err, tc.want)
@@ -162,7 +162,9 @@ func TestReportOfflineWhileDaemonWrites(t *testing.T) {
 		t.Errorf("output %q does not list the files", msg)
 	}
 	list, err := executeJournalCmd(t, "runs", "--data-dir", dir)
-	if err != nil || !strings.HasPrefix(list, run.ID+"\track-2\tS-1\t") {
+	want := "RUN                      CHANNEL  SPECIMEN  STARTED               STOPPED\n" +
+		run.ID + "  rack-2   S-1       2026-03-14T09:00:00Z  2026-03-14T09:20:00Z\n"
+	if err != nil || list != want {
 		t.Errorf("runs: %q, %v", list, err)
 	}
 }

@@ -15,8 +15,9 @@ import (
 	"github.com/settle-lab/settle/predict"
 )
 
-// resumeWindow is how far back a restarted daemon reloads readings into its trackers.
-const resumeWindow = 12 * time.Hour
+// resumeWindow is how far back a restarted daemon reloads readings into its trackers
+// (reports replay runs with the same bound).
+const resumeWindow = report.ResumeWindow
 
 // historyEvery is how often the forecasts of channels with an active run are offered to
 // the journal's forecast history (it stores only meaningful changes).
@@ -134,9 +135,10 @@ func targetsJSON(ts []predict.Target) json.RawMessage {
 }
 
 // runsAPI serves /api/v1/runs over the journal, with live forecasts from bench.
-func (r *recorder) runsAPI(bench *predict.Bench, token string) http.Handler {
+func (r *recorder) runsAPI(bench *predict.Bench, token string, engine *report.Engine) http.Handler {
 	return report.RunsAPI(r.j, report.APIOptions{
-		Token: token,
+		Token:  token,
+		Engine: engine,
 		Live: func(channel string) *predict.Forecast {
 			for _, s := range bench.Snapshot() {
 				if s.Name == channel {
@@ -188,7 +190,7 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed 
 		case <-ctx.Done():
 			select {
 			case <-replayed:
-				report.RecordBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
+				r.recordFinal(bench.Snapshot()) // the last forecasts before shutdown
 			default:
 			}
 			return
@@ -211,6 +213,17 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed 
 	}
 }
 
+// recordFinal ends the forecast history of every active run with the forecast the
+// daemon shows now (report.RecordFinal), so a report made after the daemon stops
+// replays exactly the readings that forecast used.
+func (r *recorder) recordFinal(states []predict.ChannelState) {
+	for _, st := range states {
+		if id, ok := r.j.ActiveRunID(st.Name); ok {
+			report.RecordFinal(r.j, id, st.Forecast)
+		}
+	}
+}
+
 // syncPlaced tells bench which channels have an active run: a position with a run
 // holds a specimen and is never shown empty, whatever it reads.
 func (r *recorder) syncPlaced(bench *predict.Bench) {
@@ -222,7 +235,7 @@ func (r *recorder) syncPlaced(bench *predict.Bench) {
 
 // replayPerChannel bounds the readings of each channel a restart feeds to the trackers
 // (the trackers keep at most 4,096 points per segment, thinned as it grows).
-const replayPerChannel = 16384
+const replayPerChannel = report.ResumePerChannel
 
 // resume reloads the last resumeWindow of readings committed up to the mark seq (at
 // most replayPerChannel per channel) into bench in one pass (one fit per channel at the

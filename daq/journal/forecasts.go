@@ -61,6 +61,29 @@ func (j *Journal) RecordForecast(runID string, p ForecastPoint) bool {
 	return true
 }
 
+// RecordFinalForecast is RecordForecast without the test for a meaningful change: the
+// point is queued unless it equals the last one recorded. The daemon calls it with a
+// run's forecast as the run stops (or as the daemon stops), so that the history ends
+// with the forecast the daemon last showed, and a report replays exactly the readings
+// that forecast used.
+func (j *Journal) RecordFinalForecast(runID string, p ForecastPoint) bool {
+	cur := forecastRow{run: runID, ForecastPoint: p}
+	k := fcKey{runID, p.Target}
+	j.mu.Lock()
+	defer j.mu.Unlock()
+	if j.opt.ReadOnly {
+		return false
+	}
+	prev, seen := j.lastFc[k]
+	if seen && prev.ForecastPoint == p {
+		return false
+	}
+	cur.crossing = p.State == StateReached && (!seen || prev.State != StateReached)
+	j.lastFc[k] = cur
+	j.fqueue = append(j.fqueue, cur)
+	return true
+}
+
 // significant reports whether cur differs meaningfully from prev.
 func (j *Journal) significant(prev, cur ForecastPoint) bool {
 	if prev.State != cur.State {

@@ -231,3 +231,26 @@ func nsNull(t time.Time) sql.NullInt64 {
 	}
 	return sql.NullInt64{Int64: t.UnixNano(), Valid: true}
 }
+
+// Channels returns the names of every channel the journal has readings of (ever, not
+// only of the readings kept), sorted.
+func (j *Journal) Channels() ([]string, error) {
+	db, err := j.reader()
+	if err != nil {
+		return nil, err
+	}
+	rows, err := db.Query("SELECT DISTINCT name FROM channels ORDER BY name")
+	if err != nil {
+		return nil, fmt.Errorf("journal %s: list channels: %w", j.path, err)
+	}
+	defer rows.Close()
+	var out []string
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			return nil, fmt.Errorf("journal %s: list channels: %w", j.path, err)
+		}
+		out = append(out, name)
+	}
+	return out, rows.Err()
+}

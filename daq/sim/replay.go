@@ -1,16 +1,15 @@
 package sim
 
 import (
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"strconv"
 	"strings"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/internal/csvdialect"
 )
 
 // Replay channel names used by (*Replay).DemoConfig.
@@ -27,7 +26,7 @@ var replayColumns = [3]string{"t_s", "temp_c", "ambient_c"}
 // implements Lines.
 type Replay struct {
 	name   string
-	r      *csv.Reader
+	r      *csvdialect.Reader
 	col    [3]int // field index of t_s, temp_c, ambient_c
 	closer io.Closer
 }
@@ -47,28 +46,20 @@ func OpenReplay(path string) (*Replay, error) {
 	return r, nil
 }
 
-// NewReplay reads the header of a replay CSV from r; name is used in errors.
+// NewReplay reads the header of a replay CSV from r; name is used in errors. The file
+// may be any member of settle's CSV family (internal/csvdialect: ',' or ';', decimal
+// points or commas).
 func NewReplay(r io.Reader, name string) (*Replay, error) {
-	cr := csv.NewReader(r)
-	cr.TrimLeadingSpace = true
-	cr.Comment = '#'
-	header, err := cr.Read()
+	cr, err := csvdialect.NewReader(r)
 	if err != nil {
-		return nil, fmt.Errorf("replay %s: header: %w", name, err)
+		return nil, fmt.Errorf("replay %s: %w", name, err)
 	}
 	rp := &Replay{name: name, r: cr}
 	for i, want := range replayColumns {
-		rp.col[i] = -1
-		for j, h := range header {
-			if strings.EqualFold(strings.TrimSpace(h), want) {
-				rp.col[i] = j
-			}
-		}
-		if rp.col[i] < 0 {
-			return nil, fmt.Errorf("replay %s: header %q: no column %q (want %s)", name, strings.Join(header, ","), want, strings.Join(replayColumns[:], ","))
+		if rp.col[i] = cr.Column(want); rp.col[i] < 0 {
+			return nil, fmt.Errorf("replay %s: header %q: no column %q (want %s)", name, strings.Join(cr.Header, string(cr.Comma)), want, strings.Join(replayColumns[:], ","))
 		}
 	}
-	cr.ReuseRecord = true
 	return rp, nil
 }
 
@@ -78,16 +69,20 @@ func (r *Replay) Columns() []string { return []string{ReplayChannel, ReplayAmbie
 // Next returns the next row, or io.EOF after the last one. A row without a readable
 // t_s or with a non-numeric temperature is an error naming the file and line.
 func (r *Replay) Next() (Sample, error) {
-	rec, err := r.r.Read()
+	rec, line, err := r.r.Read()
 	if errors.Is(err, io.EOF) {
 		return Sample{}, io.EOF
 	}
-	line, _ := r.r.FieldPos(0)
 	if err != nil {
 		return Sample{}, fmt.Errorf("replay %s: %w", r.name, err)
 	}
-	clock, err := strconv.ParseFloat(strings.TrimSpace(rec[r.col[0]]), 64)
-	if err != nil || math.IsNaN(clock) || math.IsInf(clock, 0) {
+	for _, c := range r.col {
+		if c >= len(rec) {
+			return Sample{}, fmt.Errorf("replay %s:%d: %d cells, the header has %d", r.name, line, len(rec), len(r.r.Header))
+		}
+	}
+	clock, ok := csvdialect.Number(rec[r.col[0]])
+	if !ok {
 		return Sample{}, fmt.Errorf("replay %s:%d: t_s %q is not a number of seconds", r.name, line, rec[r.col[0]])
 	}
 	smp := Sample{Clock: clock, Values: make([]float64, 2)}
@@ -105,8 +100,8 @@ func cell(s string) (float64, error) {
 	if s == "" {
 		return math.NaN(), nil
 	}
-	v, err := strconv.ParseFloat(s, 64)
-	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+	v, ok := csvdialect.Number(s)
+	if !ok {
 		return 0, fmt.Errorf("%q is not a temperature", s)
 	}
 	return v, nil

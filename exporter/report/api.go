@@ -33,6 +33,9 @@ type APIOptions struct {
 	// a run started without targets gets these, and a run on an unknown channel is
 	// refused. Nil: any channel, no default targets.
 	Channel func(channel string) ([]predict.Target, bool)
+	// Engine, when non-nil, makes the reports of runs without a live forecast the
+	// way the daemon forecast them (Engine.Forecast). Nil: they refit (Refit).
+	Engine *Engine
 	// Logger receives run start/stop lines and unexpected errors. Nil means
 	// slog.Default().
 	Logger *slog.Logger
@@ -55,7 +58,7 @@ func RunsAPI(j *journal.Journal, opt APIOptions) http.Handler {
 	if opt.Logger == nil {
 		opt.Logger = slog.Default()
 	}
-	a := &api{j: j, token: opt.Token, live: opt.Live, channel: opt.Channel, log: opt.Logger}
+	a := &api{j: j, token: opt.Token, live: opt.Live, channel: opt.Channel, engine: opt.Engine, log: opt.Logger}
 	mux := http.NewServeMux()
 	mux.HandleFunc("GET /api/v1/runs", a.list)
 	mux.HandleFunc("GET /api/v1/runs/{id}", a.show)
@@ -72,6 +75,7 @@ type api struct {
 	token   string
 	live    func(string) *predict.Forecast
 	channel func(string) ([]predict.Target, bool)
+	engine  *Engine
 	log     *slog.Logger
 }
 
@@ -195,6 +199,9 @@ func (a *api) stop(w http.ResponseWriter, r *http.Request) {
 	if !decode(w, r, &req, true) {
 		return
 	}
+	if run, err := a.j.Run(r.PathValue("id")); err == nil && run.Active() && a.live != nil {
+		RecordFinal(a.j, run.ID, a.live(run.Channel)) // the history ends with what the page showed
+	}
 	run, err := a.j.StopRun(r.PathValue("id"), req.At)
 	if err != nil {
 		a.fail(w, err)
@@ -204,14 +211,21 @@ func (a *api) stop(w http.ResponseWriter, r *http.Request) {
 	exporter.WriteJSON(w, http.StatusOK, run)
 }
 
-// forecast is the model for a report of run: live for an active run, else a refit.
+// forecast is the model for a report of run: live for an active run, else the
+// engine's replay (a refit without an engine).
 func (a *api) forecast(run journal.Run) *predict.Forecast {
 	if run.Active() && a.live != nil {
 		if fc := a.live(run.Channel); fc != nil {
 			return fc
 		}
 	}
-	fc, err := Refit(a.j, run, predict.TrackerOptions{})
+	var fc *predict.Forecast
+	var err error
+	if a.engine != nil {
+		fc, err = a.engine.Forecast(a.j, run)
+	} else {
+		fc, err = Refit(a.j, run, predict.TrackerOptions{})
+	}
 	if err != nil {
 		a.log.Warn("refit for report failed", "run", run.ID, "err", err)
 		return nil

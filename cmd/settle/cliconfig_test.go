@@ -1,0 +1,104 @@
+package main
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// writeResolveConfig writes a configuration with the given extra top-level YAML.
+func writeResolveConfig(t *testing.T, extra string) string {
+	t.Helper()
+	dir := t.TempDir()
+	port := filepath.Join(dir, "ttyFAKE") // a file standing in for the port: nothing opens it here
+	if err := os.WriteFile(port, nil, 0o600); err != nil {
+		t.Fatal(err)
+	}
+	yaml := "data_dir: /srv/from-file\nlisten: \":9911\"\n" + extra +
+		"loggers:\n  - name: a\n    port: " + port + "\n    line:\n      columns:\n        - {index: 1, channel: c1}\n" +
+		"channels:\n  - name: c1\n"
+	path := filepath.Join(dir, "settle.yaml")
+	if err := os.WriteFile(path, []byte(yaml), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+// TestCLIResolution: each of data directory, address and token comes from the flag,
+// else the SETTLE_ variable, else the configuration file (--config, else SETTLE_CONFIG,
+// else the default path).
+func TestCLIResolution(t *testing.T) {
+	withToken := writeResolveConfig(t, "http:\n  token: from-file\n")
+	pems := t.TempDir() // files that exist (the client only reads the certificate, if it can)
+	for _, n := range []string{"cert.pem", "key.pem"} {
+		if err := os.WriteFile(filepath.Join(pems, n), nil, 0o600); err != nil {
+			t.Fatal(err)
+		}
+	}
+	withTLS := writeResolveConfig(t, "http:\n  token: t\n  tls_cert: "+filepath.Join(pems, "cert.pem")+"\n  tls_key: "+filepath.Join(pems, "key.pem")+"\n")
+	broken := filepath.Join(t.TempDir(), "broken.yaml")
+	if err := os.WriteFile(broken, []byte("listen: [\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		name                  string
+		flags                 cliFlags
+		env                   map[string]string
+		defaultPath           string
+		dir, url, token, fail string
+	}{
+		{name: "file via --config", flags: cliFlags{config: withToken},
+			dir: "/srv/from-file", url: "http://127.0.0.1:9911", token: "from-file"},
+		{name: "file via SETTLE_CONFIG", env: map[string]string{envConfig: withToken},
+			dir: "/srv/from-file", url: "http://127.0.0.1:9911", token: "from-file"},
+		{name: "file at the default path", defaultPath: withToken,
+			dir: "/srv/from-file", url: "http://127.0.0.1:9911", token: "from-file"},
+		{name: "variables over the file", flags: cliFlags{config: withToken},
+			env: map[string]string{"SETTLE_DATA_DIR": "/srv/env", "SETTLE_LISTEN": "10.0.0.5:8000", "SETTLE_TOKEN": "from-env"},
+			dir: "/srv/env", url: "http://10.0.0.5:8000", token: "from-env"},
+		{name: "flags over variables", flags: cliFlags{config: withToken, dataDir: "/srv/flag", addr: "[::]:7000", token: "from-flag"},
+			env: map[string]string{"SETTLE_DATA_DIR": "/srv/env", "SETTLE_LISTEN": "10.0.0.5:8000", "SETTLE_TOKEN": "from-env"},
+			dir: "/srv/flag", url: "http://[::1]:7000", token: "from-flag"},
+		{name: "TLS in the file", flags: cliFlags{config: withTLS},
+			dir: "/srv/from-file", url: "https://127.0.0.1:9911", token: "t"},
+		{name: "a broken default file left aside when flags say enough", defaultPath: broken,
+			flags: cliFlags{dataDir: "/srv/flag", token: "x"}, dir: "/srv/flag", url: "http://" + defaultListen, token: "x"},
+		{name: "a broken default file reported when nothing else says", defaultPath: broken,
+			fail: "(read by default; give --config FILE to name another)"},
+		{name: "a broken file named by --config", flags: cliFlags{config: broken, dataDir: "/srv/flag"}, fail: broken},
+		{name: "nothing at all", fail: "no data directory: give --config FILE"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			cliEnv(t)
+			for k, v := range tc.env {
+				t.Setenv(k, v)
+			}
+			if tc.defaultPath != "" {
+				defaultConfigPath = tc.defaultPath
+			}
+			f := tc.flags
+			c, err := f.loadConfig()
+			var dir string
+			var tgt daemonTarget
+			if err == nil {
+				dir, _, err = f.resolveDataDir(c)
+			}
+			if err == nil {
+				tgt, err = f.daemon(c)
+			}
+			if tc.fail != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.fail) {
+					t.Fatalf("err %v, want one containing %q", err, tc.fail)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if dir != tc.dir || tgt.url != tc.url || tgt.token != tc.token {
+				t.Errorf("data dir %q, url %q, token %q; want %q, %q, %q", dir, tgt.url, tgt.token, tc.dir, tc.url, tc.token)
+			}
+		})
+	}
+}
