@@ -2,6 +2,7 @@ package journal
 
 import (
 	"context"
+	"database/sql"
 	"fmt"
 	"time"
 )
@@ -47,19 +48,38 @@ func (j *Journal) Acknowledgements(since time.Time) ([]Ack, error) {
 	if err != nil {
 		return nil, fmt.Errorf("journal %s: read acknowledgements: %w", j.path, err)
 	}
+	return scanAcks(j.path, rows)
+}
+
+func scanAcks(path string, rows *sql.Rows) ([]Ack, error) {
 	defer rows.Close()
-	var out []Ack
+	out := []Ack{}
 	for rows.Next() {
 		var a Ack
 		var seg, at int64
 		if err := rows.Scan(&a.Channel, &seg, &at, &a.By, &a.RunID); err != nil {
-			return nil, fmt.Errorf("journal %s: read acknowledgements: %w", j.path, err)
+			return nil, fmt.Errorf("journal %s: read acknowledgements: %w", path, err)
 		}
 		a.Segment, a.At = time.Unix(0, seg).UTC(), time.Unix(0, at).UTC()
 		out = append(out, a)
 	}
 	if err := rows.Err(); err != nil {
-		return nil, fmt.Errorf("journal %s: read acknowledgements: %w", j.path, err)
+		return nil, fmt.Errorf("journal %s: read acknowledgements: %w", path, err)
 	}
 	return out, nil
+}
+
+// RunAcknowledgements returns the acknowledgements made while run runID was active,
+// oldest first.
+func (j *Journal) RunAcknowledgements(runID string) ([]Ack, error) {
+	db, err := j.reader()
+	if err != nil {
+		return nil, err
+	}
+	rows, err := db.QueryContext(context.Background(),
+		"SELECT channel, segment, at, by, run_id FROM acknowledgements WHERE run_id = ? ORDER BY at", runID)
+	if err != nil {
+		return nil, fmt.Errorf("journal %s: read acknowledgements of %s: %w", j.path, runID, err)
+	}
+	return scanAcks(j.path, rows)
 }

@@ -38,6 +38,12 @@ func TestAcknowledgementsSurviveRestart(t *testing.T) {
 	if later, err := j.Acknowledgements(t0.Add(90 * time.Second)); err != nil || len(later) != 1 || later[0].Channel != "p2" {
 		t.Errorf("since t0+90s: %+v, %v; want p2's only", later, err)
 	}
+	if mine, err := j.RunAcknowledgements("20260314T083000Z-p1"); err != nil || len(mine) != 1 || mine[0] != first {
+		t.Errorf("the run's acknowledgements: %+v, %v; want %+v", mine, err, first)
+	}
+	if none, err := j.RunAcknowledgements("no-such-run"); err != nil || len(none) != 0 {
+		t.Errorf("another run's acknowledgements: %+v, %v; want none", none, err)
+	}
 	ro, err := Open(dir, Options{Logger: quiet, ReadOnly: true})
 	if err != nil {
 		t.Fatal(err)

@@ -91,6 +91,11 @@ func demoRun(t testing.TB, j *journal.Journal) (journal.Run, *predict.Forecast) 
 func TestWriteDemoReport(t *testing.T) {
 	j := openJournal(t)
 	run, fc := demoRun(t, j)
+	// A technician acknowledged the specimen ready on the board (kept with the run).
+	ack := journal.Ack{Channel: run.Channel, Segment: t0, At: t0.Add(time.Duration(demoCrossing+60) * time.Second), By: "AK", RunID: run.ID}
+	if err := j.Acknowledge(ack); err != nil {
+		t.Fatal(err)
+	}
 	dir := t.TempDir()
 	if keep := os.Getenv("SETTLE_KEEP_REPORT"); keep != "" { // to look at the demo report by hand
 		dir = keep
@@ -103,6 +108,9 @@ func TestWriteDemoReport(t *testing.T) {
 	s := checkSummary(t, paths.JSON)
 	if s.Run.Summary == nil || s.Run.Summary.Readings != demoSpan/2+1 || s.Run.Summary.Faults != 1 {
 		t.Errorf("run summary %+v, want %d readings with 1 fault", s.Run.Summary, demoSpan/2+1)
+	}
+	if len(s.Acknowledgements) != 1 || s.Acknowledgements[0] != ack {
+		t.Errorf("acknowledgements %+v, want %+v", s.Acknowledgements, ack)
 	}
 	checkPNG(t, paths.PNG)
 }

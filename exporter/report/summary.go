@@ -24,6 +24,9 @@ type Summary struct {
 	Targets []TargetSummary `json:"targets"`
 	// Cautions are shown when a target marks a specimen safe to handle.
 	Cautions []string `json:"cautions,omitempty"`
+	// Acknowledgements are the technicians' acknowledgements that the specimen was
+	// seen ready (the board's button or the API), with who and when.
+	Acknowledgements []journal.Ack `json:"acknowledgements"`
 	// GeneratedAt is when the report was made.
 	GeneratedAt time.Time `json:"generated_at"`
 }
@@ -109,6 +112,9 @@ func Build(j *journal.Journal, run journal.Run, fc *predict.Forecast, now time.T
 	}
 	estimated, err := j.EstimatedCrossings(run.ID)
 	if err != nil {
+		return s, err
+	}
+	if s.Acknowledgements, err = j.RunAcknowledgements(run.ID); err != nil {
 		return s, err
 	}
 	targets, err := runTargets(run, fc)
