@@ -420,32 +420,36 @@ func (f *forecaster) asymptoteSeen() bool {
 		readingsSettled(f.p.Times, f.p.Celsius)
 }
 
-// trendReaches reports whether the readings' own recent trend reaches level within
-// twice the time they span: the least-squares line through their second half, heading
-// for level by more than twice its standard error. A curve still moving toward a target
-// that fast has not clearly settled short of it, whatever a fitted settling temperature
-// says (a door opening or a re-warm early in the segment can bend a fit's asymptote and
-// pass a slow curve off as settled). A straight line overstates how fast a settling
-// curve gets anywhere, so this errs toward "insufficient", never toward "unreachable".
+// trendReaches reports whether the readings themselves leave room for level: over
+// their last two quarters, the approach toward level has not visibly slowed enough to
+// stop short of it. With v3 and v4 the quarters' speeds toward level (least-squares
+// slopes; v3 taken low and v4 high by two standard errors each) and Δ the time between
+// the quarters' centres, a curve slowing as an exponential does goes on for another
+// v4/k with k = ln(v3/v4)/Δ; when v3 ≤ v4 the readings show no slowing at all. A door
+// opening or a re-warm early in the segment can bend a fitted settling temperature and
+// pass a slow curve off as settled; this looks only at the latest readings, and errs
+// toward "insufficient", never toward "unreachable".
 func (f *forecaster) trendReaches(level float64) bool {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
-	h := n / 2
-	if h < 10 {
+	q := n / 4
+	if q < 5 {
 		return false
 	}
-	b, se := slope(t[n-h:], c[n-h:])
-	var mt, mc float64
-	for i := n - h; i < n; i++ {
-		mt += t[i]
-		mc += c[i]
+	b3, se3 := slope(t[n-2*q:n-q], c[n-2*q:n-q])
+	b4, se4 := slope(t[n-q:], c[n-q:])
+	gap := level - c[n-1]
+	dir := math.Copysign(1, gap)
+	v3, v4 := dir*b3-2*se3, dir*b4+2*se4
+	if v4 <= 0 {
+		return false // heading away from level, or flat, beyond doubt
 	}
-	now := mc/float64(h) + b*(t[n-1]-mt/float64(h)) // the line at the last reading
-	gap := level - now
-	if math.Abs(b) <= 2*se || gap*b <= 0 {
-		return false
+	if v3 <= v4 {
+		return true // no slowing shown
 	}
-	return gap/b <= 2*(t[n-1]-t[0])
+	centre := func(ts []float64) float64 { return (ts[0] + ts[len(ts)-1]) / 2 }
+	k := math.Log(v3/v4) / (centre(t[n-q:]) - centre(t[n-2*q:n-q]))
+	return math.Abs(gap) <= v4/k
 }
 
 // maxSettledRho: residuals more correlated than this (lag 1) mean the fit's settling
@@ -550,7 +554,7 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		}
 		if out.State == StateUnreachable && f.p.Ambient == nil && f.trendReaches(out.Celsius) {
 			out.State = StateInsufficient
-			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C lies short of %.1f °C, but the readings are still heading for the target, so settle does not call it unreachable.",
+			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C lies short of %.1f °C, but the latest readings have not slowed enough to stop short of it, so settle does not call it unreachable.",
 				f.fit.ambient(), out.Celsius))
 		}
 		if out.State == StateUnreachable && !f.plausibleRoom() {
