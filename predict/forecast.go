@@ -425,7 +425,8 @@ func (f *forecaster) asymptoteSeen() bool {
 // stop short of it. With v3 and v4 the quarters' speeds toward level (least-squares
 // slopes; v3 taken low and v4 high by two standard errors each) and Δ the time between
 // the quarters' centres, a curve slowing as an exponential does goes on for another
-// v4/k with k = ln(v3/v4)/Δ; when v3 ≤ v4 the readings show no slowing at all. A door
+// v/k past the last reading, with k = ln(v3/v4)/Δ and v the speed v4 brought forward
+// to that reading; when v3 ≤ v4 the readings show no slowing at all. A door
 // opening or a re-warm early in the segment can bend a fitted settling temperature and
 // pass a slow curve off as settled; this looks only at the latest readings, and errs
 // toward "insufficient", never toward "unreachable".
@@ -448,8 +449,9 @@ func (f *forecaster) trendReaches(level float64) bool {
 		return true // no slowing shown
 	}
 	centre := func(ts []float64) float64 { return (ts[0] + ts[len(ts)-1]) / 2 }
-	k := math.Log(v3/v4) / (centre(t[n-q:]) - centre(t[n-2*q:n-q]))
-	return math.Abs(gap) <= v4/k
+	c4 := centre(t[n-q:])
+	k := math.Log(v3/v4) / (c4 - centre(t[n-2*q:n-q]))
+	return math.Abs(gap) <= v4*math.Exp(-k*(t[n-1]-c4))/k // from the last reading on
 }
 
 // maxSettledRho: residuals more correlated than this (lag 1) mean the fit's settling
