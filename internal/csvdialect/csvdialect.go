@@ -39,6 +39,11 @@ const maxHeader = 1 << 20
 // ErrEmpty.
 func NewReader(r io.Reader) (*Reader, error) {
 	br := bufio.NewReader(r)
+	// A byte-order mark is dropped once, before anything reads the stream: left in, it
+	// hides a '#' comment or a blank line behind it from the CSV parser.
+	if bom, err := br.Peek(3); err == nil && string(bom) == "\ufeff" {
+		br.Discard(3)
+	}
 	comma, seen, err := sniff(br)
 	if err != nil {
 		return nil, err

@@ -37,6 +37,10 @@ func TestSniff(t *testing.T) {
 		{"\ufeffa;b\r\n1;2\r\n", ';', "a|b", 1},
 		{"# made by hand\n\na;b,c;d\n", ';', "a|b,c|d", 3},
 		{"a\n1\n", ',', "a", 1},
+		// A byte-order mark before a comment or a blank line (a spreadsheet's export
+		// with a note on top) does not make that line the header.
+		{"\ufeff# bench B\nt_s,temp_c\n0,300\n", ',', "t_s|temp_c", 2},
+		{"\ufeff\nt_s;temp_c\n0;300\n", ';', "t_s|temp_c", 2},
 	} {
 		r, err := NewReader(strings.NewReader(tc.in))
 		if err != nil {
