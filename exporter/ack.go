@@ -66,31 +66,55 @@ func (a *Acks) Get(channel string, segment time.Time) (Ack, bool) {
 	if a == nil {
 		return Ack{}, false
 	}
+	run := a.runOf(channel)
 	a.mu.Lock()
 	defer a.mu.Unlock()
-	x, ok := a.last[channel]
-	if !ok || !x.Segment.Equal(segment) {
-		return Ack{}, false
+	return a.lookup(channel, segment, run)
+}
+
+func (a *Acks) runOf(channel string) string {
+	if a.opt.RunOf == nil {
+		return ""
 	}
-	return x, true
+	return a.opt.RunOf(channel)
+}
+
+// lookup finds the acknowledgement of the specimen on channel: the same segment, or,
+// within the same run, a segment that starts after the acknowledged one but before the
+// acknowledgement (a restarted daemon resumes a long run from its recent readings, so
+// the specimen's segment starts later than it did). A segment that starts after the
+// acknowledgement is a new specimen. Callers hold mu.
+func (a *Acks) lookup(channel string, segment time.Time, run string) (Ack, bool) {
+	x, ok := a.last[channel]
+	switch {
+	case !ok:
+		return Ack{}, false
+	case x.Segment.Equal(segment):
+		return x, true
+	case x.RunID != "" && x.RunID == run && segment.After(x.Segment) && segment.Before(x.At):
+		return x, true
+	}
+	return Ack{}, false
 }
 
 // Add saves x (first: an error keeps nothing) and keeps it, with the channel's run; an
 // existing acknowledgement of the same specimen is returned unchanged. It does not
-// check that the specimen is ready: the acknowledge endpoint does.
+// check that the specimen is ready: the acknowledge endpoint does. The save runs
+// outside the lock, so a slow disk never holds up Get (the API and the page).
 func (a *Acks) Add(x Ack) (Ack, error) {
-	a.mu.Lock()
-	defer a.mu.Unlock()
-	if old, ok := a.last[x.Channel]; ok && old.Segment.Equal(x.Segment) {
+	x.RunID = a.runOf(x.Channel)
+	if old, ok := a.Get(x.Channel, x.Segment); ok {
 		return old, nil
-	}
-	if a.opt.RunOf != nil {
-		x.RunID = a.opt.RunOf(x.Channel)
 	}
 	if a.opt.Save != nil {
 		if err := a.opt.Save(x); err != nil {
 			return Ack{}, err
 		}
+	}
+	a.mu.Lock()
+	defer a.mu.Unlock()
+	if old, ok := a.lookup(x.Channel, x.Segment, x.RunID); ok {
+		return old, nil // another screen's press was kept first (the journal keeps the first too)
 	}
 	a.keep(x)
 	return x, nil

@@ -113,10 +113,24 @@ func TestAcknowledge(t *testing.T) {
 	}
 	// The next specimen on the position (a new segment) starts unacknowledged; a
 	// restart restores the acknowledgement of the one still there.
-	next := ackState(seg.Add(90 * time.Minute))
+	next := ackState(want.At.Add(10 * time.Minute)) // placed after the acknowledgement
 	next.Acks = s.Acks
 	if a := channelsOf(t, newTestHandler(next, Options{Now: h.opt.Now}))["steel"].Acknowledged; a != nil {
 		t.Errorf("new specimen on steel inherits %+v", a)
+	}
+	// A restarted daemon resumes a long run from its recent readings: the specimen's
+	// segment starts later than the acknowledged one, before the acknowledgement. Same
+	// run: still acknowledged. A segment after the acknowledgement: a new specimen.
+	runOf := func(string) string { return "run-steel" }
+	for _, c := range []struct {
+		segment time.Time
+		want    bool
+	}{{seg.Add(30 * time.Minute), true}, {want.At.Add(time.Minute), false}} {
+		resumed := ackState(c.segment)
+		resumed.Acks = NewAcks(AckOptions{Restored: saved, RunOf: runOf})
+		if a := channelsOf(t, newTestHandler(resumed, Options{Now: h.opt.Now})); (a["steel"].Acknowledged != nil) != c.want {
+			t.Errorf("segment from %v, same run: acknowledged %+v, want %v", c.segment, a["steel"].Acknowledged, c.want)
+		}
 	}
 	again := ackState(seg)
 	again.Acks = NewAcks(AckOptions{Restored: saved})

@@ -46,9 +46,11 @@ func (e Engine) spec(channel string) (predict.ChannelSpec, bool) {
 //
 // That is the forecast the daemon showed when it recorded its last forecast of the
 // run (the daemon records one as a run stops), on the condition that it fitted those
-// same readings: true unless the daemon was restarted during the run with more than
-// ResumeWindow or ResumePerChannel readings behind it, or two consecutive readings
-// were more than the tracker's jump (20 °C) apart, a step the live fit bridges when its
+// same readings: true while the channel's segment holds at most ResumePerChannel
+// readings within ResumeWindow (the replay, like a restarted daemon, starts from the
+// newest of them; a daemon that ran through keeps the segment from its start, thinned,
+// so a longer run's figures differ slightly), and unless two consecutive readings were
+// more than the tracker's jump (20 °C) apart, a step the live fit bridges when its
 // curve predicts it and a replay, which fits once at the end, cannot.
 //
 // A channel that is no longer configured falls back to Refit (with a note saying so).
