@@ -75,8 +75,16 @@ func ReadCurveCSV(r io.Reader, name string) (CurveFile, error) {
 	}
 	ti, ci, ai := cr.Column(timeColumns...), cr.Column(celsiusColumns...), cr.Column(ambientColumns...)
 	if ti < 0 || ci < 0 {
-		return CurveFile{}, fmt.Errorf("%s line %d: header %q must name a time column in seconds (t_s, or elapsed_s as settle export writes) and a temperature column (temp_c or celsius)",
-			name, cr.HeaderLine, strings.Join(cr.Header, string(cr.Comma)))
+		head := strings.Join(cr.Header, string(cr.Comma))
+		hint := ""
+		if strings.Contains(head, "\r") {
+			hint = " (its lines end in a carriage return alone: save the file with ordinary line ends)"
+		}
+		if r := []rune(head); len(r) > 80 {
+			head = string(r[:80]) + "…"
+		}
+		return CurveFile{}, fmt.Errorf("%s line %d: header %q must name a time column in seconds (t_s, or elapsed_s as settle export writes) and a temperature column (temp_c or celsius)%s",
+			name, cr.HeaderLine, head, hint)
 	}
 	var out CurveFile
 	for {
@@ -158,7 +166,8 @@ func (c CurveFile) Until(s float64) CurveFile {
 	for n < len(c.Times) && c.Times[n] <= s {
 		n++
 	}
-	out := CurveFile{Times: c.Times[:n], Celsius: c.Celsius[:n]}
+	// The file's malformed rows stay listed: the note is about the file as read.
+	out := CurveFile{Times: c.Times[:n], Celsius: c.Celsius[:n], Malformed: c.Malformed, MalformedRows: c.MalformedRows}
 	if c.Ambient != nil {
 		out.Ambient = c.Ambient[:n]
 	}

@@ -168,7 +168,11 @@ func (r fitRequest) run() (*fitResult, error) {
 		curve = curve.Until(r.until)
 	}
 	if len(curve.Times) == 0 {
-		return nil, fmt.Errorf("%s: no rows with a time%s", r.file, map[bool]string{true: " at or before --until", false: ""}[r.hasUntil])
+		why := ""
+		if note := whole.MalformedNote(); note != "" {
+			why = ": " + note
+		}
+		return nil, fmt.Errorf("%s: no rows with a time%s%s", r.file, map[bool]string{true: " at or before --until", false: ""}[r.hasUntil], why)
 	}
 	res := &fitResult{curve: curve, whole: whole, until: curve.Times[len(curve.Times)-1], origin: fitOrigin}
 	if r.hasUntil {

@@ -288,6 +288,21 @@ func TestFitErrors(t *testing.T) {
 	if err := os.WriteFile(bad, []byte("time,temp\n0,1\n"), 0o600); err != nil {
 		t.Fatal(err)
 	}
+	// Clock times where seconds belong: every row malformed, and the error says why.
+	iso := filepath.Join(t.TempDir(), "iso.csv")
+	if err := os.WriteFile(iso, []byte("t_s,temp_c\n2026-03-14T09:00:00Z,300\n"), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	// Lines ending in a carriage return alone: one long "header", quoted short, with a hint.
+	var cr strings.Builder
+	cr.WriteString("t_s;temp\r")
+	for s := 0; s < 5000; s += 10 {
+		fmt.Fprintf(&cr, "%d;%.1f\r", s, 300-float64(s)/10)
+	}
+	crPath := filepath.Join(t.TempDir(), "cr.csv")
+	if err := os.WriteFile(crPath, []byte(cr.String()), 0o600); err != nil {
+		t.Fatal(err)
+	}
 	cases := []struct {
 		args []string
 		want string
@@ -297,11 +312,13 @@ func TestFitErrors(t *testing.T) {
 		{[]string{good, "--settle-band", "-1"}, "must be positive"},
 		{[]string{bad}, "must name a time column in seconds"},
 		{[]string{good, "--until", "-5"}, "no rows"},
+		{[]string{iso}, `no rows with a time: 1 malformed rows left out (line 2: t_s "2026-03-14T09:00:00Z" is not a number of seconds)`},
+		{[]string{crPath}, "carriage return alone"},
 		{[]string{good, "--specimen", filepath.Join(t.TempDir(), "none.yaml")}, "--specimen"},
 	}
 	for _, c := range cases {
-		if _, err := runFit(t, c.args...); err == nil || !strings.Contains(err.Error(), c.want) {
-			t.Errorf("%v: err %v, want one containing %q", c.args, err, c.want)
+		if _, err := runFit(t, c.args...); err == nil || !strings.Contains(err.Error(), c.want) || len(err.Error()) > 600 {
+			t.Errorf("%v: err %v, want one containing %q (and under 600 bytes)", c.args, err, c.want)
 		}
 	}
 }
