@@ -103,7 +103,7 @@ func TestCurveDialect(t *testing.T) {
 // TestUntilKeepsMalformedRows: cutting the readings at --until keeps the file's note of
 // the rows left out, so `settle fit --until` still says which lines were not read.
 func TestUntilKeepsMalformedRows(t *testing.T) {
-	c, err := ReadCurveCSV(strings.NewReader("t_s,temp_c\n0,300\n60,280\nfoo,270\n120,262\n"), "cut.csv")
+	c, err := predict.ReadCurveCSV(strings.NewReader("t_s,temp_c\n0,300\n60,280\nfoo,270\n120,262\n"), "cut.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
