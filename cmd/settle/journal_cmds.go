@@ -70,6 +70,9 @@ record has never seen is an error that lists the known ones.`,
 			if err != nil {
 				return err
 			}
+			if !fr.IsZero() && !t.IsZero() && !fr.Before(t) {
+				return fmt.Errorf("export: --from %s is not before --to %s: the span holds no time (--to is exclusive)", from, to)
+			}
 			return runExport(cmd.OutOrStdout(), cmd.ErrOrStderr(), &f, channel, fr, t, out)
 		},
 	}
@@ -97,15 +100,19 @@ func runExport(stdout, stderr io.Writer, f *cliFlags, channel string, from, to t
 	if err != nil {
 		return fmt.Errorf("export %s: %w", channel, err)
 	}
-	if n == 0 {
-		fmt.Fprintf(stderr, "settle export: no readings of channel %q in that span\n", channel)
-	}
 	if out == "" {
+		if n == 0 {
+			fmt.Fprintf(stderr, "settle export: no readings of channel %q in that span (the header only)\n", channel)
+		}
 		_, err = stdout.Write(buf.Bytes())
 		return err
 	}
 	if err := os.WriteFile(out, buf.Bytes(), 0o640); err != nil {
 		return fmt.Errorf("export %s: %w", channel, err)
+	}
+	if n == 0 {
+		fmt.Fprintf(stderr, "settle export: no readings of channel %q in that span: %s holds the header only\n", channel, out)
+		return nil
 	}
 	fmt.Fprintf(stderr, "settle export: %d readings of %s written to %s\n", n, channel, out)
 	return nil

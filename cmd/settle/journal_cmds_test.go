@@ -103,6 +103,7 @@ func TestExportErrors(t *testing.T) {
 	}{
 		{[]string{"export", "--channel", "x"}, "--data-dir"},
 		{[]string{"export", "--data-dir", dir, "--channel", "x", "--from", "yesterday"}, `--from "yesterday"`},
+		{[]string{"export", "--data-dir", dir, "--channel", "rack-2", "--from", "2026-03-15", "--to", "2026-03-14"}, "--from 2026-03-15 is not before --to 2026-03-14"},
 		{[]string{"export", "--data-dir", t.TempDir(), "--channel", "x"}, journal.FileName},
 		{[]string{"report", "nope", "--data-dir", dir}, `report: unknown run "nope": the record has no runs yet`},
 	} {
