@@ -165,3 +165,47 @@ func TestExampleClockFormats(t *testing.T) {
 		t.Errorf("checked %d worked examples, want the 6 of example.yaml", n)
 	}
 }
+
+// TestClockFormatsMustPlaceReadings: a clock format without a full date and time is
+// refused (every reading would be dated year 0, or lose its hour); a logger clock marked
+// UTC by a literal Z, UTC or GMT is read as UTC whatever the host's zone (Berlin here:
+// as plain text the readings were an hour off).
+func TestClockFormatsMustPlaceReadings(t *testing.T) {
+	for _, c := range []struct{ format, missing string }{
+		{"%H:%M:%S", "the year, the month, the day"},
+		{"15:04:05", "the year, the month, the day"},
+		{"%Y-%m-%d", "the hour, the minutes"},
+		{"%d/%m %H:%M", "the year"},
+		{"%Y-%m-%d %H", "the minutes"},
+	} {
+		if _, err := ClockFormatLayout(c.format); err == nil || !strings.Contains(err.Error(), "leaves out "+c.missing) {
+			t.Errorf("%q: %v, want it refused for leaving out %s", c.format, err, c.missing)
+		}
+	}
+	for _, f := range []string{"%Y-%j %H:%M:%S", "%y%m%d %I:%M %p", "2006-01-02 15:04"} {
+		if _, err := ClockFormatLayout(f); err != nil {
+			t.Errorf("%q: %v, want it accepted", f, err)
+		}
+	}
+	berlin, err := time.LoadLocation("Europe/Berlin")
+	if err != nil {
+		t.Skip("no zone database:", err)
+	}
+	want := time.Date(2026, 12, 3, 14, 5, 9, 0, time.UTC)
+	for _, c := range []struct{ format, text string }{
+		{"%Y-%m-%dT%H:%M:%SZ", "2026-12-03T14:05:09Z"},
+		{"2006-01-02T15:04:05Z", "2026-12-03T14:05:09Z"},
+		{"%Y-%m-%d %H:%M:%S UTC", "2026-12-03 14:05:09 UTC"},
+		{"%Y-%m-%d %H:%M:%S GMT", "2026-12-03 14:05:09 GMT"},
+	} {
+		layout, err := ClockFormatLayout(c.format)
+		if err != nil {
+			t.Errorf("%q: %v", c.format, err)
+			continue
+		}
+		got, err := time.ParseInLocation(layout, c.text, berlin)
+		if err != nil || !got.Equal(want) {
+			t.Errorf("%q on %q in Berlin: %v (%v), want %v", c.format, c.text, got.UTC(), err, want)
+		}
+	}
+}

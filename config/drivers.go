@@ -64,19 +64,65 @@ func ClockFormatLayout(format string) (string, error) {
 			return l, nil
 		}
 	}
+	layout := format
 	if strings.Contains(format, "%") {
-		return StrftimeLayout(format)
+		l, err := StrftimeLayout(format)
+		if err != nil {
+			return "", err
+		}
+		layout = l
+	} else {
+		// A layout must change when a time is formatted with it, and read back.
+		ref := time.Date(2009, 11, 10, 23, 0, 1, 0, time.UTC)
+		s := ref.Format(format)
+		if s == format {
+			return "", errNotClockFormat
+		}
+		if _, err := time.Parse(format, s); err != nil {
+			return "", errNotClockFormat
+		}
 	}
-	// A layout must change when a time is formatted with it, and read back.
-	ref := time.Date(2009, 11, 10, 23, 0, 1, 0, time.UTC)
-	s := ref.Format(format)
-	if s == format {
-		return "", errNotClockFormat
+	if err := completeLayout(format, layout); err != nil {
+		return "", err
 	}
-	if _, err := time.Parse(format, s); err != nil {
-		return "", errNotClockFormat
+	return utcSuffix(layout), nil
+}
+
+// completeLayout refuses a layout that cannot place a reading in time: without a year,
+// month, day, hour or minute every reading would get a made-up date (year 0) or lose
+// its hour, and nothing downstream could tell.
+func completeLayout(format, layout string) error {
+	ref := time.Date(2026, 3, 14, 14, 5, 9, 0, time.UTC)
+	var missing []string
+	for _, c := range []struct {
+		what string
+		t    time.Time
+	}{
+		{"the year", ref.AddDate(1, 0, 0)}, {"the month", ref.AddDate(0, 1, 0)}, {"the day", ref.AddDate(0, 0, 1)},
+		{"the hour", ref.Add(time.Hour)}, {"the minutes", ref.Add(time.Minute)},
+	} {
+		if ref.Format(layout) == c.t.Format(layout) {
+			missing = append(missing, c.what)
+		}
 	}
-	return format, nil
+	if len(missing) == 0 {
+		return nil
+	}
+	return fmt.Errorf("%q leaves out %s: every reading would get a made-up date or time; give the logger's full date and time, or leave clock_column out (settle then stamps each line as it arrives)",
+		format, strings.Join(missing, ", "))
+}
+
+// utcSuffix makes a layout that ends in the literal text Z, UTC or GMT (a logger that
+// writes its clock in UTC and says so) read its times as UTC: as plain text the time
+// would be taken as the host's local time, off by the host's UTC offset.
+func utcSuffix(layout string) string {
+	switch {
+	case strings.HasSuffix(layout, "Z"):
+		return layout[:len(layout)-1] + "Z07:00"
+	case strings.HasSuffix(layout, "UTC"), strings.HasSuffix(layout, "GMT"):
+		return layout[:len(layout)-3] + "MST"
+	}
+	return layout
 }
 
 var errNotClockFormat = errors.New(`want seconds, unix, rfc3339, a strftime-style format such as "%Y-%m-%d %H:%M:%S" or a Go time layout such as "2006-01-02 15:04:05"`)
