@@ -121,11 +121,13 @@ func (t *tree) line(path string) int {
 
 // Bounds on the search for the line of a syntax error: the leading parts re-parsed
 // and their total size. A re-parse stops at the mistake, so most cost far less than
-// their size; a 600-line file with a slip on line 5 takes about 20 ms
-// (BenchmarkSyntaxLine).
+// their size; a 600-line file with a slip on line 5 takes about 15–20 ms
+// (BenchmarkSyntaxLine). The worst case is a mistake the parser only sees at the end
+// (an unclosed '[' on line 1): every re-parse reads its whole part, and 16 MB of them
+// take about 2.7 s (a 60 KB specimen of 7,500 lines; 33 s with the earlier 256 MB).
 const (
-	syntaxMaxParses = 5000
-	syntaxMaxBytes  = 256 << 20
+	syntaxMaxParses = 2000
+	syntaxMaxBytes  = 16 << 20
 )
 
 // syntaxProblems turns a YAML syntax error into a problem at the line of the mistake.
