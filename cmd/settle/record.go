@@ -151,6 +151,14 @@ func (r *recorder) runsAPI(bench *predict.Bench, token string, engine *report.En
 			ts, ok := r.targets[channel]
 			return ts, ok
 		},
+		Ambient: func(channel string) bool {
+			for _, s := range bench.Snapshot() {
+				if s.Name == channel {
+					return s.Role == predict.RoleAmbient
+				}
+			}
+			return false
+		},
 		Logger: r.log,
 	})
 }

@@ -33,6 +33,9 @@ type APIOptions struct {
 	// a run started without targets gets these, and a run on an unknown channel is
 	// refused. Nil: any channel, no default targets.
 	Channel func(channel string) ([]predict.Target, bool)
+	// Ambient reports whether a channel is a sensor of the room's air (its role, or
+	// another channel names it as its ambient): a run on one is refused. Nil: none is.
+	Ambient func(channel string) bool
 	// Engine, when non-nil, makes the reports of runs without a live forecast the
 	// way the daemon forecast them (Engine.Forecast). Nil: they refit (Refit).
 	Engine *Engine
@@ -58,7 +61,7 @@ func RunsAPI(j *journal.Journal, opt APIOptions) http.Handler {
 	if opt.Logger == nil {
 		opt.Logger = slog.Default()
 	}
-	a := &api{j: j, token: opt.Token, live: opt.Live, channel: opt.Channel, engine: opt.Engine, log: opt.Logger}
+	a := &api{j: j, token: opt.Token, live: opt.Live, channel: opt.Channel, ambient: opt.Ambient, engine: opt.Engine, log: opt.Logger}
 	mux := http.NewServeMux()
 	mux.HandleFunc("GET /api/v1/runs", a.list)
 	mux.HandleFunc("GET /api/v1/runs/{id}", a.show)
@@ -75,6 +78,7 @@ type api struct {
 	token   string
 	live    func(string) *predict.Forecast
 	channel func(string) ([]predict.Target, bool)
+	ambient func(string) bool
 	engine  *Engine
 	log     *slog.Logger
 }
@@ -183,6 +187,10 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 			}
 			spec.Targets = b
 		}
+	}
+	if a.ambient != nil && a.ambient(spec.Channel) {
+		writeError(w, http.StatusBadRequest, fmt.Sprintf("channel %q is an ambient sensor (the room's air): runs are for specimen positions", spec.Channel))
+		return
 	}
 	run, err := a.j.StartRun(spec)
 	if err != nil {

@@ -108,15 +108,26 @@ var quietLog = slog.New(slog.NewTextHandler(io.Discard, nil))
 func TestRunsAPIChannelDefaults(t *testing.T) {
 	j := openJournal(t)
 	known := func(ch string) ([]predict.Target, bool) {
-		if ch != "rack-1" {
-			return nil, false
+		switch ch {
+		case "rack-1":
+			return []predict.Target{{Name: "handle", Celsius: 45, Handling: true}, {Name: "settled", Celsius: math.NaN(), Within: 2}}, true
+		case "rack-air":
+			return nil, true
 		}
-		return []predict.Target{{Name: "handle", Celsius: 45, Handling: true}, {Name: "settled", Celsius: math.NaN(), Within: 2}}, true
+		return nil, false
 	}
-	srv := httptest.NewServer(RunsAPI(j, APIOptions{Token: testToken, Channel: known, Logger: quietLog}))
+	ambient := func(ch string) bool { return ch == "rack-air" }
+	srv := httptest.NewServer(RunsAPI(j, APIOptions{Token: testToken, Channel: known, Ambient: ambient, Logger: quietLog}))
 	defer srv.Close()
 	if resp, b := do(t, srv, "POST", "/api/v1/runs", testToken, `{"channel":"rack-9","specimen":"x"}`); resp.StatusCode != 400 || !strings.Contains(string(b), "unknown channel") {
 		t.Errorf("unknown channel: %d %s, want 400", resp.StatusCode, b)
+	}
+	// The room's air holds no specimen: a run there is refused, and nothing is recorded.
+	if resp, b := do(t, srv, "POST", "/api/v1/runs", testToken, `{"channel":"rack-air","specimen":"x"}`); resp.StatusCode != 400 || !strings.Contains(string(b), "ambient sensor") {
+		t.Errorf("run on the ambient sensor: %d %s, want 400", resp.StatusCode, b)
+	}
+	if runs, err := j.Runs(journal.RunFilter{}); err != nil || len(runs) != 0 {
+		t.Errorf("after the refused run: %d runs (%v)", len(runs), err)
 	}
 	resp, b := do(t, srv, "POST", "/api/v1/runs", testToken, `{"channel":"rack-1","specimen":"x"}`)
 	var run journal.Run
