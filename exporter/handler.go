@@ -227,6 +227,10 @@ func (h *Handler) notFound(w http.ResponseWriter, r *http.Request) {
 // allowed lists the methods some route takes on r's path ("" when none does). A path
 // handed whole to another handler (the runs API) lists that API's methods.
 func (h *Handler) allowed(r *http.Request) string {
+	if a, ok := h.opt.Runs.(interface{ Allowed(*http.Request) string }); ok &&
+		(r.URL.Path == "/api/v1/runs" || strings.HasPrefix(r.URL.Path, "/api/v1/runs/")) {
+		return a.Allowed(r)
+	}
 	var out []string
 	for _, m := range []string{http.MethodGet, http.MethodPost} {
 		probe := r.Clone(r.Context())

@@ -70,7 +70,40 @@ func RunsAPI(j *journal.Journal, opt APIOptions) http.Handler {
 	mux.HandleFunc("GET /api/v1/runs/{id}/figure.png", a.figure)
 	mux.HandleFunc("POST /api/v1/runs", a.auth(a.start))
 	mux.HandleFunc("POST /api/v1/runs/{id}/stop", a.auth(a.stop))
-	return mux
+	return runsHandler{mux}
+}
+
+// runsHandler answers a path or method no route of the runs API takes in JSON, like
+// every other settle error: 405 with an Allow header, or 404.
+type runsHandler struct{ mux *http.ServeMux }
+
+func (h runsHandler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
+	if _, pattern := h.mux.Handler(r); pattern != "" {
+		h.mux.ServeHTTP(w, r)
+		return
+	}
+	if allow := h.Allowed(r); allow != "" {
+		w.Header().Set("Allow", allow)
+		writeError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed here; allowed: "+allow)
+		return
+	}
+	writeError(w, http.StatusNotFound, "no such page in the runs API")
+}
+
+// Allowed lists the methods the runs API takes on r's path ("" when none does).
+func (h runsHandler) Allowed(r *http.Request) string {
+	var out []string
+	for _, m := range []string{http.MethodGet, http.MethodPost} {
+		probe := r.Clone(r.Context())
+		probe.Method = m
+		if _, pattern := h.mux.Handler(probe); pattern != "" {
+			out = append(out, m)
+			if m == http.MethodGet {
+				out = append(out, http.MethodHead)
+			}
+		}
+	}
+	return strings.Join(out, ", ")
 }
 
 type api struct {
