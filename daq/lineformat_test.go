@@ -83,6 +83,11 @@ func TestLineClockFormats(t *testing.T) {
 		{"%Y-%m-%dT%H:%M:%S%z", "2025-03-14T16:00:00+0100", time.Date(2025, 3, 14, 16, 0, 0, 0, berlin)},
 		{"%d/%m/%Y %H:%M:%S", "14/03/2025 16:00:09", time.Date(2025, 3, 14, 16, 0, 9, 0, time.Local)},
 		{"%m/%d/%Y %I:%M:%S %p", "03/14/2025 04:00:09 PM", time.Date(2025, 3, 14, 16, 0, 9, 0, time.Local)},
+		// Lower-case am/pm and month names, as Python's strptime also reads them.
+		{"%d %b %Y %I:%M:%S %p", "14 mar 2025 04:00:09 pm", time.Date(2025, 3, 14, 16, 0, 9, 0, time.Local)},
+		// A clock marked UTC by a literal Z or UTC is UTC, whatever the host's zone.
+		{"%Y-%m-%dT%H:%M:%SZ", "2025-03-14T15:00:00Z", t0},
+		{"%Y-%m-%d %H:%M:%S UTC", "2025-03-14 15:00:00 UTC", t0},
 		{"%Y-%m-%d %H:%M:%S.%f", "2025-03-14 16:00:09.25", time.Date(2025, 3, 14, 16, 0, 9, 25e7, time.Local)},
 	}
 	for _, tt := range tests {

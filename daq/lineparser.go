@@ -323,7 +323,13 @@ func (p *LineParser) timeOf(clockField []byte, received time.Time) (time.Time, e
 	case p.clock == 0:
 		return received, nil
 	case p.clockFmt == clockLayout:
-		t, err := time.ParseInLocation(p.layout, string(clockField), time.Local)
+		text := string(clockField)
+		if strings.Contains(p.layout, "PM") {
+			// Go reads AM/PM in capitals only; loggers also write am/pm. Month and
+			// weekday names are read in any case, so the whole field can be raised.
+			text = strings.ToUpper(text)
+		}
+		t, err := time.ParseInLocation(p.layout, text, time.Local)
 		if err != nil {
 			return time.Time{}, fmt.Errorf("logger %q: %w: field %d is %q, want clock_format %q", p.logger, ErrBadClock, p.clock, clockField, p.format)
 		}
