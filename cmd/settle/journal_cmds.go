@@ -284,12 +284,19 @@ func runRuns(w io.Writer, f *cliFlags, filter journal.RunFilter, specimen string
 		return err
 	}
 	if specimen != "" {
-		if runs, err = bySpecimen(runs, specimen); err != nil {
+		// The specimen is looked up among all runs: a known specimen whose runs the
+		// other filters leave out is no match, not an unknown specimen.
+		all, err := j.Runs(journal.RunFilter{Limit: 1 << 30})
+		if err != nil {
+			return err
+		}
+		if _, err := bySpecimen(all, specimen); err != nil {
 			return fmt.Errorf("runs: %w", err)
 		}
+		runs = slices.DeleteFunc(runs, func(r journal.Run) bool { return r.Specimen != specimen })
 	}
 	if len(runs) == 0 {
-		_, err := fmt.Fprintln(w, "no runs yet")
+		_, err := fmt.Fprintln(w, noRuns(filter, specimen))
 		return err
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
@@ -302,6 +309,24 @@ func runRuns(w io.Writer, f *cliFlags, filter journal.RunFilter, specimen string
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\n", r.ID, r.Channel, r.Specimen, r.Started.UTC().Format(time.RFC3339), stop)
 	}
 	return tw.Flush()
+}
+
+// noRuns says that no run matched, in the words of the filters given.
+func noRuns(filter journal.RunFilter, specimen string) string {
+	msg := "no runs"
+	if filter.ActiveOnly {
+		msg = "no active runs"
+	}
+	if specimen != "" {
+		msg += fmt.Sprintf(" of specimen %q", specimen)
+	}
+	if filter.Channel != "" {
+		msg += " on channel " + filter.Channel
+	}
+	if msg == "no runs" {
+		return "no runs yet"
+	}
+	return msg
 }
 
 // bySpecimen keeps the runs of one specimen; a specimen no run has is an error that

@@ -213,3 +213,32 @@ func TestRunStartStopOverHTTP(t *testing.T) {
 		t.Errorf("bad specimen file: %v", err)
 	}
 }
+
+// TestRunsFiltersSayWhatMatched: with filters, an empty listing names them, and a
+// specimen whose runs the filters leave out is known, not "unknown".
+func TestRunsFiltersSayWhatMatched(t *testing.T) {
+	j, dir := writerJournal(t)
+	t.Setenv("SETTLE_DATA_DIR", "")
+	run, err := j.StartRun(journal.RunSpec{Channel: "rack-2", Specimen: "S-041", Start: journalT0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := j.StopRun(run.ID, journalT0.Add(time.Hour)); err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"--active"}, "no active runs\n"},
+		{[]string{"--active", "--specimen", "S-041"}, "no active runs of specimen \"S-041\"\n"},
+	} {
+		out, err := executeJournalCmd(t, append([]string{"runs", "--data-dir", dir}, c.args...)...)
+		if err != nil || out != c.want {
+			t.Errorf("runs %v: %q, %v; want %q", c.args, out, err, c.want)
+		}
+	}
+	if _, err := executeJournalCmd(t, "runs", "--data-dir", dir, "--active", "--specimen", "S-999"); err == nil || !strings.Contains(err.Error(), `unknown specimen "S-999": known specimens: S-041`) {
+		t.Errorf("unknown specimen: %v", err)
+	}
+}
