@@ -125,14 +125,27 @@ func (r *Reader) Column(names ...string) int {
 }
 
 // Number parses a numeric cell: spaces trimmed, '.' or ',' as the decimal mark (a
-// cell with one comma and no point). ok is false for an empty cell, text and
-// infinities; NaN is never returned with ok.
+// cell with one comma and no point). A cell with both marks groups thousands with the
+// first and ends with the decimal mark (1.100,5 or 1,100.5: furnace temperatures as a
+// spreadsheet formats them); groups must be of three digits. ok is false for an empty
+// cell, text and infinities; NaN is never returned with ok.
 func Number(s string) (v float64, ok bool) {
 	s = strings.TrimSpace(s)
 	if s == "" {
 		return 0, false
 	}
-	if strings.Count(s, ",") == 1 && !strings.Contains(s, ".") {
+	point, comma := strings.LastIndexByte(s, '.'), strings.LastIndexByte(s, ',')
+	switch {
+	case point >= 0 && comma >= 0:
+		dec, group := point, byte(',')
+		if comma > point {
+			dec, group = comma, '.'
+		}
+		if !thousands(s[:dec], group) {
+			return 0, false
+		}
+		s = strings.ReplaceAll(s[:dec], string(group), "") + "." + s[dec+1:]
+	case strings.Count(s, ",") == 1:
 		s = strings.Replace(s, ",", ".", 1)
 	}
 	v, err := strconv.ParseFloat(s, 64)
@@ -140,4 +153,20 @@ func Number(s string) (v float64, ok bool) {
 		return 0, false
 	}
 	return v, true
+}
+
+// thousands reports whether the integer part ip (a sign allowed) is digits grouped by
+// sep in threes after a first group of one to three.
+func thousands(ip string, sep byte) bool {
+	ip = strings.TrimLeft(ip, "+-")
+	groups := strings.Split(ip, string(sep))
+	if len(groups) < 2 || len(groups[0]) < 1 || len(groups[0]) > 3 {
+		return false
+	}
+	for i, g := range groups {
+		if (i > 0 && len(g) != 3) || strings.Trim(g, "0123456789") != "" {
+			return false
+		}
+	}
+	return true
 }

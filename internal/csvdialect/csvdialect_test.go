@@ -12,12 +12,15 @@ import (
 // TestNumber: both decimal marks, and what is not a number. Values are the cells as
 // written (no outside source needed).
 func TestNumber(t *testing.T) {
-	for in, want := range map[string]float64{"21.5": 21.5, "21,5": 21.5, " -0,25 ": -0.25, "1e3": 1000, "7": 7} {
+	for in, want := range map[string]float64{"21.5": 21.5, "21,5": 21.5, " -0,25 ": -0.25, "1e3": 1000, "7": 7,
+		// Thousands grouped, as a spreadsheet writes a furnace's temperatures.
+		"1.100,0": 1100, "1,000.5": 1000.5, "-1.234.567,8": -1234567.8, "12.345,": 12345} {
 		if v, ok := Number(in); !ok || v != want {
 			t.Errorf("Number(%q) = %v, %v; want %v", in, v, ok, want)
 		}
 	}
-	for _, in := range []string{"", " ", "OPEN", "1,000.5", "1,2,3", "NaN", "Inf", "-inf", "1e999"} {
+	for _, in := range []string{"", " ", "OPEN", "1,2,3", "NaN", "Inf", "-inf", "1e999",
+		"1.10,0", "12,34.5", "1234.567,8", ",5.0", "1.100,0,5"} {
 		if v, ok := Number(in); ok {
 			t.Errorf("Number(%q) = %v, want not a number", in, v)
 		}
