@@ -1,6 +1,7 @@
 package exporter
 
 import (
+	"cmp"
 	"math"
 	"slices"
 	"strings"
@@ -247,9 +248,18 @@ func (c *Collector) latestSamples() {
 			cs.next = append(cs.next, sample{fam: fFault, l1: r.Status.String(), v: 1})
 		}
 	}
-	for k, n := range l.faults {
+	// In a fixed order: a channel's samples are compared with the last scrape's to
+	// decide whether to rebuild its series, and a map's order changes every time.
+	keys := make([]faultKey, 0, len(l.faults))
+	for k := range l.faults {
+		keys = append(keys, k)
+	}
+	slices.SortFunc(keys, func(a, b faultKey) int {
+		return cmp.Or(strings.Compare(a.channel, b.channel), cmp.Compare(a.status, b.status))
+	})
+	for _, k := range keys {
 		cs := c.channel(k.channel)
-		cs.next = append(cs.next, sample{fam: fFaults, l1: k.status.String(), v: float64(n)})
+		cs.next = append(cs.next, sample{fam: fFaults, l1: k.status.String(), v: float64(l.faults[k])})
 	}
 }
 
