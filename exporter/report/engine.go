@@ -174,7 +174,6 @@ func RecordFinal(j *journal.Journal, runID string, fc *predict.Forecast) {
 		return
 	}
 	for _, tf := range fc.Targets {
-		j.RecordFinalForecast(runID, journal.ForecastPoint{Time: fc.FittedAt, Target: tf.Target.Name, State: string(tf.State),
-			At: tf.At, Earliest: tf.Earliest, Latest: tf.Latest, Estimated: tf.Estimated})
+		j.RecordFinalForecast(runID, forecastPoint(fc, tf))
 	}
 }

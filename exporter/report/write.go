@@ -170,9 +170,14 @@ func RecordForecasts(j *journal.Journal, runID string, fc *predict.Forecast) {
 		return
 	}
 	for _, tf := range fc.Targets {
-		j.RecordForecast(runID, journal.ForecastPoint{Time: fc.FittedAt, Target: tf.Target.Name, State: string(tf.State),
-			At: tf.At, Earliest: tf.Earliest, Latest: tf.Latest, Estimated: tf.Estimated})
+		j.RecordForecast(runID, forecastPoint(fc, tf))
 	}
+}
+
+// forecastPoint is one target's forecast as the run's history stores it.
+func forecastPoint(fc *predict.Forecast, tf predict.TargetForecast) journal.ForecastPoint {
+	return journal.ForecastPoint{Time: fc.FittedAt, Target: tf.Target.Name, State: string(tf.State),
+		At: tf.At, Earliest: tf.Earliest, Latest: tf.Latest, Estimated: tf.Estimated}
 }
 
 // RecordBench stores the forecasts of every channel in states that has an active run
