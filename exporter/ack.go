@@ -10,6 +10,8 @@ import (
 	"sync"
 	"time"
 	"unicode"
+
+	"github.com/settle-lab/settle/daq/journal"
 )
 
 // MaxAckByLen caps the "by" field of an acknowledgement (initials or a short name).
@@ -18,14 +20,8 @@ const MaxAckByLen = 40
 // Ack is a technician's acknowledgement that a ready specimen was seen: the page's
 // acknowledge button or POST /api/v1/channels/{name}/acknowledge. It belongs to one
 // specimen on one position (the fit's segment start), so the next specimen placed
-// there starts unacknowledged.
-type Ack struct {
-	Channel string    `json:"channel"`
-	Segment time.Time `json:"segment_start"`
-	At      time.Time `json:"at"`
-	By      string    `json:"by,omitempty"`
-	RunID   string    `json:"run_id,omitempty"`
-}
+// there starts unacknowledged. It is the journal's record of it, as the API shows it.
+type Ack = journal.Ack
 
 // AckOptions configures NewAcks.
 type AckOptions struct {

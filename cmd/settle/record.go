@@ -174,14 +174,10 @@ func (r *recorder) acks() *exporter.Acks {
 	if err != nil {
 		r.log.Warn("acknowledgements not restored", "err", err)
 	}
-	var list []exporter.Ack
-	for _, a := range restored {
-		list = append(list, exporter.Ack(a))
-	}
 	return exporter.NewAcks(exporter.AckOptions{
-		Save:     func(a exporter.Ack) error { return r.j.Acknowledge(journal.Ack(a)) },
+		Save:     r.j.Acknowledge,
 		RunOf:    func(ch string) string { id, _ := r.j.ActiveRunID(ch); return id },
-		Restored: list,
+		Restored: restored,
 	})
 }
 
