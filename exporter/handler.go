@@ -231,11 +231,17 @@ func (h *Handler) allowed(r *http.Request) string {
 		(r.URL.Path == "/api/v1/runs" || strings.HasPrefix(r.URL.Path, "/api/v1/runs/")) {
 		return a.Allowed(r)
 	}
+	return AllowedMethods(h.mux, r)
+}
+
+// AllowedMethods lists the methods some route of mux takes on r's path, as an Allow
+// header says them ("" when none does).
+func AllowedMethods(mux *http.ServeMux, r *http.Request) string {
 	var out []string
 	for _, m := range []string{http.MethodGet, http.MethodPost} {
 		probe := r.Clone(r.Context())
 		probe.Method = m
-		if _, pattern := h.mux.Handler(probe); pattern != "" {
+		if _, pattern := mux.Handler(probe); pattern != "" {
 			out = append(out, m)
 			if m == http.MethodGet {
 				out = append(out, http.MethodHead)

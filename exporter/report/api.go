@@ -91,20 +91,7 @@ func (h runsHandler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 }
 
 // Allowed lists the methods the runs API takes on r's path ("" when none does).
-func (h runsHandler) Allowed(r *http.Request) string {
-	var out []string
-	for _, m := range []string{http.MethodGet, http.MethodPost} {
-		probe := r.Clone(r.Context())
-		probe.Method = m
-		if _, pattern := h.mux.Handler(probe); pattern != "" {
-			out = append(out, m)
-			if m == http.MethodGet {
-				out = append(out, http.MethodHead)
-			}
-		}
-	}
-	return strings.Join(out, ", ")
-}
+func (h runsHandler) Allowed(r *http.Request) string { return exporter.AllowedMethods(h.mux, r) }
 
 type api struct {
 	j       *journal.Journal
