@@ -43,22 +43,7 @@ type forecastRow struct {
 // target also stores its At as the run's crossing (marked estimated when p is). It
 // reports whether the point was queued; it never blocks on the disk.
 func (j *Journal) RecordForecast(runID string, p ForecastPoint) bool {
-	cur := forecastRow{run: runID, ForecastPoint: p}
-	state := p.State
-	k := fcKey{runID, p.Target}
-	j.mu.Lock()
-	defer j.mu.Unlock()
-	if j.opt.ReadOnly {
-		return false
-	}
-	prev, seen := j.lastFc[k]
-	if seen && !j.significant(prev.ForecastPoint, cur.ForecastPoint) {
-		return false
-	}
-	cur.crossing = state == StateReached && (!seen || prev.State != StateReached)
-	j.lastFc[k] = cur
-	j.fqueue = append(j.fqueue, cur)
-	return true
+	return j.record(runID, p, j.significant)
 }
 
 // RecordFinalForecast is RecordForecast without the test for a meaningful change: the
@@ -67,6 +52,13 @@ func (j *Journal) RecordForecast(runID string, p ForecastPoint) bool {
 // with the forecast the daemon last showed, and a report replays exactly the readings
 // that forecast used.
 func (j *Journal) RecordFinalForecast(runID string, p ForecastPoint) bool {
+	return j.record(runID, p, func(prev, cur ForecastPoint) bool { return prev != cur })
+}
+
+// record queues p for the next commit unless a point of the same run and target was
+// recorded before and changed reports no change from it. The first "reached" state of
+// a target also stores its At as the run's crossing.
+func (j *Journal) record(runID string, p ForecastPoint, changed func(prev, cur ForecastPoint) bool) bool {
 	cur := forecastRow{run: runID, ForecastPoint: p}
 	k := fcKey{runID, p.Target}
 	j.mu.Lock()
@@ -75,7 +67,7 @@ func (j *Journal) RecordFinalForecast(runID string, p ForecastPoint) bool {
 		return false
 	}
 	prev, seen := j.lastFc[k]
-	if seen && prev.ForecastPoint == p {
+	if seen && !changed(prev.ForecastPoint, p) {
 		return false
 	}
 	cur.crossing = p.State == StateReached && (!seen || prev.State != StateReached)
