@@ -7,6 +7,8 @@ import (
 	"net"
 	"os"
 	"syscall"
+
+	"github.com/settle-lab/settle/internal/yamlfile"
 )
 
 // Check loads the file at path as Load does and, when it is valid, looks at this
@@ -14,7 +16,7 @@ import (
 // configuration (nil when any problem is an error) and every problem, warnings
 // included, each naming the file and, where the file has the key, its line.
 func Check(path string) (*Config, []*Problem) {
-	data, err := readFile(path)
+	data, err := yamlfile.ReadFile(path)
 	if err != nil {
 		return nil, Problems(err)
 	}
@@ -22,8 +24,8 @@ func Check(path string) (*Config, []*Problem) {
 	if err != nil {
 		return nil, Problems(err)
 	}
-	t, _ := readTree(data) // Parse has read it without a problem
-	ps := t.locate(c.CheckHost())
+	t, _ := yamlfile.ReadTree(data) // Parse has read it without a problem
+	ps := t.Locate(c.CheckHost(), envKeys)
 	for _, p := range ps {
 		p.File = path
 		if !p.Warning {

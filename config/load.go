@@ -4,14 +4,11 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
-	"io"
-	"os"
-	"slices"
-	"strings"
 	"sync/atomic"
 	"time"
 
 	"github.com/go-viper/mapstructure/v2"
+	"github.com/settle-lab/settle/internal/yamlfile"
 	"github.com/spf13/viper"
 )
 
@@ -56,14 +53,14 @@ const (
 const DefaultCommitInterval = time.Second
 
 // MaxFileSize bounds a configuration file; a larger file is refused before parsing.
-const MaxFileSize = 1 << 20
+const MaxFileSize = yamlfile.MaxFileSize
 
 // Load reads the YAML file at path, fills in defaults, applies the SETTLE_LISTEN and
 // SETTLE_DATA_DIR environment overrides, decodes with unknown keys rejected and
 // validates. Every problem names the file (as path was given) and the key path or
 // line; all problems are returned together, joined with errors.Join.
 func Load(path string) (*Config, error) {
-	data, err := readFile(path)
+	data, err := yamlfile.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
@@ -77,43 +74,23 @@ func Load(path string) (*Config, error) {
 // merge silently), stop the reading before decoding; every other problem is found
 // and returned at once, each with the line of its key where the file has it.
 func Parse(name string, yaml []byte) (*Config, error) {
-	t, problems := readTree(yaml)
+	t, problems := yamlfile.ReadTree(yaml)
 	if problems != nil {
-		return nil, inFile(name, problems)
+		return nil, yamlfile.InFile(name, problems)
 	}
 	v, problems := readYAML(yaml)
 	if problems != nil {
-		return nil, inFile(name, t.locate(problems))
+		return nil, yamlfile.InFile(name, t.Locate(problems, envKeys))
 	}
 	var c Config
 	var decoded []*Problem
 	if err := v.UnmarshalExact(&c, decoderOptions); err != nil {
 		decoded = decodeProblems(err)
 	}
-	if problems := afterDecode(decoded, c.validate()); len(problems) > 0 {
-		return nil, inFile(name, t.locate(problems))
+	if problems := yamlfile.AfterDecode(decoded, c.validate()); len(problems) > 0 {
+		return nil, yamlfile.InFile(name, t.Locate(problems, envKeys))
 	}
 	return &c, nil
-}
-
-// afterDecode returns the decoding problems followed by the validation problems of
-// what was decoded (mapstructure decodes every value it can), leaving out a
-// validation problem at or under a key that could not be decoded: "baud: want a
-// whole number, got "fast"" is not followed by "baud: must be positive, got 0".
-func afterDecode(decoded, validated []*Problem) []*Problem {
-	out := decoded
-	for _, p := range validated {
-		if !slices.ContainsFunc(decoded, func(d *Problem) bool { return d.Key != "" && under(p.Key, d.Key) }) {
-			out = append(out, p)
-		}
-	}
-	return out
-}
-
-// under reports whether key is parent or a key path inside it.
-func under(key, parent string) bool {
-	rest, ok := strings.CutPrefix(key, parent)
-	return ok && (rest == "" || rest[0] == '.' || rest[0] == '[')
 }
 
 // Reload loads the file at path and, only when it is valid, stores it in current.
@@ -129,22 +106,6 @@ func Reload(path string, current *atomic.Pointer[Config]) error {
 	}
 	current.Store(c)
 	return nil
-}
-
-func readFile(path string) ([]byte, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, fmt.Errorf("config: %w", err)
-	}
-	defer f.Close()
-	data, err := io.ReadAll(io.LimitReader(f, MaxFileSize+1))
-	if err != nil {
-		return nil, fmt.Errorf("config: read %s: %w", path, err)
-	}
-	if len(data) > MaxFileSize {
-		return nil, &Problem{File: path, Msg: fmt.Sprintf("larger than %d bytes; is this a settle configuration?", MaxFileSize)}
-	}
-	return data, nil
 }
 
 // readYAML parses the YAML into a fresh viper with defaults and environment binds.
@@ -220,5 +181,5 @@ func setIfAbsent(m map[string]any, key string, val any) {
 // baud rate, 5 never becomes a name) and our own hook for types and durations.
 func decoderOptions(dc *mapstructure.DecoderConfig) {
 	dc.WeaklyTypedInput = false
-	dc.DecodeHook = mapstructure.DecodeHookFuncValue(checkValue)
+	dc.DecodeHook = mapstructure.DecodeHookFuncValue(yamlfile.CheckValue)
 }

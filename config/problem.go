@@ -1,97 +1,43 @@
 package config
 
 import (
-	"errors"
-	"fmt"
+	"reflect"
 	"strings"
+
+	"github.com/settle-lab/settle/internal/yamlfile"
 )
 
 // Problem is one thing wrong with a configuration: a YAML syntax error, an unknown
 // key, a value of the wrong type or a value that fails validation. Load, Parse and
 // Validate return their problems joined with errors.Join; Problems takes them apart.
-type Problem struct {
-	// File is the file name as given to Load or Parse; empty from Validate alone.
-	File string
-	// Line is the 1-based line in File, when known: the line of the key (or, for a
-	// key the file leaves out, of the enclosing key or list item), or of a YAML
-	// mistake; else 0.
-	Line int
-	// Key is the key path, such as "loggers[0].line.columns[2].index"; empty when the
-	// problem concerns the whole file or the message names the key itself.
-	Key string
-	// Msg says what is wrong and, where it helps, what is wanted.
-	Msg string
-
-	// Warning marks a problem that does not stop settle from starting, such as a
-	// serial port that is not plugged in yet; Error shows "warning: ".
-	Warning bool
-
-	near bool   // Line is where the YAML parser noticed, not where the mistake is
-	at   string // the key path named in Msg, for its line (unknown keys)
-}
-
-// Error formats the problem as "FILE: line N: KEY: MSG", leaving out the parts that
-// are empty, with "warning: " before KEY for a warning; "near line N" where the line
-// of a YAML syntax error could not be found exactly.
-func (p *Problem) Error() string {
-	var b strings.Builder
-	if p.File != "" {
-		b.WriteString(p.File + ": ")
-	}
-	if p.near {
-		b.WriteString("near ")
-	}
-	if p.Line > 0 {
-		fmt.Fprintf(&b, "line %d: ", p.Line)
-	}
-	if p.Warning {
-		b.WriteString("warning: ")
-	}
-	if p.Key != "" {
-		b.WriteString(p.Key + ": ")
-	}
-	b.WriteString(p.Msg)
-	return b.String()
-}
+// It is the problem of the YAML reader under the configuration and specimen files
+// (internal/yamlfile), so both are printed the same way.
+type Problem = yamlfile.Problem
 
 // Problems lists the problems inside err, in order: err itself when it is a single
 // *Problem, or the *Problem values of an errors.Join tree. Errors that are not
 // problems (for example a file that cannot be read) are returned as a Problem with
 // only Msg set, so that a caller can print every entry the same way.
-func Problems(err error) []*Problem {
-	if err == nil {
-		return nil
-	}
-	if joined, ok := err.(interface{ Unwrap() []error }); ok {
-		var out []*Problem
-		for _, e := range joined.Unwrap() {
-			out = append(out, Problems(e)...)
-		}
-		return out
-	}
-	var p *Problem
-	if errors.As(err, &p) {
-		return []*Problem{p}
-	}
-	return []*Problem{{Msg: err.Error()}}
+func Problems(err error) []*Problem { return yamlfile.Problems(err) }
+
+// envKeys are the keys an environment variable can override: a problem with such a
+// key names the variable instead of a line of the file, when the variable is set.
+var envKeys = map[string]string{"listen": EnvListen, "data_dir": EnvDataDir, "http.token": EnvToken}
+
+// decodeProblems turns the errors of viper's UnmarshalExact into problems with our
+// key paths (yamlfile.DecodeProblems, with the keys of Config).
+func decodeProblems(err error) []*Problem {
+	return yamlfile.DecodeProblems(reflect.TypeFor[Config](), err)
 }
 
-// joinProblems returns the problems as one error, or nil when there are none.
-func joinProblems(ps []*Problem) error {
-	if len(ps) == 0 {
-		return nil
-	}
-	errs := make([]error, len(ps))
-	for i, p := range ps {
-		errs[i] = p
-	}
-	return errors.Join(errs...)
-}
-
-// inFile sets File on every problem and returns them joined.
-func inFile(name string, ps []*Problem) error {
+// yamlProblems is yamlfile.YAMLProblems for the whole configuration, where a file
+// that is not a mapping gets the keys it should have.
+func yamlProblems(err error) []*Problem {
+	ps := yamlfile.YAMLProblems(err)
 	for _, p := range ps {
-		p.File = name
+		if strings.Contains(p.Msg, "into map[string]interface {}") {
+			p.Msg = "the file must be a mapping of keys (listen, data_dir, loggers, channels)"
+		}
 	}
-	return joinProblems(ps)
+	return ps
 }

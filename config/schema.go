@@ -1,6 +1,10 @@
 package config
 
-import "time"
+import (
+	"time"
+
+	"github.com/settle-lab/settle/predict"
+)
 
 // Config is the whole settle configuration file.
 type Config struct {
@@ -244,9 +248,10 @@ type Channel struct {
 	// Run, when set, starts a run on this channel at start-up unless one is active.
 	Run *Run `mapstructure:"run"`
 	// Specimen, when set, describes the specimen on this channel (shape, size,
-	// sensor position, material by name or by properties; see Specimen), so the
-	// forecaster can report its Biot number and model conduction inside it.
-	Specimen *Specimen `mapstructure:"specimen"`
+	// sensor position, material by name or by properties; see predict.Specimen, the
+	// schema of a `settle fit --specimen` file too), so the forecaster can report its
+	// Biot number and model conduction inside it.
+	Specimen *predict.Specimen `mapstructure:"specimen"`
 }
 
 // Run names the specimen on a channel, for the record.

@@ -6,6 +6,8 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+
+	"github.com/settle-lab/settle/internal/yamlfile"
 )
 
 // Limits on a fixed target temperature, in °C.
@@ -25,7 +27,7 @@ const (
 // "loggers[0].line.columns[2].index: must be ≥ 1"). It returns nil for a valid
 // configuration. Load and Parse call it; call it yourself on a Config built in code.
 func (c *Config) Validate() error {
-	return joinProblems(c.validate())
+	return yamlfile.Join(c.validate())
 }
 
 // checker collects problems.
@@ -41,7 +43,7 @@ func (c *Config) validate() []*Problem {
 	if strings.TrimSpace(c.DataDir) == "" {
 		k.add("data_dir", "must not be empty")
 	}
-	index := c.channelIndex()
+	index := channelIndex(c.Channels)
 	c.checkLoggers(k, index)
 	c.checkChannels(k, index)
 	c.checkServices(k)
@@ -49,9 +51,9 @@ func (c *Config) validate() []*Problem {
 }
 
 // channelIndex maps each channel name to the index of its first channel.
-func (c *Config) channelIndex() map[string]int {
+func channelIndex(channels []Channel) map[string]int {
 	index := map[string]int{}
-	for i, ch := range c.Channels {
+	for i, ch := range channels {
 		if _, dup := index[ch.Name]; !dup && ch.Name != "" {
 			index[ch.Name] = i
 		}
@@ -119,15 +121,33 @@ func (c *Config) checkRole(k *checker, key string, ch Channel) {
 }
 
 func checkAmbient(k *checker, key string, ch Channel, index map[string]int) {
+	switch ambientFault(ch, index) {
+	case ambientSelf:
+		k.add(key, "channel %q cannot be its own ambient; name another channel, or leave ambient out to fit it", ch.Name)
+	case ambientMissing:
+		k.add(key, "no channel named %q in channels", ch.Ambient)
+	}
+}
+
+// What is wrong with a channel's ambient, from ambientFault.
+const (
+	ambientSelf    = "self"    // it names the channel itself
+	ambientMissing = "missing" // it names no channel
+)
+
+// ambientFault says what is wrong with ch's ambient ("" when it is absent or names
+// another channel); index is from channelIndex. Validate and ChannelSpecs share it.
+func ambientFault(ch Channel, index map[string]int) string {
 	switch {
 	case ch.Ambient == "":
 	case ch.Ambient == ch.Name:
-		k.add(key, "channel %q cannot be its own ambient; name another channel, or leave ambient out to fit it", ch.Name)
+		return ambientSelf
 	default:
 		if _, ok := index[ch.Ambient]; !ok {
-			k.add(key, "no channel named %q in channels", ch.Ambient)
+			return ambientMissing
 		}
 	}
+	return ""
 }
 
 func checkTargets(k *checker, chKey string, targets []Target) {

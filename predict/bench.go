@@ -1,11 +1,7 @@
 package predict
 
 import (
-	"fmt"
-	"math"
 	"time"
-
-	"github.com/settle-lab/settle/config"
 )
 
 // ChannelSpec describes one channel of a bench: its name, the channel that measures
@@ -58,7 +54,7 @@ type Bench struct {
 }
 
 // NewBench returns a bench with one tracker per spec. A later spec with a name already
-// used is ignored.
+// used is ignored. config.ChannelSpecs builds the specs from a configuration.
 func NewBench(specs []ChannelSpec, opt TrackerOptions) *Bench {
 	b := &Bench{index: map[string]int{}, users: map[string][]int{}}
 	for _, s := range specs {
@@ -133,75 +129,4 @@ func (tr *Tracker) state() ChannelState {
 		Readings:    tr.readings,
 		Forecast:    copyForecast(tr.forecast),
 	}
-}
-
-// SpecsFromConfig builds bench specs from configured channels. A target's nil Celsius
-// becomes NaN (a Within target). It rejects duplicate channel names, an ambient that
-// names no channel or the channel itself, and targets with both or neither of celsius
-// and within set; errors name the key path, e.g. channels[2].targets[0].
-func SpecsFromConfig(cfg []config.Channel) ([]ChannelSpec, error) {
-	names := map[string]bool{}
-	for i, c := range cfg {
-		if names[c.Name] {
-			return nil, fmt.Errorf("predict: channels[%d].name: duplicate channel %q", i, c.Name)
-		}
-		names[c.Name] = true
-	}
-	specs := make([]ChannelSpec, len(cfg))
-	for i, c := range cfg {
-		if c.Ambient != "" && (!names[c.Ambient] || c.Ambient == c.Name) {
-			return nil, fmt.Errorf("predict: channels[%d].ambient: %q is not another configured channel", i, c.Ambient)
-		}
-		specs[i] = ChannelSpec{Name: c.Name, Ambient: c.Ambient, Role: c.Role}
-		if c.Specimen != nil {
-			sp, err := specimenFromConfig(fmt.Sprintf("channels[%d]", i), c.Specimen)
-			if err != nil {
-				return nil, fmt.Errorf("predict: %w", err)
-			}
-			specs[i].Specimen = &sp
-		}
-		for j, t := range c.Targets {
-			tg, err := targetFromConfig(t)
-			if err != nil {
-				return nil, fmt.Errorf("predict: channels[%d].targets[%d] (%q): %w", i, j, t.Name, err)
-			}
-			specs[i].Targets = append(specs[i].Targets, tg)
-		}
-	}
-	return specs, nil
-}
-
-// specimenFromConfig converts a channel's configured specimen (key is the channel's
-// key path), resolving a material name; errors name the key.
-func specimenFromConfig(key string, c *config.Specimen) (Specimen, error) {
-	if err := c.Check(key); err != nil {
-		return Specimen{}, err
-	}
-	s := fromConfig(c)
-	if err := s.resolve(); err != nil {
-		return Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
-	}
-	if err := s.Validate(); err != nil {
-		return Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
-	}
-	return s, nil
-}
-
-// targetFromConfig converts one configured target.
-func targetFromConfig(t config.Target) (Target, error) {
-	switch {
-	case t.Celsius != nil && t.Within != nil:
-		return Target{}, fmt.Errorf("both celsius and within set")
-	case t.Celsius == nil && t.Within == nil:
-		return Target{}, fmt.Errorf("neither celsius nor within set")
-	case t.Within != nil && !(*t.Within > 0):
-		return Target{}, fmt.Errorf("within %g °C must be positive", *t.Within)
-	}
-	tg := Target{Name: t.Name, Celsius: math.NaN(), Hold: t.Hold, Handling: t.Handling}
-	if t.Celsius != nil {
-		tg.Celsius = *t.Celsius
-	} else {
-		tg.Within = *t.Within
-	}
-	return tg, nil
 }

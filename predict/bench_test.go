@@ -3,11 +3,8 @@ package predict
 import (
 	"fmt"
 	"math"
-	"strings"
 	"sync"
 	"testing"
-
-	"github.com/settle-lab/settle/config"
 )
 
 func TestBenchAmbientAndSnapshot(t *testing.T) {
@@ -78,43 +75,5 @@ func TestBenchConcurrent(t *testing.T) {
 		if st.Readings != 200 || st.Forecast == nil && st.Name != "room" {
 			t.Errorf("%s: %d readings, forecast %v; want 200 and a forecast", st.Name, st.Readings, st.Forecast)
 		}
-	}
-}
-
-func TestSpecsFromConfig(t *testing.T) {
-	c, w := 50.0, 1.5
-	zero := 0.0
-	good := []config.Channel{
-		{Name: "s1", Ambient: "room", Targets: []config.Target{{Name: "handle", Celsius: &c, Handling: true}, {Name: "settled", Within: &w}}},
-		{Name: "room"},
-	}
-	specs, err := SpecsFromConfig(good)
-	if err != nil {
-		t.Fatal(err)
-	}
-	tg := specs[0].Targets
-	if len(specs) != 2 || specs[0].Ambient != "room" || tg[0].Celsius != 50 || !tg[0].Handling ||
-		!tg[1].IsWithin() || tg[1].Within != 1.5 || tg[1].Name != "settled" {
-		t.Errorf("specs %+v", specs)
-	}
-	bad := []struct {
-		name string
-		cfg  []config.Channel
-		want string
-	}{
-		{"duplicate", []config.Channel{{Name: "a"}, {Name: "a"}}, `channels[1].name: duplicate channel "a"`},
-		{"unknown ambient", []config.Channel{{Name: "a", Ambient: "b"}}, `channels[0].ambient: "b"`},
-		{"self ambient", []config.Channel{{Name: "a", Ambient: "a"}}, `channels[0].ambient: "a"`},
-		{"both", []config.Channel{{Name: "a"}, {Name: "b", Targets: []config.Target{{Name: "x", Celsius: &c, Within: &w}}}}, `channels[1].targets[0] ("x"): both`},
-		{"neither", []config.Channel{{Name: "a", Targets: []config.Target{{Name: "x"}}}}, `channels[0].targets[0] ("x"): neither`},
-		{"zero band", []config.Channel{{Name: "a", Targets: []config.Target{{Name: "x", Within: &zero}}}}, `channels[0].targets[0] ("x"): within 0`},
-	}
-	for _, c := range bad {
-		t.Run(c.name, func(t *testing.T) {
-			_, err := SpecsFromConfig(c.cfg)
-			if err == nil || !strings.Contains(err.Error(), c.want) {
-				t.Errorf("err = %v, want it to contain %q", err, c.want)
-			}
-		})
 	}
 }

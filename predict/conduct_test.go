@@ -7,7 +7,6 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/predict/conduction"
 )
 
@@ -171,24 +170,20 @@ func BenchmarkAnalyzeConduction2000(b *testing.B) {
 	}
 }
 
-// The daemon's path: a channel configured with a specimen (config → SpecsFromConfig →
-// NewBench) gets the conduction model, and its handling target follows the centre of
-// the slab although the thermocouple is on the surface.
+// The daemon's path: a channel configured with a specimen (config.ChannelSpecs builds
+// this spec from a configuration; config's TestChannelSpecsConduction checks that it
+// does) gets the conduction model from NewBench, and its handling target follows the
+// centre of the slab although the thermocouple is on the surface.
 func TestBenchSpecimenFromConfig(t *testing.T) {
-	handling, within := 50.0, 2.0
-	cfg := []config.Channel{{
+	specs := []ChannelSpec{{
 		Name: "slab-7",
-		Targets: []config.Target{
-			{Name: "handling", Celsius: &handling, Handling: true},
-			{Name: "settled", Within: &within},
+		Targets: []Target{
+			{Name: "handling", Celsius: 50, Handling: true},
+			{Name: "settled", Celsius: math.NaN(), Within: 2},
 		},
-		Specimen: &config.Specimen{Shape: "slab", SizeM: 0.05, LengthM: 0.3, Sensor: "surface",
-			Material: config.SpecimenMaterial{Density: 2300, SpecificHeat: 880, Conductivity: 1.4, Emissivity: 0.9}},
+		Specimen: &Specimen{Shape: "slab", SizeM: 0.05, LengthM: 0.3, Sensor: "surface",
+			Material: SpecimenMaterial{Density: 2300, SpecificHeat: 880, Conductivity: 1.4, Emissivity: 0.9}},
 	}}
-	specs, err := SpecsFromConfig(cfg)
-	if err != nil {
-		t.Fatal(err)
-	}
 	sp := concreteSlab("surface")
 	surf, centre := exactSlab(sp, 1), exactSlab(sp, 0)
 	tSurf, tCentre := crossingOf(surf, 50), crossingOf(centre, 50)

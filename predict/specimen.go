@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"math"
 
-	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/internal/yamlfile"
 	"github.com/settle-lab/settle/predict/conduction"
 	"github.com/settle-lab/settle/predict/material"
 	"github.com/settle-lab/settle/predict/surface"
@@ -13,34 +13,36 @@ import (
 
 // Specimen describes a specimen's shape and material, so that the forecaster can use
 // the temperature-dependent surface coefficient with the right geometry and report a
-// Biot number. It is what `settle fit --specimen SPEC.yaml` reads.
+// Biot number. It is what `settle fit --specimen SPEC.yaml` reads, and the specimen
+// section of a configuration's channel (config embeds it): the one schema of a
+// specimen, its keys the mapstructure tags.
 type Specimen struct {
 	// Shape is "slab", "cylinder" (long), "sphere", "short-cylinder" (a cylinder of
 	// finite length, ends cooled too) or "block" (a rectangular block).
-	Shape string `yaml:"shape"`
+	Shape string `mapstructure:"shape"`
 	// SizeM is the half-thickness of a slab or block, or the radius of a cylinder,
 	// short cylinder or sphere, m.
-	SizeM float64 `yaml:"size_m"`
+	SizeM float64 `mapstructure:"size_m"`
 	// LengthM is a slab's or block's vertical height or a cylinder's length (full, not
 	// half), m; unused for a sphere and required for a short cylinder and a block.
 	// Zero means: a slab 10 times as high as it is thick; a long cylinder.
-	LengthM float64 `yaml:"length_m"`
+	LengthM float64 `mapstructure:"length_m"`
 	// WidthM is a block's third side (full width), m; required for a block, unused
 	// otherwise.
-	WidthM float64 `yaml:"width_m"`
+	WidthM float64 `mapstructure:"width_m"`
 	// Sensor is where the thermocouple sits: "center" or "surface".
-	Sensor string `yaml:"sensor"`
+	Sensor string `mapstructure:"sensor"`
 	// Material gives the properties, or names a built-in material.
-	Material SpecimenMaterial `yaml:"material"`
+	Material SpecimenMaterial `mapstructure:"material"`
 	// Air (YAML key convection) says how the air around the specimen moves: "still" (natural
 	// convection), "moving" (a fan, a draught: a constant convective coefficient),
 	// or "chamber" (an oven, furnace or conditioning chamber held at ChamberC, with
 	// circulating air and walls radiating at about that temperature). Empty: the
 	// engine fits still and moving air and keeps the better by AIC, with a note.
-	Air string `yaml:"convection"`
+	Air string `mapstructure:"convection"`
 	// ChamberC is a chamber's set temperature, °C; required with Air "chamber",
 	// not allowed otherwise.
-	ChamberC *float64 `yaml:"chamber_c"`
+	ChamberC *float64 `mapstructure:"chamber_c"`
 }
 
 // The settings of Specimen.Air.
@@ -52,17 +54,14 @@ const (
 
 // convectionErr checks Air and ChamberC.
 func (s Specimen) convectionErr() error {
-	switch s.Air {
-	case "", ConvectionStill, ConvectionMoving:
-		if s.ChamberC != nil {
-			return fmt.Errorf("chamber_c: only a specimen with convection: chamber has a set temperature")
-		}
-	case ConvectionChamber:
-		if s.ChamberC == nil || math.IsNaN(*s.ChamberC) || math.IsInf(*s.ChamberC, 0) || *s.ChamberC < -273.15 {
+	switch s.convectionFault() {
+	case "convection":
+		return fmt.Errorf("convection: %q is not still, moving or chamber", s.Air)
+	case "chamber_c":
+		if s.Air == ConvectionChamber {
 			return fmt.Errorf("chamber_c: convection: chamber needs the chamber's set temperature in °C")
 		}
-	default:
-		return fmt.Errorf("convection: %q is not still, moving or chamber", s.Air)
+		return fmt.Errorf("chamber_c: only a specimen with convection: chamber has a set temperature")
 	}
 	return nil
 }
@@ -70,59 +69,88 @@ func (s Specimen) convectionErr() error {
 // SpecimenMaterial is a specimen's material: a built-in Name (predict/material), or
 // the properties, or both (the properties given override the named ones).
 type SpecimenMaterial struct {
-	Name         string  `yaml:"name"`
-	Density      float64 `yaml:"density_kg_m3"`
-	SpecificHeat float64 `yaml:"specific_heat_j_kgk"`
-	Conductivity float64 `yaml:"conductivity_w_mk"`
-	Emissivity   float64 `yaml:"emissivity"`
+	Name         string  `mapstructure:"name"`
+	Density      float64 `mapstructure:"density_kg_m3"`
+	SpecificHeat float64 `mapstructure:"specific_heat_j_kgk"`
+	Conductivity float64 `mapstructure:"conductivity_w_mk"`
+	Emissivity   float64 `mapstructure:"emissivity"`
 	// Finish is a named material's surface, "bright" or "oxidised" (the default for
 	// metals: as taken out of a furnace); it picks the emissivity when none is given.
-	Finish string `yaml:"finish"`
+	Finish string `mapstructure:"finish"`
 }
 
 // LoadSpecimen reads and checks a specimen YAML file. It reports every problem at
 // once, each naming the file, the line and the key, in the words of `settle config
-// check` (config.LoadSpecimen).
+// check` (see ParseSpecimen).
 func LoadSpecimen(path string) (Specimen, error) {
-	c, err := config.LoadSpecimen(path)
+	data, err := yamlfile.ReadFile(path)
 	if err != nil {
 		return Specimen{}, err
 	}
-	return specimenFrom(c, path)
+	return parseSpecimen(path, data)
 }
 
-// ParseSpecimen decodes a specimen from YAML, rejecting unknown keys, resolves a
-// named material and checks the values; every problem is reported, with its line and
-// key (config.ParseSpecimen).
+// ParseSpecimen decodes a specimen from YAML, rejecting unknown keys, checks it
+// (Check), resolves a named material and checks the result (Validate). Every problem
+// of the file is reported at once, with its line and key: a YAML mistake, keys that
+// differ only in case, unknown keys, values of the wrong type and the problems of
+// Check, with key paths such as "material.name".
 func ParseSpecimen(b []byte) (Specimen, error) {
-	c, err := config.ParseSpecimen("", b)
+	return parseSpecimen("", b)
+}
+
+// parseSpecimen is ParseSpecimen for a file; name stands for it in messages ("" for
+// none).
+func parseSpecimen(name string, data []byte) (Specimen, error) {
+	s, err := decodeSpecimen(name, data)
 	if err != nil {
 		return Specimen{}, err
 	}
-	return specimenFrom(c, "")
-}
-
-// specimenFrom converts a checked specimen file and resolves its material; name is
-// the file, for messages.
-func specimenFrom(c *config.Specimen, name string) (Specimen, error) {
-	s := fromConfig(c)
-	err := s.resolve()
-	if err == nil {
-		err = s.Validate()
-	}
+	r, err := s.Resolved()
 	if err != nil && name != "" {
 		return Specimen{}, fmt.Errorf("%s: %w", name, err)
 	}
-	return s, err
+	return r, err
 }
 
-// fromConfig converts a configured specimen without checking it.
-func fromConfig(c *config.Specimen) Specimen {
-	m := c.Material
-	return Specimen{Shape: c.Shape, SizeM: c.SizeM, LengthM: c.LengthM, WidthM: c.WidthM, Sensor: c.Sensor,
-		Material: SpecimenMaterial{Name: m.Name, Density: m.Density, SpecificHeat: m.SpecificHeat,
-			Conductivity: m.Conductivity, Emissivity: m.Emissivity, Finish: m.Finish},
-		Air: c.Convection, ChamberC: c.ChamberC}
+// decodeSpecimen reads a specimen file's keys into a Specimen and checks it (Check),
+// as given, with the line of every problem.
+func decodeSpecimen(name string, data []byte) (Specimen, error) {
+	t, problems := yamlfile.ReadTree(data)
+	if problems != nil {
+		return Specimen{}, yamlfile.InFile(name, problems)
+	}
+	raw, problems := yamlfile.Unmarshal(data)
+	if problems != nil {
+		return Specimen{}, yamlfile.InFile(name, problems)
+	}
+	switch raw.(type) {
+	case nil:
+		return Specimen{}, yamlfile.InFile(name, []*yamlfile.Problem{{Msg: "empty: a specimen needs shape, size_m, sensor and material"}})
+	case map[string]any:
+	default:
+		return Specimen{}, yamlfile.InFile(name, []*yamlfile.Problem{{Line: 1, Msg: "a specimen file must be a mapping of keys (shape, size_m, length_m, width_m, sensor, material, convection, chamber_c)"}})
+	}
+	var s Specimen
+	decoded := yamlfile.Decode(raw, &s)
+	if problems := yamlfile.AfterDecode(decoded, s.problems()); len(problems) > 0 {
+		return Specimen{}, yamlfile.InFile(name, t.Locate(problems, nil))
+	}
+	return s, nil
+}
+
+// Resolved returns the specimen with the properties it does not give filled from its
+// named built-in material, checked (Validate). Give it a specimen that passes Check:
+// its errors are the engine's own, for what Check leaves to it (a property given
+// beside a material name, which overrides the table).
+func (s Specimen) Resolved() (Specimen, error) {
+	if err := s.resolve(); err != nil {
+		return Specimen{}, err
+	}
+	if err := s.Validate(); err != nil {
+		return Specimen{}, err
+	}
+	return s, nil
 }
 
 // resolve fills the properties not given from the named built-in material.
@@ -136,7 +164,7 @@ func (s *Specimen) resolve() error {
 	}
 	ref, ok := material.Lookup(m.Name)
 	if !ok {
-		return fmt.Errorf("material.name: no built-in material %q; give one of these names, or density_kg_m3, specific_heat_j_kgk and conductivity_w_mk:\n%s", m.Name, config.MaterialList("    "))
+		return fmt.Errorf("material.name: no built-in material %q; give one of these names, or density_kg_m3, specific_heat_j_kgk and conductivity_w_mk:\n%s", m.Name, material.List("    "))
 	}
 	fill := func(dst *float64, v float64) {
 		if *dst == 0 {
@@ -161,22 +189,18 @@ func (s *Specimen) resolve() error {
 // Validate checks the shape, sizes, sensor and properties; errors name the key.
 func (s Specimen) Validate() error {
 	pos := func(key string, v float64) error {
-		if !(v > 0) || math.IsInf(v, 0) {
+		if !positive(v) {
 			return fmt.Errorf("%s: %g must be a positive number", key, v)
 		}
 		return nil
 	}
-	switch s.Shape {
-	case "slab", "cylinder", "sphere", "short-cylinder", "block":
-	default:
+	if !knownShape(s.Shape) {
 		return fmt.Errorf("shape: %q is not slab, cylinder, sphere, short-cylinder or block", s.Shape)
 	}
 	if err := s.checkDimensions(); err != nil {
 		return err
 	}
-	switch s.Sensor {
-	case "center", "surface":
-	default:
+	if !knownSensor(s.Sensor) {
 		return fmt.Errorf("sensor: %q is not center or surface", s.Sensor)
 	}
 	m := s.Material
@@ -191,7 +215,7 @@ func (s Specimen) Validate() error {
 }
 
 func emissivityErr(e float64) error {
-	if !(e >= 0 && e <= 1) {
+	if !emissivityOK(e) {
 		return fmt.Errorf("material.emissivity: %g is not within 0..1", e)
 	}
 	return nil
@@ -203,11 +227,11 @@ func (s Specimen) checkDimensions() error {
 		key string
 		v   float64
 	}{{"length_m", s.LengthM}, {"width_m", s.WidthM}} {
-		if !(d.v >= 0) || math.IsInf(d.v, 0) {
+		if !nonNegative(d.v) {
 			return fmt.Errorf("%s: %g must be zero or positive", d.key, d.v)
 		}
 	}
-	if (s.Shape == "short-cylinder" || s.Shape == "block") && s.LengthM == 0 {
+	if needsLength(s.Shape) && s.LengthM == 0 {
 		return fmt.Errorf("length_m: a %s needs its length (full, m)", s.Shape)
 	}
 	if s.Shape == "block" && s.WidthM == 0 {

@@ -7,6 +7,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/predict/material"
 )
 
 func init() { subcommands = append(subcommands, newConfigCmd) }
@@ -108,7 +109,7 @@ override a named one: density_kg_m3, specific_heat_j_kgk, conductivity_w_mk, emi
 		Example: "  settle config materials",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			_, err := fmt.Fprintln(cmd.OutOrStdout(), config.MaterialList(""))
+			_, err := fmt.Fprintln(cmd.OutOrStdout(), material.List(""))
 			return err
 		},
 	}

@@ -40,7 +40,7 @@ type daemon struct {
 // that configuration and port-in-use errors surface before anything starts running.
 func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	d := &daemon{cfg: cfg, log: log, latest: exporter.NewLatest(), drops: newDropCounter(log)}
-	specs, err := predict.SpecsFromConfig(cfg.Channels)
+	specs, err := config.ChannelSpecs(cfg.Channels)
 	if err != nil {
 		return nil, err
 	}

@@ -17,6 +17,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
@@ -211,7 +212,7 @@ func reportForecast(j *journal.Journal, c cliConfig, run journal.Run) (*predict.
 		}
 		return fc, err
 	}
-	specs, err := predict.SpecsFromConfig(c.cfg.Channels)
+	specs, err := config.ChannelSpecs(c.cfg.Channels)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", c.path, err)
 	}

@@ -20,7 +20,7 @@ const (
 )
 
 // Engine is the daemon's forecasting engine for one configuration: the bench's
-// channel specs (predict.SpecsFromConfig) and its tracker options. A report replays
+// channel specs (config.ChannelSpecs) and its tracker options. A report replays
 // the journal through it so that it shows the figures the daemon showed.
 type Engine struct {
 	Specs   []predict.ChannelSpec

@@ -1,22 +1,20 @@
-package config
+package material
 
 import (
 	"fmt"
 	"strings"
 	"text/tabwriter"
-
-	"github.com/settle-lab/settle/predict/material"
 )
 
-// MaterialList lists the built-in materials (predict/material), one per line with
-// their properties under the specimen keys that set them, for messages and
-// `settle config materials`. Every line starts with indent.
-func MaterialList(indent string) string {
+// List lists the built-in materials, one per line with their properties under the
+// specimen keys that set them, for messages and `settle config materials`. Every
+// line starts with indent.
+func List(indent string) string {
 	var b strings.Builder
 	w := tabwriter.NewWriter(&b, 0, 0, 2, ' ', 0)
 	fmt.Fprintf(w, "%sname\tdensity_kg_m3\tspecific_heat_j_kgk\tconductivity_w_mk\temissivity (oxidised; bright)\n", indent)
-	for _, name := range material.Names() {
-		m, _ := material.Lookup(name) // a name from Names is always there
+	for _, name := range Names() {
+		m, _ := Lookup(name) // a name from Names is always there
 		emis := fmt.Sprintf("%.2g (%s)", m.Emissivity, rangeText(m.Oxidised))
 		if m.Metal {
 			emis += "; bright " + rangeText(m.Bright)
@@ -27,4 +25,4 @@ func MaterialList(indent string) string {
 	return strings.TrimSuffix(b.String(), "\n")
 }
 
-func rangeText(r material.Range) string { return fmt.Sprintf("%g–%g", r.Lo, r.Hi) }
+func rangeText(r Range) string { return fmt.Sprintf("%g–%g", r.Lo, r.Hi) }

@@ -1,4 +1,4 @@
-package config
+package yamlfile
 
 import (
 	"errors"
@@ -16,10 +16,10 @@ import (
 
 var durationType = reflect.TypeFor[time.Duration]()
 
-// checkValue is the decode hook: it checks that a YAML value fits the Go type it is
+// CheckValue is the decode hook: it checks that a YAML value fits the Go type it is
 // decoded into and says in plain words what was wanted, and it parses durations.
 // mapstructure calls it for every value, with to being the destination.
-func checkValue(from, to reflect.Value) (any, error) {
+func CheckValue(from, to reflect.Value) (any, error) {
 	data := from.Interface()
 	if to.Type() == durationType {
 		return parseDuration(data)
@@ -115,18 +115,13 @@ func describe(data any) string {
 	return fmt.Sprint(data)
 }
 
-// decodeProblems turns the errors of viper's UnmarshalExact (mapstructure errors,
-// joined) into problems with our key paths. mapstructure names list items and nested
-// keys as "loggers[0].line.columns[2]" already; an unknown key arrives as
-// "'loggers[0]' has invalid keys: baudrate, speed" (go-viper/mapstructure v2.4.0,
-// decodeStructFromMap), which becomes one problem per key.
-func decodeProblems(err error) []*Problem {
-	return decodeProblemsIn(reflect.TypeFor[Config](), err)
-}
-
-// decodeProblemsIn is decodeProblems for a decode into root (Config or Specimen), whose
-// mapstructure tags name the known keys.
-func decodeProblemsIn(root reflect.Type, err error) []*Problem {
+// DecodeProblems turns the errors of a mapstructure decode into root (mapstructure
+// errors, joined) into problems with our key paths; root's mapstructure tags name the
+// known keys. mapstructure names list items and nested keys as
+// "loggers[0].line.columns[2]" already; an unknown key arrives as "'loggers[0]' has
+// invalid keys: baudrate, speed" (go-viper/mapstructure v2.4.0, decodeStructFromMap),
+// which becomes one problem per key.
+func DecodeProblems(root reflect.Type, err error) []*Problem {
 	var out []*Problem
 	for _, leaf := range leaves(err) {
 		var de *mapstructure.DecodeError
@@ -232,14 +227,14 @@ func fieldByTag(t reflect.Type, tag string) (reflect.StructField, bool) {
 // syntax errors, "  line 3: …" inside "yaml: unmarshal errors:".
 var yamlLine = regexp.MustCompile(`line (\d+): (.*)`)
 
-// yamlProblems turns a YAML parser error into problems with line numbers.
+// YAMLProblems turns a YAML parser error into problems with line numbers.
 //
 // For a syntax error go.yaml.in/yaml/v3 (v3.0.4, decode.go, parser.fail) reports the
 // line where the enclosing block starts, not the line of the mistake, which is often
 // a few lines further down; such a line is marked "near" here, and syntaxProblems
 // replaces it with the mistake's line where it can. The lines of "unmarshal errors"
 // (such as a key given twice) are exact.
-func yamlProblems(err error) []*Problem {
+func YAMLProblems(err error) []*Problem {
 	approx := !strings.HasPrefix(err.Error(), "yaml: unmarshal errors:")
 	var out []*Problem
 	for _, text := range strings.Split(err.Error(), "\n") {
@@ -252,9 +247,6 @@ func yamlProblems(err error) []*Problem {
 			p.Line, _ = strconv.Atoi(m[1])
 			p.Msg = m[2]
 			p.near = approx
-		}
-		if strings.Contains(p.Msg, "into map[string]interface {}") {
-			p.Msg = "the file must be a mapping of keys (listen, data_dir, loggers, channels)"
 		}
 		out = append(out, p)
 	}

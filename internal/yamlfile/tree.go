@@ -1,4 +1,4 @@
-package config
+package yamlfile
 
 import (
 	"bytes"
@@ -12,23 +12,23 @@ import (
 	"go.yaml.in/yaml/v3"
 )
 
-// tree is what settle learns from a file's YAML node tree before viper reads it:
-// the line of every key path, for messages. viper lowercases keys and merges a
-// mapping's keys that differ only in case without a word, so those are found here,
-// on the raw nodes, and refused.
-type tree struct {
+// Tree is what settle learns from a file's YAML node tree before decoding it: the
+// line of every key path, for messages. viper lowercases keys and merges a mapping's
+// keys that differ only in case without a word (and a decode that ignores case would
+// too), so those are found here, on the raw nodes, and refused.
+type Tree struct {
 	lines map[string]int // lower-case key path → 1-based line
 }
 
-// readTree parses data into nodes and returns the key lines, or the problems that
+// ReadTree parses data into nodes and returns the key lines, or the problems that
 // stop a file before decoding: a syntax error (with the line of the mistake) and
 // keys that differ only in case.
-func readTree(data []byte) (*tree, []*Problem) {
+func ReadTree(data []byte) (*Tree, []*Problem) {
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
 		return nil, syntaxProblems(data, err)
 	}
-	t := &tree{lines: map[string]int{}}
+	t := &Tree{lines: map[string]int{}}
 	var problems []*Problem
 	if len(doc.Content) > 0 {
 		t.walk(doc.Content[0], "", &problems)
@@ -39,7 +39,7 @@ func readTree(data []byte) (*tree, []*Problem) {
 // walk records the line of every key path under n (at path) and adds a problem for
 // every key that differs from an earlier key of its mapping only in case. Aliases
 // are not followed: their target is walked where it is defined.
-func (t *tree) walk(n *yaml.Node, path string, problems *[]*Problem) {
+func (t *Tree) walk(n *yaml.Node, path string, problems *[]*Problem) {
 	switch n.Kind {
 	case yaml.MappingNode:
 		seen := map[string]*yaml.Node{} // lower-case key → first key node
@@ -74,22 +74,20 @@ func joinPath(parent, key string) string {
 	return parent + "." + key
 }
 
-// envKeys are the keys an environment variable can override: a problem with such a
-// key names the variable instead of a line of the file, when the variable is set.
-var envKeys = map[string]string{"listen": EnvListen, "data_dir": EnvDataDir, "http.token": EnvToken}
-
-// locate sets the line of each problem that has none from its key path: the line of
+// Locate sets the line of each problem that has none from its key path: the line of
 // the key itself or, for a key the file leaves out, of the nearest enclosing key or
 // list item that is in the file; and it sorts the problems by line. A nil tree
-// locates nothing.
-func (t *tree) locate(ps []*Problem) []*Problem {
+// locates nothing. env maps the key paths an environment variable can override to
+// the variable (nil: none): a problem with such a key names the variable instead of
+// a line of the file, when the variable is set.
+func (t *Tree) Locate(ps []*Problem, env map[string]string) []*Problem {
 	for _, p := range ps {
 		path := p.Key
 		if path == "" {
 			path = p.at
 		}
-		if env, ok := envKeys[path]; ok && os.Getenv(env) != "" {
-			p.Msg += " (from " + env + ")"
+		if v, ok := env[path]; ok && os.Getenv(v) != "" {
+			p.Msg += " (from " + v + ")"
 			continue
 		}
 		if t == nil || p.Line > 0 || path == "" {
@@ -104,7 +102,7 @@ func (t *tree) locate(ps []*Problem) []*Problem {
 }
 
 // line returns the line of path or of its nearest ancestor in the file, else 0.
-func (t *tree) line(path string) int {
+func (t *Tree) line(path string) int {
 	path = strings.ToLower(path)
 	for path != "" {
 		if l, ok := t.lines[path]; ok {
@@ -140,7 +138,7 @@ const (
 // [flow list]) is cut in two, so the scan goes from the end backwards. Beyond
 // syntaxMaxParses or syntaxMaxBytes, the parser's own line is kept, marked "near".
 func syntaxProblems(data []byte, err error) []*Problem {
-	ps := yamlProblems(err)
+	ps := YAMLProblems(err)
 	if len(ps) != 1 || !ps[0].near {
 		return ps
 	}
