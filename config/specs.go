@@ -4,20 +4,20 @@ import (
 	"fmt"
 	"math"
 
-	"github.com/settle-lab/settle/internal/yamlfile"
 	"github.com/settle-lab/settle/predict"
 )
 
 // ChannelSpecs builds the engine's bench specs (predict.ChannelSpec) from configured
 // channels: a target's nil Celsius becomes NaN (a Within target), and a specimen's
-// named material is resolved (predict.Specimen.Resolved).
+// named material is resolved (predict.Specimen.Resolved, which also checks the
+// result).
 //
 // It lives here, not in predict, so that the engine takes only its own types and
 // config composes them from the file: the daemon and `settle report` call it with a
 // configuration that Validate has passed. Channels built in code get the same
 // refusals, each naming the key path (e.g. channels[2].targets[0]): a duplicate
 // channel name or an ambient that names no other channel (the rules of Validate), a
-// specimen that fails its check, and a target the engine cannot take: both or
+// specimen the engine refuses, and a target the engine cannot take: both or
 // neither of celsius and within (the engine has no band around a fixed temperature
 // yet, so a file's {celsius, within, hold} is refused here), or a band that is not
 // positive.
@@ -52,12 +52,11 @@ func ChannelSpecs(channels []Channel) ([]predict.ChannelSpec, error) {
 	return specs, nil
 }
 
-// specimenSpec checks a channel's specimen (key is the channel's key path) and
-// resolves its material name; errors name the key.
+// specimenSpec resolves a channel's specimen (key is the channel's key path): the
+// material name filled in and the result checked by the engine (Validate has
+// checked the specimen as given, in the words of a file; it is not checked again
+// here); errors name the key.
 func specimenSpec(key string, s *predict.Specimen) (predict.Specimen, error) {
-	if err := yamlfile.Join(SpecimenProblems(key, s)); err != nil {
-		return predict.Specimen{}, err
-	}
 	r, err := s.Resolved()
 	if err != nil {
 		return predict.Specimen{}, fmt.Errorf("%s.specimen.%w", key, err)
