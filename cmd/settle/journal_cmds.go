@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"crypto/tls"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -374,6 +375,16 @@ func newDaemonClient(f *cliFlags) (*daemonClient, cliConfig, error) {
 	return &daemonClient{addr: t.url, token: t.token, http: hc}, c, nil
 }
 
+// dialHint says what to check when the daemon cannot be reached: its certificate when
+// TLS verification failed, else whether it runs at the configured address.
+func dialHint(err error) string {
+	var cv *tls.CertificateVerificationError
+	if errors.As(err, &cv) {
+		return "the daemon's certificate was not accepted: give --config with the daemon's configuration, whose http.tls_cert this client trusts"
+	}
+	return "is `settle run` running there? its address is listen in the configuration"
+}
+
 // call sends a request and decodes a JSON reply into out, turning an API error into
 // a Go error that names the daemon.
 func (c *daemonClient) call(ctx context.Context, method, path string, body, out any) error {
@@ -393,7 +404,7 @@ func (c *daemonClient) call(ctx context.Context, method, path string, body, out 
 	req.Header.Set("Content-Type", "application/json")
 	resp, err := c.http.Do(req)
 	if err != nil {
-		return fmt.Errorf("daemon at %s: %w (is `settle run` running there? its address is listen in the configuration)", c.addr, err)
+		return fmt.Errorf("daemon at %s: %w (%s)", c.addr, err, dialHint(err))
 	}
 	defer resp.Body.Close()
 	b, err := io.ReadAll(io.LimitReader(resp.Body, 1<<20))
