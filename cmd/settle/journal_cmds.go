@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"bytes"
 	"context"
 	"crypto/tls"
@@ -11,6 +12,7 @@ import (
 	"net/http"
 	"net/url"
 	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"text/tabwriter"
@@ -96,19 +98,24 @@ func runExport(stdout, stderr io.Writer, f *cliFlags, channel string, from, to t
 	if err := checkChannel(j, c, channel); err != nil {
 		return fmt.Errorf("export: %w", err)
 	}
-	var buf bytes.Buffer
-	n, err := report.WriteCSV(&buf, j.Readings(channel, from, to), time.Time{})
-	if err != nil {
-		return fmt.Errorf("export %s: %w", channel, err)
-	}
 	if out == "" {
+		bw := bufio.NewWriterSize(stdout, 64<<10)
+		n, err := report.WriteCSV(bw, j.Readings(channel, from, to), time.Time{})
+		if err == nil {
+			err = bw.Flush()
+		}
+		if err != nil {
+			return fmt.Errorf("export %s: %w", channel, err)
+		}
 		if n == 0 {
 			fmt.Fprintf(stderr, "settle export: no readings of channel %q in that span (the header only)\n", channel)
 		}
-		_, err = stdout.Write(buf.Bytes())
-		return err
+		return nil
 	}
-	if err := os.WriteFile(out, buf.Bytes(), 0o640); err != nil {
+	n, err := exportFile(out, func(w io.Writer) (int, error) {
+		return report.WriteCSV(w, j.Readings(channel, from, to), time.Time{})
+	})
+	if err != nil {
 		return fmt.Errorf("export %s: %w", channel, err)
 	}
 	if n == 0 {
@@ -117,6 +124,40 @@ func runExport(stdout, stderr io.Writer, f *cliFlags, channel string, from, to t
 	}
 	fmt.Fprintf(stderr, "settle export: %d readings of %s written to %s\n", n, channel, out)
 	return nil
+}
+
+// exportFile streams write's output into a temporary file beside path and renames it
+// to path once complete and synced, so a year of readings never sits in memory and an
+// export that fails half-way (a full disk, a journal error) leaves no truncated file
+// under the requested name (an existing file there is kept).
+func exportFile(path string, write func(io.Writer) (int, error)) (n int, err error) {
+	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.partial")
+	if err != nil {
+		return 0, err
+	}
+	defer func() {
+		if err != nil {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	bw := bufio.NewWriterSize(tmp, 64<<10)
+	if n, err = write(bw); err != nil {
+		return n, err
+	}
+	if err = bw.Flush(); err != nil {
+		return n, err
+	}
+	if err = tmp.Chmod(0o640); err != nil {
+		return n, err
+	}
+	if err = tmp.Sync(); err != nil {
+		return n, err
+	}
+	if err = tmp.Close(); err != nil {
+		return n, err
+	}
+	return n, os.Rename(tmp.Name(), path)
 }
 
 // knownChannels are the channels the record has readings of and those the
