@@ -73,7 +73,9 @@ func StrftimeLayout(format string) (string, error) {
 		if tok == "f" && !strings.HasSuffix(layout.String(), ".") && !strings.HasSuffix(layout.String(), ",") {
 			return "", errors.New(`%f (fractional seconds) must follow a "." or ",", as in %S.%f`)
 		}
-		seen[tok] = true
+		if err := once(seen, tok, format); err != nil {
+			return "", err
+		}
 		layout.WriteString(strftimeElems[tok])
 		want.WriteString(strftimeRef[tok])
 	}
@@ -87,6 +89,17 @@ func StrftimeLayout(format string) (string, error) {
 		return "", err
 	}
 	return checkLayout(format, layout.String(), want.String())
+}
+
+// once records tok in seen and refuses a token whose field was given before (Python's
+// strptime refuses a repeated directive too, "redefinition of group name"): a second
+// value of one field would silently win over the first. %z and %:z are one field.
+func once(seen map[string]bool, tok, format string) error {
+	if seen[tok] || (tok == "z" && seen[":z"]) || (tok == ":z" && seen["z"]) {
+		return fmt.Errorf("%%%s repeats a field already in %q; give each of date, time and zone once", tok, format)
+	}
+	seen[tok] = true
+	return nil
 }
 
 // nextToken returns the token after the '%' at format[i]: a letter, ":z" or "%".

@@ -86,6 +86,8 @@ func TestStrftimeErrors(t *testing.T) {
 		{"%Y_%d", "tokens run together"},
 		{"%%", "has no date or time token"},
 		{"%A %p %z", "has no date or time token"},
+		{"%Y-%m-%d %H:%M:%S (%H)", `%H repeats a field already in "%Y-%m-%d %H:%M:%S (%H)"`},
+		{"%Y-%m-%d %H:%M:%S %z %:z", "%:z repeats a field"}, // both are the zone offset
 	} {
 		_, err := StrftimeLayout(c.format)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
