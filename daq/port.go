@@ -16,8 +16,6 @@ import (
 
 // Port handling defaults.
 const (
-	// DefaultBaud is the line speed used when config.Logger.Baud is 0.
-	DefaultBaud = 9600
 	// MaxLineBytes bounds one text line; a longer line is discarded and counted as a
 	// parse error (a logger at the wrong baud rate sends long runs without newlines).
 	MaxLineBytes = 4096
