@@ -164,8 +164,9 @@ func readYAML(data []byte) (*viper.Viper, []*Problem) {
 }
 
 // fillLoggerDefaults adds baud, format and the drivers' section defaults (such as
-// line.separator) to every logger that lacks them. viper's defaults cannot reach into list items, and filling them in before
-// decoding (rather than after) keeps an explicit "baud: 0" an error.
+// line.separator) to every logger that lacks them. viper's defaults cannot reach into
+// list items, and filling them in before decoding (rather than after) keeps an
+// explicit "baud: 0" an error.
 func fillLoggerDefaults(v *viper.Viper) {
 	list, ok := v.Get("loggers").([]any)
 	if !ok {
