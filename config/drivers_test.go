@@ -31,19 +31,3 @@ func TestGoodDrivers(t *testing.T) {
 		t.Errorf("modbus logger = %+v", modbus)
 	}
 }
-
-func TestClockLayout(t *testing.T) {
-	tests := []struct {
-		in, want string
-		ok       bool
-	}{
-		{"", "", true}, {"seconds", "", true}, {"UNIX", "", true},
-		{"rfc3339", time.RFC3339, true}, {"2006-01-02 15:04", "2006-01-02 15:04", true},
-		{"dd.mm.yyyy", "", false}, {"now", "", false},
-	}
-	for _, tt := range tests {
-		if got, ok := ClockLayout(tt.in); got != tt.want || ok != tt.ok {
-			t.Errorf("ClockLayout(%q) = %q, %v; want %q, %v", tt.in, got, ok, tt.want, tt.ok)
-		}
-	}
-}

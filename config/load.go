@@ -28,13 +28,6 @@ const (
 	// leaves its data where it was started. A service should set an absolute path: a
 	// systemd unit with StateDirectory=settle sets SETTLE_DATA_DIR=/var/lib/settle.
 	DefaultDataDir = "settle-data"
-	// DefaultBaud is the line speed of a logger without baud: 9600 baud is the usual
-	// factory setting of serial instruments (common practice).
-	DefaultBaud = 9600
-	// DefaultFormat is the driver of a logger without format.
-	DefaultFormat = "line"
-	// DefaultSeparator splits the fields of a text line when line.separator is absent.
-	DefaultSeparator = ","
 )
 
 // Environment variables that override the file. Only these exist: viper needs an
@@ -131,9 +124,10 @@ func readYAML(data []byte) (*viper.Viper, []*Problem) {
 	return v, nil
 }
 
-// fillLoggerDefaults adds baud, format and line.separator to every logger that lacks
-// them. viper's defaults cannot reach into list items, and filling them in before
-// decoding (rather than after) keeps an explicit "baud: 0" an error.
+// fillLoggerDefaults adds baud, format and the drivers' section defaults (such as
+// line.separator) to every logger that lacks them. viper's defaults cannot reach into
+// list items, and filling them in before decoding (rather than after) keeps an
+// explicit "baud: 0" an error.
 func fillLoggerDefaults(v *viper.Viper) {
 	list, ok := v.Get("loggers").([]any)
 	if !ok {
@@ -144,31 +138,6 @@ func fillLoggerDefaults(v *viper.Viper) {
 		filled[i] = withLoggerDefaults(item)
 	}
 	v.Set("loggers", filled)
-}
-
-func withLoggerDefaults(item any) any {
-	m, ok := item.(map[string]any)
-	if !ok {
-		return item
-	}
-	out := make(map[string]any, len(m)+3)
-	for k, val := range m {
-		out[k] = val
-	}
-	setIfAbsent(out, "baud", DefaultBaud)
-	setIfAbsent(out, "format", DefaultFormat)
-	switch line := out["line"].(type) {
-	case nil:
-		out["line"] = map[string]any{"separator": DefaultSeparator}
-	case map[string]any:
-		withSep := make(map[string]any, len(line)+1)
-		for k, val := range line {
-			withSep[k] = val
-		}
-		setIfAbsent(withSep, "separator", DefaultSeparator)
-		out["line"] = withSep
-	}
-	return out
 }
 
 func setIfAbsent(m map[string]any, key string, val any) {

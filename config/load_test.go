@@ -9,6 +9,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/settle-lab/settle/daq"
 )
 
 var update = flag.Bool("update", false, "rewrite the golden .err files in testdata/config/bad")
@@ -80,7 +82,7 @@ var defaultJournal = Journal{CommitInterval: DefaultCommitInterval}
 
 func TestGoodConfigs(t *testing.T) {
 	clearEnv(t)
-	oneColumn := LineFormat{Separator: ",", Columns: []Column{{Index: 1, Channel: "plate-1"}}}
+	oneColumn := daq.LineFormat{Separator: ",", Columns: []daq.Column{{Index: 1, Channel: "plate-1"}}}
 	tests := []struct {
 		file string
 		want Config
@@ -88,7 +90,7 @@ func TestGoodConfigs(t *testing.T) {
 		{"minimal.yaml", Config{
 			Listen:   "127.0.0.1:8391",
 			DataDir:  "settle-data",
-			Loggers:  []Logger{{Name: "bench-a", Port: "/dev/ttyUSB0", Baud: 9600, Format: "line", Line: oneColumn}},
+			Loggers:  []Logger{{Logger: daq.Logger{Name: "bench-a", Port: "/dev/ttyUSB0", Baud: 9600, Format: "line", Line: oneColumn}}},
 			Channels: []Channel{{Name: "plate-1"}},
 			Journal:  defaultJournal,
 			Display:  Display{Units: "C"},
@@ -97,10 +99,10 @@ func TestGoodConfigs(t *testing.T) {
 			Listen:  ":18391",
 			DataDir: "/var/lib/settle",
 			Loggers: []Logger{
-				{Name: "oven-rack", Port: "/dev/serial/by-id/usb-rack-if00-port0", Baud: 19200, Format: "line",
-					Line: LineFormat{Separator: ";", ClockColumn: 1, Columns: []Column{{2, "air"}, {4, "disc-7"}}}},
-				{Name: "bath", Port: "/dev/ttyUSB1", Baud: 9600, Format: "line",
-					Line: LineFormat{Separator: ",", Columns: []Column{{1, "cylinder-3"}}}},
+				{Logger: daq.Logger{Name: "oven-rack", Port: "/dev/serial/by-id/usb-rack-if00-port0", Baud: 19200, Format: "line",
+					Line: daq.LineFormat{Separator: ";", ClockColumn: 1, Columns: []daq.Column{{Index: 2, Channel: "air"}, {Index: 4, Channel: "disc-7"}}}}},
+				{Logger: daq.Logger{Name: "bath", Port: "/dev/ttyUSB1", Baud: 9600, Format: "line",
+					Line: daq.LineFormat{Separator: ",", Columns: []daq.Column{{Index: 1, Channel: "cylinder-3"}}}}},
 			},
 			Channels: []Channel{
 				{Name: "air"},
@@ -192,8 +194,8 @@ func TestLoadTooLarge(t *testing.T) {
 
 func TestValidateWithoutFile(t *testing.T) {
 	c := Config{Listen: DefaultListen, DataDir: "d", Channels: []Channel{{Name: "a"}},
-		Loggers: []Logger{{Name: "l", Port: "p", Baud: 9600, Format: "line",
-			Line: LineFormat{Separator: ",", Columns: []Column{{Index: 0, Channel: "a"}}}}}}
+		Loggers: []Logger{{Logger: daq.Logger{Name: "l", Port: "p", Baud: 9600, Format: "line",
+			Line: daq.LineFormat{Separator: ",", Columns: []daq.Column{{Index: 0, Channel: "a"}}}}}}}
 	err := c.Validate()
 	want := "loggers[0].line.columns[0].index: must be ≥ 1 (fields count from 1), got 0"
 	if err == nil || err.Error() != want {

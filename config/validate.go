@@ -202,81 +202,8 @@ func (c *Config) checkLoggers(k *checker, channels map[string]int) {
 		} else {
 			names[l.Name] = i
 		}
-		if strings.TrimSpace(l.Port) == "" {
-			k.add(key+".port", "must not be empty; give the serial device, e.g. a /dev/serial/by-id/… link")
-		}
-		if l.Baud <= 0 {
-			k.add(key+".baud", "must be positive, got %d", l.Baud)
-		}
-		own := map[string]bool{} // channels this logger reads
-		switch l.Format {
-		case "line":
-			checkLine(k, key+".line", l.Line, channels, readBy, own)
-		case "query":
-			checkQuery(k, key+".query", l.Query, channels, readBy, own)
-		case "modbus":
-			checkModbus(k, key+".modbus", l.Modbus, channels, readBy, own)
-		default:
-			k.add(key+".format", "unknown format %q; known: %s", l.Format, strings.Join(Formats, ", "))
-			continue
-		}
-		checkInputs(k, key+".inputs", l.Inputs, own)
-		checkOpen(k, key+".open", l.Open)
-		checkCleaning(k, key+".clean", l.Clean)
+		checkLogger(k, key, l, channels, readBy)
 	}
-}
-
-func checkLine(k *checker, key string, lf LineFormat, channels map[string]int, readBy map[string]string, own map[string]bool) {
-	fields := checkLineSplit(k, key, lf)
-	if lf.ClockColumn < 0 {
-		k.add(key+".clock_column", "must be ≥ 0 (0: use the host's receive time), got %d", lf.ClockColumn)
-	}
-	if _, err := ClockFormatLayout(lf.ClockFormat); err != nil {
-		k.add(key+".clock_format", "%q: %v", lf.ClockFormat, err)
-	}
-	if len(lf.Columns) == 0 && len(fields.named) == 0 {
-		k.add(key+".columns", "at least one column is needed")
-	}
-	indexes := map[int]int{}
-	for i, col := range lf.Columns {
-		colKey := fmt.Sprintf("%s.columns[%d]", key, i)
-		switch first, dup := indexes[col.Index]; {
-		case col.Index < 1:
-			k.add(colKey+".index", "must be ≥ 1 (fields count from 1), got %d", col.Index)
-		case col.Index == lf.ClockColumn:
-			k.add(colKey+".index", "field %d is the clock_column", col.Index)
-		case dup:
-			k.add(colKey+".index", "field %d is already mapped by %s.columns[%d]", col.Index, key, first)
-		case fields.namedIndex[col.Index] != "":
-			k.add(colKey+".index", "field %d is the regexp group %q", col.Index, fields.namedIndex[col.Index])
-		case fields.groups > 0 && col.Index > fields.groups:
-			k.add(colKey+".index", "field %d: the regexp has only %d groups", col.Index, fields.groups)
-		default:
-			indexes[col.Index] = i
-		}
-		checkColumnChannel(k, colKey+".channel", col.Channel, channels, readBy)
-		own[col.Channel] = true
-	}
-	for _, name := range fields.named {
-		checkColumnChannel(k, key+".regexp", name, channels, readBy)
-		own[name] = true
-	}
-}
-
-func checkColumnChannel(k *checker, key, name string, channels map[string]int, readBy map[string]string) {
-	if name == "" {
-		k.add(key, "must not be empty")
-		return
-	}
-	if _, ok := channels[name]; !ok {
-		k.add(key, "no channel named %q in channels", name)
-		return
-	}
-	if other, dup := readBy[name]; dup {
-		k.add(key, "channel %q is already read by %s", name, other)
-		return
-	}
-	readBy[name] = key
 }
 
 // checkListen checks that listen is host:port with a port number 0–65535 (0: any free

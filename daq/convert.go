@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"strconv"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/thermocouple"
 )
 
@@ -40,7 +39,7 @@ type conversion struct {
 
 // newConversion builds the conversion of cfg for batches whose positions read the
 // given channels, in order. Errors name the logger and the key.
-func newConversion(cfg config.Logger, channels []string) (*conversion, error) {
+func newConversion(cfg Logger, channels []string) (*conversion, error) {
 	c := &conversion{ins: make([]input, len(channels))}
 	for i := range c.ins {
 		c.ins[i].cjIndex = -1
@@ -73,7 +72,7 @@ func newConversion(cfg config.Logger, channels []string) (*conversion, error) {
 	return c, nil
 }
 
-func makeInput(in config.Input, pos map[string]int) (input, error) {
+func makeInput(in Input, pos map[string]int) (input, error) {
 	out := input{cjIndex: -1}
 	switch in.Unit {
 	case "", "C":

@@ -5,13 +5,11 @@ import (
 	"math"
 	"testing"
 	"time"
-
-	"github.com/settle-lab/settle/config"
 )
 
 func fptr(v float64) *float64 { return &v }
 
-func mustParserFor(t testing.TB, cfg config.Logger) *LineParser {
+func mustParserFor(t testing.TB, cfg Logger) *LineParser {
 	t.Helper()
 	p, err := NewLineParserFor(cfg)
 	if err != nil {
@@ -23,9 +21,9 @@ func mustParserFor(t testing.TB, cfg config.Logger) *LineParser {
 // TestLineRegexpNamedGroups reads a "key=value" line whose order is not fixed by a
 // separator: named groups give the clock and the channels.
 func TestLineRegexpNamedGroups(t *testing.T) {
-	p := mustParserFor(t, config.Logger{Name: "box", Line: config.LineFormat{
+	p := mustParserFor(t, Logger{Name: "box", Line: LineFormat{
 		Regexp:  `^t=(?P<clock>\S+) T1=(?P<core>\S+) T2=(\S+)`,
-		Columns: []config.Column{{Index: 3, Channel: "skin"}},
+		Columns: []Column{{Index: 3, Channel: "skin"}},
 	}})
 	got, err := p.Parse([]byte("t=5 T1=301.5 T2=88.25 extra"), t0)
 	if err != nil {
@@ -50,9 +48,9 @@ func TestLineRegexpNamedGroups(t *testing.T) {
 }
 
 func TestLineDecimalComma(t *testing.T) {
-	p := mustParserFor(t, config.Logger{Name: "eu", Line: config.LineFormat{
+	p := mustParserFor(t, Logger{Name: "eu", Line: LineFormat{
 		Separator: ";", DecimalComma: true,
-		Columns: []config.Column{{Index: 1, Channel: "a"}, {Index: 2, Channel: "b"}, {Index: 3, Channel: "c"}},
+		Columns: []Column{{Index: 1, Channel: "a"}, {Index: 2, Channel: "b"}, {Index: 3, Channel: "c"}},
 	}})
 	got, err := p.Parse([]byte("21,5;-3,25;1e3"), t0)
 	if err != nil {
@@ -63,8 +61,8 @@ func TestLineDecimalComma(t *testing.T) {
 			t.Errorf("field %d = %+v, want %g", i+1, got[i], want)
 		}
 	}
-	if _, err := NewLineParserFor(config.Logger{Name: "eu", Line: config.LineFormat{
-		DecimalComma: true, Columns: []config.Column{{Index: 1, Channel: "a"}}}}); err == nil {
+	if _, err := NewLineParserFor(Logger{Name: "eu", Line: LineFormat{
+		DecimalComma: true, Columns: []Column{{Index: 1, Channel: "a"}}}}); err == nil {
 		t.Error("decimal_comma with separator \",\": want an error")
 	}
 }
@@ -91,9 +89,9 @@ func TestLineClockFormats(t *testing.T) {
 		{"%Y-%m-%d %H:%M:%S.%f", "2025-03-14 16:00:09.25", time.Date(2025, 3, 14, 16, 0, 9, 25e7, time.Local)},
 	}
 	for _, tt := range tests {
-		p := mustParserFor(t, config.Logger{Name: "clk", Line: config.LineFormat{
+		p := mustParserFor(t, Logger{Name: "clk", Line: LineFormat{
 			Separator: ";", ClockColumn: 1, ClockFormat: tt.format,
-			Columns: []config.Column{{Index: 2, Channel: "a"}},
+			Columns: []Column{{Index: 2, Channel: "a"}},
 		}})
 		got, err := p.Parse([]byte(tt.field+";20"), t0.Add(time.Hour))
 		if err != nil || !got[0].Time.Equal(tt.want) {
@@ -107,19 +105,19 @@ func TestLineClockFormats(t *testing.T) {
 
 // unitLogger reads °C, °F, K and two type K EMFs (one against the "cj" channel, one
 // against a fixed 25 °C) and marks OPEN, ---- and 9999 or more as open circuit.
-var unitLogger = config.Logger{
+var unitLogger = Logger{
 	Name: "units",
-	Line: config.LineFormat{Separator: ",", Columns: []config.Column{
+	Line: LineFormat{Separator: ",", Columns: []Column{
 		{Index: 1, Channel: "cj"}, {Index: 2, Channel: "f"}, {Index: 3, Channel: "k"},
 		{Index: 4, Channel: "tc1"}, {Index: 5, Channel: "tc2"},
 	}},
-	Inputs: []config.Input{
+	Inputs: []Input{
 		{Channel: "f", Unit: "F"},
 		{Channel: "k", Unit: "K"},
 		{Channel: "tc1", Unit: "mV", Thermocouple: "K", ColdJunction: "cj"},
 		{Channel: "tc2", Unit: "mV", Thermocouple: "K", ColdJunctionCelsius: fptr(25)},
 	},
-	Open: config.OpenCircuit{Markers: []string{"OPEN", "----"}, AtOrAbove: fptr(9999)},
+	Open: OpenCircuit{Markers: []string{"OPEN", "----"}, AtOrAbove: fptr(9999)},
 }
 
 func TestLineUnitsAndThermocouples(t *testing.T) {
@@ -171,11 +169,11 @@ func FuzzLineParseGeneral(f *testing.F) {
 		f.Add([]byte(s))
 	}
 	f.Add([]byte("t=2025-03-14T15:00:00Z a=1,5 b=OPEN c=3,1"))
-	re := mustParserFor(f, config.Logger{Name: "re", Line: config.LineFormat{
+	re := mustParserFor(f, Logger{Name: "re", Line: LineFormat{
 		Regexp: `t=(?P<clock>\S+) a=(?P<a>\S*) b=(\S*) c=(\S*)`, ClockFormat: "rfc3339", DecimalComma: true,
-		Columns: []config.Column{{Index: 3, Channel: "b"}, {Index: 4, Channel: "c"}},
-	}, Inputs: []config.Input{{Channel: "c", Unit: "mV", Thermocouple: "T", ColdJunction: "a"}},
-		Open: config.OpenCircuit{Markers: []string{"OPEN"}, AtOrBelow: fptr(-300)}})
+		Columns: []Column{{Index: 3, Channel: "b"}, {Index: 4, Channel: "c"}},
+	}, Inputs: []Input{{Channel: "c", Unit: "mV", Thermocouple: "T", ColdJunction: "a"}},
+		Open: OpenCircuit{Markers: []string{"OPEN"}, AtOrBelow: fptr(-300)}})
 	units := mustParserFor(f, unitLogger)
 	f.Fuzz(func(t *testing.T, line []byte) {
 		for _, p := range []*LineParser{re, units} {

@@ -9,12 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
-
-	"github.com/settle-lab/settle/config"
 )
-
-// DefaultSeparator is the field separator used when config.LineFormat.Separator is empty.
-const DefaultSeparator = ","
 
 // ErrShortLine reports a line with fewer fields than the configured columns need.
 var ErrShortLine = errors.New("daq: line has too few fields")
@@ -71,13 +66,13 @@ type LineParser struct {
 
 // NewLineParser checks the format f of the named logger and returns its parser, which
 // reads every channel in °C. Errors name the logger and the offending key.
-func NewLineParser(logger string, f config.LineFormat) (*LineParser, error) {
-	return NewLineParserFor(config.Logger{Name: logger, Line: f})
+func NewLineParser(logger string, f LineFormat) (*LineParser, error) {
+	return NewLineParserFor(Logger{Name: logger, Line: f})
 }
 
 // NewLineParserFor returns the parser of cfg.Line with cfg's inputs (units,
 // thermocouples) and open-circuit markers. Errors name the logger and the key.
-func NewLineParserFor(cfg config.Logger) (*LineParser, error) {
+func NewLineParserFor(cfg Logger) (*LineParser, error) {
 	logger, f := cfg.Name, cfg.Line
 	sep := f.Separator
 	if sep == "" {
@@ -120,7 +115,7 @@ func NewLineParserFor(cfg config.Logger) (*LineParser, error) {
 
 // setSplit compiles the regexp, if any, and turns its named groups into columns (a
 // group "clock" into the clock column) appended to f.Columns.
-func (p *LineParser) setSplit(f *config.LineFormat) error {
+func (p *LineParser) setSplit(f *LineFormat) error {
 	if f.Regexp == "" {
 		if f.DecimalComma && string(p.sep) == "," {
 			return errors.New(`line.decimal_comma: needs a separator other than ","`)
@@ -132,7 +127,7 @@ func (p *LineParser) setSplit(f *config.LineFormat) error {
 		return fmt.Errorf("line.regexp: %w", err)
 	}
 	p.re = re
-	cols := append([]config.Column(nil), f.Columns...)
+	cols := append([]Column(nil), f.Columns...)
 	for i, name := range re.SubexpNames() {
 		switch {
 		case name == "":
@@ -142,7 +137,7 @@ func (p *LineParser) setSplit(f *config.LineFormat) error {
 			}
 			p.clock, f.ClockColumn = i, i
 		default:
-			cols = append(cols, config.Column{Index: i, Channel: name})
+			cols = append(cols, Column{Index: i, Channel: name})
 		}
 	}
 	f.Columns = cols
@@ -151,7 +146,7 @@ func (p *LineParser) setSplit(f *config.LineFormat) error {
 
 // setClock reads the clock format.
 func (p *LineParser) setClock(format string) error {
-	layout, err := config.ClockFormatLayout(format)
+	layout, err := ClockFormatLayout(format)
 	switch {
 	case err != nil:
 		return fmt.Errorf("line.clock_format %q: %w", format, err)
@@ -163,7 +158,7 @@ func (p *LineParser) setClock(format string) error {
 	return nil
 }
 
-func checkColumn(f config.LineFormat, i int, c config.Column) error {
+func checkColumn(f LineFormat, i int, c Column) error {
 	switch {
 	case c.Index < 1:
 		return fmt.Errorf("index %d: must be a 1-based field index", c.Index)
@@ -358,7 +353,7 @@ const maxClockSeconds = 1e9 * 3
 // slotColumns maps 1-based field indexes (up to maxField) to their column's position
 // (-1 for fields no column reads) and lists the columns' channels in order. The line
 // and query parsers share it.
-func slotColumns(cols []config.Column, maxField int) (slot []int, channels []string, err error) {
+func slotColumns(cols []Column, maxField int) (slot []int, channels []string, err error) {
 	slot = make([]int, maxField)
 	for i := range slot {
 		slot[i] = -1

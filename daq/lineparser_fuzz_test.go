@@ -7,8 +7,6 @@ import (
 	"strconv"
 	"testing"
 	"time"
-
-	"github.com/settle-lab/settle/config"
 )
 
 // seedLines reads the fuzz seed corpus testdata/daq/line-seeds.txt (one line per seed;
@@ -36,9 +34,9 @@ func seedLines(t testing.TB) []string {
 	return lines
 }
 
-var fuzzFormat = config.LineFormat{
+var fuzzFormat = LineFormat{
 	ClockColumn: 1,
-	Columns: []config.Column{
+	Columns: []Column{
 		{Index: 2, Channel: "s1"}, {Index: 3, Channel: "s2"}, {Index: 4, Channel: "s3"},
 		{Index: 5, Channel: "s4"}, {Index: 6, Channel: "amb"},
 	},

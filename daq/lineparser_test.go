@@ -5,23 +5,21 @@ import (
 	"strings"
 	"testing"
 	"time"
-
-	"github.com/settle-lab/settle/config"
 )
 
 var t0 = time.Date(2025, 3, 14, 15, 0, 0, 0, time.UTC)
 
 // rackFormat is clock in field 1, two specimens and an ambient in fields 2, 3 and 5.
-var rackFormat = config.LineFormat{
+var rackFormat = LineFormat{
 	ClockColumn: 1,
-	Columns: []config.Column{
+	Columns: []Column{
 		{Index: 2, Channel: "steel"},
 		{Index: 3, Channel: "alu"},
 		{Index: 5, Channel: "amb"},
 	},
 }
 
-func mustParser(t testing.TB, f config.LineFormat) *LineParser {
+func mustParser(t testing.TB, f LineFormat) *LineParser {
 	t.Helper()
 	p, err := NewLineParser("rack2", f)
 	if err != nil {
@@ -133,7 +131,7 @@ func TestLineParserClockAnchor(t *testing.T) {
 }
 
 func TestLineParserHostTimeAndSeparator(t *testing.T) {
-	p := mustParser(t, config.LineFormat{Separator: "\t", Columns: []config.Column{{Index: 1, Channel: "a"}, {Index: 2, Channel: "b"}}})
+	p := mustParser(t, LineFormat{Separator: "\t", Columns: []Column{{Index: 1, Channel: "a"}, {Index: 2, Channel: "b"}}})
 	got, err := p.Parse([]byte("21.5\t-3.25"), t0)
 	if err != nil {
 		t.Fatal(err)
@@ -146,16 +144,16 @@ func TestLineParserHostTimeAndSeparator(t *testing.T) {
 func TestNewLineParserRejects(t *testing.T) {
 	tests := []struct {
 		name string
-		f    config.LineFormat
+		f    LineFormat
 		want string
 	}{
-		{"no columns", config.LineFormat{}, `logger "rack2": line.columns: at least one column is needed`},
-		{"negative clock", config.LineFormat{ClockColumn: -1, Columns: []config.Column{{Index: 1, Channel: "a"}}}, `logger "rack2": line.clock_column -1: must be 0 (host time) or a 1-based field index`},
-		{"zero index", config.LineFormat{Columns: []config.Column{{Index: 0, Channel: "a"}}}, `logger "rack2": line.columns[0]: index 0: must be a 1-based field index`},
-		{"clock clash", config.LineFormat{ClockColumn: 1, Columns: []config.Column{{Index: 1, Channel: "a"}}}, `logger "rack2": line.columns[0]: index 1: is the clock column`},
-		{"no channel", config.LineFormat{Columns: []config.Column{{Index: 1}}}, `logger "rack2": line.columns[0]: channel: must not be empty`},
-		{"channel twice", config.LineFormat{Columns: []config.Column{{Index: 1, Channel: "a"}, {Index: 2, Channel: "a"}}}, `logger "rack2": line.columns[1]: channel "a": appears twice`},
-		{"index twice", config.LineFormat{Columns: []config.Column{{Index: 1, Channel: "a"}, {Index: 1, Channel: "b"}}}, `logger "rack2": line.columns[1]: index 1 is used twice`},
+		{"no columns", LineFormat{}, `logger "rack2": line.columns: at least one column is needed`},
+		{"negative clock", LineFormat{ClockColumn: -1, Columns: []Column{{Index: 1, Channel: "a"}}}, `logger "rack2": line.clock_column -1: must be 0 (host time) or a 1-based field index`},
+		{"zero index", LineFormat{Columns: []Column{{Index: 0, Channel: "a"}}}, `logger "rack2": line.columns[0]: index 0: must be a 1-based field index`},
+		{"clock clash", LineFormat{ClockColumn: 1, Columns: []Column{{Index: 1, Channel: "a"}}}, `logger "rack2": line.columns[0]: index 1: is the clock column`},
+		{"no channel", LineFormat{Columns: []Column{{Index: 1}}}, `logger "rack2": line.columns[0]: channel: must not be empty`},
+		{"channel twice", LineFormat{Columns: []Column{{Index: 1, Channel: "a"}, {Index: 2, Channel: "a"}}}, `logger "rack2": line.columns[1]: channel "a": appears twice`},
+		{"index twice", LineFormat{Columns: []Column{{Index: 1, Channel: "a"}, {Index: 1, Channel: "b"}}}, `logger "rack2": line.columns[1]: index 1 is used twice`},
 	}
 	for _, tc := range tests {
 		_, err := NewLineParser("rack2", tc.f)

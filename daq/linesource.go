@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"log/slog"
 	"time"
-
-	"github.com/settle-lab/settle/config"
 )
 
 // LineSource reads a logger that sends delimiter-separated text lines (config format
@@ -32,7 +30,7 @@ const parseWarnEvery = 10 * time.Second
 // NewLineSource checks cfg and returns a source for it; nothing is opened until Run.
 // Log lines name the port; the caller adds the logger name to log (as NewSource's
 // callers do with log.With("logger", name)). A nil log discards log output.
-func NewLineSource(cfg config.Logger, log *slog.Logger) (*LineSource, error) {
+func NewLineSource(cfg Logger, log *slog.Logger) (*LineSource, error) {
 	if cfg.Format != "line" {
 		return nil, fmt.Errorf("logger %q: format %q: the line source reads format \"line\"", cfg.Name, cfg.Format)
 	}

@@ -12,7 +12,6 @@ import (
 
 	"go.bug.st/serial"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/modbus"
 )
 
@@ -58,7 +57,7 @@ type modbusReg struct {
 
 // NewModbusSource checks cfg and returns a source for it; nothing is opened until
 // Run. A nil log discards log output.
-func NewModbusSource(cfg config.Logger, log *slog.Logger) (*ModbusSource, error) {
+func NewModbusSource(cfg Logger, log *slog.Logger) (*ModbusSource, error) {
 	baud, err := checkPort(cfg.Name, cfg.Port, cfg.Baud)
 	if err != nil {
 		return nil, err
@@ -67,7 +66,7 @@ func NewModbusSource(cfg config.Logger, log *slog.Logger) (*ModbusSource, error)
 	if m.Slave < 1 || m.Slave > 247 {
 		return nil, fmt.Errorf("logger %q: modbus.slave %d: must be 1–247", cfg.Name, m.Slave)
 	}
-	s := &ModbusSource{name: cfg.Name, slave: byte(m.Slave), timeout: orDefault(m.Timeout, config.DefaultModbusTimeout)}
+	s := &ModbusSource{name: cfg.Name, slave: byte(m.Slave), timeout: orDefault(m.Timeout, DefaultModbusTimeout)}
 	if err := s.plan(cfg); err != nil {
 		return nil, err
 	}
@@ -81,18 +80,18 @@ func NewModbusSource(cfg config.Logger, log *slog.Logger) (*ModbusSource, error)
 	if m.StopBits == 2 {
 		stop = serial.TwoStopBits
 	}
-	letter := cmp.Or(m.Parity, config.DefaultParity)
+	letter := cmp.Or(m.Parity, DefaultParity)
 	s.bits = 10 + min(1, int(parity(letter))) + int(max(m.StopBits, 1)) - 1 // start, 8 data, parity?, stop(s)
 	s.status = &portStatus{s: PortStats{Logger: cfg.Name, Port: cfg.Port}}
 	s.port = pollPort{
 		path: cfg.Port, mode: serial.Mode{BaudRate: baud, DataBits: 8, Parity: parity(letter), StopBits: stop},
-		interval: orDefault(m.Interval, config.DefaultPollInterval), open: openSerial, status: s.status, log: log,
+		interval: orDefault(m.Interval, DefaultPollInterval), open: openSerial, status: s.status, log: log,
 	}
 	return s, nil
 }
 
 // plan turns the register list into channels and requests.
-func (s *ModbusSource) plan(cfg config.Logger) error {
+func (s *ModbusSource) plan(cfg Logger) error {
 	type item struct {
 		fn   byte
 		addr int

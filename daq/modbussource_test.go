@@ -13,7 +13,6 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/ptytest"
 )
 
@@ -116,11 +115,11 @@ func TestModbusAgainstPymodbus(t *testing.T) {
 	py := pymodbusPython(t)
 	serverDev, clientDev := bridgedPTYs(t)
 	startPymodbus(t, py, serverDev)
-	cfg := config.Logger{
+	cfg := Logger{
 		Name: "module", Port: clientDev, Baud: 19200, Format: "modbus",
-		Modbus: config.ModbusFormat{Slave: 3, Parity: "N", // a pty refuses parity
+		Modbus: ModbusFormat{Slave: 3, Parity: "N", // a pty refuses parity
 			Interval: 50 * time.Millisecond, Timeout: 300 * time.Millisecond,
-			Registers: []config.Register{
+			Registers: []ModbusRegister{
 				{Channel: "furnace", Address: 0, Scale: 0.1},
 				{Channel: "chiller", Address: 1, Scale: 0.1},
 				{Channel: "room", Address: 2, Type: "float32"},
@@ -130,8 +129,8 @@ func TestModbusAgainstPymodbus(t *testing.T) {
 				{Channel: "cj", Function: 4, Address: 2, Scale: 0.1},
 				{Channel: "nowhere", Function: 4, Address: 500}, // not served: exception 02
 			}},
-		Inputs: []config.Input{{Channel: "tc", Unit: "mV", Thermocouple: "K", ColdJunction: "cj"}},
-		Open:   config.OpenCircuit{AtOrAbove: fptr(32767)},
+		Inputs: []Input{{Channel: "tc", Unit: "mV", Thermocouple: "K", ColdJunction: "cj"}},
+		Open:   OpenCircuit{AtOrAbove: fptr(32767)},
 	}
 	src, err := NewSource(cfg, nil)
 	if err != nil {

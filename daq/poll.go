@@ -23,7 +23,7 @@ func (p safePort) Read(b []byte) (int, error) { return safeRead(p.Port, b) }
 
 // pollPort keeps a serial port open for a driver that asks before it reads (query,
 // Modbus) and calls poll once per interval. On a port error it closes the port, marks
-// it down, backs off and reopens, like serialLines.
+// it down, backs off and reopens (keepOpen).
 type pollPort struct {
 	path     string
 	mode     serial.Mode
@@ -39,30 +39,9 @@ type pollFunc func(ctx context.Context, port serial.Port) error
 
 // Run polls until ctx ends; it returns ctx.Err().
 func (p *pollPort) Run(ctx context.Context, poll pollFunc) error {
-	bo := backoff{min: backoffMin, max: backoffMax}
-	for attempt := 0; ; attempt++ {
-		if attempt > 0 {
-			p.status.reconnect()
-		}
-		polled, err := p.session(ctx, poll)
-		p.status.setUp(false)
-		if ctx.Err() != nil {
-			return ctx.Err()
-		}
-		p.status.readError()
-		level := slog.LevelDebug // repeated failures while the cable is out: quiet
-		if polled || attempt == 0 {
-			bo.Reset()
-			level = slog.LevelWarn
-		}
-		wait := bo.Next()
-		p.log.Log(ctx, level, "serial port down; will reopen", "port", p.path, "err", err, "retry_in", wait)
-		select {
-		case <-ctx.Done():
-			return ctx.Err()
-		case <-time.After(wait):
-		}
-	}
+	return keepOpen(ctx, p.path, p.status, p.log, func(ctx context.Context) (bool, error) {
+		return p.session(ctx, poll)
+	})
 }
 
 // session opens the port once and polls until a port error or the end of ctx. It

@@ -16,8 +16,6 @@ import (
 
 // Port handling defaults.
 const (
-	// DefaultBaud is the line speed used when config.Logger.Baud is 0.
-	DefaultBaud = 9600
 	// MaxLineBytes bounds one text line; a longer line is discarded and counted as a
 	// parse error (a logger at the wrong baud rate sends long runs without newlines).
 	MaxLineBytes = 4096
@@ -219,24 +217,34 @@ type serialLines struct {
 // Run reads until ctx ends, calling handle for each line with the host receive time.
 // It returns ctx.Err() and nothing else.
 func (s *serialLines) Run(ctx context.Context, handle func(line []byte, received time.Time)) error {
+	return keepOpen(ctx, s.path, s.status, s.log, func(ctx context.Context) (bool, error) {
+		return s.session(ctx, handle)
+	})
+}
+
+// keepOpen runs session (one open of the port, used until it fails) until ctx ends.
+// After each session it marks the port down, counts a read error, backs off and
+// reopens; the back-off starts again from its minimum after a session that worked (got
+// data, or polled once) and after the first. It returns ctx.Err() and nothing else.
+func keepOpen(ctx context.Context, path string, status *portStatus, log *slog.Logger, session func(context.Context) (worked bool, err error)) error {
 	bo := backoff{min: backoffMin, max: backoffMax}
 	for attempt := 0; ; attempt++ {
 		if attempt > 0 {
-			s.status.reconnect()
+			status.reconnect()
 		}
-		gotData, err := s.session(ctx, handle)
-		s.status.setUp(false)
+		worked, err := session(ctx)
+		status.setUp(false)
 		if ctx.Err() != nil {
 			return ctx.Err()
 		}
-		s.status.readError()
+		status.readError()
 		level := slog.LevelDebug // repeated failures while the cable is out: quiet
-		if gotData || attempt == 0 {
+		if worked || attempt == 0 {
 			bo.Reset()
 			level = slog.LevelWarn
 		}
 		wait := bo.Next()
-		s.log.Log(ctx, level, "serial port down; will reopen", "port", s.path, "err", err, "retry_in", wait)
+		log.Log(ctx, level, "serial port down; will reopen", "port", path, "err", err, "retry_in", wait)
 		select {
 		case <-ctx.Done():
 			return ctx.Err()

@@ -15,7 +15,6 @@ import (
 
 	"go.bug.st/serial"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/ptytest"
 )
 
@@ -124,9 +123,9 @@ func (o *fakeOpener) open(path string, mode *serial.Mode) (serial.Port, error) {
 
 func rackSource(t *testing.T, port string) *LineSource {
 	t.Helper()
-	cfg := config.Logger{Name: "rack2", Port: port, Format: "line", Line: config.LineFormat{
+	cfg := Logger{Name: "rack2", Port: port, Format: "line", Line: LineFormat{
 		ClockColumn: 1,
-		Columns:     []config.Column{{Index: 2, Channel: "S1"}, {Index: 3, Channel: "S2"}, {Index: 4, Channel: "amb"}},
+		Columns:     []Column{{Index: 2, Channel: "S1"}, {Index: 3, Channel: "S2"}, {Index: 4, Channel: "amb"}},
 	}}
 	src, err := NewLineSource(cfg, slog.New(slog.DiscardHandler))
 	if err != nil {
@@ -271,8 +270,8 @@ func TestReserveKeepsPortsBelow1024(t *testing.T) {
 }
 
 func TestNewSource(t *testing.T) {
-	cfg := config.Logger{Name: "rack2", Port: "/dev/ttyUSB0", Format: "line",
-		Line: config.LineFormat{Columns: []config.Column{{Index: 1, Channel: "a"}}}}
+	cfg := Logger{Name: "rack2", Port: "/dev/ttyUSB0", Format: "line",
+		Line: LineFormat{Columns: []Column{{Index: 1, Channel: "a"}}}}
 	src, err := NewSource(cfg, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -288,16 +287,16 @@ func TestNewSource(t *testing.T) {
 }
 
 func TestNewLineSourceRejects(t *testing.T) {
-	good := config.Logger{Name: "rack2", Port: "/dev/ttyUSB0", Format: "line",
-		Line: config.LineFormat{Columns: []config.Column{{Index: 1, Channel: "a"}}}}
+	good := Logger{Name: "rack2", Port: "/dev/ttyUSB0", Format: "line",
+		Line: LineFormat{Columns: []Column{{Index: 1, Channel: "a"}}}}
 	tests := []struct {
 		name string
-		edit func(*config.Logger)
+		edit func(*Logger)
 		want string
 	}{
-		{"no port", func(c *config.Logger) { c.Port = "" }, `logger "rack2": port: must not be empty`},
-		{"negative baud", func(c *config.Logger) { c.Baud = -1 }, `logger "rack2": baud -1: must be positive`},
-		{"no columns", func(c *config.Logger) { c.Line.Columns = nil }, `logger "rack2": line.columns: at least one column is needed`},
+		{"no port", func(c *Logger) { c.Port = "" }, `logger "rack2": port: must not be empty`},
+		{"negative baud", func(c *Logger) { c.Baud = -1 }, `logger "rack2": baud -1: must be positive`},
+		{"no columns", func(c *Logger) { c.Line.Columns = nil }, `logger "rack2": line.columns: at least one column is needed`},
 	}
 	for _, tc := range tests {
 		c := good

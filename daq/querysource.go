@@ -11,8 +11,6 @@ import (
 	"time"
 
 	"go.bug.st/serial"
-
-	"github.com/settle-lab/settle/config"
 )
 
 // ErrReplyTimeout reports a query reply that did not arrive complete in time.
@@ -30,7 +28,7 @@ type ReplyParser struct {
 }
 
 // NewReplyParser checks cfg.Query's columns and returns the reply parser of logger cfg.
-func NewReplyParser(cfg config.Logger) (*ReplyParser, error) {
+func NewReplyParser(cfg Logger) (*ReplyParser, error) {
 	q := cfg.Query
 	p := &ReplyParser{logger: cfg.Name, sep: []byte(cmp.Or(q.Separator, ","))}
 	if len(q.Columns) == 0 {
@@ -123,7 +121,7 @@ var (
 
 // NewQuerySource checks cfg and returns a source for it; nothing is opened until Run.
 // A nil log discards log output.
-func NewQuerySource(cfg config.Logger, log *slog.Logger) (*QuerySource, error) {
+func NewQuerySource(cfg Logger, log *slog.Logger) (*QuerySource, error) {
 	baud, err := checkPort(cfg.Name, cfg.Port, cfg.Baud)
 	if err != nil {
 		return nil, err
@@ -139,15 +137,15 @@ func NewQuerySource(cfg config.Logger, log *slog.Logger) (*QuerySource, error) {
 	if log == nil {
 		log = slog.New(slog.DiscardHandler)
 	}
-	term := cmp.Or(q.Terminator, config.DefaultTerminator)
+	term := cmp.Or(q.Terminator, DefaultTerminator)
 	cmd := q.Command
 	if !strings.HasSuffix(cmd, term) {
 		cmd += term
 	}
-	interval := orDefault(q.Interval, config.DefaultPollInterval)
+	interval := orDefault(q.Interval, DefaultPollInterval)
 	s := &QuerySource{
 		name: cfg.Name, cmd: []byte(cmd), term: []byte(term), parser: parser,
-		timeout: min(orDefault(q.Timeout, config.DefaultQueryTimeout), interval),
+		timeout: min(orDefault(q.Timeout, DefaultQueryTimeout), interval),
 		status:  &portStatus{s: PortStats{Logger: cfg.Name, Port: cfg.Port}},
 	}
 	s.port = pollPort{path: cfg.Port, mode: serial.Mode{BaudRate: baud}, interval: interval,

@@ -11,23 +11,22 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/ptytest"
 )
 
 // queryLogger is a four-channel instrument; its reply marks an open input "OPEN" and an
 // overload with the SCPI overload value 9.9E37.
-func queryLogger(port string) config.Logger {
-	return config.Logger{
+func queryLogger(port string) Logger {
+	return Logger{
 		Name: "dmm", Port: port, Baud: 9600, Format: "query",
-		Query: config.QueryFormat{
+		Query: QueryFormat{
 			Command: "MEAS:TEMP? (@101:104)", Interval: 400 * time.Millisecond, Timeout: 300 * time.Millisecond,
 			Terminator: "\n",
-			Columns: []config.Column{
+			Columns: []Column{
 				{Index: 1, Channel: "a"}, {Index: 2, Channel: "b"}, {Index: 3, Channel: "c"}, {Index: 4, Channel: "d"},
 			},
 		},
-		Open: config.OpenCircuit{Markers: []string{"OPEN"}, AtOrAbove: fptr(9.9e37)},
+		Open: OpenCircuit{Markers: []string{"OPEN"}, AtOrAbove: fptr(9.9e37)},
 	}
 }
 
@@ -128,8 +127,8 @@ func TestQuerySourcePTY(t *testing.T) {
 func TestReplyParser(t *testing.T) {
 	cfg := queryLogger("/dev/null")
 	cfg.Query.Separator = ";"
-	cfg.Query.Columns = []config.Column{{Index: 3, Channel: "c"}, {Index: 1, Channel: "a"}}
-	cfg.Inputs = []config.Input{{Channel: "a", Unit: "K"}}
+	cfg.Query.Columns = []Column{{Index: 3, Channel: "c"}, {Index: 1, Channel: "a"}}
+	cfg.Inputs = []Input{{Channel: "a", Unit: "K"}}
 	p, err := NewReplyParser(cfg)
 	if err != nil {
 		t.Fatal(err)
@@ -154,7 +153,7 @@ func FuzzReplyParse(f *testing.F) {
 		f.Add([]byte(s))
 	}
 	cfg := queryLogger("/dev/null")
-	cfg.Inputs = []config.Input{{Channel: "b", Unit: "mV", Thermocouple: "J", ColdJunction: "a"}}
+	cfg.Inputs = []Input{{Channel: "b", Unit: "mV", Thermocouple: "J", ColdJunction: "a"}}
 	p, err := NewReplyParser(cfg)
 	if err != nil {
 		f.Fatal(err)

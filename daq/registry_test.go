@@ -1,4 +1,4 @@
-package daq
+package daq_test
 
 import (
 	"errors"
@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
 )
 
 // TestNewSourceEveryFormat: what config accepts, the drivers accept, each with its
@@ -17,12 +18,12 @@ func TestNewSourceEveryFormat(t *testing.T) {
 	}
 	formats := map[string]bool{}
 	for _, l := range c.Loggers {
-		src, err := NewSource(l, nil)
+		src, err := daq.NewSource(l.Logger, nil)
 		if err != nil {
 			t.Errorf("NewSource(%s): %v", l.Name, err)
 			continue
 		}
-		if _, ok := src.(StatsReporter); !ok || src.Name() != l.Name {
+		if _, ok := src.(daq.StatsReporter); !ok || src.Name() != l.Name {
 			t.Errorf("%s: source %T lacks Stats or has name %q", l.Name, src, src.Name())
 		}
 		formats[l.Format] = true
@@ -30,7 +31,7 @@ func TestNewSourceEveryFormat(t *testing.T) {
 	if len(formats) != 3 {
 		t.Errorf("formats covered: %v, want line, query and modbus", formats)
 	}
-	if _, err := NewSource(config.Logger{Name: "x", Format: "csv"}, nil); !errors.Is(err, ErrUnknownFormat) {
+	if _, err := daq.NewSource(daq.Logger{Name: "x", Format: "csv"}, nil); !errors.Is(err, daq.ErrUnknownFormat) {
 		t.Errorf("unknown format: err = %v", err)
 	}
 }

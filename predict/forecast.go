@@ -193,7 +193,7 @@ func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSett
 		// Near the room with no measured ambient, a specimen cooling toward the room
 		// and one warming toward it from below read alike (a room 2 °C warmer than
 		// assumed turns one into the other): no direction, so no state.
-		f.note("The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts nothing; measure the ambient on a channel of its own (role: ambient).")
+		f.note(directionUnknown(m))
 		f.fit = fit // kept for the curve; the targets stay insufficient
 	case fit != nil:
 		f.fit, f.ambient, f.side = fit, fit.ambient(), fit.side()
@@ -217,6 +217,18 @@ func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSett
 		f.side = trendSide(m)
 	}
 	return f
+}
+
+// directionUnknown says why the direction of readings m is not known with no measured
+// ambient: they lie near the assumed room, or they are still at their extreme (rising
+// in an oven whose air is not measured looks like a thermocouple catching up with a hot
+// specimen until the readings turn).
+func directionUnknown(m []float64) string {
+	const measure = "measure the ambient on a channel of its own (role: ambient)"
+	if up, down := slices.Max(m)-roomPrior, roomPrior-slices.Min(m); max(up, down) >= priorFar {
+		return fmt.Sprintf("The readings are still at their extreme, %.0f °C from the assumed room of %.0f °C, so settle cannot tell a specimen settling toward an unmeasured oven or chamber from one whose thermocouple is still catching up with it, and forecasts nothing from the readings alone; for an oven give the specimen convection: chamber with chamber_c (its set point), or %s.", max(up, down), roomPrior, measure)
+	}
+	return "The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts nothing; " + measure + "."
 }
 
 // note adds a note once.

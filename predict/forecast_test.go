@@ -3,6 +3,8 @@ package predict
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
+	"strings"
 	"testing"
 	"time"
 )
@@ -195,5 +197,37 @@ func TestInflation(t *testing.T) {
 		if got := Inflation(c.rho, c.limit); math.Abs(got-c.want) > 1e-12 {
 			t.Errorf("Inflation(%g, %g) = %g, want %g", c.rho, c.limit, got, c.want)
 		}
+	}
+}
+
+// TestDirectionUnknownSaysWhy: with no measured ambient a curve whose direction is not
+// known gets no forecast, and the note says why in the terms of the case: a specimen
+// warming in an unmeasured oven (still at its extreme, far from the room) is told to
+// give the oven's set point, not that its readings lie near the room. Our own invented
+// curves: an oven at 180 °C with τ = 600 s seen for 5 minutes, and one near a 22 °C room.
+func TestDirectionUnknownSaysWhy(t *testing.T) {
+	for _, c := range []struct {
+		name          string
+		from, to, tgt float64
+		want          string
+	}{
+		{"oven warm-up", 21, 180, 175, "for an oven give the specimen convection: chamber with chamber_c"},
+		{"near the room", 24, 22.5, 23, "The readings lie within a few degrees of an unmeasured room"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			var ts, cs []float64
+			for s := 0.0; s <= 300; s += 2 {
+				ts = append(ts, s)
+				cs = append(cs, c.to+(c.from-c.to)*math.Exp(-s/600))
+			}
+			p, onset, _ := Prepare(ts, cs, nil)
+			f := Analyze(p, time.Unix(0, 0).Add(seconds(onset)), []Target{{Name: "t", Celsius: c.tgt}}, AnalyzeOptions{})
+			if st := f.Targets[0].State; st != StateInsufficient {
+				t.Errorf("state %s, want insufficient", st)
+			}
+			if !slices.ContainsFunc(f.Notes, func(n string) bool { return strings.Contains(n, c.want) }) {
+				t.Errorf("notes %q, want one with %q", f.Notes, c.want)
+			}
+		})
 	}
 }

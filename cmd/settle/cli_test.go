@@ -15,7 +15,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/daq/sim"
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/exporter/report"
 )

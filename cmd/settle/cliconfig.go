@@ -3,6 +3,7 @@ package main
 import (
 	"crypto/tls"
 	"crypto/x509"
+	"encoding/pem"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -10,6 +11,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -206,15 +208,83 @@ func daemonURL(addr string, secure bool) (string, error) {
 
 // clientTLS trusts the daemon's own certificate (a self-signed one is common on a lab
 // PC) besides the system's roots; an unreadable file leaves the system's roots.
+//
+// The daemon's own certificate is pinned: a server presenting exactly that certificate
+// (within its validity period) is the daemon, whatever address was dialled, so a
+// certificate naming only the host ("bench-pc.lab") still works when the client dials
+// 127.0.0.1 for a listen address of ":8391". Any other certificate goes through the
+// usual chain and host-name verification against the system's roots. crypto/tls has
+// no setting for this, hence VerifyConnection.
 func clientTLS(certFile string) *tls.Config {
 	pool, err := x509.SystemCertPool()
 	if err != nil || pool == nil {
 		pool = x509.NewCertPool()
 	}
-	if pem, err := os.ReadFile(certFile); err == nil {
-		pool.AppendCertsFromPEM(pem)
+	cfg := &tls.Config{RootCAs: pool, MinVersion: tls.VersionTLS12}
+	pinned := readCerts(certFile)
+	if len(pinned) == 0 {
+		return cfg
 	}
-	return &tls.Config{RootCAs: pool, MinVersion: tls.VersionTLS12}
+	for _, c := range pinned {
+		pool.AddCert(c)
+	}
+	cfg.InsecureSkipVerify = true // verification is VerifyConnection's, below
+	cfg.VerifyConnection = func(cs tls.ConnectionState) error {
+		return verifyDaemon(cs, pinned, pool, time.Now())
+	}
+	return cfg
+}
+
+// verifyDaemon accepts the pinned certificate itself, else a chain to roots valid for
+// the dialled host name. Its errors are tls.CertificateVerificationError, as crypto/tls's
+// own verification returns them.
+func verifyDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509.CertPool, now time.Time) error {
+	if err := checkDaemon(cs, pinned, roots, now); err != nil {
+		return &tls.CertificateVerificationError{UnverifiedCertificates: cs.PeerCertificates, Err: err}
+	}
+	return nil
+}
+
+func checkDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509.CertPool, now time.Time) error {
+	if len(cs.PeerCertificates) == 0 {
+		return errors.New("the daemon presented no certificate")
+	}
+	leaf := cs.PeerCertificates[0]
+	for _, p := range pinned {
+		if !leaf.Equal(p) {
+			continue
+		}
+		if now.Before(leaf.NotBefore) || now.After(leaf.NotAfter) {
+			return fmt.Errorf("the daemon's certificate is valid from %s to %s, not now: renew http.tls_cert",
+				leaf.NotBefore.Format(time.RFC3339), leaf.NotAfter.Format(time.RFC3339))
+		}
+		return nil
+	}
+	inter := x509.NewCertPool()
+	for _, c := range cs.PeerCertificates[1:] {
+		inter.AddCert(c)
+	}
+	_, err := leaf.Verify(x509.VerifyOptions{Roots: roots, Intermediates: inter, DNSName: cs.ServerName, CurrentTime: now})
+	return err
+}
+
+// readCerts returns the certificates in a PEM file; none when it cannot be read.
+func readCerts(path string) []*x509.Certificate {
+	rest, err := os.ReadFile(path)
+	if err != nil {
+		return nil
+	}
+	var out []*x509.Certificate
+	for {
+		var b *pem.Block
+		b, rest = pem.Decode(rest)
+		if b == nil {
+			return out
+		}
+		if c, err := x509.ParseCertificate(b.Bytes); err == nil && b.Type == "CERTIFICATE" {
+			out = append(out, c)
+		}
+	}
 }
 
 // listKnown formats known names for an error: all of them up to max, then a count.

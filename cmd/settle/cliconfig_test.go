@@ -1,10 +1,18 @@
 package main
 
 import (
+	"context"
+	"crypto/tls"
+	"crypto/x509"
+	"fmt"
+	"io"
+	"net/http"
+	"net/http/httptest"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 )
 
 // writeResolveConfig writes a configuration with the given extra top-level YAML.
@@ -100,5 +108,74 @@ func TestCLIResolution(t *testing.T) {
 				t.Errorf("data dir %q, url %q, token %q; want %q, %q, %q", dir, tgt.url, tgt.token, tc.dir, tc.url, tc.token)
 			}
 		})
+	}
+}
+
+// TestClientTLSPinsTheDaemonsCertificate: run-start and run-stop dial 127.0.0.1 for a
+// listen address with no host, while a lab's certificate names the PC (here: a
+// self-signed certificate with no names at all), so host-name verification alone
+// would refuse the daemon. The client trusts exactly the daemon's own certificate
+// file; a server with any other self-signed certificate is still refused.
+func TestClientTLSPinsTheDaemonsCertificate(t *testing.T) {
+	daemonCert, daemonKey := selfSigned(t, t.TempDir())
+	otherCert, otherKey := selfSigned(t, t.TempDir())
+	serve := func(certFile, keyFile string) string {
+		pair, err := tls.LoadX509KeyPair(certFile, keyFile)
+		if err != nil {
+			t.Fatal(err)
+		}
+		srv := httptest.NewUnstartedServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+			io.WriteString(w, "ok")
+		}))
+		srv.TLS = &tls.Config{Certificates: []tls.Certificate{pair}}
+		srv.StartTLS()
+		t.Cleanup(srv.Close)
+		return srv.URL // https://127.0.0.1:port
+	}
+	get := func(url string) error {
+		hc := &http.Client{Timeout: 10 * time.Second, Transport: &http.Transport{TLSClientConfig: clientTLS(daemonCert)}}
+		resp, err := hc.Get(url)
+		if err != nil {
+			return err
+		}
+		defer resp.Body.Close()
+		if b, _ := io.ReadAll(resp.Body); string(b) != "ok" {
+			return fmt.Errorf("body %q", b)
+		}
+		return nil
+	}
+	if err := get(serve(daemonCert, daemonKey)); err != nil {
+		t.Errorf("the daemon's own certificate at 127.0.0.1: %v", err)
+	}
+	other := serve(otherCert, otherKey)
+	if err := get(other); err == nil || !strings.Contains(err.Error(), "certificate") {
+		t.Errorf("another self-signed certificate: err %v, want a certificate error", err)
+	}
+	c := &daemonClient{addr: other, token: "t", http: &http.Client{Timeout: 10 * time.Second,
+		Transport: &http.Transport{TLSClientConfig: clientTLS(daemonCert)}}}
+	err := c.call(context.Background(), http.MethodGet, "/api/v1/runs", nil, nil)
+	if err == nil || !strings.Contains(err.Error(), "the daemon's certificate was not accepted") {
+		t.Errorf("runs API behind another certificate: err %v, want the certificate hint", err)
+	}
+}
+
+// TestVerifyDaemonExpired: the pinned certificate outside its validity period is
+// refused with the dates and what to renew.
+func TestVerifyDaemonExpired(t *testing.T) {
+	certFile, _ := selfSigned(t, t.TempDir())
+	pinned := readCerts(certFile)
+	if len(pinned) != 1 {
+		t.Fatalf("read %d certificates from %s, want 1", len(pinned), certFile)
+	}
+	cs := tls.ConnectionState{PeerCertificates: pinned, ServerName: "127.0.0.1"}
+	if err := verifyDaemon(cs, pinned, x509.NewCertPool(), time.Now()); err != nil {
+		t.Errorf("within its validity: %v", err)
+	}
+	err := verifyDaemon(cs, pinned, x509.NewCertPool(), time.Now().Add(48*time.Hour))
+	if err == nil || !strings.Contains(err.Error(), "renew http.tls_cert") {
+		t.Errorf("two days later: err %v, want the validity period and a hint", err)
+	}
+	if err := verifyDaemon(tls.ConnectionState{}, pinned, x509.NewCertPool(), time.Now()); err == nil {
+		t.Error("no certificate at all was accepted")
 	}
 }

@@ -17,8 +17,8 @@ import (
 // clockConfig is one logger on path whose lines carry a unix clock, one channel.
 func clockConfig(path, dir string) *config.Config {
 	return &config.Config{Listen: "127.0.0.1:0", DataDir: dir,
-		Loggers: []config.Logger{{Name: "rack", Port: path, Format: "line", Line: config.LineFormat{
-			ClockColumn: 1, ClockFormat: "unix", Columns: []config.Column{{Index: 2, Channel: "plate-1"}}}}},
+		Loggers: []config.Logger{{Logger: daq.Logger{Name: "rack", Port: path, Format: "line", Line: daq.LineFormat{
+			ClockColumn: 1, ClockFormat: "unix", Columns: []daq.Column{{Index: 2, Channel: "plate-1"}}}}}},
 		Channels: []config.Channel{{Name: "plate-1", Targets: []config.Target{{Name: "handling", Celsius: ptrTo(50.0), Handling: true}}}}}
 }
 

@@ -45,10 +45,10 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 		return nil, err
 	}
 	d.bench = predict.NewBench(specs, trackerOptions)
-	d.cleaner = clean.New(cfg.Loggers)
-	d.clock = clean.NewClockCheck(cfg.Loggers, clean.ClockOptions{})
+	d.cleaner = clean.New(cfg.CleanOptions())
+	d.clock = clean.NewClockCheck(cfg.ClockOptions())
 	for _, lc := range cfg.Loggers {
-		src, err := daq.NewSource(lc, log.With("logger", lc.Name))
+		src, err := daq.NewSource(lc.Logger, log.With("logger", lc.Name))
 		if err != nil {
 			return nil, err
 		}

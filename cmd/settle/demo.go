@@ -6,8 +6,8 @@ import (
 	"log/slog"
 	"sync"
 
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/config"
-	"github.com/settle-lab/settle/daq/sim"
 )
 
 // startDemo serves the built-in simulated rack on a new pseudo-terminal and returns a

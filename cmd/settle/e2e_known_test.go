@@ -9,7 +9,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/daq/sim"
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 )
 
 // knownCurve is a Newton-cooling curve with known parameters, sampled like a logger:

@@ -13,8 +13,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/config"
-	"github.com/settle-lab/settle/daq/sim"
 )
 
 // startDaemon runs a daemon on cfg (listening on a free loopback port) until the test

@@ -9,9 +9,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/ptytest"
-	"github.com/settle-lab/settle/daq/sim"
 	"github.com/settle-lab/settle/exporter"
 )
 

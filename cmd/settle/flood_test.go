@@ -16,6 +16,7 @@ import (
 	"context"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/ptytest"
 )
 
@@ -56,7 +57,7 @@ func TestFloodClientHelper(t *testing.T) {
 func TestPortReopensUnderConnectionFlood(t *testing.T) {
 	link := ptytest.NewLink(t)
 	cfg := config.Config{Listen: "127.0.0.1:0", DataDir: t.TempDir(),
-		Loggers:  []config.Logger{{Name: "rack", Port: link.Path, Format: "line", Line: config.LineFormat{Columns: []config.Column{{Index: 1, Channel: "plate-1"}}}}},
+		Loggers:  []config.Logger{{Logger: daq.Logger{Name: "rack", Port: link.Path, Format: "line", Line: daq.LineFormat{Columns: []daq.Column{{Index: 1, Channel: "plate-1"}}}}}},
 		Channels: []config.Channel{{Name: "plate-1"}}}
 	d, err := newDaemon(&cfg, slog.New(slog.NewTextHandler(io.Discard, nil)))
 	if err != nil {

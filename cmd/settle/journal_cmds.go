@@ -1,8 +1,10 @@
 package main
 
 import (
+	"bufio"
 	"bytes"
 	"context"
+	"crypto/tls"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -10,6 +12,7 @@ import (
 	"net/http"
 	"net/url"
 	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"text/tabwriter"
@@ -96,19 +99,24 @@ func runExport(stdout, stderr io.Writer, f *cliFlags, channel string, from, to t
 	if err := checkChannel(j, c, channel); err != nil {
 		return fmt.Errorf("export: %w", err)
 	}
-	var buf bytes.Buffer
-	n, err := report.WriteCSV(&buf, j.Readings(channel, from, to), time.Time{})
-	if err != nil {
-		return fmt.Errorf("export %s: %w", channel, err)
-	}
 	if out == "" {
+		bw := bufio.NewWriterSize(stdout, 64<<10)
+		n, err := report.WriteCSV(bw, j.Readings(channel, from, to), time.Time{})
+		if err == nil {
+			err = bw.Flush()
+		}
+		if err != nil {
+			return fmt.Errorf("export %s: %w", channel, err)
+		}
 		if n == 0 {
 			fmt.Fprintf(stderr, "settle export: no readings of channel %q in that span (the header only)\n", channel)
 		}
-		_, err = stdout.Write(buf.Bytes())
-		return err
+		return nil
 	}
-	if err := os.WriteFile(out, buf.Bytes(), 0o640); err != nil {
+	n, err := exportFile(out, func(w io.Writer) (int, error) {
+		return report.WriteCSV(w, j.Readings(channel, from, to), time.Time{})
+	})
+	if err != nil {
 		return fmt.Errorf("export %s: %w", channel, err)
 	}
 	if n == 0 {
@@ -117,6 +125,40 @@ func runExport(stdout, stderr io.Writer, f *cliFlags, channel string, from, to t
 	}
 	fmt.Fprintf(stderr, "settle export: %d readings of %s written to %s\n", n, channel, out)
 	return nil
+}
+
+// exportFile streams write's output into a temporary file beside path and renames it
+// to path once complete and synced, so a year of readings never sits in memory and an
+// export that fails half-way (a full disk, a journal error) leaves no truncated file
+// under the requested name (an existing file there is kept).
+func exportFile(path string, write func(io.Writer) (int, error)) (n int, err error) {
+	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.partial")
+	if err != nil {
+		return 0, err
+	}
+	defer func() {
+		if err != nil {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	bw := bufio.NewWriterSize(tmp, 64<<10)
+	if n, err = write(bw); err != nil {
+		return n, err
+	}
+	if err = bw.Flush(); err != nil {
+		return n, err
+	}
+	if err = tmp.Chmod(0o640); err != nil {
+		return n, err
+	}
+	if err = tmp.Sync(); err != nil {
+		return n, err
+	}
+	if err = tmp.Close(); err != nil {
+		return n, err
+	}
+	return n, os.Rename(tmp.Name(), path)
 }
 
 // knownChannels are the channels the record has readings of and those the
@@ -375,6 +417,16 @@ func newDaemonClient(f *cliFlags) (*daemonClient, cliConfig, error) {
 	return &daemonClient{addr: t.url, token: t.token, http: hc}, c, nil
 }
 
+// dialHint says what to check when the daemon cannot be reached: its certificate when
+// TLS verification failed, else whether it runs at the configured address.
+func dialHint(err error) string {
+	var cv *tls.CertificateVerificationError
+	if errors.As(err, &cv) {
+		return "the daemon's certificate was not accepted: give --config with the daemon's configuration, whose http.tls_cert this client trusts"
+	}
+	return "is `settle run` running there? its address is listen in the configuration"
+}
+
 // call sends a request and decodes a JSON reply into out, turning an API error into
 // a Go error that names the daemon.
 func (c *daemonClient) call(ctx context.Context, method, path string, body, out any) error {
@@ -394,7 +446,7 @@ func (c *daemonClient) call(ctx context.Context, method, path string, body, out 
 	req.Header.Set("Content-Type", "application/json")
 	resp, err := c.http.Do(req)
 	if err != nil {
-		return fmt.Errorf("daemon at %s: %w (is `settle run` running there? its address is listen in the configuration)", c.addr, err)
+		return fmt.Errorf("daemon at %s: %w (%s)", c.addr, err, dialHint(err))
 	}
 	defer resp.Body.Close()
 	b, err := io.ReadAll(io.LimitReader(resp.Body, 1<<20))

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"image/png"
 	"io"
 	"log/slog"
@@ -240,5 +241,39 @@ func TestRunsFiltersSayWhatMatched(t *testing.T) {
 	}
 	if _, err := executeJournalCmd(t, "runs", "--data-dir", dir, "--active", "--specimen", "S-999"); err == nil || !strings.Contains(err.Error(), `unknown specimen "S-999": known specimens: S-041`) {
 		t.Errorf("unknown specimen: %v", err)
+	}
+}
+
+// TestExportFileNeverLeavesATruncatedFile: the CSV streams into a hidden partial file
+// beside the output and is renamed only when complete, so an export that fails half-way
+// keeps the previous file under the name and leaves no partial file behind.
+func TestExportFileNeverLeavesATruncatedFile(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "rack-2.csv")
+	if err := os.WriteFile(path, []byte("yesterday's export\n"), 0o640); err != nil {
+		t.Fatal(err)
+	}
+	failing := func(w io.Writer) (int, error) {
+		io.WriteString(w, strings.Repeat("half a row,", 20000)) // beyond the buffer: on disk
+		return 7, errors.New("journal: disk I/O error")
+	}
+	if _, err := exportFile(path, failing); err == nil || !strings.Contains(err.Error(), "disk I/O error") {
+		t.Fatalf("err %v, want the writer's error", err)
+	}
+	if b, _ := os.ReadFile(path); string(b) != "yesterday's export\n" {
+		t.Errorf("after a failed export the file holds %d bytes, want the previous contents", len(b))
+	}
+	ok := func(w io.Writer) (int, error) { _, err := io.WriteString(w, "time,celsius\r\n"); return 1, err }
+	if n, err := exportFile(path, ok); err != nil || n != 1 {
+		t.Fatalf("n %d, err %v", n, err)
+	}
+	if b, _ := os.ReadFile(path); string(b) != "time,celsius\r\n" {
+		t.Errorf("file holds %q", b)
+	}
+	if fi, err := os.Stat(path); err != nil || fi.Mode().Perm() != 0o640 {
+		t.Errorf("mode %v, err %v; want 0640", fi.Mode(), err)
+	}
+	if left, _ := filepath.Glob(filepath.Join(dir, ".*partial")); len(left) != 0 {
+		t.Errorf("partial files left behind: %v", left)
 	}
 }

@@ -24,10 +24,10 @@ import (
 	"github.com/chromedp/chromedp"
 	"github.com/prometheus/client_golang/prometheus"
 
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
-	"github.com/settle-lab/settle/daq/sim"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/exporter/report"
 )
@@ -937,10 +937,10 @@ func TestBoardHandMadeConfig(t *testing.T) {
 	target := []config.Target{{Name: "handling", Celsius: &handling, Handling: true}}
 	cfg := &config.Config{
 		Loggers: []config.Logger{
-			{Name: "bench1", Port: p.Path(), Format: "line", Line: config.LineFormat{Separator: ",", ClockColumn: 1,
-				Columns: []config.Column{{Index: 2, Channel: "pos-a"}, {Index: 3, Channel: "room"}}}},
-			{Name: "bench2", Port: "/dev/settle-test-no-such-port", Format: "line", Line: config.LineFormat{Separator: ",",
-				Columns: []config.Column{{Index: 1, Channel: "pos-c"}}}},
+			{Logger: daq.Logger{Name: "bench1", Port: p.Path(), Format: "line", Line: daq.LineFormat{Separator: ",", ClockColumn: 1,
+				Columns: []daq.Column{{Index: 2, Channel: "pos-a"}, {Index: 3, Channel: "room"}}}}},
+			{Logger: daq.Logger{Name: "bench2", Port: "/dev/settle-test-no-such-port", Format: "line", Line: daq.LineFormat{Separator: ",",
+				Columns: []daq.Column{{Index: 1, Channel: "pos-c"}}}}},
 		},
 		Channels: []config.Channel{
 			{Name: "pos-a", Ambient: "room", Targets: target, Run: &config.Run{Specimen: "HM-1"}},

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/daq/ptytest"
 )
@@ -19,8 +20,8 @@ func TestPlacementHotStartAndShortBaseline(t *testing.T) {
 	p := ptytest.Open(t)
 	handling := []config.Target{{Name: "handling", Celsius: ptrTo(50.0), Handling: true}}
 	cfg := &config.Config{Listen: "127.0.0.1:0", DataDir: t.TempDir(),
-		Loggers: []config.Logger{{Name: "rack", Port: p.Path(), Format: "line", Line: config.LineFormat{
-			ClockColumn: 1, Columns: []config.Column{{Index: 2, Channel: "hot-1"}, {Index: 3, Channel: "late-2"}}}}},
+		Loggers: []config.Logger{{Logger: daq.Logger{Name: "rack", Port: p.Path(), Format: "line", Line: daq.LineFormat{
+			ClockColumn: 1, Columns: []daq.Column{{Index: 2, Channel: "hot-1"}, {Index: 3, Channel: "late-2"}}}}}},
 		Channels: []config.Channel{{Name: "hot-1", Targets: handling}, {Name: "late-2", Targets: handling}}}
 	d, stop := runDaemonAt(t, cfg)
 	defer stop()

@@ -10,7 +10,7 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/daq/sim"
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 )
 
 const reloadConfig = `listen: %s

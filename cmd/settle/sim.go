@@ -12,7 +12,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"github.com/settle-lab/settle/daq/sim"
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 )
 
 func init() { subcommands = append(subcommands, newSimCmd) }

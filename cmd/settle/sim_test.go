@@ -10,8 +10,8 @@ import (
 	"testing"
 	"time"
 
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/daq"
-	"github.com/settle-lab/settle/daq/sim"
 )
 
 // demoParser parses lines as the demo configuration tells the daemon to.
@@ -112,7 +112,7 @@ func TestSimPTY(t *testing.T) {
 		t.Fatalf("link %s -> %q (%v), want the printed path %q", link, target, err, path)
 	}
 	lg := sim.DemoScenario().DemoConfig(link).Loggers[0]
-	src, err := daq.NewLineSource(lg, nil)
+	src, err := daq.NewLineSource(lg.Logger, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

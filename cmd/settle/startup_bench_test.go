@@ -35,8 +35,8 @@ func BenchmarkStartup(b *testing.B) {
 	fillJournal(b, dir, n, chans)
 	p := ptytest.Open(b) // a logger that is plugged in but sends nothing
 	cfg := &config.Config{Listen: "127.0.0.1:0", DataDir: dir,
-		Loggers: []config.Logger{{Name: "rack", Port: p.Path(), Format: "line",
-			Line: config.LineFormat{Columns: []config.Column{{Index: 1, Channel: "spec-0"}}}}}}
+		Loggers: []config.Logger{{Logger: daq.Logger{Name: "rack", Port: p.Path(), Format: "line",
+			Line: daq.LineFormat{Columns: []daq.Column{{Index: 1, Channel: "spec-0"}}}}}}}
 	for i := range chans {
 		cfg.Channels = append(cfg.Channels, config.Channel{Name: fmt.Sprintf("spec-%d", i),
 			Targets: []config.Target{{Name: "handling", Celsius: ptrTo(50.0), Handling: true}}})

@@ -7,11 +7,10 @@ import (
 	"strconv"
 	"sync"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 )
 
-// Defaults for the zero values of Options (and of config.Cleaning).
+// Defaults for the zero values of Options.
 const (
 	// DefaultSpikeWindow is the Hampel window length in readings.
 	DefaultSpikeWindow = 7
@@ -32,24 +31,43 @@ const (
 // noise: 1/Φ⁻¹(3/4) ≈ 1.4826 (Rousseeuw and Croux, JASA 1993; from memory).
 const madScale = 1.4826
 
-// Options tune one logger's checks. The zero value means the defaults.
+// Options tune one logger's checks: its clean section of the configuration (config
+// embeds it). The zero value means the defaults.
 type Options struct {
-	// SpikeWindow is the odd Hampel window length in readings (0: 7; 1: no spike check).
-	SpikeWindow int
-	// SpikeSigmas is the threshold in robust standard deviations (0: 3).
-	SpikeSigmas float64
-	// SpikeMinCelsius is the smallest deviation called a spike (0: 0.5 °C).
-	SpikeMinCelsius float64
-	// StuckCount flags the N-th identical value in a row as stuck (0: off).
-	StuckCount int
-	// MinCelsius and MaxCelsius bound a plausible reading (nil: −273.15 and 2000 °C).
-	MinCelsius, MaxCelsius *float64
+	// SpikeWindow is the Hampel window length in readings, odd (default 7; 1 turns
+	// the spike check off). Readings leave the cleaner (SpikeWindow−1)/2 readings late.
+	SpikeWindow int `mapstructure:"spike_window"`
+	// SpikeSigmas is the Hampel threshold in robust standard deviations (default 3).
+	SpikeSigmas float64 `mapstructure:"spike_sigmas"`
+	// SpikeMinCelsius is the smallest deviation ever called a spike (default 0.5 °C),
+	// so that a quiet, quantised signal is not flagged on every step.
+	SpikeMinCelsius float64 `mapstructure:"spike_min_celsius"`
+	// StuckCount flags a reading as stuck when it is the N-th identical value in a row
+	// (default 0: off; set it where noise is expected in the last digit).
+	StuckCount int `mapstructure:"stuck_count"`
+	// MinCelsius and MaxCelsius bound a plausible reading; outside is out of range
+	// (defaults −273.15 and 2000).
+	MinCelsius *float64 `mapstructure:"min_celsius"`
+	MaxCelsius *float64 `mapstructure:"max_celsius"`
 }
 
-// OptionsFrom returns the options of a logger's clean section.
-func OptionsFrom(c config.Cleaning) Options {
-	return Options{SpikeWindow: c.SpikeWindow, SpikeSigmas: c.SpikeSigmas, SpikeMinCelsius: c.SpikeMinCelsius,
-		StuckCount: c.StuckCount, MinCelsius: c.MinCelsius, MaxCelsius: c.MaxCelsius}
+// Check reports what is wrong with o, found at key (e.g. "loggers[0].clean").
+func (o Options) Check(c daq.Checker, key string) {
+	if o.SpikeWindow < 0 || (o.SpikeWindow > 0 && o.SpikeWindow%2 == 0) || o.SpikeWindow > 101 {
+		c.Add(key+".spike_window", "must be odd, 1–101 (1: off; absent: 7), got %d", o.SpikeWindow)
+	}
+	if o.SpikeSigmas < 0 {
+		c.Add(key+".spike_sigmas", "must not be negative (absent: 3), got %g", o.SpikeSigmas)
+	}
+	if o.SpikeMinCelsius < 0 {
+		c.Add(key+".spike_min_celsius", "must not be negative (absent: 0.5), got %g", o.SpikeMinCelsius)
+	}
+	if o.StuckCount < 0 || o.StuckCount == 1 {
+		c.Add(key+".stuck_count", "must be 0 (off) or ≥ 2, got %d", o.StuckCount)
+	}
+	if o.MinCelsius != nil && o.MaxCelsius != nil && *o.MinCelsius >= *o.MaxCelsius {
+		c.Add(key, "min_celsius (%g) must be less than max_celsius (%g)", *o.MinCelsius, *o.MaxCelsius)
+	}
 }
 
 // settings are Options with defaults filled in.
@@ -92,12 +110,12 @@ type Cleaner struct {
 // statusCount bounds the statuses counted (daq.StatusClock is the last one).
 const statusCount = int(daq.StatusClock) + 1
 
-// New returns a cleaner with each logger's clean section; readings of a logger not
-// in loggers get the defaults.
-func New(loggers []config.Logger) *Cleaner {
+// New returns a cleaner with each logger's options, by logger name; readings of a
+// logger not in byLogger get the defaults.
+func New(byLogger map[string]Options) *Cleaner {
 	c := NewWithOptions(Options{})
-	for _, l := range loggers {
-		c.byLogger[l.Name] = OptionsFrom(l.Clean).settings()
+	for name, o := range byLogger {
+		c.byLogger[name] = o.settings()
 	}
 	return c
 }

@@ -6,7 +6,6 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 )
 
@@ -146,7 +145,7 @@ func TestStuck(t *testing.T) {
 	for i, v := range []float64{50.1, 50.2, 50.2, 50.2, 50.2, 50.2, 50.3, 50.3} {
 		rs = append(rs, reading("bath", i, v))
 	}
-	out := run(New([]config.Logger{{Name: "rack", Clean: config.Cleaning{StuckCount: 4, SpikeWindow: 1}}}), rs)
+	out := run(New(map[string]Options{"rack": {StuckCount: 4, SpikeWindow: 1}}), rs)
 	got := statuses(out)[daq.StatusStuck]
 	if len(got) != 2 || got[0] != 4 || got[1] != 5 {
 		t.Errorf("stuck at %v, want [4 5] (4th and 5th identical 50.2)", got)

@@ -2,10 +2,10 @@ package clean
 
 import (
 	"cmp"
+	"maps"
 	"sync"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 )
 
@@ -38,6 +38,9 @@ type ClockOptions struct {
 	Pace float64
 	// Confirm is how many consistent readings accept a new clock (0: 5).
 	Confirm int
+	// Calendar holds the loggers whose readings carry a calendar clock (unix, rfc3339
+	// or a layout; daq.LineFormat.CalendarClock), by name: MaxAhead applies to them.
+	Calendar map[string]bool
 }
 
 // ClockCheck flags readings whose time jumps far ahead (daq.StatusClock): a reading
@@ -56,19 +59,14 @@ type clockState struct {
 	candN          int
 }
 
-// NewClockCheck returns a check for the given loggers: the wall-clock bound applies
-// to loggers whose clock field is a calendar time, the neighbour bound to every channel.
-func NewClockCheck(loggers []config.Logger, o ClockOptions) *ClockCheck {
+// NewClockCheck returns a check with options o: the wall-clock bound applies to the
+// loggers in o.Calendar, the neighbour bound to every channel.
+func NewClockCheck(o ClockOptions) *ClockCheck {
 	o.MaxAhead = cmp.Or(o.MaxAhead, DefaultMaxAhead)
 	o.MaxJump = cmp.Or(o.MaxJump, DefaultMaxJump)
 	o.Pace = cmp.Or(o.Pace, DefaultPace)
 	o.Confirm = cmp.Or(o.Confirm, DefaultConfirm)
-	c := &ClockCheck{opt: o, calendar: map[string]bool{}, chans: map[key]*clockState{}}
-	for _, l := range loggers {
-		f := l.Line.ClockFormat
-		c.calendar[l.Name] = l.Line.ClockColumn != 0 && f != "" && f != "seconds"
-	}
-	return c
+	return &ClockCheck{opt: o, calendar: maps.Clone(o.Calendar), chans: map[key]*clockState{}}
 }
 
 // Check returns r, with StatusClock when r is OK but its time is implausible at wall

@@ -4,15 +4,18 @@ import (
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 )
 
 func TestClockCheck(t *testing.T) {
 	wall := time.Date(2026, 5, 1, 10, 0, 0, 0, time.UTC)
-	loggers := []config.Logger{
-		{Name: "cal", Line: config.LineFormat{ClockColumn: 1, ClockFormat: "unix"}},
-		{Name: "rel", Line: config.LineFormat{ClockColumn: 1}},
+	loggers := []daq.Logger{
+		{Name: "cal", Line: daq.LineFormat{ClockColumn: 1, ClockFormat: "unix"}},
+		{Name: "rel", Line: daq.LineFormat{ClockColumn: 1}},
+	}
+	calendar := map[string]bool{}
+	for _, l := range loggers {
+		calendar[l.Name] = l.Line.CalendarClock()
 	}
 	type step struct {
 		logger string
@@ -55,7 +58,7 @@ func TestClockCheck(t *testing.T) {
 		}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			c := NewClockCheck(loggers, ClockOptions{})
+			c := NewClockCheck(ClockOptions{Calendar: calendar})
 			for i, s := range tc.steps {
 				now := wall.Add(time.Duration(s.wallS) * time.Second)
 				r := daq.Reading{Logger: s.logger, Channel: "c1", Time: now.Add(s.ahead), Celsius: 300, Status: daq.StatusOK}

@@ -202,8 +202,8 @@ func knownKeys(root reflect.Type, path string) []string {
 		return nil
 	}
 	var keys []string
-	for i := range t.NumField() {
-		if tag := t.Field(i).Tag.Get("mapstructure"); tag != "-" {
+	for _, f := range keyFields(t) {
+		if tag := f.Tag.Get("mapstructure"); tag != "-" {
 			keys = append(keys, tag)
 		}
 	}
@@ -215,12 +215,28 @@ func fieldByTag(t reflect.Type, tag string) (reflect.StructField, bool) {
 	if t.Kind() != reflect.Struct {
 		return reflect.StructField{}, false
 	}
-	for i := range t.NumField() {
-		if t.Field(i).Tag.Get("mapstructure") == tag {
-			return t.Field(i), true
+	for _, f := range keyFields(t) {
+		if f.Tag.Get("mapstructure") == tag {
+			return f, true
 		}
 	}
 	return reflect.StructField{}, false
+}
+
+// keyFields lists the fields of struct t that are keys, with the fields of an
+// embedded struct tagged ",squash" (config.Logger's daq.Logger) in its place, as
+// mapstructure reads them.
+func keyFields(t reflect.Type) []reflect.StructField {
+	var out []reflect.StructField
+	for i := range t.NumField() {
+		f := t.Field(i)
+		if f.Anonymous && f.Tag.Get("mapstructure") == ",squash" {
+			out = append(out, keyFields(f.Type)...)
+			continue
+		}
+		out = append(out, f)
+	}
+	return out
 }
 
 // yamlLine matches one located message of go.yaml.in/yaml/v3: "yaml: line 3: …" for

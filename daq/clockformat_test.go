@@ -1,4 +1,4 @@
-package config
+package daq
 
 import (
 	"bufio"
@@ -86,6 +86,8 @@ func TestStrftimeErrors(t *testing.T) {
 		{"%Y_%d", "tokens run together"},
 		{"%%", "has no date or time token"},
 		{"%A %p %z", "has no date or time token"},
+		{"%Y-%m-%d %H:%M:%S (%H)", `%H repeats a field already in "%Y-%m-%d %H:%M:%S (%H)"`},
+		{"%Y-%m-%d %H:%M:%S %z %:z", "%:z repeats a field"}, // both are the zone offset
 	} {
 		_, err := StrftimeLayout(c.format)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
@@ -138,34 +140,6 @@ func FuzzStrftimeLayout(f *testing.F) {
 	})
 }
 
-// Every worked example in the example configuration's clock_format table reads its
-// sample timestamp (so the comments stay true).
-func TestExampleClockFormats(t *testing.T) {
-	n := 0
-	for _, line := range strings.Split(Example, "\n") {
-		line = strings.TrimSpace(strings.TrimPrefix(strings.TrimSpace(line), "#"))
-		q := strings.Index(line, `"%`)
-		if q < 0 || !strings.HasPrefix(line, "20") && !strings.HasPrefix(line, "0") && !strings.HasPrefix(line, "1") {
-			continue
-		}
-		value := strings.TrimSpace(line[:q])
-		format := line[q+1:]
-		format = format[:strings.Index(format, `"`)]
-		layout, err := ClockFormatLayout(format)
-		if err != nil {
-			t.Errorf("example %q: %v", format, err)
-			continue
-		}
-		if _, err := time.Parse(layout, value); err != nil {
-			t.Errorf("example %q cannot read its sample %q: %v", format, value, err)
-		}
-		n++
-	}
-	if n != 6 {
-		t.Errorf("checked %d worked examples, want the 6 of example.yaml", n)
-	}
-}
-
 // TestClockFormatsMustPlaceReadings: a clock format without a full date and time is
 // refused (every reading would be dated year 0, or lose its hour); a logger clock marked
 // UTC by a literal Z, UTC or GMT is read as UTC whatever the host's zone (Berlin here:
@@ -206,6 +180,22 @@ func TestClockFormatsMustPlaceReadings(t *testing.T) {
 		got, err := time.ParseInLocation(layout, c.text, berlin)
 		if err != nil || !got.Equal(want) {
 			t.Errorf("%q on %q in Berlin: %v (%v), want %v", c.format, c.text, got.UTC(), err, want)
+		}
+	}
+}
+
+func TestClockLayout(t *testing.T) {
+	tests := []struct {
+		in, want string
+		ok       bool
+	}{
+		{"", "", true}, {"seconds", "", true}, {"UNIX", "", true},
+		{"rfc3339", time.RFC3339, true}, {"2006-01-02 15:04", "2006-01-02 15:04", true},
+		{"dd.mm.yyyy", "", false}, {"now", "", false},
+	}
+	for _, tt := range tests {
+		if got, ok := ClockLayout(tt.in); got != tt.want || ok != tt.ok {
+			t.Errorf("ClockLayout(%q) = %q, %v; want %q, %v", tt.in, got, ok, tt.want, tt.ok)
 		}
 	}
 }

@@ -5,7 +5,7 @@ import (
 	"os"
 	"time"
 
-	"github.com/settle-lab/settle/daq/sim"
+	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 )
 
 // Six physical seconds of the demo rack, written as fast as possible.

@@ -19,4 +19,8 @@
 // The first field is the logger's own clock in seconds, so a time-lapse run keeps
 // physical time; Run paces lines by that clock divided by Options.Speed. Replay streams
 // a recorded curve (CSV t_s,temp_c,ambient_c) the same way.
+//
+// The package sits beside settle's command, its only user, rather than in daq: it
+// models specimens with predict's materials and surface physics, and acquisition
+// imports nothing of predict.
 package sim

@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/predict/material"
 	"github.com/settle-lab/settle/predict/surface"
 )
@@ -193,13 +194,13 @@ func (s Scenario) DemoConfig(port string) config.Config {
 func lineConfig(logger, port string, specimens []string, ambient string) config.Config {
 	cfg := config.Config{
 		Listen:  DemoListen,
-		Loggers: []config.Logger{{Name: logger, Port: port, Format: "line"}},
+		Loggers: []config.Logger{{Logger: daq.Logger{Name: logger, Port: port, Format: "line"}}},
 	}
 	lf := &cfg.Loggers[0].Line
 	lf.Separator = ","
 	lf.ClockColumn = 1
 	for i, ch := range append(specimens, ambient) {
-		lf.Columns = append(lf.Columns, config.Column{Index: i + 2, Channel: ch})
+		lf.Columns = append(lf.Columns, daq.Column{Index: i + 2, Channel: ch})
 	}
 	for _, ch := range specimens {
 		handling, within := float64(HandlingC), float64(SettledWithinC)

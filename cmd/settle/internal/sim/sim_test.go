@@ -195,7 +195,7 @@ func TestNoiseAndSeed(t *testing.T) {
 }
 
 func TestReplayEmitsEmptyFields(t *testing.T) {
-	r, err := OpenReplay(filepath.Join("..", "..", "testdata", "daq", "replay-small.csv"))
+	r, err := OpenReplay(filepath.Join("..", "..", "..", "..", "testdata", "daq", "replay-small.csv"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -302,7 +302,7 @@ func TestPTYEndToEnd(t *testing.T) {
 	defer p.Close()
 	sc := DemoScenario()
 	cfg := sc.DemoConfig(p.Path())
-	src, err := daq.NewLineSource(cfg.Loggers[0], nil)
+	src, err := daq.NewLineSource(cfg.Loggers[0].Logger, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,4 +1,4 @@
-package config
+package daq
 
 import (
 	"errors"
@@ -73,7 +73,9 @@ func StrftimeLayout(format string) (string, error) {
 		if tok == "f" && !strings.HasSuffix(layout.String(), ".") && !strings.HasSuffix(layout.String(), ",") {
 			return "", errors.New(`%f (fractional seconds) must follow a "." or ",", as in %S.%f`)
 		}
-		seen[tok] = true
+		if err := once(seen, tok, format); err != nil {
+			return "", err
+		}
 		layout.WriteString(strftimeElems[tok])
 		want.WriteString(strftimeRef[tok])
 	}
@@ -87,6 +89,17 @@ func StrftimeLayout(format string) (string, error) {
 		return "", err
 	}
 	return checkLayout(format, layout.String(), want.String())
+}
+
+// once records tok in seen and refuses a token whose field was given before (Python's
+// strptime refuses a repeated directive too, "redefinition of group name"): a second
+// value of one field would silently win over the first. %z and %:z are one field.
+func once(seen map[string]bool, tok, format string) error {
+	if seen[tok] || (tok == "z" && seen[":z"]) || (tok == ":z" && seen["z"]) {
+		return fmt.Errorf("%%%s repeats a field already in %q; give each of date, time and zone once", tok, format)
+	}
+	seen[tok] = true
+	return nil
 }
 
 // nextToken returns the token after the '%' at format[i]: a letter, ":z" or "%".
@@ -150,3 +163,94 @@ func checkLayout(format, layout, want string) (string, error) {
 	}
 	return layout, nil
 }
+
+// namedLayouts are the clock formats with a name, lower case; "" and "seconds" are the
+// relative clock and "unix" seconds since 1970, which have no layout.
+var namedLayouts = map[string]string{
+	"rfc3339":     time.RFC3339,
+	"rfc3339nano": time.RFC3339Nano,
+	"datetime":    time.DateTime,
+}
+
+// ClockLayout returns the Go time layout for a clock_format. It returns "" and true
+// for the number formats ("", "seconds", "unix"), the layout and true for a named
+// format, a strftime-style format (with '%') or a Go layout with at least a date or
+// time element, and false otherwise. ClockFormatLayout says why a format is refused.
+func ClockLayout(format string) (string, bool) {
+	layout, err := ClockFormatLayout(format)
+	return layout, err == nil
+}
+
+// ClockFormatLayout is ClockLayout with the reason a format is refused: for a
+// strftime-style format, the token or text that cannot be converted.
+func ClockFormatLayout(format string) (string, error) {
+	switch lower := strings.ToLower(format); lower {
+	case "", "seconds", "unix":
+		return "", nil
+	default:
+		if l, ok := namedLayouts[lower]; ok {
+			return l, nil
+		}
+	}
+	layout := format
+	if strings.Contains(format, "%") {
+		l, err := StrftimeLayout(format)
+		if err != nil {
+			return "", err
+		}
+		layout = l
+	} else {
+		// A layout must change when a time is formatted with it, and read back.
+		ref := time.Date(2009, 11, 10, 23, 0, 1, 0, time.UTC)
+		s := ref.Format(format)
+		if s == format {
+			return "", errNotClockFormat
+		}
+		if _, err := time.Parse(format, s); err != nil {
+			return "", errNotClockFormat
+		}
+	}
+	if err := completeLayout(format, layout); err != nil {
+		return "", err
+	}
+	return utcSuffix(layout), nil
+}
+
+// completeLayout refuses a layout that cannot place a reading in time: without a year,
+// month, day, hour or minute every reading would get a made-up date (year 0) or lose
+// its hour, and nothing downstream could tell.
+func completeLayout(format, layout string) error {
+	ref := time.Date(2026, 3, 14, 14, 5, 9, 0, time.UTC)
+	var missing []string
+	for _, c := range []struct {
+		what string
+		t    time.Time
+	}{
+		{"the year", ref.AddDate(1, 0, 0)}, {"the month", ref.AddDate(0, 1, 0)}, {"the day", ref.AddDate(0, 0, 1)},
+		{"the hour", ref.Add(time.Hour)}, {"the minutes", ref.Add(time.Minute)},
+	} {
+		if ref.Format(layout) == c.t.Format(layout) {
+			missing = append(missing, c.what)
+		}
+	}
+	if len(missing) == 0 {
+		return nil
+	}
+	return fmt.Errorf("%q leaves out %s: every reading would get a made-up date or time; give the logger's full date and time, or leave clock_column out (settle then stamps each line as it arrives)",
+		format, strings.Join(missing, ", "))
+}
+
+// utcSuffix makes a layout that ends in the literal text Z, UTC or GMT (a logger that
+// writes its clock in UTC and says so) read its times as UTC: as plain text the time
+// would be taken as the host's local time, off by the host's UTC offset.
+func utcSuffix(layout string) string {
+	switch {
+	case strings.HasSuffix(layout, "Z"):
+		return layout[:len(layout)-1] + "Z07:00"
+	case strings.HasSuffix(layout, "UTC"), strings.HasSuffix(layout, "GMT"):
+		return layout[:len(layout)-3] + "MST"
+	}
+	return layout
+}
+
+var errNotClockFormat = errors.New(`want seconds, unix, rfc3339, a strftime-style format such as "%Y-%m-%d %H:%M:%S" or a Go time layout such as "2006-01-02 15:04:05"`)
