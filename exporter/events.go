@@ -14,9 +14,10 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
+	"github.com/settle-lab/settle/internal/forecastjson"
 
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/httpjson"
 )
 
 // Event stream defaults.
@@ -156,7 +157,7 @@ func (b *broker) close() { b.closed.Do(func() { close(b.closing) }) }
 func readingEvent(r daq.Reading) ReadingEvent {
 	ev := ReadingEvent{Channel: r.Channel, Time: r.Time.UTC(), Status: r.Status.String()}
 	if r.OK() {
-		ev.Celsius = jsonval.Num(r.Celsius)
+		ev.Celsius = forecastjson.Num(r.Celsius)
 	}
 	return ev
 }
@@ -221,7 +222,7 @@ func (h *Handler) serveEvents(w http.ResponseWriter, r *http.Request) {
 			status = http.StatusTooManyRequests
 		}
 		w.Header().Set("Retry-After", "10")
-		writeError(w, status, err.Error())
+		httpjson.WriteError(w, status, err.Error())
 		return
 	}
 	defer h.broker.leave(c)

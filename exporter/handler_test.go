@@ -20,6 +20,7 @@ import (
 
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/httpjson"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -304,7 +305,7 @@ func TestSecurity(t *testing.T) {
 				t.Fatalf("%s %s = %d %s, want %d", c.method, c.target, w.Code, w.Body, c.want)
 			}
 			if c.want >= 400 && strings.HasPrefix(w.Header().Get("Content-Type"), "application/json") {
-				var e ErrorJSON
+				var e httpjson.Error
 				if err := json.Unmarshal(w.Body.Bytes(), &e); err != nil || !strings.Contains(e.Error, c.errText) {
 					t.Errorf("error body %s, want JSON error containing %q", w.Body, c.errText)
 				}
@@ -320,7 +321,7 @@ func TestSecurity(t *testing.T) {
 
 func TestRunsHookAndPage(t *testing.T) {
 	runs := http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		WriteJSON(w, 200, map[string]string{"path": r.URL.Path})
+		httpjson.Write(w, 200, map[string]string{"path": r.URL.Path})
 	})
 	h := newTestHandler(curveState(), Options{Runs: runs, Display: config.Display{Units: "F"}})
 	for _, p := range []string{"/api/v1/runs", "/api/v1/runs/7/summary.json"} {
@@ -330,7 +331,7 @@ func TestRunsHookAndPage(t *testing.T) {
 	}
 	page := do(t, h, "GET", "/", "", "")
 	body := page.Body.String()
-	if page.Code != 200 || !strings.Contains(body, `data-units="F"`) || !strings.Contains(body, HandlingCautions[1]) {
+	if page.Code != 200 || !strings.Contains(body, `data-units="F"`) || !strings.Contains(body, predict.HandlingCautions[1]) {
 		t.Errorf("page = %d, units or cautions missing", page.Code)
 	}
 	if csp := page.Header().Get("Content-Security-Policy"); !strings.Contains(csp, "default-src 'self'") {

@@ -6,7 +6,7 @@ import (
 	"math"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/notify"
+	"github.com/settle-lab/settle/notify"
 )
 
 // Run polls the state every PollInterval until ctx ends: changed forecasts and faults

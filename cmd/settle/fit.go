@@ -15,9 +15,8 @@ import (
 	"github.com/spf13/cobra"
 	"gonum.org/v1/plot/vg"
 
-	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
 )
 
 func init() { subcommands = append(subcommands, newFitCmd) }
@@ -306,7 +305,7 @@ func (res *fitResult) toJSON() fitJSON {
 			j.DueS = finite(res.fileTime(due))
 		}
 		if tg.Target.Handling {
-			j.Cautions = exporter.HandlingCautions
+			j.Cautions = predict.HandlingCautions
 		}
 		if tg.State == predict.StatePredicted || tg.State == predict.StateHolding {
 			j.EarliestS, j.LatestS = finite(res.fileTime(tg.Earliest)), finite(res.fileTime(tg.Latest))
@@ -361,7 +360,7 @@ func (res *fitResult) writeText(w io.Writer) error {
 	}
 	if handling {
 		fmt.Fprintln(&b, "Handling cautions:")
-		for _, c := range exporter.HandlingCautions {
+		for _, c := range predict.HandlingCautions {
 			fmt.Fprintf(&b, "  - %s\n", c)
 		}
 	}
@@ -407,7 +406,7 @@ func (res *fitResult) plot(path string) error {
 		Origin:      res.origin,
 		OriginLabel: "t_s = 0",
 		Forecast:    res.forecast,
-		Cautions:    exporter.HandlingCautions,
+		Cautions:    predict.HandlingCautions,
 	}
 	for i, t := range res.whole.Times {
 		f.Readings = append(f.Readings, report.Sample{Time: res.origin.Add(secondsDur(t)), Celsius: res.whole.Celsius[i]})

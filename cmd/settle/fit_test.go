@@ -11,7 +11,7 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/predict"
 )
 
 // runFit runs `settle fit` with args through the root command, as a user would.
@@ -131,7 +131,7 @@ func TestFitJSONContract(t *testing.T) {
 		if g.Kind != kinds[g.Name] {
 			t.Errorf("%s: kind %q, want %q", g.Name, g.Kind, kinds[g.Name])
 		}
-		if (g.Kind == "handling") != (len(g.Cautions) == len(exporter.HandlingCautions)) {
+		if (g.Kind == "handling") != (len(g.Cautions) == len(predict.HandlingCautions)) {
 			t.Errorf("%s (%s): %d cautions", g.Name, g.Kind, len(g.Cautions))
 		}
 	}

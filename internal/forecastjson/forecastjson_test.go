@@ -1,4 +1,4 @@
-package jsonval
+package forecastjson
 
 import (
 	"encoding/json"

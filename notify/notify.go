@@ -7,7 +7,7 @@ import (
 	"sync"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
+	"github.com/settle-lab/settle/internal/forecastjson"
 
 	"github.com/prometheus/client_golang/prometheus"
 
@@ -271,19 +271,19 @@ func (h *hook) faultEvent(ch Channel) (Event, bool) {
 	}
 	h.faults[ch.Name] = key
 	return Event{ID: key, Kind: KindFault, Channel: ch.Name, Time: ch.Now.UTC(), Fault: ch.Fault,
-		Celsius: jsonval.Num(ch.Celsius),
+		Celsius: forecastjson.Num(ch.Celsius),
 		Message: fmt.Sprintf("%s: fault %s: %s", ch.Name, ch.Fault, ch.FaultDetail)}, true
 }
 
 func targetEvent(key string, kind Kind, ch Channel, tg Target, cautions []string) Event {
 	ev := Event{ID: key, Kind: kind, Channel: ch.Name, Target: tg.Name, Time: ch.Now.UTC(),
-		At: jsonval.Time(tg.At), Earliest: jsonval.Time(tg.Earliest), Latest: jsonval.Time(tg.Latest),
-		Celsius: jsonval.Num(ch.Celsius), TargetCelsius: jsonval.Num(tg.Celsius)}
+		At: forecastjson.Time(tg.At), Earliest: forecastjson.Time(tg.Earliest), Latest: forecastjson.Time(tg.Latest),
+		Celsius: forecastjson.Num(ch.Celsius), TargetCelsius: forecastjson.Num(tg.Celsius)}
 	if tg.Handling {
 		ev.Cautions = cautions
 	}
 	temp := "its target"
-	if v := jsonval.Num(tg.Celsius); v != nil {
+	if v := forecastjson.Num(tg.Celsius); v != nil {
 		temp = fmt.Sprintf("%.1f °C", *v)
 	}
 	if kind == KindReached {
