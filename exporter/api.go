@@ -5,6 +5,7 @@ import (
 
 	"github.com/settle-lab/settle/internal/forecastjson"
 
+	"github.com/settle-lab/settle/internal/jsonval"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -72,7 +73,7 @@ func channelJSON(s State, ch predict.ChannelState, now time.Time) ChannelJSON {
 		if r, ok := s.Latest.Get(ch.Name); ok {
 			out.Latest = &ReadingJSON{Time: r.Time.UTC(), Status: r.Status.String(), Raw: r.Raw}
 			if r.OK() {
-				out.Latest.Celsius = forecastjson.Num(r.Celsius)
+				out.Latest.Celsius = jsonval.Num(r.Celsius)
 			}
 		}
 	}

@@ -14,10 +14,9 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 
-	"github.com/settle-lab/settle/internal/forecastjson"
-
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/internal/jsonval"
 )
 
 // Event stream defaults.
@@ -157,7 +156,7 @@ func (b *broker) close() { b.closed.Do(func() { close(b.closing) }) }
 func readingEvent(r daq.Reading) ReadingEvent {
 	ev := ReadingEvent{Channel: r.Channel, Time: r.Time.UTC(), Status: r.Status.String()}
 	if r.OK() {
-		ev.Celsius = forecastjson.Num(r.Celsius)
+		ev.Celsius = jsonval.Num(r.Celsius)
 	}
 	return ev
 }

@@ -4,9 +4,8 @@ import (
 	"fmt"
 	"time"
 
-	"github.com/settle-lab/settle/internal/forecastjson"
-
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/jsonval"
 )
 
 // DefaultStaleAfter is the shortest silence after which a channel is reported stale.
@@ -47,12 +46,12 @@ func channelFault(s State, channel string, now time.Time) *FaultJSON {
 		return nil
 	}
 	if p, down := portDown(s, rc.Logger); down {
-		return &FaultJSON{Kind: FaultPortDown, Since: forecastjson.Time(rc.Received),
+		return &FaultJSON{Kind: FaultPortDown, Since: jsonval.Time(rc.Received),
 			Detail: fmt.Sprintf("logger %s: port %s is not open; settle keeps retrying", p.Logger, p.Port)}
 	}
 	limit := staleLimit(s.StaleAfter, rc.MeanGap)
 	if age := now.Sub(rc.Received); age > limit {
-		return &FaultJSON{Kind: FaultStale, Since: forecastjson.Time(rc.Received),
+		return &FaultJSON{Kind: FaultStale, Since: jsonval.Time(rc.Received),
 			Detail: fmt.Sprintf("no reading for %s (limit %s)", age.Round(time.Second), limit.Round(time.Second))}
 	}
 	r, _ := s.Latest.Get(channel)
@@ -69,7 +68,7 @@ func channelFault(s State, channel string, now time.Time) *FaultJSON {
 	if r.Raw != "" {
 		detail += fmt.Sprintf(" (logger sent %q)", r.Raw)
 	}
-	return &FaultJSON{Kind: r.Status.String(), Since: forecastjson.Time(rc.FaultSince), Detail: detail}
+	return &FaultJSON{Kind: r.Status.String(), Since: jsonval.Time(rc.FaultSince), Detail: detail}
 }
 
 // staleLimit is the silence after which a channel is stale: min, or five mean gaps.

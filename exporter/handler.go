@@ -15,7 +15,6 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/internal/httpjson"
 	"github.com/settle-lab/settle/notify"
@@ -31,12 +30,12 @@ type Options struct {
 	// Token is the bearer token every state-changing request (any method other than
 	// GET, HEAD and OPTIONS) must carry. Empty: such requests are refused.
 	Token string
-	// Display sets the status page's units (metrics and the API stay in °C).
-	Display config.Display
+	// Display sets how the status page shows values (metrics and the API stay in °C).
+	Display Display
 	// Runs, when set, serves /api/v1/runs and everything below it.
 	Runs http.Handler
 	// Webhooks receive notifications (config notify.webhooks).
-	Webhooks []config.Webhook
+	Webhooks []notify.Webhook
 	// Notify tunes the notifier (retries, client); its Registerer and Cautions are set
 	// by NewHandler.
 	Notify notify.Options
@@ -66,6 +65,16 @@ type Options struct {
 	// Health adds fields to /healthz (the daemon: whether the start-up replay of the
 	// journal is done). Nil adds none.
 	Health func() map[string]any
+}
+
+// Display is how the status page shows values; the daemon copies it from its
+// configuration (config.Display).
+type Display struct {
+	// Fahrenheit shows temperatures in °F (default °C).
+	Fahrenheit bool
+	// TimeLapse is the simulated rack's speed under `settle run --demo`, physical
+	// seconds per wall second, which the page shows as a badge; 0: real time.
+	TimeLapse float64
 }
 
 // Handler is the daemon's HTTP handler:

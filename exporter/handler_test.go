@@ -18,9 +18,9 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/notify"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -323,7 +323,7 @@ func TestRunsHookAndPage(t *testing.T) {
 	runs := http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		httpjson.Write(w, 200, map[string]string{"path": r.URL.Path})
 	})
-	h := newTestHandler(curveState(), Options{Runs: runs, Display: config.Display{Units: "F"}})
+	h := newTestHandler(curveState(), Options{Runs: runs, Display: Display{Fahrenheit: true}})
 	for _, p := range []string{"/api/v1/runs", "/api/v1/runs/7/summary.json"} {
 		if w := do(t, h, "GET", p, "", ""); w.Code != 200 || !strings.Contains(w.Body.String(), p) {
 			t.Errorf("GET %s = %d %s, want the runs handler", p, w.Code, w.Body)
@@ -485,7 +485,7 @@ func TestNotificationsFromPolls(t *testing.T) {
 	defer recv.Close()
 	s := curveState()
 	h := newTestHandler(s, Options{PollInterval: 10 * time.Millisecond,
-		Webhooks: []config.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"fault"}}}})
+		Webhooks: []notify.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"fault"}}}})
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
 	go h.Run(ctx)
@@ -519,7 +519,7 @@ func mustQuery(t *testing.T, q string) url.Values {
 // which is built by the same function).
 func TestChannelsDemo(t *testing.T) {
 	for _, speed := range []float64{0, 60} {
-		h := newTestHandler(curveState(), Options{Display: config.Display{TimeLapse: speed}})
+		h := newTestHandler(curveState(), Options{Display: Display{TimeLapse: speed}})
 		w := do(t, h, "GET", "/api/v1/channels", "", "")
 		var body map[string]json.RawMessage
 		if err := json.Unmarshal(w.Body.Bytes(), &body); err != nil {

@@ -25,7 +25,7 @@ type pageData struct {
 // servePage renders the status page; the script fills it from the API.
 func (h *Handler) servePage(w http.ResponseWriter, r *http.Request) {
 	units := "C"
-	if h.opt.Display.Fahrenheit() {
+	if h.opt.Display.Fahrenheit {
 		units = "F"
 	}
 	var buf bytes.Buffer

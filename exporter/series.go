@@ -10,6 +10,7 @@ import (
 	"github.com/settle-lab/settle/internal/forecastjson"
 
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/jsonval"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -52,7 +53,7 @@ func Detail(s State, name string, now time.Time) (ChannelDetail, bool) {
 	}
 	d := ChannelDetail{ChannelJSON: channelJSON(s, ch, now), Notes: []string{}, FaultCounts: map[string]uint64{}}
 	if f := ch.Forecast; f != nil {
-		d.Biot, d.Notes = forecastjson.Num(f.Biot), append(d.Notes, f.Notes...)
+		d.Biot, d.Notes = jsonval.Num(f.Biot), append(d.Notes, f.Notes...)
 		for _, p := range forecastjson.Params(f.Params) {
 			if p.Name == "h_w_m2k" {
 				d.H = &p
@@ -61,7 +62,7 @@ func Detail(s State, name string, now time.Time) (ChannelDetail, bool) {
 	}
 	if s.Latest != nil {
 		if rc, ok := s.Latest.Reception(name); ok {
-			d.Logger, d.LastReceived, d.History = rc.Logger, forecastjson.Time(rc.Received), rc.Kept
+			d.Logger, d.LastReceived, d.History = rc.Logger, jsonval.Time(rc.Received), rc.Kept
 		}
 		for _, fc := range s.Latest.Faults() {
 			if fc.Channel == name {

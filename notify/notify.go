@@ -7,11 +7,8 @@ import (
 	"sync"
 	"time"
 
-	"github.com/settle-lab/settle/internal/forecastjson"
-
 	"github.com/prometheus/client_golang/prometheus"
-
-	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/internal/jsonval"
 )
 
 // Kind is the kind of an event.
@@ -133,7 +130,7 @@ type Notifier struct {
 
 // hook is one webhook's queue and deduplication state.
 type hook struct {
-	cfg    config.Webhook
+	cfg    Webhook
 	kinds  map[Kind]bool
 	queue  chan Event
 	seen   map[string]map[string]bool // channel → keys of the current segment
@@ -143,7 +140,7 @@ type hook struct {
 
 // New returns a notifier for the configured webhooks. It registers its counters with
 // opt.Registerer and panics if they are already registered there (a wiring bug).
-func New(webhooks []config.Webhook, opt Options) *Notifier {
+func New(webhooks []Webhook, opt Options) *Notifier {
 	opt = withDefaults(opt)
 	vec := func(name, help string) *prometheus.CounterVec {
 		return prometheus.NewCounterVec(prometheus.CounterOpts{Name: name, Help: help}, []string{"webhook"})
@@ -194,7 +191,7 @@ func withDefaults(opt Options) Options {
 func kinds(events []string) map[Kind]bool {
 	out := map[Kind]bool{KindTest: true}
 	if len(events) == 0 {
-		events = []string{string(KindReached), string(KindSoon), string(KindFault)}
+		events = EventKinds
 	}
 	for _, e := range events {
 		out[Kind(e)] = true
@@ -271,19 +268,19 @@ func (h *hook) faultEvent(ch Channel) (Event, bool) {
 	}
 	h.faults[ch.Name] = key
 	return Event{ID: key, Kind: KindFault, Channel: ch.Name, Time: ch.Now.UTC(), Fault: ch.Fault,
-		Celsius: forecastjson.Num(ch.Celsius),
+		Celsius: jsonval.Num(ch.Celsius),
 		Message: fmt.Sprintf("%s: fault %s: %s", ch.Name, ch.Fault, ch.FaultDetail)}, true
 }
 
 func targetEvent(key string, kind Kind, ch Channel, tg Target, cautions []string) Event {
 	ev := Event{ID: key, Kind: kind, Channel: ch.Name, Target: tg.Name, Time: ch.Now.UTC(),
-		At: forecastjson.Time(tg.At), Earliest: forecastjson.Time(tg.Earliest), Latest: forecastjson.Time(tg.Latest),
-		Celsius: forecastjson.Num(ch.Celsius), TargetCelsius: forecastjson.Num(tg.Celsius)}
+		At: jsonval.Time(tg.At), Earliest: jsonval.Time(tg.Earliest), Latest: jsonval.Time(tg.Latest),
+		Celsius: jsonval.Num(ch.Celsius), TargetCelsius: jsonval.Num(tg.Celsius)}
 	if tg.Handling {
 		ev.Cautions = cautions
 	}
 	temp := "its target"
-	if v := forecastjson.Num(tg.Celsius); v != nil {
+	if v := jsonval.Num(tg.Celsius); v != nil {
 		temp = fmt.Sprintf("%.1f °C", *v)
 	}
 	if kind == KindReached {

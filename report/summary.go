@@ -9,6 +9,7 @@ import (
 	"github.com/settle-lab/settle/internal/forecastjson"
 
 	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/internal/jsonval"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -155,7 +156,7 @@ func modelOf(fc *predict.Forecast) *Model {
 	}
 	for _, p := range fc.Params {
 		if isH(p) {
-			m.HWm2K = forecastjson.Num(p.Value)
+			m.HWm2K = jsonval.Num(p.Value)
 		}
 	}
 	if m.HWm2K == nil {
@@ -171,24 +172,24 @@ func isH(p predict.Param) bool {
 }
 
 func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.Time, hist []journal.ForecastPoint) TargetSummary {
-	ts := TargetSummary{Name: tg.Name, Celsius: forecastjson.Num(tg.Celsius), Handling: tg.Handling, History: []HistoryPoint{}}
+	ts := TargetSummary{Name: tg.Name, Celsius: jsonval.Num(tg.Celsius), Handling: tg.Handling, History: []HistoryPoint{}}
 	if tg.IsWithin() {
-		ts.Within = forecastjson.Num(tg.Within)
+		ts.Within = jsonval.Num(tg.Within)
 	}
 	if fc != nil {
 		for _, tf := range fc.Targets {
 			if tf.Target.Name == tg.Name {
-				ts.Celsius, ts.State = forecastjson.Num(tf.Celsius), string(tf.State)
-				ts.PredictedAt, ts.Earliest, ts.Latest = forecastjson.Time(tf.At), forecastjson.Time(tf.Earliest), forecastjson.Time(tf.Latest)
+				ts.Celsius, ts.State = jsonval.Num(tf.Celsius), string(tf.State)
+				ts.PredictedAt, ts.Earliest, ts.Latest = jsonval.Time(tf.At), jsonval.Time(tf.Earliest), jsonval.Time(tf.Latest)
 				if tf.State == predict.StateReached && actual.IsZero() {
 					actual, ts.ActualEstimated = tf.At, tf.Estimated // not recorded yet
 				}
 			}
 		}
 	}
-	ts.Actual = forecastjson.Time(actual)
+	ts.Actual = jsonval.Time(actual)
 	if !actual.IsZero() {
-		ts.ActualElapsedS = forecastjson.Num(actual.Sub(start).Seconds())
+		ts.ActualElapsedS = jsonval.Num(actual.Sub(start).Seconds())
 	}
 	for _, p := range hist {
 		if p.Target == tg.Name {
@@ -200,11 +201,11 @@ func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.T
 }
 
 func historyPoint(p journal.ForecastPoint, actual time.Time) HistoryPoint {
-	h := HistoryPoint{Time: p.Time.UTC(), State: p.State, PredictedAt: forecastjson.Time(p.At), Earliest: forecastjson.Time(p.Earliest), Latest: forecastjson.Time(p.Latest)}
+	h := HistoryPoint{Time: p.Time.UTC(), State: p.State, PredictedAt: jsonval.Time(p.At), Earliest: jsonval.Time(p.Earliest), Latest: jsonval.Time(p.Latest)}
 	if actual.IsZero() || p.At.IsZero() || p.State == string(predict.StateReached) {
 		return h
 	}
-	h.ErrorS = forecastjson.Num(p.At.Sub(actual).Seconds())
+	h.ErrorS = jsonval.Num(p.At.Sub(actual).Seconds())
 	if !p.Earliest.IsZero() && !p.Latest.IsZero() {
 		in := !actual.Before(p.Earliest) && !actual.After(p.Latest)
 		h.Covered = &in

@@ -61,7 +61,7 @@ func TestAPIAgainstDemo(t *testing.T) {
 	defer recv.Close()
 	base, cfg := runDemoDaemon(t, func(c *config.Config) {
 		c.HTTP.Token = "demo-token"
-		c.Notify.Webhooks = []config.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"reached", "fault"}}}
+		c.Notify.Webhooks = []notify.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"reached", "fault"}}}
 	})
 	tile := "alumina-tile-d" // reaches 50 °C after about 13 s of wall time (daq/sim)
 	// Wait (a hang guard) for the tile's handling target to be reached.

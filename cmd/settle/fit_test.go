@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/settle-lab/settle/internal/forecastjson"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -44,9 +45,9 @@ func writeCurve(t *testing.T, step, end float64, fn func(s float64) string) stri
 // exponential is our own test curve: 20 + 180·exp(−t/600) °C, 0.1 °C steps.
 func exponential(s float64) float64 { return 20 + 180*math.Exp(-s/600) }
 
-func decodeFit(t *testing.T, out string) (fitJSON, map[string]json.RawMessage) {
+func decodeFit(t *testing.T, out string) (forecastjson.FileFit, map[string]json.RawMessage) {
 	t.Helper()
-	var got fitJSON
+	var got forecastjson.FileFit
 	var raw map[string]json.RawMessage
 	if err := json.Unmarshal([]byte(out), &got); err != nil {
 		t.Fatalf("output is not JSON: %v\n%s", err, out)

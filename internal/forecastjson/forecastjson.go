@@ -1,8 +1,6 @@
 // Package forecastjson is the one JSON form of settle's forecasts, shared by every
 // output that shows them: the daemon's API and event stream (exporter), run reports
-// (report) and `settle fit --json`. It also holds the small conversions every JSON
-// output shares: JSON has no NaN or infinity, and a missing time is null rather than
-// year 1.
+// (report) and `settle fit --json`. Unknown numbers and times are null (jsonval).
 //
 // The types say what they hold: Forecast is a fitted model, Param one fitted
 // parameter, TargetForecast the forecast of one target (when it is crossed), and
@@ -11,28 +9,11 @@
 package forecastjson
 
 import (
-	"math"
 	"time"
 
+	"github.com/settle-lab/settle/internal/jsonval"
 	"github.com/settle-lab/settle/predict"
 )
-
-// Num returns a pointer to v, or nil for NaN and infinities (encoded as null).
-func Num(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
-
-// Time returns t in UTC, or nil for the zero time (encoded as null).
-func Time(t time.Time) *time.Time {
-	if t.IsZero() {
-		return nil
-	}
-	u := t.UTC()
-	return &u
-}
 
 // Forecast is the fitted model of a channel.
 type Forecast struct {
@@ -52,8 +33,8 @@ type Forecast struct {
 // NewForecast is f in JSON form.
 func NewForecast(f *predict.Forecast) *Forecast {
 	return &Forecast{
-		Model: f.Model, Parameters: Params(f.Params), TimeConstantS: Num(f.TimeConstant.Seconds()),
-		AmbientC: Num(f.Ambient), RMSEC: Num(f.RMSE), Biot: Num(f.Biot),
+		Model: f.Model, Parameters: Params(f.Params), TimeConstantS: jsonval.Num(f.TimeConstant.Seconds()),
+		AmbientC: jsonval.Num(f.Ambient), RMSEC: jsonval.Num(f.RMSE), Biot: jsonval.Num(f.Biot),
 		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
 		FittedAt: f.FittedAt.UTC(), Notes: append([]string{}, f.Notes...),
 	}
@@ -72,7 +53,7 @@ type Param struct {
 func Params(ps []predict.Param) []Param {
 	out := make([]Param, 0, len(ps))
 	for _, p := range ps {
-		out = append(out, Param{Name: p.Name, Value: Num(p.Value), StdErr: Num(p.StdErr), Unit: p.Unit})
+		out = append(out, Param{Name: p.Name, Value: jsonval.Num(p.Value), StdErr: jsonval.Num(p.StdErr), Unit: p.Unit})
 	}
 	return out
 }
@@ -98,8 +79,8 @@ type TargetForecast struct {
 // NewTargetForecast is tf in JSON form.
 func NewTargetForecast(tf predict.TargetForecast) TargetForecast {
 	return TargetForecast{
-		Name: tf.Target.Name, Kind: tf.Target.Kind(), Celsius: Num(tf.Celsius),
-		State: string(tf.State), At: Time(tf.At), Earliest: Time(tf.Earliest),
-		Latest: Time(tf.Latest), Due: Time(tf.Due()), Estimated: tf.Estimated,
+		Name: tf.Target.Name, Kind: tf.Target.Kind(), Celsius: jsonval.Num(tf.Celsius),
+		State: string(tf.State), At: jsonval.Time(tf.At), Earliest: jsonval.Time(tf.Earliest),
+		Latest: jsonval.Time(tf.Latest), Due: jsonval.Time(tf.Due()), Estimated: tf.Estimated,
 	}
 }

@@ -1,4 +1,4 @@
-package forecastjson
+package jsonval
 
 import (
 	"encoding/json"
