@@ -502,7 +502,7 @@ func TestNotificationsFromPolls(t *testing.T) {
 		t.Errorf("a second notification %q: the fault was sent twice", ev)
 	case <-time.After(100 * time.Millisecond):
 	}
-	var _ prometheus.Collector // the counters are checked in exporter/notify
+	var _ prometheus.Collector // the counters are checked in notify
 }
 
 func mustQuery(t *testing.T, q string) url.Values {
