@@ -33,8 +33,8 @@ const (
 )
 
 // owners names the metrics each part exports, as exact names or name prefixes (ending
-// in _), in the order of the parts' names. A collector registered with a Registry
-// joins the part that owns its metrics' names.
+// in _). A collector registered with a Registry joins the part that owns its metrics'
+// names.
 var owners = []struct {
 	part  string
 	names []string
@@ -108,6 +108,7 @@ func NewRegistry(s State) *Registry {
 		p.reg.MustRegister(descsOnly(r.settle.descs(o.part)))
 		r.parts = append(r.parts, p)
 	}
+	slices.SortFunc(r.parts, func(a, b *part) int { return strings.Compare(a.name, b.name) }) // the scrape series' order
 	r.app.MustRegister(scrapeDescs())
 	r.runtime.MustRegister(collectors.NewGoCollector(),
 		collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
@@ -264,7 +265,7 @@ func scrapeDescs() descsOnly {
 }
 
 // scrapeFamilies builds the scrape's series from each part's time taken and success,
-// in the parts' order (their names' order).
+// in the parts' order (sorted by name).
 func scrapeFamilies(parts []*part, took []float64, ok []bool) []*dto.MetricFamily {
 	durs, succ := make([]*dto.Metric, len(parts)), make([]*dto.Metric, len(parts))
 	for i, p := range parts {
