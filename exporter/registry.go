@@ -72,7 +72,9 @@ func partOf(name string) string {
 // Register places a collector by its metrics' names: in the part that owns them (see
 // owners), else with settle's other metrics when they start with settle_, else with
 // the runtime's. A name is at home in one place only, so a collector that reuses a
-// name already there is refused, and no family is served twice.
+// name already there is refused, and no family is served twice. So the notifier's
+// counters, registered through NewHandler's Metrics, join the notifications part by
+// their settle_notify_ names, whichever package the notifier lives in.
 //
 // The channels' series (the Collector's) skip a registry's per-metric work (building,
 // checking and sorting every series on every scrape): the collector keeps each series
