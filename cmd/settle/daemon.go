@@ -34,6 +34,7 @@ type daemon struct {
 	replay  replayState
 	ln      net.Listener
 	srv     *exporter.Server
+	metrics *exporter.Registry
 }
 
 // newDaemon builds every source and the bench from cfg and binds the listen address, so
@@ -60,6 +61,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats, LoggerOf: cfg.ChannelLoggers(),
 		Acks: d.rec.acks()}
 	reg := exporter.NewRegistry(state)
+	reg.Log, d.metrics = log, reg
 	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
 	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)
 	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
