@@ -5,6 +5,7 @@ import (
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/clean"
+	"github.com/settle-lab/settle/notify"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -51,19 +52,7 @@ type HTTP struct {
 // Notify lists notification receivers.
 type Notify struct {
 	// Webhooks receive a JSON POST per event.
-	Webhooks []Webhook `mapstructure:"webhooks"`
-}
-
-// Webhook is one HTTP receiver of notifications.
-type Webhook struct {
-	// Name identifies the webhook in logs and metrics.
-	Name string `mapstructure:"name"`
-	// URL is where events are POSTed (http or https).
-	URL string `mapstructure:"url"`
-	// LeadTime sends a "soon" event when a forecast falls below it (0: no such event).
-	LeadTime time.Duration `mapstructure:"lead_time"`
-	// Events selects the event kinds: reached, soon, fault (empty: all).
-	Events []string `mapstructure:"events"`
+	Webhooks []notify.Webhook `mapstructure:"webhooks"`
 }
 
 // Display sets how the status page shows values; metrics stay in base units.

@@ -2,13 +2,11 @@ package config
 
 import (
 	"fmt"
+	"github.com/settle-lab/settle/notify"
 	"net/url"
 	"slices"
 	"time"
 )
-
-// EventKinds are the notification event kinds a webhook can select.
-var EventKinds = []string{"reached", "soon", "fault"}
 
 // Interval is the commit interval, DefaultCommitInterval when unset (zero).
 func (j Journal) Interval() time.Duration {
@@ -46,7 +44,7 @@ func (c *Config) checkServices(k *checker) {
 	}
 }
 
-func checkWebhook(k *checker, key string, w Webhook, i int, names map[string]int) {
+func checkWebhook(k *checker, key string, w notify.Webhook, i int, names map[string]int) {
 	if w.Name == "" {
 		k.add(key+".name", "must not be empty")
 	} else if first, dup := names[w.Name]; dup {
@@ -61,7 +59,7 @@ func checkWebhook(k *checker, key string, w Webhook, i int, names map[string]int
 		k.add(key+".lead_time", "must not be negative, got %s", w.LeadTime)
 	}
 	for j, e := range w.Events {
-		if !slices.Contains(EventKinds, e) {
+		if !slices.Contains(notify.EventKinds, e) {
 			k.add(fmt.Sprintf("%s.events[%d]", key, j), "unknown event %q; known: reached, soon, fault", e)
 		}
 	}

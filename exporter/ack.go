@@ -12,6 +12,7 @@ import (
 	"unicode"
 
 	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/internal/httpjson"
 )
 
 // MaxAckByLen caps the "by" field of an acknowledgement (initials or a short name).
@@ -140,38 +141,38 @@ func readyToHandle(c ChannelJSON) bool {
 
 func (h *Handler) serveAcknowledge(w http.ResponseWriter, r *http.Request) {
 	if h.state.Acks == nil {
-		writeError(w, http.StatusNotFound, "this server keeps no acknowledgements")
+		httpjson.WriteError(w, http.StatusNotFound, "this server keeps no acknowledgements")
 		return
 	}
 	name := r.PathValue("name")
 	ch, ok := findChannel(h.state, name)
 	if !ok {
-		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
+		httpjson.WriteError(w, http.StatusNotFound, "no channel named "+quote(name))
 		return
 	}
 	req, err := decodeAck(r.Body)
 	if err != nil {
-		writeError(w, ackErrStatus(err), err.Error())
+		httpjson.WriteError(w, ackErrStatus(err), err.Error())
 		return
 	}
 	now := h.opt.Now()
 	c := channelJSON(h.state, ch, now)
 	if c.Acknowledged != nil {
-		WriteJSON(w, http.StatusOK, c.Acknowledged)
+		httpjson.Write(w, http.StatusOK, c.Acknowledged)
 		return
 	}
 	if !readyToHandle(c) {
-		writeError(w, http.StatusConflict, fmt.Sprintf("%s is not ready to handle: only a specimen the readings show below its handling target can be acknowledged", quote(name)))
+		httpjson.WriteError(w, http.StatusConflict, fmt.Sprintf("%s is not ready to handle: only a specimen the readings show below its handling target can be acknowledged", quote(name)))
 		return
 	}
 	a, err := h.state.Acks.Add(Ack{Channel: name, Segment: c.Forecast.SegmentStart, At: now.UTC(), By: req.By})
 	if err != nil {
 		h.opt.Log.Error("acknowledgement not recorded", "channel", name, "err", err)
-		writeError(w, http.StatusServiceUnavailable, "the acknowledgement could not be recorded: "+err.Error())
+		httpjson.WriteError(w, http.StatusServiceUnavailable, "the acknowledgement could not be recorded: "+err.Error())
 		return
 	}
 	h.opt.Log.Info("ready specimen acknowledged", "channel", name, "by", a.By, "run", a.RunID)
-	WriteJSON(w, http.StatusOK, a)
+	httpjson.Write(w, http.StatusOK, a)
 }
 
 var errAckTooBig = errors.New("request body over 64 KiB")

@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/httpjson"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -68,7 +69,7 @@ func TestAcknowledge(t *testing.T) {
 		{"control character", "steel", bearer, `{"by":"A\u0007K"}`, http.StatusBadRequest, "printable"},
 	} {
 		w := do(t, h, "POST", "/api/v1/channels/"+c.ch+"/acknowledge", c.auth, c.body)
-		var e ErrorJSON
+		var e httpjson.Error
 		_ = json.Unmarshal(w.Body.Bytes(), &e)
 		if w.Code != c.status || !strings.Contains(e.Error, c.msg) {
 			t.Errorf("%s: %d %s, want %d with %q", c.name, w.Code, w.Body, c.status, c.msg)

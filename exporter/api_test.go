@@ -2,6 +2,7 @@ package exporter
 
 import (
 	"encoding/json"
+	"github.com/settle-lab/settle/predict"
 	"net/http"
 	"net/http/httptest"
 	"path/filepath"
@@ -23,7 +24,7 @@ func TestChannelsCautionsOnHandlingTargets(t *testing.T) {
 		t.Fatalf("channels = %d, want 2", len(resp.Channels))
 	}
 	steel, tile := resp.Channels[0], resp.Channels[1]
-	if len(steel.Cautions) != len(HandlingCautions) {
+	if len(steel.Cautions) != len(predict.HandlingCautions) {
 		t.Errorf("steel has a handling target but %d cautions", len(steel.Cautions))
 	}
 	if tile.Cautions != nil || tile.Forecast != nil {

@@ -46,10 +46,20 @@ type State struct {
 // nothing. Gather serves them without a registry's per-metric checks (the daemon's
 // /metrics); as a prometheus.Collector it sends the same metrics through a registry
 // (tests, lint).
+//
+// Its series come from two parts of the daemon, each gathered and timed on its own by
+// the Registry: acquisition (State.Latest and State.Ports: reading times, faults, ports)
+// and forecasts (State.Bench: temperatures, channel roles, fits, targets). Each part
+// keeps its own channels' series.
 type Collector struct {
 	state State
 	fams  [nFamilies]family
 
+	acquisition, forecasts seriesCache
+}
+
+// seriesCache is one part's built series, by channel.
+type seriesCache struct {
 	mu       sync.Mutex
 	channels map[string]*channelSeries
 	gen      uint64
@@ -95,7 +105,8 @@ type family struct {
 
 // NewCollector returns a collector over s.
 func NewCollector(s State) *Collector {
-	c := &Collector{state: s, channels: map[string]*channelSeries{}}
+	c := &Collector{state: s}
+	c.acquisition.channels, c.forecasts.channels = map[string]*channelSeries{}, map[string]*channelSeries{}
 	ch, tg, lg := []string{"channel"}, []string{"channel", "target"}, []string{"logger"}
 	gauge, counter := dto.MetricType_GAUGE, dto.MetricType_COUNTER
 	def := func(i int, name string, typ dto.MetricType, help string, labels ...string) {
@@ -174,22 +185,45 @@ func (b builtMetric) Write(out *dto.Metric) error {
 // labels are unchanged since the last call are the same metrics, not rebuilt; the
 // returned families are the caller's, the metrics in them are shared and never changed.
 func (c *Collector) Gather() []*dto.MetricFamily {
-	c.mu.Lock()
-	defer c.mu.Unlock()
-	c.gen++
-	if c.state.Bench != nil {
+	return mergeFamilies(c.gatherAcquisition(), c.gatherForecasts())
+}
+
+// gatherAcquisition returns the acquisition part's families: each channel's latest
+// reading time and faults, and each logger's port.
+func (c *Collector) gatherAcquisition() []*dto.MetricFamily {
+	return c.gather(&c.acquisition, func() {
+		if c.state.Latest != nil {
+			c.latestSamples()
+		}
+	}, c.portMetrics)
+}
+
+// gatherForecasts returns the forecasts part's families: each channel's temperature,
+// role, fit and targets as the bench holds them.
+func (c *Collector) gatherForecasts() []*dto.MetricFamily {
+	return c.gather(&c.forecasts, func() {
+		if c.state.Bench == nil {
+			return
+		}
 		for _, ch := range c.state.Bench.Snapshot() {
-			cs := c.channel(ch.Name)
+			cs := c.forecasts.channel(ch.Name)
 			cs.next = c.benchSamples(cs.next, ch)
 		}
-	}
-	if c.state.Latest != nil {
-		c.latestSamples()
-	}
-	names := make([]string, 0, len(c.channels))
-	for name, cs := range c.channels {
-		if cs.gen != c.gen {
-			delete(c.channels, name) // gone from the state: its series vanish
+	}, nil)
+}
+
+// gather builds one part's families: collect adds this scrape's samples to sc's
+// channels, rebuilt adds series built on every scrape (nil: none). A channel that
+// collect did not add to is gone from the state and its series vanish.
+func (c *Collector) gather(sc *seriesCache, collect func(), rebuilt func(*[nFamilies][]*dto.Metric)) []*dto.MetricFamily {
+	sc.mu.Lock()
+	defer sc.mu.Unlock()
+	sc.gen++
+	collect()
+	names := make([]string, 0, len(sc.channels))
+	for name, cs := range sc.channels {
+		if cs.gen != sc.gen {
+			delete(sc.channels, name)
 			continue
 		}
 		cs.update(&c.fams)
@@ -198,13 +232,15 @@ func (c *Collector) Gather() []*dto.MetricFamily {
 	slices.Sort(names)
 	var out [nFamilies][]*dto.Metric
 	for _, name := range names {
-		cs := c.channels[name]
+		cs := sc.channels[name]
 		for k, i := range cs.order {
 			f := cs.samples[i].fam
 			out[f] = append(out[f], cs.metrics[k])
 		}
 	}
-	c.portMetrics(&out)
+	if rebuilt != nil {
+		rebuilt(&out)
+	}
 	return c.families(&out)
 }
 
@@ -225,14 +261,14 @@ func (c *Collector) families(out *[nFamilies][]*dto.Metric) []*dto.MetricFamily 
 }
 
 // channel returns the series of the named channel, marked as present in this scrape.
-func (c *Collector) channel(name string) *channelSeries {
-	cs := c.channels[name]
+func (sc *seriesCache) channel(name string) *channelSeries {
+	cs := sc.channels[name]
 	if cs == nil {
 		cs = &channelSeries{first: labelPair("channel", name)}
-		c.channels[name] = cs
+		sc.channels[name] = cs
 	}
-	if cs.gen != c.gen {
-		cs.gen, cs.next = c.gen, cs.next[:0]
+	if cs.gen != sc.gen {
+		cs.gen, cs.next = sc.gen, cs.next[:0]
 	}
 	return cs
 }
@@ -242,7 +278,7 @@ func (c *Collector) latestSamples() {
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	for name, r := range l.readings {
-		cs := c.channel(name)
+		cs := c.acquisition.channel(name)
 		cs.next = append(cs.next, sample{fam: fReadingTime, v: unixSeconds(r.Time)})
 		if !r.OK() {
 			cs.next = append(cs.next, sample{fam: fFault, l1: r.Status.String(), v: 1})
@@ -258,7 +294,7 @@ func (c *Collector) latestSamples() {
 		return cmp.Or(strings.Compare(a.channel, b.channel), cmp.Compare(a.status, b.status))
 	})
 	for _, k := range keys {
-		cs := c.channel(k.channel)
+		cs := c.acquisition.channel(k.channel)
 		cs.next = append(cs.next, sample{fam: fFaults, l1: k.status.String(), v: float64(l.faults[k])})
 	}
 }

@@ -14,9 +14,9 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
-
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/internal/jsonval"
 )
 
 // Event stream defaults.
@@ -221,7 +221,7 @@ func (h *Handler) serveEvents(w http.ResponseWriter, r *http.Request) {
 			status = http.StatusTooManyRequests
 		}
 		w.Header().Set("Retry-After", "10")
-		writeError(w, status, err.Error())
+		httpjson.WriteError(w, status, err.Error())
 		return
 	}
 	defer h.broker.leave(c)

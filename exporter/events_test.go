@@ -3,6 +3,7 @@ package exporter
 import (
 	"bufio"
 	"encoding/json"
+	"github.com/settle-lab/settle/internal/httpjson"
 	"net"
 	"net/http"
 	"net/http/httptest"
@@ -72,7 +73,7 @@ func TestIdleStreamClientsCannotCloseTheStream(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var e ErrorJSON
+	var e httpjson.Error
 	_ = json.NewDecoder(resp.Body).Decode(&e)
 	resp.Body.Close()
 	if resp.StatusCode != http.StatusTooManyRequests || !strings.Contains(e.Error, "from this address") {

@@ -4,9 +4,8 @@ import (
 	"fmt"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
-
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/jsonval"
 )
 
 // DefaultStaleAfter is the shortest silence after which a channel is reported stale.

@@ -3,6 +3,7 @@ package exporter
 import (
 	"bufio"
 	"encoding/json"
+	"github.com/settle-lab/settle/internal/httpjson"
 	"net/http/httptest"
 	"net/url"
 	"os"
@@ -48,7 +49,7 @@ func FuzzHandler(f *testing.F) {
 			t.Fatalf("%s %s: status %d", method, target, w.Code)
 		}
 		if w.Code >= 400 && strings.HasPrefix(w.Header().Get("Content-Type"), "application/json") {
-			var e ErrorJSON
+			var e httpjson.Error
 			if err := json.Unmarshal(w.Body.Bytes(), &e); err != nil || e.Error == "" {
 				t.Fatalf("%s %s: error body %q", method, target, w.Body)
 			}

@@ -15,9 +15,10 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
-	"github.com/settle-lab/settle/exporter/notify"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/notify"
+	"github.com/settle-lab/settle/predict"
 )
 
 // MaxBodyBytes caps every request body the daemon reads.
@@ -29,12 +30,12 @@ type Options struct {
 	// Token is the bearer token every state-changing request (any method other than
 	// GET, HEAD and OPTIONS) must carry. Empty: such requests are refused.
 	Token string
-	// Display sets the status page's units (metrics and the API stay in °C).
-	Display config.Display
+	// Display sets how the status page shows values (metrics and the API stay in °C).
+	Display Display
 	// Runs, when set, serves /api/v1/runs and everything below it.
 	Runs http.Handler
 	// Webhooks receive notifications (config notify.webhooks).
-	Webhooks []config.Webhook
+	Webhooks []notify.Webhook
 	// Notify tunes the notifier (retries, client); its Registerer and Cautions are set
 	// by NewHandler.
 	Notify notify.Options
@@ -64,6 +65,16 @@ type Options struct {
 	// Health adds fields to /healthz (the daemon: whether the start-up replay of the
 	// journal is done). Nil adds none.
 	Health func() map[string]any
+}
+
+// Display is how the status page shows values; the daemon copies it from its
+// configuration (config.Display).
+type Display struct {
+	// Fahrenheit shows temperatures in °F (default °C).
+	Fahrenheit bool
+	// TimeLapse is the simulated rack's speed under `settle run --demo`, physical
+	// seconds per wall second, which the page shows as a badge; 0: real time.
+	TimeLapse float64
 }
 
 // Handler is the daemon's HTTP handler:
@@ -105,7 +116,7 @@ func NewHandler(s State, reg Metrics, opt Options) *Handler {
 	h := &Handler{state: s, opt: opt, mux: http.NewServeMux(),
 		broker: newBroker(opt.ClientBuffer, opt.MaxStreams, opt.MaxStreamsPerAddr)}
 	nopt := opt.Notify
-	nopt.Registerer, nopt.Cautions = reg, HandlingCautions
+	nopt.Registerer, nopt.Cautions = reg, predict.HandlingCautions
 	if nopt.Log == nil {
 		nopt.Log = opt.Log
 	}
@@ -166,10 +177,10 @@ func (h *Handler) routes(reg Metrics) {
 			out = h.opt.Health()
 		}
 		out["status"] = "ok"
-		WriteJSON(w, http.StatusOK, out)
+		httpjson.Write(w, http.StatusOK, out)
 	})
 	m.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
-		WriteJSON(w, http.StatusOK, h.channels(h.opt.Now()))
+		httpjson.Write(w, http.StatusOK, h.channels(h.opt.Now()))
 	})
 	m.HandleFunc("GET /api/v1/channels/{name}", h.serveDetail)
 	m.HandleFunc("GET /api/v1/channels/{name}/series", h.serveSeries)
@@ -199,7 +210,7 @@ func (h *Handler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 	default:
 		if status, msg := checkToken(h.opt.Token, r.Header.Get("Authorization")); status != 0 {
 			w.Header().Set("WWW-Authenticate", `Bearer realm="settle"`)
-			writeError(w, status, msg)
+			httpjson.WriteError(w, status, msg)
 			return
 		}
 	}
@@ -218,10 +229,10 @@ func (h *Handler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 func (h *Handler) notFound(w http.ResponseWriter, r *http.Request) {
 	if allow := h.allowed(r); allow != "" {
 		w.Header().Set("Allow", allow)
-		writeError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed on "+quote(r.URL.Path)+"; allowed: "+allow)
+		httpjson.WriteError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed on "+quote(r.URL.Path)+"; allowed: "+allow)
 		return
 	}
-	writeError(w, http.StatusNotFound, "no such page: "+quote(r.URL.Path))
+	httpjson.WriteError(w, http.StatusNotFound, "no such page: "+quote(r.URL.Path))
 }
 
 // allowed lists the methods some route takes on r's path ("" when none does). A path
@@ -231,24 +242,7 @@ func (h *Handler) allowed(r *http.Request) string {
 		(r.URL.Path == "/api/v1/runs" || strings.HasPrefix(r.URL.Path, "/api/v1/runs/")) {
 		return a.Allowed(r)
 	}
-	return AllowedMethods(h.mux, r)
-}
-
-// AllowedMethods lists the methods some route of mux takes on r's path, as an Allow
-// header says them ("" when none does).
-func AllowedMethods(mux *http.ServeMux, r *http.Request) string {
-	var out []string
-	for _, m := range []string{http.MethodGet, http.MethodPost} {
-		probe := r.Clone(r.Context())
-		probe.Method = m
-		if _, pattern := mux.Handler(probe); pattern != "" {
-			out = append(out, m)
-			if m == http.MethodGet {
-				out = append(out, http.MethodHead)
-			}
-		}
-	}
-	return strings.Join(out, ", ")
+	return httpjson.AllowedMethods(h.mux, r)
 }
 
 // oneJSONBody refuses a request body that holds anything after its first JSON value
@@ -263,9 +257,9 @@ func oneJSONBody(w http.ResponseWriter, r *http.Request) bool {
 	if err != nil {
 		var tooBig *http.MaxBytesError
 		if errors.As(err, &tooBig) {
-			writeError(w, http.StatusRequestEntityTooLarge, "request body over 64 KiB")
+			httpjson.WriteError(w, http.StatusRequestEntityTooLarge, "request body over 64 KiB")
 		} else {
-			writeError(w, http.StatusBadRequest, "body: "+err.Error())
+			httpjson.WriteError(w, http.StatusBadRequest, "body: "+err.Error())
 		}
 		return false
 	}
@@ -277,7 +271,7 @@ func oneJSONBody(w http.ResponseWriter, r *http.Request) bool {
 	}
 	end := dec.InputOffset()
 	if _, err := dec.Token(); !errors.Is(err, io.EOF) {
-		writeError(w, http.StatusBadRequest, fmt.Sprintf("body: unexpected data after the JSON value (offset %d); send one JSON value per request", end))
+		httpjson.WriteError(w, http.StatusBadRequest, fmt.Sprintf("body: unexpected data after the JSON value (offset %d); send one JSON value per request", end))
 		return false
 	}
 	return true
@@ -304,16 +298,16 @@ func (h *Handler) serveDetail(w http.ResponseWriter, r *http.Request) {
 	name := r.PathValue("name")
 	d, ok := Detail(h.state, name, h.opt.Now())
 	if !ok {
-		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
+		httpjson.WriteError(w, http.StatusNotFound, "no channel named "+quote(name))
 		return
 	}
-	WriteJSON(w, http.StatusOK, d)
+	httpjson.Write(w, http.StatusOK, d)
 }
 
 func (h *Handler) serveSeries(w http.ResponseWriter, r *http.Request) {
 	name := r.PathValue("name")
 	if _, ok := findChannel(h.state, name); !ok {
-		writeError(w, http.StatusNotFound, "no channel named "+quote(name))
+		httpjson.WriteError(w, http.StatusNotFound, "no channel named "+quote(name))
 		return
 	}
 	var newest time.Time
@@ -324,11 +318,11 @@ func (h *Handler) serveSeries(w http.ResponseWriter, r *http.Request) {
 	}
 	q, err := ParseSeriesQuery(r.URL.Query().Get, newest)
 	if err != nil {
-		writeError(w, http.StatusBadRequest, err.Error())
+		httpjson.WriteError(w, http.StatusBadRequest, err.Error())
 		return
 	}
 	s, _ := Series(h.state, name, q)
-	WriteJSON(w, http.StatusOK, s)
+	httpjson.Write(w, http.StatusOK, s)
 }
 
 // NotifyTestRequest is the optional body of POST /api/v1/notify/test.
@@ -344,27 +338,18 @@ func (h *Handler) serveNotifyTest(w http.ResponseWriter, r *http.Request) {
 	if err := dec.Decode(&req); err != nil && !errors.Is(err, io.EOF) {
 		var tooBig *http.MaxBytesError
 		if errors.As(err, &tooBig) {
-			writeError(w, http.StatusRequestEntityTooLarge, "request body over 64 KiB")
+			httpjson.WriteError(w, http.StatusRequestEntityTooLarge, "request body over 64 KiB")
 			return
 		}
-		writeError(w, http.StatusBadRequest, "body: "+err.Error())
+		httpjson.WriteError(w, http.StatusBadRequest, "body: "+err.Error())
 		return
 	}
 	n, err := h.notifier.Test(req.Webhook, h.opt.Now())
 	if err != nil {
-		writeError(w, http.StatusNotFound, err.Error())
+		httpjson.WriteError(w, http.StatusNotFound, err.Error())
 		return
 	}
-	WriteJSON(w, http.StatusAccepted, map[string]int{"queued": n})
-}
-
-// ErrorJSON is the body of every error answer.
-type ErrorJSON struct {
-	Error string `json:"error"`
-}
-
-func writeError(w http.ResponseWriter, status int, msg string) {
-	WriteJSON(w, status, ErrorJSON{Error: msg})
+	httpjson.Write(w, http.StatusAccepted, map[string]int{"queued": n})
 }
 
 // quote quotes s for an error message, capped so a hostile name cannot flood the log.

@@ -18,8 +18,9 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 
-	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/notify"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -304,7 +305,7 @@ func TestSecurity(t *testing.T) {
 				t.Fatalf("%s %s = %d %s, want %d", c.method, c.target, w.Code, w.Body, c.want)
 			}
 			if c.want >= 400 && strings.HasPrefix(w.Header().Get("Content-Type"), "application/json") {
-				var e ErrorJSON
+				var e httpjson.Error
 				if err := json.Unmarshal(w.Body.Bytes(), &e); err != nil || !strings.Contains(e.Error, c.errText) {
 					t.Errorf("error body %s, want JSON error containing %q", w.Body, c.errText)
 				}
@@ -320,9 +321,9 @@ func TestSecurity(t *testing.T) {
 
 func TestRunsHookAndPage(t *testing.T) {
 	runs := http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		WriteJSON(w, 200, map[string]string{"path": r.URL.Path})
+		httpjson.Write(w, 200, map[string]string{"path": r.URL.Path})
 	})
-	h := newTestHandler(curveState(), Options{Runs: runs, Display: config.Display{Units: "F"}})
+	h := newTestHandler(curveState(), Options{Runs: runs, Display: Display{Fahrenheit: true}})
 	for _, p := range []string{"/api/v1/runs", "/api/v1/runs/7/summary.json"} {
 		if w := do(t, h, "GET", p, "", ""); w.Code != 200 || !strings.Contains(w.Body.String(), p) {
 			t.Errorf("GET %s = %d %s, want the runs handler", p, w.Code, w.Body)
@@ -330,7 +331,7 @@ func TestRunsHookAndPage(t *testing.T) {
 	}
 	page := do(t, h, "GET", "/", "", "")
 	body := page.Body.String()
-	if page.Code != 200 || !strings.Contains(body, `data-units="F"`) || !strings.Contains(body, HandlingCautions[1]) {
+	if page.Code != 200 || !strings.Contains(body, `data-units="F"`) || !strings.Contains(body, predict.HandlingCautions[1]) {
 		t.Errorf("page = %d, units or cautions missing", page.Code)
 	}
 	if csp := page.Header().Get("Content-Security-Policy"); !strings.Contains(csp, "default-src 'self'") {
@@ -484,7 +485,7 @@ func TestNotificationsFromPolls(t *testing.T) {
 	defer recv.Close()
 	s := curveState()
 	h := newTestHandler(s, Options{PollInterval: 10 * time.Millisecond,
-		Webhooks: []config.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"fault"}}}})
+		Webhooks: []notify.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"fault"}}}})
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
 	go h.Run(ctx)
@@ -501,7 +502,7 @@ func TestNotificationsFromPolls(t *testing.T) {
 		t.Errorf("a second notification %q: the fault was sent twice", ev)
 	case <-time.After(100 * time.Millisecond):
 	}
-	var _ prometheus.Collector // the counters are checked in exporter/notify
+	var _ prometheus.Collector // the counters are checked in notify
 }
 
 func mustQuery(t *testing.T, q string) url.Values {
@@ -518,7 +519,7 @@ func mustQuery(t *testing.T, q string) url.Values {
 // which is built by the same function).
 func TestChannelsDemo(t *testing.T) {
 	for _, speed := range []float64{0, 60} {
-		h := newTestHandler(curveState(), Options{Display: config.Display{TimeLapse: speed}})
+		h := newTestHandler(curveState(), Options{Display: Display{TimeLapse: speed}})
 		w := do(t, h, "GET", "/api/v1/channels", "", "")
 		var body map[string]json.RawMessage
 		if err := json.Unmarshal(w.Body.Bytes(), &body); err != nil {

@@ -10,6 +10,8 @@ import (
 	"strings"
 
 	"github.com/settle-lab/settle/exporter/web"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/predict"
 )
 
 var pageTemplate = template.Must(template.ParseFS(web.FS, "index.html"))
@@ -23,13 +25,13 @@ type pageData struct {
 // servePage renders the status page; the script fills it from the API.
 func (h *Handler) servePage(w http.ResponseWriter, r *http.Request) {
 	units := "C"
-	if h.opt.Display.Fahrenheit() {
+	if h.opt.Display.Fahrenheit {
 		units = "F"
 	}
 	var buf bytes.Buffer
-	if err := pageTemplate.Execute(&buf, pageData{Units: units, Cautions: HandlingCautions}); err != nil {
+	if err := pageTemplate.Execute(&buf, pageData{Units: units, Cautions: predict.HandlingCautions}); err != nil {
 		h.opt.Log.Error("status page template", "err", err)
-		writeError(w, http.StatusInternalServerError, "status page could not be rendered")
+		httpjson.WriteError(w, http.StatusInternalServerError, "status page could not be rendered")
 		return
 	}
 	w.Header().Set("Content-Type", "text/html; charset=utf-8")
@@ -44,12 +46,12 @@ func staticHandler() http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
 		name := strings.TrimPrefix(path.Clean(r.URL.Path), "/")
 		if !strings.HasPrefix(name, "static/") || !fs.ValidPath(name) {
-			writeError(w, http.StatusNotFound, "no such file")
+			httpjson.WriteError(w, http.StatusNotFound, "no such file")
 			return
 		}
 		data, err := fs.ReadFile(web.FS, name)
 		if err != nil {
-			writeError(w, http.StatusNotFound, "no such file")
+			httpjson.WriteError(w, http.StatusNotFound, "no such file")
 			return
 		}
 		ct := mime.TypeByExtension(path.Ext(name))

@@ -12,7 +12,8 @@ import (
 
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/runs"
 )
 
 const token = "s3cret"
@@ -27,7 +28,7 @@ func apiWithRuns(t *testing.T, logs *bytes.Buffer) http.Handler {
 		t.Fatal(err)
 	}
 	t.Cleanup(func() { j.Close() })
-	runs := report.RunsAPI(j, report.APIOptions{Token: token, Logger: log})
+	runs := runs.API(j, runs.APIOptions{Token: token, Logger: log})
 	return exporter.NewHandler(exporter.State{}, exporter.NewRegistry(exporter.State{}), exporter.Options{Token: token, Runs: runs, Log: log})
 }
 
@@ -46,7 +47,7 @@ func jsonError(t *testing.T, w *httptest.ResponseRecorder) string {
 	if ct := w.Header().Get("Content-Type"); !strings.HasPrefix(ct, "application/json") {
 		t.Fatalf("error answer has Content-Type %q, want JSON: %s", ct, w.Body)
 	}
-	var e exporter.ErrorJSON
+	var e httpjson.Error
 	if err := json.Unmarshal(w.Body.Bytes(), &e); err != nil || e.Error == "" {
 		t.Fatalf("error body %q is not {\"error\": \"...\"}", w.Body)
 	}

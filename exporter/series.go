@@ -7,9 +7,10 @@ import (
 	"strings"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
+	"github.com/settle-lab/settle/internal/forecastjson"
 
 	"github.com/settle-lab/settle/daq"
+	"github.com/settle-lab/settle/internal/jsonval"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -33,7 +34,7 @@ type ChannelDetail struct {
 	LastReceived *time.Time `json:"last_received"`
 	// H is the fitted effective surface coefficient where the specimen is known
 	// (parameter h_w_m2k), else null.
-	H *ParamJSON `json:"h_w_m2k"`
+	H *forecastjson.Param `json:"h_w_m2k"`
 	// Biot is the Biot number where the specimen is known, else null.
 	Biot *float64 `json:"biot"`
 	// Notes explain the model choice and any validity concern.
@@ -53,7 +54,7 @@ func Detail(s State, name string, now time.Time) (ChannelDetail, bool) {
 	d := ChannelDetail{ChannelJSON: channelJSON(s, ch, now), Notes: []string{}, FaultCounts: map[string]uint64{}}
 	if f := ch.Forecast; f != nil {
 		d.Biot, d.Notes = jsonval.Num(f.Biot), append(d.Notes, f.Notes...)
-		for _, p := range paramsJSON(f.Params) {
+		for _, p := range forecastjson.Params(f.Params) {
 			if p.Name == "h_w_m2k" {
 				d.H = &p
 			}
@@ -105,7 +106,7 @@ type SeriesResponse struct {
 	// sensor is on the surface of a conduction-modelled specimen; absent otherwise.
 	Centre [][2]float64 `json:"centre,omitempty"`
 	// Targets are the target temperatures with their forecasts.
-	Targets []TargetJSON `json:"targets"`
+	Targets []forecastjson.TargetForecast `json:"targets"`
 }
 
 // FaultPoint is one fault reading in a series.
@@ -176,7 +177,7 @@ func Series(s State, name string, q SeriesQuery) (SeriesResponse, bool) {
 		return SeriesResponse{}, false
 	}
 	out := SeriesResponse{Channel: name, Readings: [][2]float64{}, Faults: []FaultPoint{},
-		Curve: [][2]float64{}, Targets: []TargetJSON{}}
+		Curve: [][2]float64{}, Targets: []forecastjson.TargetForecast{}}
 	var pts []Point
 	if s.Latest != nil {
 		pts = s.Latest.History(name, q.From, q.To)

@@ -10,57 +10,7 @@ import (
 	"net/http"
 	"sync"
 	"time"
-
-	"github.com/prometheus/client_golang/prometheus"
-	"github.com/prometheus/client_golang/prometheus/collectors"
-	dto "github.com/prometheus/client_model/go"
 )
-
-// Registry is the daemon's metrics: a prometheus.Registry holding the Go runtime and
-// process collectors (and whatever else is registered with it), gathered together with
-// the settle collector's channel series. Those skip the registry's per-metric work
-// (building, checking and sorting every series on every scrape): the collector keeps
-// each series built and rebuilds only what changed. The registry still knows the
-// settle descriptors, so registering a collector that reuses one of their names fails.
-type Registry struct {
-	*prometheus.Registry
-	settle *Collector
-}
-
-// NewRegistry returns the registry over s with the Go runtime and process collectors.
-func NewRegistry(s State) *Registry {
-	r := &Registry{Registry: prometheus.NewRegistry(), settle: NewCollector(s)}
-	r.MustRegister(descsOnly{r.settle},
-		collectors.NewGoCollector(),
-		collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
-	return r
-}
-
-// Gather returns the registry's families and the settle collector's, sorted by name.
-func (r *Registry) Gather() ([]*dto.MetricFamily, error) {
-	rest, err := r.Registry.Gather()
-	return mergeFamilies(rest, r.settle.Gather()), err
-}
-
-// mergeFamilies merges two lists of families, each sorted by name and with names
-// distinct between them (the registry refuses a settle descriptor's name).
-func mergeFamilies(a, b []*dto.MetricFamily) []*dto.MetricFamily {
-	out := make([]*dto.MetricFamily, 0, len(a)+len(b))
-	for len(a) > 0 && len(b) > 0 {
-		if a[0].GetName() < b[0].GetName() {
-			out, a = append(out, a[0]), a[1:]
-		} else {
-			out, b = append(out, b[0]), b[1:]
-		}
-	}
-	return append(append(out, a...), b...)
-}
-
-// descsOnly registers a collector's descriptors with a registry, and no metrics.
-type descsOnly struct{ c prometheus.Collector }
-
-func (d descsOnly) Describe(out chan<- *prometheus.Desc) { d.c.Describe(out) }
-func (d descsOnly) Collect(chan<- prometheus.Metric)     {}
 
 // Server is the daemon's HTTP server with the timeouts a long-running lab service
 // needs against slow or hostile clients.

@@ -6,7 +6,8 @@ import (
 	"math"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/notify"
+	"github.com/settle-lab/settle/notify"
+	"github.com/settle-lab/settle/predict"
 )
 
 // Run polls the state every PollInterval until ctx ends: changed forecasts and faults
@@ -46,11 +47,17 @@ type watcher struct {
 	faults    map[string]string // channel → fault kind
 }
 
-// poll takes one snapshot, publishes what changed and feeds the notifier.
+// poll takes one snapshot of the engine, publishes what changed in the API's view and
+// feeds the notifier the engine's own state.
 func (h *Handler) poll(w *watcher) {
-	resp := Channels(h.state, h.opt.Now())
-	chs := make([]notify.Channel, 0, len(resp.Channels))
-	for _, ch := range resp.Channels {
+	now := h.opt.Now()
+	var states []predict.ChannelState
+	if h.state.Bench != nil {
+		states = h.state.Bench.Snapshot()
+	}
+	chs := make([]notify.Channel, 0, len(states))
+	for _, st := range states {
+		ch := channelJSON(h.state, st, now)
 		if fp := fingerprint(ch); fp != w.forecasts[ch.Name] {
 			w.forecasts[ch.Name] = fp
 			h.broker.publish("forecast", ch)
@@ -63,7 +70,7 @@ func (h *Handler) poll(w *watcher) {
 			w.faults[ch.Name] = kind
 			h.broker.publish("fault", FaultEvent{Channel: ch.Name, Fault: ch.Fault})
 		}
-		chs = append(chs, notifyChannel(ch))
+		chs = append(chs, h.notifyChannel(st, ch.Fault))
 	}
 	h.notifier.Observe(chs)
 }
@@ -83,38 +90,38 @@ func fingerprint(ch ChannelJSON) string {
 	return fp
 }
 
-// notifyChannel converts the API view of a channel into the notifier's.
-func notifyChannel(ch ChannelJSON) notify.Channel {
-	out := notify.Channel{Name: ch.Name, Celsius: math.NaN()}
-	if ch.Latest != nil {
-		out.Now = ch.Latest.Time
-		if ch.Latest.Celsius != nil {
-			out.Celsius = *ch.Latest.Celsius
+// notifyChannel is what the notifier watches of one channel: the engine's state st,
+// the channel's newest reading and its fault f (nil: none).
+func (h *Handler) notifyChannel(st predict.ChannelState, f *FaultJSON) notify.Channel {
+	out := notify.Channel{Name: st.Name, Celsius: math.NaN()}
+	if h.state.Latest != nil {
+		if r, ok := h.state.Latest.Get(st.Name); ok {
+			out.Now = r.Time.UTC()
+			if r.OK() && finite(r.Celsius) {
+				out.Celsius = r.Celsius
+			}
 		}
 	}
-	if ch.Forecast != nil {
-		out.Segment = ch.Forecast.SegmentStart
-	}
-	if f := ch.Fault; f != nil {
+	if f != nil {
 		out.Fault, out.FaultDetail = f.Kind, f.Detail
 		if f.Since != nil {
 			out.FaultSince = *f.Since
 		}
 	}
-	for _, t := range ch.Targets {
-		nt := notify.Target{Name: t.Name, State: t.State, Handling: t.Kind == "handling", Celsius: math.NaN()}
-		if t.Celsius != nil {
-			nt.Celsius = *t.Celsius
+	fc := st.Forecast
+	if fc == nil {
+		return out
+	}
+	if !fc.Empty {
+		out.Segment = fc.SegmentStart.UTC()
+	}
+	for _, tf := range fc.Targets {
+		nt := notify.Target{Name: tf.Target.Name, State: string(tf.State), Handling: tf.Target.Handling, Celsius: math.NaN(),
+			At: tf.At.UTC(), Earliest: tf.Earliest.UTC(), Latest: tf.Latest.UTC(), Due: tf.Due().UTC()}
+		if finite(tf.Celsius) {
+			nt.Celsius = tf.Celsius
 		}
-		nt.At, nt.Earliest, nt.Latest, nt.Due = deref(t.At), deref(t.Earliest), deref(t.Latest), deref(t.Due)
 		out.Targets = append(out.Targets, nt)
 	}
 	return out
-}
-
-func deref(t *time.Time) time.Time {
-	if t == nil {
-		return time.Time{}
-	}
-	return *t
 }

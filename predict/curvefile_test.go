@@ -9,8 +9,8 @@ import (
 	"time"
 
 	"github.com/settle-lab/settle/daq"
-	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
 )
 
 // exportCSV is what `settle export` writes for three readings (report.WriteCSV, the

@@ -16,7 +16,9 @@ import (
 
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/notify"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/notify"
+	"github.com/settle-lab/settle/predict"
 )
 
 // apiHookLog records webhook deliveries by event id.
@@ -59,7 +61,7 @@ func TestAPIAgainstDemo(t *testing.T) {
 	defer recv.Close()
 	base, cfg := runDemoDaemon(t, func(c *config.Config) {
 		c.HTTP.Token = "demo-token"
-		c.Notify.Webhooks = []config.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"reached", "fault"}}}
+		c.Notify.Webhooks = []notify.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"reached", "fault"}}}
 	})
 	tile := "alumina-tile-d" // reaches 50 °C after about 13 s of wall time (daq/sim)
 	// Wait (a hang guard) for the tile's handling target to be reached.
@@ -83,7 +85,7 @@ func TestAPIAgainstDemo(t *testing.T) {
 			stderrs++
 		}
 	}
-	if stderrs == 0 || len(detail.Notes) == 0 || len(detail.Cautions) != len(exporter.HandlingCautions) {
+	if stderrs == 0 || len(detail.Notes) == 0 || len(detail.Cautions) != len(predict.HandlingCautions) {
 		t.Errorf("detail: %d standard errors, notes %v, %d cautions", stderrs, detail.Notes, len(detail.Cautions))
 	}
 	var series exporter.SeriesResponse
@@ -126,7 +128,7 @@ func apiFetch(t *testing.T, url string, want int, v any) {
 		t.Fatalf("GET %s = %d, want %d", url, resp.StatusCode, want)
 	}
 	if v == nil {
-		v = &exporter.ErrorJSON{}
+		v = &httpjson.Error{}
 	}
 	if err := json.NewDecoder(resp.Body).Decode(v); err != nil {
 		t.Fatalf("GET %s: %v", url, err)

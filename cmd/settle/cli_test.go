@@ -17,7 +17,7 @@ import (
 
 	"github.com/settle-lab/settle/cmd/settle/internal/sim"
 	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/report"
 )
 
 var updateCLI = flag.Bool("update-cli", false, "rewrite the golden error texts in testdata/cli")

@@ -15,8 +15,8 @@ import (
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/clean"
 	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/runs"
 )
 
 // daemon wires acquisition, cleaning, the journal, tracking and the HTTP endpoints
@@ -34,6 +34,7 @@ type daemon struct {
 	replay  replayState
 	ln      net.Listener
 	srv     *exporter.Server
+	metrics *exporter.Registry
 }
 
 // newDaemon builds every source and the bench from cfg and binds the listen address, so
@@ -60,10 +61,11 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	state := exporter.State{Bench: d.bench, Latest: d.latest, Ports: d.portStats, LoggerOf: cfg.ChannelLoggers(),
 		Acks: d.rec.acks()}
 	reg := exporter.NewRegistry(state)
+	reg.Log, d.metrics = log, reg
 	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
 	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)
 	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
-		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token, &report.Engine{Specs: specs, Options: trackerOptions}), Token: cfg.HTTP.Token, Display: cfg.Display, Webhooks: cfg.Notify.Webhooks, Log: log,
+		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token, &runs.Engine{Specs: specs, Options: trackerOptions}), Token: cfg.HTTP.Token, Display: exporter.Display{Fahrenheit: cfg.Display.Fahrenheit(), TimeLapse: cfg.Display.TimeLapse}, Webhooks: cfg.Notify.Webhooks, Log: log,
 		Health: d.replay.health, Placement: d.rec.placementAPI(),
 	}), exporter.ServerOptions{TLSCert: cfg.HTTP.TLSCert, TLSKey: cfg.HTTP.TLSKey})
 	daq.ReserveDescriptors() // low descriptors for the serial ports, before clients arrive
@@ -89,7 +91,7 @@ func (d *daemon) portStats() []daq.PortStats {
 }
 
 // trackerOptions are the daemon's tracker settings; reports replay runs with the same
-// (report.Engine). At most one fit per channel per wall-clock second: a time-lapse demo
+// (runs.Engine). At most one fit per channel per wall-clock second: a time-lapse demo
 // or a fast replay must not spend the CPU on fits (the maintenance loop fits what is
 // left); a replay fits once, so the gap does not change its result.
 var trackerOptions = predict.TrackerOptions{MinFitGap: time.Second}

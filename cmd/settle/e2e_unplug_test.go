@@ -13,6 +13,7 @@ import (
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/ptytest"
 	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/internal/forecastjson"
 )
 
 // pluggedWriter writes to the pseudo-terminal behind a link while it is plugged in
@@ -164,13 +165,13 @@ func channelView(t *testing.T, base, name string) exporter.ChannelJSON {
 	return ch
 }
 
-func targetNamed(ch exporter.ChannelJSON, name string) exporter.TargetJSON {
+func targetNamed(ch exporter.ChannelJSON, name string) forecastjson.TargetForecast {
 	for _, tg := range ch.Targets {
 		if tg.Name == name {
 			return tg
 		}
 	}
-	return exporter.TargetJSON{}
+	return forecastjson.TargetForecast{}
 }
 
 var _ io.Writer = (*pluggedWriter)(nil)

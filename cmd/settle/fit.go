@@ -15,9 +15,9 @@ import (
 	"github.com/spf13/cobra"
 	"gonum.org/v1/plot/vg"
 
-	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/internal/forecastjson"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
 )
 
 func init() { subcommands = append(subcommands, newFitCmd) }
@@ -250,77 +250,11 @@ func secondsDur(s float64) time.Duration { return time.Duration(s * float64(time
 // fileTime converts an engine time back to the file's t_s.
 func (res *fitResult) fileTime(t time.Time) float64 { return t.Sub(res.origin).Seconds() }
 
-// fitJSON is the JSON contract of `settle fit --json`.
-type fitJSON struct {
-	Model      string             `json:"model"`
-	UntilS     float64            `json:"until_s"`
-	Parameters map[string]float64 `json:"parameters"`
-	Biot       *float64           `json:"biot"`
-	Notes      []string           `json:"notes"`
-	Targets    []targetJSON       `json:"targets"`
-}
-
-// targetJSON is one target in the JSON output; times are on the file's axis. DueS is
-// the time to plan with (predict.TargetForecast.Due): for a handling target the
-// interval's late bound. A handling target carries the cautions.
-type targetJSON struct {
-	Name      string   `json:"name"`
-	Kind      string   `json:"kind"`
-	Celsius   *float64 `json:"celsius"`
-	State     string   `json:"state"`
-	TS        *float64 `json:"t_s"`
-	EarliestS *float64 `json:"earliest_s"`
-	LatestS   *float64 `json:"latest_s"`
-	DueS      *float64 `json:"due_s"`
-	Estimated bool     `json:"estimated,omitempty"`
-	Cautions  []string `json:"cautions,omitempty"`
-}
-
-// finite returns &v, or nil for NaN and infinities (JSON null).
-func finite(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
-
-// toJSON builds the JSON object.
-func (res *fitResult) toJSON() fitJSON {
-	f := res.forecast
-	out := fitJSON{
-		Model: f.Model, UntilS: res.until, Parameters: map[string]float64{},
-		Biot: finite(f.Biot), Notes: append([]string{}, f.Notes...), Targets: []targetJSON{},
-	}
-	for _, p := range f.Params {
-		if !math.IsNaN(p.Value) {
-			out.Parameters[p.Name] = p.Value
-		}
-	}
-	for _, tg := range f.Targets {
-		j := targetJSON{Name: tg.Target.Name, Kind: tg.Target.Kind(), Celsius: finite(tg.Celsius),
-			State: string(tg.State), Estimated: tg.Estimated}
-		if !tg.At.IsZero() {
-			j.TS = finite(res.fileTime(tg.At))
-		}
-		if due := tg.Due(); !due.IsZero() {
-			j.DueS = finite(res.fileTime(due))
-		}
-		if tg.Target.Handling {
-			j.Cautions = exporter.HandlingCautions
-		}
-		if tg.State == predict.StatePredicted || tg.State == predict.StateHolding {
-			j.EarliestS, j.LatestS = finite(res.fileTime(tg.Earliest)), finite(res.fileTime(tg.Latest))
-		}
-		out.Targets = append(out.Targets, j)
-	}
-	return out
-}
-
 func (res *fitResult) writeJSON(w io.Writer) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	enc.SetEscapeHTML(false)
-	return enc.Encode(res.toJSON())
+	return enc.Encode(forecastjson.NewFileFit(res.forecast, res.origin, res.until))
 }
 
 // writeText prints the human-readable summary.
@@ -361,7 +295,7 @@ func (res *fitResult) writeText(w io.Writer) error {
 	}
 	if handling {
 		fmt.Fprintln(&b, "Handling cautions:")
-		for _, c := range exporter.HandlingCautions {
+		for _, c := range predict.HandlingCautions {
 			fmt.Fprintf(&b, "  - %s\n", c)
 		}
 	}
@@ -407,7 +341,7 @@ func (res *fitResult) plot(path string) error {
 		Origin:      res.origin,
 		OriginLabel: "t_s = 0",
 		Forecast:    res.forecast,
-		Cautions:    exporter.HandlingCautions,
+		Cautions:    predict.HandlingCautions,
 	}
 	for i, t := range res.whole.Times {
 		f.Readings = append(f.Readings, report.Sample{Time: res.origin.Add(secondsDur(t)), Celsius: res.whole.Celsius[i]})

@@ -11,7 +11,8 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/internal/forecastjson"
+	"github.com/settle-lab/settle/predict"
 )
 
 // runFit runs `settle fit` with args through the root command, as a user would.
@@ -44,9 +45,9 @@ func writeCurve(t *testing.T, step, end float64, fn func(s float64) string) stri
 // exponential is our own test curve: 20 + 180·exp(−t/600) °C, 0.1 °C steps.
 func exponential(s float64) float64 { return 20 + 180*math.Exp(-s/600) }
 
-func decodeFit(t *testing.T, out string) (fitJSON, map[string]json.RawMessage) {
+func decodeFit(t *testing.T, out string) (forecastjson.FileFit, map[string]json.RawMessage) {
 	t.Helper()
-	var got fitJSON
+	var got forecastjson.FileFit
 	var raw map[string]json.RawMessage
 	if err := json.Unmarshal([]byte(out), &got); err != nil {
 		t.Fatalf("output is not JSON: %v\n%s", err, out)
@@ -131,7 +132,7 @@ func TestFitJSONContract(t *testing.T) {
 		if g.Kind != kinds[g.Name] {
 			t.Errorf("%s: kind %q, want %q", g.Name, g.Kind, kinds[g.Name])
 		}
-		if (g.Kind == "handling") != (len(g.Cautions) == len(exporter.HandlingCautions)) {
+		if (g.Kind == "handling") != (len(g.Cautions) == len(predict.HandlingCautions)) {
 			t.Errorf("%s (%s): %d cautions", g.Name, g.Kind, len(g.Cautions))
 		}
 	}

@@ -22,8 +22,9 @@ import (
 
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq/journal"
-	"github.com/settle-lab/settle/exporter/report"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
+	"github.com/settle-lab/settle/runs"
 )
 
 func init() {
@@ -248,7 +249,7 @@ func runReport(stdout io.Writer, f *cliFlags, runID, out string) error {
 // configuration, a refit without one.
 func reportForecast(j *journal.Journal, c cliConfig, run journal.Run) (*predict.Forecast, error) {
 	if c.cfg == nil {
-		fc, err := report.Refit(j, run, predict.TrackerOptions{})
+		fc, err := runs.Refit(j, run, predict.TrackerOptions{})
 		if fc != nil {
 			fc.Notes = append(fc.Notes, "Made without the daemon's configuration (give --config): the daemon's figures may differ.")
 		}
@@ -258,7 +259,7 @@ func reportForecast(j *journal.Journal, c cliConfig, run journal.Run) (*predict.
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", c.path, err)
 	}
-	return report.Engine{Specs: specs, Options: trackerOptions}.Forecast(j, run)
+	return runs.Engine{Specs: specs, Options: trackerOptions}.Forecast(j, run)
 }
 
 // findRun looks a run up; an unknown id is an error listing the newest runs.
@@ -516,7 +517,7 @@ changes until http.token is set in its configuration.`,
 				spec.SpecimenSpec = string(b)
 			}
 			if targets != "" {
-				if _, err := report.ParseTargets([]byte(targets)); err != nil {
+				if _, err := predict.ParseTargets([]byte(targets)); err != nil {
 					return fmt.Errorf("--targets: %w", err)
 				}
 				spec.Targets = json.RawMessage(targets)

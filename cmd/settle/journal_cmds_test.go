@@ -18,7 +18,9 @@ import (
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
-	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
+	"github.com/settle-lab/settle/runs"
 )
 
 var journalT0 = time.Date(2026, 3, 14, 9, 0, 0, 0, time.UTC)
@@ -173,7 +175,7 @@ func TestReportOfflineWhileDaemonWrites(t *testing.T) {
 
 func TestRunStartStopOverHTTP(t *testing.T) {
 	j, _ := writerJournal(t)
-	srv := httptest.NewServer(report.RunsAPI(j, report.APIOptions{Token: "tok", Logger: slog.New(slog.NewTextHandler(io.Discard, nil))}))
+	srv := httptest.NewServer(runs.API(j, runs.APIOptions{Token: "tok", Logger: slog.New(slog.NewTextHandler(io.Discard, nil))}))
 	defer srv.Close()
 	specFile := filepath.Join("..", "..", "testdata", "journal", "specimen-example.yaml")
 	targets, err := os.ReadFile(filepath.Join("..", "..", "testdata", "journal", "targets-example.json"))
@@ -193,7 +195,7 @@ func TestRunStartStopOverHTTP(t *testing.T) {
 	if err != nil || run.Specimen != "S-7" || run.Origin != "cli" || !strings.Contains(run.SpecimenSpec, "cylinder") {
 		t.Fatalf("active run %+v, %v", run, err)
 	}
-	if ts, err := report.ParseTargets(run.Targets); err != nil || len(ts) != 3 || ts[1].Hold != 5*time.Minute {
+	if ts, err := predict.ParseTargets(run.Targets); err != nil || len(ts) != 3 || ts[1].Hold != 5*time.Minute {
 		t.Errorf("stored targets %s → %+v, %v; want the 3 example targets", run.Targets, ts, err)
 	}
 	if _, err := executeJournalCmd(t, "run-start", "--addr", srv.URL, "--channel", "rack-2", "--specimen", "S-8"); err == nil || !strings.Contains(err.Error(), "HTTP 409") {

@@ -29,7 +29,10 @@ import (
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/internal/forecastjson"
+	"github.com/settle-lab/settle/internal/httpjson"
+	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/runs"
 )
 
 // chromium returns the path of Debian's chromium, or skips (fails under CI=true, where
@@ -212,11 +215,11 @@ func checkCommon(t *testing.T, c cardView) {
 // checkCautions checks the board's one caution block.
 func checkCautions(t *testing.T, b boardView) {
 	t.Helper()
-	if !b.CautionsShown || len(b.Cautions) != len(exporter.HandlingCautions) {
-		t.Errorf("caution block shown %v with %d cautions, want %d", b.CautionsShown, len(b.Cautions), len(exporter.HandlingCautions))
+	if !b.CautionsShown || len(b.Cautions) != len(predict.HandlingCautions) {
+		t.Errorf("caution block shown %v with %d cautions, want %d", b.CautionsShown, len(b.Cautions), len(predict.HandlingCautions))
 		return
 	}
-	for i, c := range exporter.HandlingCautions {
+	for i, c := range predict.HandlingCautions {
 		if b.Cautions[i] != c {
 			t.Errorf("caution %d: %q, want %q", i, b.Cautions[i], c)
 		}
@@ -328,7 +331,7 @@ func checkDemoCard(t *testing.T, base string, c cardView, api exporter.ChannelJS
 	if !strings.HasPrefix(c.Specimen, "S2611-") {
 		t.Errorf("%s: specimen %q, want the run's S2611-…", c.Name, c.Specimen)
 	}
-	var handling *exporter.TargetJSON
+	var handling *forecastjson.TargetForecast
 	for i := range api.Targets {
 		if api.Targets[i].Kind == "handling" {
 			handling = &api.Targets[i]
@@ -519,28 +522,28 @@ func boardFixture(t *testing.T, now time.Time) (string, *fixtureAcks) {
 	}
 	channels := boardChannels(now)
 	mux := http.NewServeMux()
-	runs := report.RunsAPI(j, report.APIOptions{Token: boardToken})
+	runs := runs.API(j, runs.APIOptions{Token: boardToken})
 	mux.Handle("/api/v1/runs", runs)
 	mux.Handle("/api/v1/runs/", runs)
 	acks := &fixtureAcks{byChannel: map[string]map[string]any{}}
 	mux.HandleFunc("GET /api/v1/channels", func(w http.ResponseWriter, r *http.Request) {
-		exporter.WriteJSON(w, http.StatusOK, map[string]any{"generated_at": time.Now().UTC(), "channels": acks.apply(channels)})
+		httpjson.Write(w, http.StatusOK, map[string]any{"generated_at": time.Now().UTC(), "channels": acks.apply(channels)})
 	})
 	// The daemon's acknowledge endpoint is tested in exporter (TestAcknowledge); here it
 	// checks the token and keeps the acknowledgement, as the daemon does, so that the
 	// page's request, its answer and a second screen can be seen.
 	mux.HandleFunc("POST /api/v1/channels/{name}/acknowledge", func(w http.ResponseWriter, r *http.Request) {
 		if r.Header.Get("Authorization") != "Bearer "+boardToken {
-			exporter.WriteJSON(w, http.StatusForbidden, exporter.ErrorJSON{Error: "wrong token"})
+			httpjson.Write(w, http.StatusForbidden, httpjson.Error{Error: "wrong token"})
 			return
 		}
-		exporter.WriteJSON(w, http.StatusOK, acks.add(r.PathValue("name"), now))
+		httpjson.Write(w, http.StatusOK, acks.add(r.PathValue("name"), now))
 	})
 	mux.HandleFunc("GET /api/v1/channels/{name}", func(w http.ResponseWriter, r *http.Request) {
-		exporter.WriteJSON(w, http.StatusOK, map[string]any{"name": r.PathValue("name"), "last_received": time.Now().Add(-12 * time.Second).UTC()})
+		httpjson.Write(w, http.StatusOK, map[string]any{"name": r.PathValue("name"), "last_received": time.Now().Add(-12 * time.Second).UTC()})
 	})
 	mux.HandleFunc("GET /api/v1/channels/{name}/series", func(w http.ResponseWriter, r *http.Request) {
-		exporter.WriteJSON(w, http.StatusOK, boardSeries(r.PathValue("name"), channels, now))
+		httpjson.Write(w, http.StatusOK, boardSeries(r.PathValue("name"), channels, now))
 	})
 	mux.HandleFunc("GET /api/v1/events", func(w http.ResponseWriter, r *http.Request) {
 		w.Header().Set("Content-Type", "text/event-stream")

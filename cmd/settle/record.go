@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"encoding/json"
 	"log/slog"
 	"net/http"
 	"time"
@@ -11,13 +10,14 @@ import (
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter"
-	"github.com/settle-lab/settle/exporter/report"
+	"github.com/settle-lab/settle/internal/httpjson"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/runs"
 )
 
 // resumeWindow is how far back a restarted daemon reloads readings into its trackers
 // (reports replay runs with the same bound).
-const resumeWindow = report.ResumeWindow
+const resumeWindow = runs.ResumeWindow
 
 // historyEvery is how often the forecasts of channels with an active run are offered to
 // the journal's forecast history (it stores only meaningful changes).
@@ -72,8 +72,8 @@ func (r *recorder) startConfigured(channels []config.Channel) {
 			r.log.Info("run continues", "run", id, "channel", ch.Name)
 			continue
 		}
-		run, err := r.j.StartRun(journal.RunSpec{Channel: ch.Name, Specimen: ch.Run.Specimen,
-			Description: ch.Run.Description, Origin: "config", Targets: targetsJSON(r.targets[ch.Name])})
+		run, err := runs.Start(r.j, journal.RunSpec{Channel: ch.Name, Specimen: ch.Run.Specimen,
+			Description: ch.Run.Description, Origin: "config"}, r.targets[ch.Name])
 		if err != nil {
 			if !r.warnedConfigured { // once, not on every retry
 				r.log.Warn("configured run not started yet; retrying every second", "channel", ch.Name, "err", err)
@@ -103,13 +103,7 @@ func (r *recorder) observe(rd daq.Reading) {
 		r.log.Info("placement rule: placement seen, run already active", "channel", rd.Channel, "run", id, "start", p.Start)
 		return
 	}
-	run, err := r.j.StartRun(journal.RunSpec{
-		Channel:  rd.Channel,
-		Specimen: "auto-" + p.Start.UTC().Format("20060102T150405Z"),
-		Origin:   "auto",
-		Start:    p.Start,
-		Targets:  targetsJSON(r.targets[rd.Channel]),
-	})
+	run, err := runs.StartPlaced(r.j, rd.Channel, p.Start, r.targets[rd.Channel])
 	if err != nil {
 		r.log.Warn("auto run not started", "channel", rd.Channel, "err", err)
 		return
@@ -122,21 +116,13 @@ func (r *recorder) observe(rd daq.Reading) {
 // phase and last decision.
 func (r *recorder) placementAPI() http.Handler {
 	return http.HandlerFunc(func(w http.ResponseWriter, _ *http.Request) {
-		exporter.WriteJSON(w, http.StatusOK, map[string]any{"channels": r.watch.Status()})
+		httpjson.Write(w, http.StatusOK, map[string]any{"channels": r.watch.Status()})
 	})
 }
 
-func targetsJSON(ts []predict.Target) json.RawMessage {
-	b, err := report.TargetsJSON(ts)
-	if err != nil {
-		return nil
-	}
-	return b
-}
-
 // runsAPI serves /api/v1/runs over the journal, with live forecasts from bench.
-func (r *recorder) runsAPI(bench *predict.Bench, token string, engine *report.Engine) http.Handler {
-	return report.RunsAPI(r.j, report.APIOptions{
+func (r *recorder) runsAPI(bench *predict.Bench, token string, engine *runs.Engine) http.Handler {
+	return runs.API(r.j, runs.APIOptions{
 		Token:  token,
 		Engine: engine,
 		Live: func(channel string) *predict.Forecast {
@@ -194,7 +180,7 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed 
 		case <-ctx.Done():
 			select {
 			case <-replayed:
-				r.recordFinal(bench.Snapshot()) // the last forecasts before shutdown
+				runs.RecordFinalBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
 			default:
 			}
 			return
@@ -210,20 +196,9 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed 
 			}
 			bench.FitPending()
 			if now.Sub(last) >= historyEvery {
-				report.RecordBench(r.j, bench.Snapshot())
+				runs.RecordBench(r.j, bench.Snapshot())
 				last = now
 			}
-		}
-	}
-}
-
-// recordFinal ends the forecast history of every active run with the forecast the
-// daemon shows now (report.RecordFinal), so a report made after the daemon stops
-// replays exactly the readings that forecast used.
-func (r *recorder) recordFinal(states []predict.ChannelState) {
-	for _, st := range states {
-		if id, ok := r.j.ActiveRunID(st.Name); ok {
-			report.RecordFinal(r.j, id, st.Forecast)
 		}
 	}
 }
@@ -239,7 +214,7 @@ func (r *recorder) syncPlaced(bench *predict.Bench) {
 
 // replayPerChannel bounds the readings of each channel a restart feeds to the trackers
 // (the trackers keep at most 4,096 points per segment, thinned as it grows).
-const replayPerChannel = report.ResumePerChannel
+const replayPerChannel = runs.ResumePerChannel
 
 // resume reloads the last resumeWindow of readings committed up to the mark seq (at
 // most replayPerChannel per channel) into bench in one pass (one fit per channel at the

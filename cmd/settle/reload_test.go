@@ -56,11 +56,13 @@ func TestReloadOnSignal(t *testing.T) {
 	warm := `settle_target_info{channel="steel-cyl-a",kind="temperature",target="warm"}`
 	handling := `settle_target_info{channel="steel-cyl-a",kind="handling",target="handling"}`
 	base := "http://" + addr
-	waitScrape(t, base, func(m map[string]float64) bool { return m[handling] == 1 })
+	first := waitScrape(t, base, func(m map[string]float64) bool { return m[handling] == 1 })
+	checkReloadSeries(t, "first load", first, 1, 0)
 
 	write("      - {name: warm, celsius: 300}\n")
 	reload <- syscall.SIGHUP
-	waitScrape(t, base, func(m map[string]float64) bool { return m[warm] == 1 })
+	reloaded := waitScrape(t, base, func(m map[string]float64) bool { return m[warm] == 1 })
+	checkReloadSeries(t, "valid reload", reloaded, 1, first[reloadedAt])
 
 	write("      - {name: warm, celsius: hot}\n") // not a number: refused
 	reload <- syscall.SIGHUP
@@ -68,6 +70,11 @@ func TestReloadOnSignal(t *testing.T) {
 	m := waitScrape(t, base, func(m map[string]float64) bool { return m[handling] == 1 })
 	if m[warm] != 1 {
 		t.Error("a refused reload dropped the running configuration's target")
+	}
+	m = waitScrape(t, base, func(m map[string]float64) bool { return m[reloadOK] == 0 })
+	if m[reloadedAt] != reloaded[reloadedAt] || m[warm] != 1 {
+		t.Errorf("after a refused reload the last success's time moved (%v, was %v) or the running target went (%v)",
+			m[reloadedAt], reloaded[reloadedAt], m[warm])
 	}
 	// A valid file whose listen address is taken cannot start: the daemon goes back to
 	// the configuration it ran and keeps serving.
@@ -83,6 +90,10 @@ func TestReloadOnSignal(t *testing.T) {
 	reload <- syscall.SIGHUP
 	time.Sleep(500 * time.Millisecond)
 	waitScrape(t, base, func(m map[string]float64) bool { return m[warm] == 1 })
+	if m = waitScrape(t, base, func(m map[string]float64) bool { return m[warm] == 1 }); m[reloadOK] != 0 || m[reloadedAt] != reloaded[reloadedAt] {
+		t.Errorf("after a reload that could not start: %s = %v, want 0; %s = %v, want the last success's %v",
+			reloadOK, m[reloadOK], reloadedAt, m[reloadedAt], reloaded[reloadedAt])
+	}
 	select {
 	case err := <-done:
 		t.Fatalf("the daemon exited after a reload it could not start: %v", err)
@@ -92,6 +103,24 @@ func TestReloadOnSignal(t *testing.T) {
 	cancel()
 	if err := <-done; err != nil {
 		t.Errorf("runDaemon: %v", err)
+	}
+}
+
+// The reload series (exporter.ConfigReloads).
+const (
+	reloadOK   = "settle_config_last_reload_successful"
+	reloadedAt = "settle_config_last_reload_success_timestamp_seconds"
+)
+
+// checkReloadSeries checks a scrape's reload series: successful is want, and the last
+// success's time is present, within the last minute and later than after.
+func checkReloadSeries(t *testing.T, step string, m map[string]float64, want, after float64) {
+	t.Helper()
+	at, ok := m[reloadedAt]
+	now := float64(time.Now().UnixNano()) / 1e9
+	if v, present := m[reloadOK]; !present || v != want || !ok || at <= after || at > now || at < now-60 {
+		t.Errorf("%s: %s = %v (present %v), want %v; %s = %v, want after %v and within the last minute of %v",
+			step, reloadOK, v, present, want, reloadedAt, at, after, now)
 	}
 }
 

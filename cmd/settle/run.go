@@ -8,10 +8,12 @@ import (
 	"os"
 	"os/signal"
 	"syscall"
+	"time"
 
 	"github.com/spf13/cobra"
 
 	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/exporter"
 )
 
 func init() { subcommands = append(subcommands, newRunCmd) }
@@ -144,23 +146,29 @@ func (f *runFlags) demoDataDir(cfg *config.Config, log *slog.Logger) (cleanup fu
 // the configuration again; a valid one replaces the running daemon (ports closed and
 // reopened, the journal flushed and reopened, forecasts resumed from it), an invalid one
 // is logged and the running daemon goes on untouched. load is nil when there is nothing
-// to reload.
+// to reload. Each outcome is exported (exporter.ConfigReloads).
 func serveReloading(ctx context.Context, cfg *config.Config, log *slog.Logger, reload <-chan os.Signal, load func() (*config.Config, error)) error {
 	var prev *config.Config // the configuration that last ran, to fall back on
+	reloads := exporter.NewConfigReloads(time.Now())
 	for {
 		d, err := newDaemon(cfg, log)
 		if err != nil && prev != nil {
 			// A valid file that cannot start (its port is taken, say): keep serving.
 			log.Error("reloaded configuration cannot start: going back to the previous one", "err", err)
+			reloads.Failed()
 			cfg, prev = prev, nil
 			continue
 		}
 		if err != nil {
 			return err
 		}
+		if prev != nil {
+			reloads.Succeeded(time.Now())
+		}
+		d.metrics.MustRegister(reloads)
 		runCtx, stop := context.WithCancel(ctx)
 		next := make(chan *config.Config, 1)
-		go func() { next <- awaitReload(runCtx, reload, load, log); stop() }()
+		go func() { next <- awaitReload(runCtx, reload, load, log, reloads); stop() }()
 		err = d.Run(runCtx)
 		stop()
 		newCfg := <-next
@@ -173,8 +181,9 @@ func serveReloading(ctx context.Context, cfg *config.Config, log *slog.Logger, r
 }
 
 // awaitReload waits for a reload signal with a valid configuration and returns it, or
-// nil when ctx ends first.
-func awaitReload(ctx context.Context, reload <-chan os.Signal, load func() (*config.Config, error), log *slog.Logger) *config.Config {
+// nil when ctx ends first. A refused file is recorded in reloads.
+func awaitReload(ctx context.Context, reload <-chan os.Signal, load func() (*config.Config, error), log *slog.Logger,
+	reloads *exporter.ConfigReloads) *config.Config {
 	for {
 		select {
 		case <-ctx.Done():
@@ -187,6 +196,7 @@ func awaitReload(ctx context.Context, reload <-chan os.Signal, load func() (*con
 			cfg, err := load()
 			if err != nil {
 				log.Error("reload refused: the running configuration stays", "err", err)
+				reloads.Failed()
 				continue
 			}
 			return cfg

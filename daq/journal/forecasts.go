@@ -7,10 +7,6 @@ import (
 	"time"
 )
 
-// StateReached is the forecast state (predict.StateReached) whose first recording
-// also stores the run's observed crossing of that target.
-const StateReached = "reached"
-
 // ForecastPoint is one stored forecast of one target of a run.
 type ForecastPoint struct {
 	// Time is when the forecast was made (the time of the last reading it used).
@@ -27,6 +23,11 @@ type ForecastPoint struct {
 	// Estimated marks a reached At that is the fitted crossing (inside a gap of the
 	// readings, or at an unseen core), not a reading's time.
 	Estimated bool `json:"estimated,omitempty"`
+	// Reached is the caller's word that State is the forecast state "target reached"
+	// (the journal stores State as given and knows no forecast states): the first
+	// point of a target so marked also stores its At as the run's crossing. It is
+	// not stored itself; points read back (ForecastHistory) leave it false.
+	Reached bool `json:"-"`
 }
 
 type fcKey struct{ run, target string }
@@ -39,8 +40,8 @@ type forecastRow struct {
 
 // RecordForecast queues a forecast of one target of run for the next commit when it
 // differs meaningfully from the last one recorded (see Options.ForecastMinShift): a
-// new state, or a predicted time or bound that moved. The first "reached" state of a
-// target also stores its At as the run's crossing (marked estimated when p is). It
+// new state, or a predicted time or bound that moved. The first point of a target marked
+// Reached also stores its At as the run's crossing (marked estimated when p is). It
 // reports whether the point was queued; it never blocks on the disk.
 func (j *Journal) RecordForecast(runID string, p ForecastPoint) bool {
 	return j.record(runID, p, j.significant)
@@ -56,8 +57,8 @@ func (j *Journal) RecordFinalForecast(runID string, p ForecastPoint) bool {
 }
 
 // record queues p for the next commit unless a point of the same run and target was
-// recorded before and changed reports no change from it. The first "reached" state of
-// a target also stores its At as the run's crossing.
+// recorded before and changed reports no change from it. The first point of a target
+// marked Reached also stores its At as the run's crossing.
 func (j *Journal) record(runID string, p ForecastPoint, changed func(prev, cur ForecastPoint) bool) bool {
 	cur := forecastRow{run: runID, ForecastPoint: p}
 	k := fcKey{runID, p.Target}
@@ -70,7 +71,7 @@ func (j *Journal) record(runID string, p ForecastPoint, changed func(prev, cur F
 	if seen && !changed(prev.ForecastPoint, p) {
 		return false
 	}
-	cur.crossing = p.State == StateReached && (!seen || prev.State != StateReached)
+	cur.crossing = p.Reached && (!seen || !prev.Reached)
 	j.lastFc[k] = cur
 	j.fqueue = append(j.fqueue, cur)
 	return true

@@ -176,7 +176,7 @@ func TestForecastHistoryKeepsMeaningfulChanges(t *testing.T) {
 		if s.state == "reached" {
 			a, lo, hi = t0.Add(55*time.Second), time.Time{}, time.Time{}
 		}
-		if got := j.RecordForecast("r1", ForecastPoint{Time: t0.Add(s.dt), Target: "handle", State: s.state, At: a, Earliest: lo, Latest: hi}); got != s.kept {
+		if got := j.RecordForecast("r1", ForecastPoint{Time: t0.Add(s.dt), Target: "handle", State: s.state, At: a, Earliest: lo, Latest: hi, Reached: s.state == "reached"}); got != s.kept {
 			t.Errorf("step %d (%+v): kept %v, want %v", i, s, got, s.kept)
 		}
 	}
@@ -197,7 +197,7 @@ func TestForecastHistoryKeepsMeaningfulChanges(t *testing.T) {
 	}
 	// A crossing inside a gap of the readings is recorded as estimated.
 	j.RecordForecast("r1", ForecastPoint{Time: t0.Add(90 * time.Second), Target: "settled", State: "reached",
-		At: t0.Add(80 * time.Second), Estimated: true})
+		At: t0.Add(80 * time.Second), Estimated: true, Reached: true})
 	mustFlush(t, j)
 	est, err := j.EstimatedCrossings("r1")
 	if err != nil || !est["settled"] || len(est) != 1 {

@@ -16,7 +16,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
-	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -56,7 +55,7 @@ func (c figCase) figure() Figure {
 		}
 	}
 	f := Figure{Title: "figure test: " + c.name, Origin: figT0, OriginLabel: "run start", Forecast: fc,
-		Cutoff: at(c.until), Cautions: exporter.HandlingCautions, Targets: []FigureTarget{c.target}}
+		Cutoff: at(c.until), Cautions: predict.HandlingCautions, Targets: []FigureTarget{c.target}}
 	for s := 0.0; s <= c.duration; s += 20 {
 		v := 21.0
 		if s >= c.placed {
@@ -226,7 +225,7 @@ func TestHMLabels(t *testing.T) {
 // target only.
 func TestFigureCaption(t *testing.T) {
 	at := func(s float64) time.Time { return figT0.Add(time.Duration(s * float64(time.Second))) }
-	f := Figure{Origin: figT0, Cautions: exporter.HandlingCautions, Targets: []FigureTarget{
+	f := Figure{Origin: figT0, Cautions: predict.HandlingCautions, Targets: []FigureTarget{
 		{Name: "handle", Celsius: 50, Handling: true, State: "predicted", At: at(3600), Earliest: at(3300), Latest: at(4200)},
 		{Name: "cool", Celsius: 80, State: "reached", At: at(1800), Actual: at(1800), ActualEstimated: true},
 	}}
@@ -235,7 +234,7 @@ func TestFigureCaption(t *testing.T) {
 		"handling target handle 50.0 °C: predicted 1:00 (~90 % interval 0:55–1:10); plan with the late end, 1:10.",
 		"target cool 80.0 °C: reached at 0:30; crossed at 0:30 (estimated from the fit: no reading there).",
 		"No fitted model.",
-		"Handling times are estimates: " + exporter.HandlingCautions[0],
+		"Handling times are estimates: " + predict.HandlingCautions[0],
 	} {
 		if !strings.Contains(got, want) {
 			t.Errorf("caption lacks %q:\n%s", want, got)

@@ -4,15 +4,14 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
-	"strings"
 	"time"
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/predict"
+	"iter"
 )
 
 // Paths are the files Write made.
@@ -39,10 +38,10 @@ func Write(dir string, j *journal.Journal, runID string, fc *predict.Forecast) (
 	if err := os.MkdirAll(dir, 0o750); err != nil {
 		return Paths{}, fmt.Errorf("report of run %s: %w", runID, err)
 	}
-	base := filepath.Join(dir, fileSafe(run.ID))
+	base := filepath.Join(dir, FileName(run.ID))
 	p := Paths{CSV: base + "-readings.csv", JSON: base + "-summary.json", PNG: base + ".png"}
 	var csvBuf, jsonBuf, pngBuf bytes.Buffer
-	if _, err := WriteCSV(&csvBuf, slice(readings), run.Started); err != nil {
+	if _, err := WriteCSV(&csvBuf, Seq(readings), run.Started); err != nil {
 		return Paths{}, fmt.Errorf("report of run %s: %w", runID, err)
 	}
 	if err := writeSummary(&jsonBuf, s); err != nil {
@@ -82,8 +81,8 @@ func writeFile(path string, b []byte) error {
 	return nil
 }
 
-// fileSafe makes a run id usable as a file name.
-func fileSafe(id string) string {
+// FileName makes a run id usable as a file name.
+func FileName(id string) string {
 	b := []byte(id)
 	for i, c := range b {
 		ok := c == '-' || c == '_' || c == '.' || c >= '0' && c <= '9' || c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z'
@@ -114,79 +113,13 @@ func RunReadings(j *journal.Journal, run journal.Run) ([]daq.Reading, error) {
 	return out, nil
 }
 
-func slice(rs []daq.Reading) func(func(daq.Reading, error) bool) {
+// Seq yields rs (with no errors), for WriteCSV.
+func Seq(rs []daq.Reading) iter.Seq2[daq.Reading, error] {
 	return func(yield func(daq.Reading, error) bool) {
 		for _, r := range rs {
 			if !yield(r, nil) {
 				return
 			}
-		}
-	}
-}
-
-// Refit fits the run's recorded OK readings afresh with predict's tracker, the run's
-// stored targets and, when it parses (predict.ParseSpecimen), its specimen
-// description, for a report made away from the daemon. It fits once, at the end
-// (opt.FitEvery is ignored); segmentation follows opt. It returns nil and no
-// error when there are no readings to fit.
-func Refit(j *journal.Journal, run journal.Run, opt predict.TrackerOptions) (*predict.Forecast, error) {
-	targets, err := ParseTargets(run.Targets)
-	if err != nil {
-		return nil, fmt.Errorf("refit run %s: %w", run.ID, err)
-	}
-	readings, err := RunReadings(j, run)
-	if err != nil {
-		return nil, err
-	}
-	var notes []string
-	if strings.TrimSpace(run.SpecimenSpec) != "" {
-		sp, err := predict.ParseSpecimen([]byte(run.SpecimenSpec))
-		if err != nil {
-			notes = append(notes, fmt.Sprintf("The run's specimen description was not used: %v.", err))
-		} else {
-			opt.Specimen = &sp
-		}
-	}
-	opt.FitEvery = math.MaxInt64 // one fit at the end, not the daemon's schedule
-	tr := predict.NewTracker(targets, opt)
-	for _, r := range readings {
-		if r.OK() {
-			tr.Add(r.Time, r.Celsius)
-		}
-	}
-	fc := tr.Fit()
-	if fc != nil {
-		fc.Notes = append(fc.Notes, notes...)
-		fc.Notes = append(fc.Notes, "Refitted from the journal for this report; the ambient is fitted.")
-	}
-	return fc, nil
-}
-
-// RecordForecasts stores fc's target forecasts in run runID's history (the journal
-// keeps only meaningful changes and the first observed crossing). The daemon calls it
-// after each fit of a channel with an active run.
-func RecordForecasts(j *journal.Journal, runID string, fc *predict.Forecast) {
-	if fc == nil {
-		return
-	}
-	for _, tf := range fc.Targets {
-		j.RecordForecast(runID, forecastPoint(fc, tf))
-	}
-}
-
-// forecastPoint is one target's forecast as the run's history stores it.
-func forecastPoint(fc *predict.Forecast, tf predict.TargetForecast) journal.ForecastPoint {
-	return journal.ForecastPoint{Time: fc.FittedAt, Target: tf.Target.Name, State: string(tf.State),
-		At: tf.At, Earliest: tf.Earliest, Latest: tf.Latest, Estimated: tf.Estimated}
-}
-
-// RecordBench stores the forecasts of every channel in states that has an active run
-// (see RecordForecasts). The daemon calls it every few seconds with Bench.Snapshot();
-// it touches no disk itself (the journal commits with its next batch).
-func RecordBench(j *journal.Journal, states []predict.ChannelState) {
-	for _, st := range states {
-		if id, ok := j.ActiveRunID(st.Name); ok {
-			RecordForecasts(j, id, st.Forecast)
 		}
 	}
 }

@@ -1,4 +1,4 @@
-package report
+package runs
 
 import (
 	"bytes"
@@ -15,14 +15,15 @@ import (
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
-	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/internal/httpjson"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
 )
 
 // MaxBodyBytes caps the size of a request body of the runs API.
 const MaxBodyBytes = 64 << 10
 
-// APIOptions configures RunsAPI. The zero value serves reads and refuses changes.
+// APIOptions configures API. The zero value serves reads and refuses changes.
 type APIOptions struct {
 	// Token is the bearer token POST requests must carry; empty refuses every POST.
 	Token string
@@ -44,7 +45,7 @@ type APIOptions struct {
 	Logger *slog.Logger
 }
 
-// RunsAPI serves runs over HTTP:
+// API serves runs over HTTP:
 //
 //	GET  /api/v1/runs[?channel=C&active=true&limit=N]  list, newest first
 //	GET  /api/v1/runs/{id}                             a run, its forecast history and crossings
@@ -57,7 +58,7 @@ type APIOptions struct {
 // POST needs "Authorization: Bearer <token>"; with an empty token, POST is refused.
 // Bodies are capped at MaxBodyBytes and unknown JSON fields are rejected. Errors are
 // JSON {"error": "..."}. Reports of stopped runs refit the recorded readings.
-func RunsAPI(j *journal.Journal, opt APIOptions) http.Handler {
+func API(j *journal.Journal, opt APIOptions) http.Handler {
 	if opt.Logger == nil {
 		opt.Logger = slog.Default()
 	}
@@ -84,14 +85,14 @@ func (h runsHandler) ServeHTTP(w http.ResponseWriter, r *http.Request) {
 	}
 	if allow := h.Allowed(r); allow != "" {
 		w.Header().Set("Allow", allow)
-		writeError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed here; allowed: "+allow)
+		httpjson.WriteError(w, http.StatusMethodNotAllowed, r.Method+" is not allowed here; allowed: "+allow)
 		return
 	}
-	writeError(w, http.StatusNotFound, "no such page in the runs API")
+	httpjson.WriteError(w, http.StatusNotFound, "no such page in the runs API")
 }
 
 // Allowed lists the methods the runs API takes on r's path ("" when none does).
-func (h runsHandler) Allowed(r *http.Request) string { return exporter.AllowedMethods(h.mux, r) }
+func (h runsHandler) Allowed(r *http.Request) string { return httpjson.AllowedMethods(h.mux, r) }
 
 type api struct {
 	j       *journal.Journal
@@ -118,13 +119,13 @@ type StopRequest struct {
 func (a *api) auth(next http.HandlerFunc) http.HandlerFunc {
 	return func(w http.ResponseWriter, r *http.Request) {
 		if a.token == "" {
-			writeError(w, http.StatusForbidden, "run changes over HTTP are disabled: the daemon has no API token")
+			httpjson.WriteError(w, http.StatusForbidden, "run changes over HTTP are disabled: the daemon has no API token")
 			return
 		}
 		got, ok := strings.CutPrefix(r.Header.Get("Authorization"), "Bearer ")
 		if !ok || subtle.ConstantTimeCompare([]byte(got), []byte(a.token)) != 1 {
 			w.Header().Set("WWW-Authenticate", `Bearer realm="settle"`)
-			writeError(w, http.StatusUnauthorized, "missing or wrong bearer token")
+			httpjson.WriteError(w, http.StatusUnauthorized, "missing or wrong bearer token")
 			return
 		}
 		next(w, r)
@@ -137,7 +138,7 @@ func (a *api) list(w http.ResponseWriter, r *http.Request) {
 	if s := q.Get("limit"); s != "" {
 		n, err := strconv.Atoi(s)
 		if err != nil || n < 1 {
-			writeError(w, http.StatusBadRequest, fmt.Sprintf("limit %q: want a positive integer", s))
+			httpjson.WriteError(w, http.StatusBadRequest, fmt.Sprintf("limit %q: want a positive integer", s))
 			return
 		}
 		f.Limit = n
@@ -150,7 +151,7 @@ func (a *api) list(w http.ResponseWriter, r *http.Request) {
 	if runs == nil {
 		runs = []journal.Run{}
 	}
-	exporter.WriteJSON(w, http.StatusOK, map[string]any{"runs": runs})
+	httpjson.Write(w, http.StatusOK, map[string]any{"runs": runs})
 }
 
 func (a *api) show(w http.ResponseWriter, r *http.Request) {
@@ -170,7 +171,7 @@ func (a *api) show(w http.ResponseWriter, r *http.Request) {
 		a.fail(w, err)
 		return
 	}
-	exporter.WriteJSON(w, http.StatusOK, d)
+	httpjson.Write(w, http.StatusOK, d)
 }
 
 func (a *api) start(w http.ResponseWriter, r *http.Request) {
@@ -182,25 +183,25 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 		spec.Origin = "api"
 	}
 	if len(spec.Targets) > 0 {
-		if _, err := ParseTargets(spec.Targets); err != nil {
-			writeError(w, http.StatusBadRequest, err.Error())
+		if _, err := predict.ParseTargets(spec.Targets); err != nil {
+			httpjson.WriteError(w, http.StatusBadRequest, err.Error())
 			return
 		}
 	}
 	if strings.TrimSpace(spec.SpecimenSpec) != "" {
 		if _, err := predict.ParseSpecimen([]byte(spec.SpecimenSpec)); err != nil {
-			writeError(w, http.StatusBadRequest, "specimen_spec: "+err.Error())
+			httpjson.WriteError(w, http.StatusBadRequest, "specimen_spec: "+err.Error())
 			return
 		}
 	}
 	if a.channel != nil {
 		targets, ok := a.channel(spec.Channel)
 		if !ok {
-			writeError(w, http.StatusBadRequest, fmt.Sprintf("unknown channel %q: not in the daemon's configuration", spec.Channel))
+			httpjson.WriteError(w, http.StatusBadRequest, fmt.Sprintf("unknown channel %q: not in the daemon's configuration", spec.Channel))
 			return
 		}
 		if len(spec.Targets) == 0 && len(targets) > 0 {
-			b, err := TargetsJSON(targets)
+			b, err := predict.TargetsJSON(targets)
 			if err != nil {
 				a.fail(w, err)
 				return
@@ -209,7 +210,7 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 		}
 	}
 	if a.ambient != nil && a.ambient(spec.Channel) {
-		writeError(w, http.StatusBadRequest, fmt.Sprintf("channel %q is an ambient sensor (the room's air): runs are for specimen positions", spec.Channel))
+		httpjson.WriteError(w, http.StatusBadRequest, fmt.Sprintf("channel %q is an ambient sensor (the room's air): runs are for specimen positions", spec.Channel))
 		return
 	}
 	run, err := a.j.StartRun(spec)
@@ -219,7 +220,7 @@ func (a *api) start(w http.ResponseWriter, r *http.Request) {
 	}
 	a.log.Info("run started", "run", run.ID, "channel", run.Channel, "specimen", run.Specimen, "origin", run.Origin)
 	w.Header().Set("Location", "/api/v1/runs/"+run.ID)
-	exporter.WriteJSON(w, http.StatusCreated, run)
+	httpjson.Write(w, http.StatusCreated, run)
 }
 
 func (a *api) stop(w http.ResponseWriter, r *http.Request) {
@@ -236,7 +237,7 @@ func (a *api) stop(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	a.log.Info("run stopped", "run", run.ID, "channel", run.Channel)
-	exporter.WriteJSON(w, http.StatusOK, run)
+	httpjson.Write(w, http.StatusOK, run)
 }
 
 // forecast is the model for a report of run: live for an active run, else the
@@ -267,7 +268,7 @@ func (a *api) runReadings(w http.ResponseWriter, r *http.Request) (journal.Run, 
 	run, err := a.j.Run(r.PathValue("id"))
 	if err == nil {
 		var rs []daq.Reading
-		if rs, err = RunReadings(a.j, run); err == nil {
+		if rs, err = report.RunReadings(a.j, run); err == nil {
 			return run, rs, true
 		}
 	}
@@ -281,12 +282,12 @@ func (a *api) csv(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	var buf bytes.Buffer
-	if _, err := WriteCSV(&buf, slice(rs), run.Started); err != nil {
+	if _, err := report.WriteCSV(&buf, report.Seq(rs), run.Started); err != nil {
 		a.fail(w, err)
 		return
 	}
 	w.Header().Set("Content-Type", "text/csv; charset=utf-8")
-	w.Header().Set("Content-Disposition", fmt.Sprintf(`attachment; filename="%s-readings.csv"`, fileSafe(run.ID)))
+	w.Header().Set("Content-Disposition", fmt.Sprintf(`attachment; filename="%s-readings.csv"`, report.FileName(run.ID)))
 	_, _ = w.Write(buf.Bytes())
 }
 
@@ -296,12 +297,12 @@ func (a *api) summary(w http.ResponseWriter, r *http.Request) {
 		a.fail(w, err)
 		return
 	}
-	s, err := Build(a.j, run, a.forecast(run), time.Now())
+	s, err := report.Build(a.j, run, a.forecast(run), time.Now())
 	if err != nil {
 		a.fail(w, err)
 		return
 	}
-	exporter.WriteJSON(w, http.StatusOK, s)
+	httpjson.Write(w, http.StatusOK, s)
 }
 
 func (a *api) figure(w http.ResponseWriter, r *http.Request) {
@@ -310,13 +311,13 @@ func (a *api) figure(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	fc := a.forecast(run)
-	s, err := Build(a.j, run, fc, time.Now())
+	s, err := report.Build(a.j, run, fc, time.Now())
 	if err != nil {
 		a.fail(w, err)
 		return
 	}
 	var buf bytes.Buffer
-	if err := WritePNG(&buf, s, rs, fc); err != nil {
+	if err := report.WritePNG(&buf, s, rs, fc); err != nil {
 		a.fail(w, err)
 		return
 	}
@@ -337,9 +338,9 @@ func decode(w http.ResponseWriter, r *http.Request, v any, optional bool) bool {
 	case optional && errors.Is(err, io.EOF):
 		return true
 	case errors.As(err, &tooBig):
-		writeError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf("body larger than %d bytes", MaxBodyBytes))
+		httpjson.WriteError(w, http.StatusRequestEntityTooLarge, fmt.Sprintf("body larger than %d bytes", MaxBodyBytes))
 	default:
-		writeError(w, http.StatusBadRequest, "bad JSON body: "+err.Error())
+		httpjson.WriteError(w, http.StatusBadRequest, "bad JSON body: "+err.Error())
 	}
 	return false
 }
@@ -349,20 +350,16 @@ func decode(w http.ResponseWriter, r *http.Request, v any, optional bool) bool {
 func (a *api) fail(w http.ResponseWriter, err error) {
 	switch {
 	case errors.Is(err, journal.ErrNoRun):
-		writeError(w, http.StatusNotFound, err.Error())
+		httpjson.WriteError(w, http.StatusNotFound, err.Error())
 	case errors.Is(err, journal.ErrRunActive), errors.Is(err, journal.ErrStopped):
-		writeError(w, http.StatusConflict, err.Error())
+		httpjson.WriteError(w, http.StatusConflict, err.Error())
 	case errors.Is(err, journal.ErrInvalid):
-		writeError(w, http.StatusBadRequest, err.Error())
+		httpjson.WriteError(w, http.StatusBadRequest, err.Error())
 	case errors.Is(err, journal.ErrUnavailable), errors.Is(err, journal.ErrReadOnly):
-		writeError(w, http.StatusServiceUnavailable, "the journal is not available; see the daemon log")
+		httpjson.WriteError(w, http.StatusServiceUnavailable, "the journal is not available; see the daemon log")
 		a.log.Warn("runs API: journal unavailable", "err", err)
 	default:
 		a.log.Error("runs API", "err", err)
-		writeError(w, http.StatusInternalServerError, "internal error; see the daemon log")
+		httpjson.WriteError(w, http.StatusInternalServerError, "internal error; see the daemon log")
 	}
-}
-
-func writeError(w http.ResponseWriter, status int, msg string) {
-	exporter.WriteJSON(w, status, map[string]string{"error": msg})
 }

@@ -1,4 +1,4 @@
-package report
+package runs
 
 import (
 	"encoding/json"
@@ -40,7 +40,7 @@ func do(t *testing.T, srv *httptest.Server, method, path, token, body string) (*
 
 func TestRunsAPIStartStop(t *testing.T) {
 	j := openJournal(t)
-	srv := httptest.NewServer(RunsAPI(j, APIOptions{Token: testToken, Logger: quietLog}))
+	srv := httptest.NewServer(API(j, APIOptions{Token: testToken, Logger: quietLog}))
 	defer srv.Close()
 	spec := `{"channel":"rack-1","specimen":"S-9","targets":[{"name":"handle","celsius":45,"handling":true}]}`
 	for _, tc := range []struct {
@@ -117,7 +117,7 @@ func TestRunsAPIChannelDefaults(t *testing.T) {
 		return nil, false
 	}
 	ambient := func(ch string) bool { return ch == "rack-air" }
-	srv := httptest.NewServer(RunsAPI(j, APIOptions{Token: testToken, Channel: known, Ambient: ambient, Logger: quietLog}))
+	srv := httptest.NewServer(API(j, APIOptions{Token: testToken, Channel: known, Ambient: ambient, Logger: quietLog}))
 	defer srv.Close()
 	if resp, b := do(t, srv, "POST", "/api/v1/runs", testToken, `{"channel":"rack-9","specimen":"x"}`); resp.StatusCode != 400 || !strings.Contains(string(b), "unknown channel") {
 		t.Errorf("unknown channel: %d %s, want 400", resp.StatusCode, b)
@@ -134,14 +134,14 @@ func TestRunsAPIChannelDefaults(t *testing.T) {
 	if resp.StatusCode != 201 || json.Unmarshal(b, &run) != nil {
 		t.Fatalf("start: %d %s", resp.StatusCode, b)
 	}
-	ts, err := ParseTargets(run.Targets)
+	ts, err := predict.ParseTargets(run.Targets)
 	if err != nil || len(ts) != 2 || ts[0].Celsius != 45 || !ts[0].Handling || ts[1].Within != 2 || !ts[1].IsWithin() {
 		t.Errorf("default targets %s → %+v, %v", run.Targets, ts, err)
 	}
 }
 
 func TestRunsAPIWithoutTokenRefusesChanges(t *testing.T) {
-	srv := httptest.NewServer(RunsAPI(openJournal(t), APIOptions{Logger: quietLog}))
+	srv := httptest.NewServer(API(openJournal(t), APIOptions{Logger: quietLog}))
 	defer srv.Close()
 	resp, b := do(t, srv, "POST", "/api/v1/runs", "anything", `{"channel":"a","specimen":"b"}`)
 	if resp.StatusCode != 403 || !strings.Contains(string(b), "no API token") {
@@ -152,7 +152,7 @@ func TestRunsAPIWithoutTokenRefusesChanges(t *testing.T) {
 func TestRunsAPIReportFiles(t *testing.T) {
 	j := openJournal(t)
 	run, _ := demoRun(t, j)
-	srv := httptest.NewServer(RunsAPI(j, APIOptions{Token: testToken, Logger: quietLog}))
+	srv := httptest.NewServer(API(j, APIOptions{Token: testToken, Logger: quietLog}))
 	defer srv.Close()
 	for _, tc := range []struct{ file, ctype, part string }{
 		{"readings.csv", "text/csv", "time,elapsed_s,channel"},

@@ -17,7 +17,6 @@ import (
 	"gonum.org/v1/plot/vg/vgimg"
 
 	"github.com/settle-lab/settle/daq"
-	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -540,7 +539,7 @@ func RunFigure(s Summary, readings []daq.Reading, fc *predict.Forecast) Figure {
 		Cautions:    s.Cautions,
 	}
 	if len(f.Cautions) == 0 {
-		f.Cautions = exporter.HandlingCautions
+		f.Cautions = predict.HandlingCautions
 	}
 	for _, r := range readings {
 		c := r.Celsius

@@ -1,91 +1,42 @@
-package report
+package report_test
 
 import (
 	"bytes"
 	"encoding/csv"
-	"encoding/json"
 	"image/png"
-	"io"
-	"log/slog"
 	"math"
-	"math/rand/v2"
 	"os"
 	"strconv"
 	"testing"
 	"time"
 
-	"github.com/settle-lab/settle/daq"
+	"encoding/json"
 	"github.com/settle-lab/settle/daq/journal"
+	"github.com/settle-lab/settle/internal/rundemo"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
+	"github.com/settle-lab/settle/runs"
 )
 
-var t0 = time.Date(2026, 3, 14, 9, 0, 0, 0, time.UTC)
+// The demo run (rundemo): our own invented scenario of a steel specimen cooling in
+// still air; see package rundemo for its figures.
+var (
+	t0           = rundemo.T0
+	demoCrossing = rundemo.Crossing
+)
 
-// The demo run: our own invented scenario of a steel specimen cooling in still air,
-// Newton cooling from 180 °C toward 22 °C with a 600 s time constant, read every 2 s
-// with ±0.1 °C noise for 40 min. The handling target (45 °C) is crossed at
-// 600·ln(158/23) ≈ 1156.3 s.
 const (
-	demoAmbient = 22.0
-	demoInitial = 180.0
-	demoTau     = 600.0
-	demoSpan    = 2400
+	demoAmbient = rundemo.Ambient
+	demoInitial = rundemo.Initial
+	demoTau     = rundemo.Tau
+	demoSpan    = rundemo.Span
 )
 
-var demoCrossing = demoTau * math.Log((demoInitial-demoAmbient)/(45-demoAmbient))
+func openJournal(t testing.TB) *journal.Journal { return rundemo.OpenJournal(t) }
 
-// demoSpecimen is a 25 mm carbon-steel bar, 100 mm long (predict's specimen form).
-const demoSpecimen = "shape: cylinder\nsize_m: 0.0125\nlength_m: 0.1\nsensor: surface\nmaterial:\n  name: carbon steel\n"
-
-const demoTargets = `[{"name":"handle","celsius":45,"handling":true},{"name":"settled","within":2}]`
-
-func openJournal(t testing.TB) *journal.Journal {
-	t.Helper()
-	j, err := journal.Open(t.TempDir(), journal.Options{CommitInterval: time.Hour, Logger: slog.New(slog.NewTextHandler(io.Discard, nil))})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { j.Close() })
-	return j
-}
-
-// demoRun records the demo run in j the way the daemon does: readings appended, the
-// tracker fed, forecasts recorded after each reading; it returns the run and the last
-// forecast.
+// demoRun records the demo run in j the way the daemon does (runs.RecordForecasts).
 func demoRun(t testing.TB, j *journal.Journal) (journal.Run, *predict.Forecast) {
-	t.Helper()
-	run, err := j.StartRun(journal.RunSpec{Channel: "rack-3", Specimen: "S-2026-041", Description: "quenched bar, air cooling",
-		SpecimenSpec: demoSpecimen, Targets: json.RawMessage(demoTargets), Origin: "cli", Start: t0})
-	if err != nil {
-		t.Fatal(err)
-	}
-	targets, err := ParseTargets(run.Targets)
-	if err != nil {
-		t.Fatal(err)
-	}
-	tr := predict.NewTracker(targets, predict.TrackerOptions{FitEvery: 2 * time.Minute})
-	rng := rand.New(rand.NewPCG(4, 1))
-	for s := 0; s <= demoSpan; s += 2 {
-		at := t0.Add(time.Duration(s) * time.Second)
-		c := demoAmbient + (demoInitial-demoAmbient)*math.Exp(-float64(s)/demoTau) + (rng.Float64()-0.5)*0.2
-		r := daq.Reading{Logger: "bench-a", Channel: "rack-3", Time: at, Celsius: c, Status: daq.StatusOK}
-		if s == 600 {
-			r = daq.Reading{Logger: "bench-a", Channel: "rack-3", Time: at, Celsius: math.NaN(), Status: daq.StatusOpen, Raw: "=OPEN"}
-		}
-		j.Append(r)
-		if r.OK() {
-			tr.Add(r.Time, r.Celsius)
-			RecordForecasts(j, run.ID, tr.Forecast())
-		}
-	}
-	if err := j.Flush(); err != nil {
-		t.Fatal(err)
-	}
-	run, err = j.StopRun(run.ID, t0.Add(demoSpan*time.Second))
-	if err != nil {
-		t.Fatal(err)
-	}
-	return run, tr.Forecast()
+	return rundemo.Record(t, j, runs.RecordForecasts)
 }
 
 func TestWriteDemoReport(t *testing.T) {
@@ -100,7 +51,7 @@ func TestWriteDemoReport(t *testing.T) {
 	if keep := os.Getenv("SETTLE_KEEP_REPORT"); keep != "" { // to look at the demo report by hand
 		dir = keep
 	}
-	paths, err := Write(dir, j, run.ID, fc)
+	paths, err := report.Write(dir, j, run.ID, fc)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -126,7 +77,7 @@ func checkCSV(t *testing.T, path string, rows int) {
 	if err != nil {
 		t.Fatalf("CSV %s does not parse: %v", path, err)
 	}
-	if len(recs) != rows+1 || !equal(recs[0], CSVHeader) {
+	if len(recs) != rows+1 || !equal(recs[0], report.CSVHeader) {
 		t.Fatalf("CSV has %d rows (header %v), want %d plus the header", len(recs), recs[0], rows)
 	}
 	first, err := time.Parse(time.RFC3339, recs[1][0])
@@ -143,13 +94,13 @@ func checkCSV(t *testing.T, path string, rows int) {
 	}
 }
 
-func checkSummary(t *testing.T, path string) Summary {
+func checkSummary(t *testing.T, path string) report.Summary {
 	t.Helper()
 	b, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	var s Summary
+	var s report.Summary
 	if err := json.Unmarshal(b, &s); err != nil {
 		t.Fatalf("summary %s: %v", path, err)
 	}
@@ -195,7 +146,7 @@ func checkPNG(t *testing.T, path string) {
 func TestRefitMatchesDemo(t *testing.T) {
 	j := openJournal(t)
 	run, _ := demoRun(t, j)
-	fc, err := Refit(j, run, predict.TrackerOptions{})
+	fc, err := runs.Refit(j, run, predict.TrackerOptions{})
 	if err != nil || fc == nil {
 		t.Fatalf("Refit: %v, %v", fc, err)
 	}
@@ -207,19 +158,19 @@ func TestRefitMatchesDemo(t *testing.T) {
 	// k 60.5 W/(m·K)) and a 12.5 mm × 100 mm cylinder with its ends, V/A = rL/(2(r+L)).
 	lc := 0.0125 * 0.1 / (2 * (0.0125 + 0.1))
 	wantH := 7854 * 434 * lc / demoTau
-	m := modelOf(fc)
+	m := report.ModelOf(fc)
 	if m.HWm2K == nil || math.Abs(*m.HWm2K-wantH) > 0.02*wantH || m.Biot == nil || math.Abs(*m.Biot-wantH*lc/60.5) > 0.02*wantH*lc/60.5 {
 		t.Errorf("refit h %v Biot %v, want %.2f W/(m²·K) and %.5f", m.HWm2K, m.Biot, wantH, wantH*lc/60.5)
 	}
 	var buf bytes.Buffer
-	s, err := Build(j, run, nil, t0)
+	s, err := report.Build(j, run, nil, t0)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if s.Model != nil || len(s.Targets) != 2 || s.Targets[1].Within == nil || *s.Targets[1].Within != 2 {
 		t.Errorf("summary without a model: %+v", s)
 	}
-	if err := WritePNG(&buf, s, nil, nil); err != nil {
+	if err := report.WritePNG(&buf, s, nil, nil); err != nil {
 		t.Errorf("PNG of a run without readings or model: %v", err)
 	}
 }
@@ -229,8 +180,8 @@ func TestSafeCell(t *testing.T) {
 		"": "", "ok": "ok", "-12.5": "-12.5", "+3": "+3", "=1+1": "'=1+1", "@SUM(A1)": "'@SUM(A1)",
 		"-cmd": "'-cmd", "\tx": "'\tx", "OPEN": "OPEN",
 	} {
-		if got := safeCell(in); got != want {
-			t.Errorf("safeCell(%q) = %q, want %q", in, got, want)
+		if got := report.SafeCell(in); got != want {
+			t.Errorf("report.SafeCell(%q) = %q, want %q", in, got, want)
 		}
 	}
 }
@@ -247,41 +198,6 @@ func equal(a, b []string) bool {
 	return true
 }
 
-func TestRecordBench(t *testing.T) {
-	j := openJournal(t)
-	specs := []predict.ChannelSpec{
-		{Name: "rack-1", Targets: []predict.Target{{Name: "handle", Celsius: 45}}},
-		{Name: "rack-2", Targets: []predict.Target{{Name: "handle", Celsius: 45}}},
-	}
-	bench := predict.NewBench(specs, predict.TrackerOptions{FitEvery: 2 * time.Minute})
-	run, err := j.StartRun(journal.RunSpec{Channel: "rack-1", Specimen: "S", Start: t0})
-	if err != nil {
-		t.Fatal(err)
-	}
-	for s := 0; s <= 600; s += 5 {
-		c := demoAmbient + (demoInitial-demoAmbient)*math.Exp(-float64(s)/demoTau)
-		for _, ch := range []string{"rack-1", "rack-2"} {
-			bench.Observe(ch, t0.Add(time.Duration(s)*time.Second), c)
-		}
-		RecordBench(j, bench.Snapshot())
-	}
-	if err := j.Flush(); err != nil {
-		t.Fatal(err)
-	}
-	h, err := j.ForecastHistory(run.ID)
-	if err != nil || len(h) == 0 || h[len(h)-1].State != string(predict.StatePredicted) {
-		t.Fatalf("history of the run on rack-1: %+v, %v; want predictions", h, err)
-	}
-	// The prediction should sit near the true crossing (demoCrossing s after t0).
-	if last := h[len(h)-1]; math.Abs(last.At.Sub(t0).Seconds()-demoCrossing) > 30 {
-		t.Errorf("last prediction %v, want t0 + %.0f s ± 30 s", last.At, demoCrossing)
-	}
-	runs, _ := j.Runs(journal.RunFilter{Channel: "rack-2"})
-	if len(runs) != 0 {
-		t.Errorf("rack-2 has runs %+v", runs)
-	}
-}
-
 func TestModelReportsH(t *testing.T) {
 	for _, tc := range []struct {
 		params []predict.Param
@@ -292,7 +208,7 @@ func TestModelReportsH(t *testing.T) {
 		{[]predict.Param{{Name: "coef", Value: 9, Unit: "W/m²K"}}, 9},
 		{nil, math.NaN()},
 	} {
-		m := modelOf(&predict.Forecast{Model: "x", Params: tc.params, Biot: math.NaN(), Ambient: 20, RMSE: 0.1})
+		m := report.ModelOf(&predict.Forecast{Model: "x", Params: tc.params, Biot: math.NaN(), Ambient: 20, RMSE: 0.1})
 		switch {
 		case math.IsNaN(tc.want) && m.HWm2K != nil:
 			t.Errorf("%+v: h = %v, want null", tc.params, *m.HWm2K)

@@ -7,11 +7,8 @@ import (
 	"sync"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
-
 	"github.com/prometheus/client_golang/prometheus"
-
-	"github.com/settle-lab/settle/config"
+	"github.com/settle-lab/settle/internal/jsonval"
 )
 
 // Kind is the kind of an event.
@@ -133,7 +130,7 @@ type Notifier struct {
 
 // hook is one webhook's queue and deduplication state.
 type hook struct {
-	cfg    config.Webhook
+	cfg    Webhook
 	kinds  map[Kind]bool
 	queue  chan Event
 	seen   map[string]map[string]bool // channel → keys of the current segment
@@ -143,7 +140,7 @@ type hook struct {
 
 // New returns a notifier for the configured webhooks. It registers its counters with
 // opt.Registerer and panics if they are already registered there (a wiring bug).
-func New(webhooks []config.Webhook, opt Options) *Notifier {
+func New(webhooks []Webhook, opt Options) *Notifier {
 	opt = withDefaults(opt)
 	vec := func(name, help string) *prometheus.CounterVec {
 		return prometheus.NewCounterVec(prometheus.CounterOpts{Name: name, Help: help}, []string{"webhook"})
@@ -194,7 +191,7 @@ func withDefaults(opt Options) Options {
 func kinds(events []string) map[Kind]bool {
 	out := map[Kind]bool{KindTest: true}
 	if len(events) == 0 {
-		events = []string{string(KindReached), string(KindSoon), string(KindFault)}
+		events = EventKinds
 	}
 	for _, e := range events {
 		out[Kind(e)] = true

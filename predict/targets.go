@@ -1,4 +1,4 @@
-package report
+package predict
 
 import (
 	"encoding/json"
@@ -6,14 +6,13 @@ import (
 	"math"
 	"strings"
 	"time"
-
-	"github.com/settle-lab/settle/predict"
 )
 
-// TargetJSON is the stored form of a run's target (journal.RunSpec.Targets holds a
-// JSON array of them): exactly one of celsius and within; hold as a Go duration
-// ("90s", "5m").
-type TargetJSON struct {
+// TargetSpec is a target as a run's spec gives it and the journal stores it
+// (journal.RunSpec.Targets holds a JSON array of them; ParseTargets and TargetsJSON
+// convert): exactly one of celsius and within; hold as a Go duration ("90s", "5m").
+// It is a target to aim for, not a forecast of one (see the API's forecastjson.TargetForecast).
+type TargetSpec struct {
 	Name     string   `json:"name"`
 	Celsius  *float64 `json:"celsius,omitempty"`
 	Within   *float64 `json:"within,omitempty"`
@@ -23,17 +22,17 @@ type TargetJSON struct {
 
 // ParseTargets decodes a run's targets. Empty input means no targets. Errors name the
 // target by position and name.
-func ParseTargets(raw []byte) ([]predict.Target, error) {
+func ParseTargets(raw []byte) ([]Target, error) {
 	if len(strings.TrimSpace(string(raw))) == 0 {
 		return nil, nil
 	}
-	var in []TargetJSON
+	var in []TargetSpec
 	dec := json.NewDecoder(strings.NewReader(string(raw)))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&in); err != nil {
 		return nil, fmt.Errorf("run targets: %w", err)
 	}
-	out := make([]predict.Target, 0, len(in))
+	out := make([]Target, 0, len(in))
 	seen := map[string]bool{}
 	for i, t := range in {
 		tg, err := t.target()
@@ -49,8 +48,8 @@ func ParseTargets(raw []byte) ([]predict.Target, error) {
 	return out, nil
 }
 
-func (t TargetJSON) target() (predict.Target, error) {
-	tg := predict.Target{Name: t.Name, Celsius: math.NaN(), Handling: t.Handling}
+func (t TargetSpec) target() (Target, error) {
+	tg := Target{Name: t.Name, Celsius: math.NaN(), Handling: t.Handling}
 	switch {
 	case strings.TrimSpace(t.Name) == "":
 		return tg, fmt.Errorf("name is empty")
@@ -78,10 +77,10 @@ func (t TargetJSON) target() (predict.Target, error) {
 }
 
 // TargetsJSON encodes targets in the stored form ParseTargets reads.
-func TargetsJSON(ts []predict.Target) (json.RawMessage, error) {
-	out := make([]TargetJSON, len(ts))
+func TargetsJSON(ts []Target) (json.RawMessage, error) {
+	out := make([]TargetSpec, len(ts))
 	for i, t := range ts {
-		out[i] = TargetJSON{Name: t.Name, Handling: t.Handling}
+		out[i] = TargetSpec{Name: t.Name, Handling: t.Handling}
 		if t.IsWithin() {
 			out[i].Within = &ts[i].Within
 		} else {

@@ -6,10 +6,10 @@ import (
 	"strings"
 	"time"
 
-	"github.com/settle-lab/settle/exporter/jsonval"
+	"github.com/settle-lab/settle/internal/forecastjson"
 
 	"github.com/settle-lab/settle/daq/journal"
-	"github.com/settle-lab/settle/exporter"
+	"github.com/settle-lab/settle/internal/jsonval"
 	"github.com/settle-lab/settle/predict"
 )
 
@@ -31,13 +31,14 @@ type Summary struct {
 	GeneratedAt time.Time `json:"generated_at"`
 }
 
-// Model is the fitted model of a run.
+// Model is the fitted model of a run: forecastjson.Forecast's values under the names
+// the report has always used ("name" for the model, h_w_m2k added).
 type Model struct {
-	Name          string     `json:"name"`
-	Parameters    []ParamOut `json:"parameters"`
-	TimeConstantS *float64   `json:"time_constant_s"`
-	AmbientC      *float64   `json:"ambient_c"`
-	RMSEC         *float64   `json:"rmse_c"`
+	Name          string               `json:"name"`
+	Parameters    []forecastjson.Param `json:"parameters"`
+	TimeConstantS *float64             `json:"time_constant_s"`
+	AmbientC      *float64             `json:"ambient_c"`
+	RMSEC         *float64             `json:"rmse_c"`
 	// HWm2K is the surface heat transfer coefficient h, W/(m²·K), when the model
 	// reports it (parameter h_w_m2k, or one in W/(m²·K)); null otherwise.
 	HWm2K        *float64  `json:"h_w_m2k"`
@@ -47,14 +48,6 @@ type Model struct {
 	FittedAt     time.Time `json:"fitted_at"`
 	OutOfRange   bool      `json:"out_of_range"`
 	Notes        []string  `json:"notes"`
-}
-
-// ParamOut is a fitted parameter; stderr is null when unknown.
-type ParamOut struct {
-	Name   string   `json:"name"`
-	Value  *float64 `json:"value"`
-	StdErr *float64 `json:"stderr"`
-	Unit   string   `json:"unit,omitempty"`
 }
 
 // TargetSummary is one target of a run.
@@ -125,7 +118,7 @@ func Build(j *journal.Journal, run journal.Run, fc *predict.Forecast, now time.T
 		ts := targetSummary(tg, fc, run.Started, cross[tg.Name], hist)
 		ts.ActualEstimated = ts.Actual != nil && (ts.ActualEstimated || estimated[tg.Name])
 		if tg.Handling {
-			s.Cautions = exporter.HandlingCautions
+			s.Cautions = predict.HandlingCautions
 		}
 		s.Targets = append(s.Targets, ts)
 	}
@@ -141,7 +134,7 @@ func runTargets(run journal.Run, fc *predict.Forecast) ([]predict.Target, error)
 		}
 		return out, nil
 	}
-	ts, err := ParseTargets(run.Targets)
+	ts, err := predict.ParseTargets(run.Targets)
 	if err != nil {
 		return nil, fmt.Errorf("run %s: %w", run.ID, err)
 	}
@@ -152,17 +145,16 @@ func modelOf(fc *predict.Forecast) *Model {
 	if fc == nil {
 		return nil
 	}
+	f := forecastjson.NewForecast(fc) // the API's form, under the report's field names
 	m := &Model{
-		Name: fc.Model, TimeConstantS: jsonval.Num(fc.TimeConstant.Seconds()), AmbientC: jsonval.Num(fc.Ambient),
-		RMSEC: jsonval.Num(fc.RMSE), Biot: jsonval.Num(fc.Biot), Points: fc.Points, SegmentStart: fc.SegmentStart.UTC(),
-		FittedAt: fc.FittedAt.UTC(), OutOfRange: fc.OutOfRange, Notes: append([]string{}, fc.Notes...),
-		Parameters: []ParamOut{},
+		Name: f.Model, Parameters: f.Parameters, TimeConstantS: f.TimeConstantS, AmbientC: f.AmbientC,
+		RMSEC: f.RMSEC, Biot: f.Biot, Points: f.Points, SegmentStart: f.SegmentStart,
+		FittedAt: f.FittedAt, OutOfRange: f.OutOfRange, Notes: f.Notes,
 	}
 	if fc.TimeConstant == 0 {
 		m.TimeConstantS = nil
 	}
 	for _, p := range fc.Params {
-		m.Parameters = append(m.Parameters, ParamOut{Name: p.Name, Value: jsonval.Num(p.Value), StdErr: jsonval.Num(p.StdErr), Unit: p.Unit})
 		if isH(p) {
 			m.HWm2K = jsonval.Num(p.Value)
 		}
@@ -210,7 +202,7 @@ func targetSummary(tg predict.Target, fc *predict.Forecast, start, actual time.T
 
 func historyPoint(p journal.ForecastPoint, actual time.Time) HistoryPoint {
 	h := HistoryPoint{Time: p.Time.UTC(), State: p.State, PredictedAt: jsonval.Time(p.At), Earliest: jsonval.Time(p.Earliest), Latest: jsonval.Time(p.Latest)}
-	if actual.IsZero() || p.At.IsZero() || p.State == journal.StateReached {
+	if actual.IsZero() || p.At.IsZero() || p.State == string(predict.StateReached) {
 		return h
 	}
 	h.ErrorS = jsonval.Num(p.At.Sub(actual).Seconds())

@@ -1,4 +1,4 @@
-package report
+package runs
 
 import (
 	"math"
@@ -29,7 +29,7 @@ func TestEngineReplaysTheLiveForecast(t *testing.T) {
 	j := openJournal(t)
 	opt := predict.TrackerOptions{MinFitGap: 0}
 	live := predict.NewBench(engineSpecs, opt)
-	targets, err := TargetsJSON(engineSpecs[0].Targets)
+	targets, err := predict.TargetsJSON(engineSpecs[0].Targets)
 	if err != nil {
 		t.Fatal(err)
 	}

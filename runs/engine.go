@@ -1,4 +1,4 @@
-package report
+package runs
 
 import (
 	"fmt"
@@ -9,6 +9,7 @@ import (
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/predict"
+	"github.com/settle-lab/settle/report"
 )
 
 // The daemon's replay bounds: a restarted daemon reloads at most ResumeWindow of
@@ -120,7 +121,7 @@ func replayEnd(j *journal.Journal, run journal.Run) (time.Time, error) {
 	if !end.IsZero() {
 		return end, nil
 	}
-	rs, err := RunReadings(j, run)
+	rs, err := report.RunReadings(j, run)
 	if err != nil || len(rs) == 0 {
 		return time.Time{}, err
 	}
@@ -164,16 +165,4 @@ func replayReadings(j *journal.Journal, specs []predict.ChannelSpec, until time.
 		}
 	}
 	return out, nil
-}
-
-// RecordFinal stores fc's target forecasts as the last of run runID's history, even
-// when they moved too little for RecordForecasts: the daemon calls it as a run stops
-// (and as it stops itself), so the history ends with the forecast it showed.
-func RecordFinal(j *journal.Journal, runID string, fc *predict.Forecast) {
-	if fc == nil {
-		return
-	}
-	for _, tf := range fc.Targets {
-		j.RecordFinalForecast(runID, forecastPoint(fc, tf))
-	}
 }

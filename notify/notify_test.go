@@ -14,8 +14,6 @@ import (
 
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/testutil"
-
-	"github.com/settle-lab/settle/config"
 )
 
 // receiver is a webhook endpoint that fails the first failFirst requests with 503 and
@@ -75,7 +73,7 @@ func plate(now time.Time, state string) Channel {
 	}}}
 }
 
-func start(t *testing.T, hooks []config.Webhook, opt Options) (*Notifier, *prometheus.Registry) {
+func start(t *testing.T, hooks []Webhook, opt Options) (*Notifier, *prometheus.Registry) {
 	t.Helper()
 	reg := prometheus.NewPedanticRegistry()
 	opt.Registerer = reg
@@ -107,7 +105,7 @@ func TestDeliveryRetriesAndNoDuplicates(t *testing.T) {
 	rv := newReceiver(2) // the first two attempts fail with 503
 	srv := httptest.NewServer(rv)
 	defer srv.Close()
-	n, reg := start(t, []config.Webhook{{Name: "bench", URL: srv.URL, LeadTime: 10 * time.Minute}}, Options{})
+	n, reg := start(t, []Webhook{{Name: "bench", URL: srv.URL, LeadTime: 10 * time.Minute}}, Options{})
 
 	// 35 min in: the forecast (40 min) is 5 min away, inside the 10 min lead time.
 	for range 3 { // repeated polls of the same state must not repeat the event
@@ -164,7 +162,7 @@ func TestNewSegmentRearmsAndFaultsOncePerEpisode(t *testing.T) {
 	rv := newReceiver(0)
 	srv := httptest.NewServer(rv)
 	defer srv.Close()
-	n, _ := start(t, []config.Webhook{{Name: "w", URL: srv.URL, Events: []string{"reached", "fault"}}}, Options{})
+	n, _ := start(t, []Webhook{{Name: "w", URL: srv.URL, Events: []string{"reached", "fault"}}}, Options{})
 
 	ch := plate(seg.Add(41*time.Minute), "reached")
 	n.Observe([]Channel{ch})
@@ -202,7 +200,7 @@ func TestEventSelectionAndLeadTime(t *testing.T) {
 	srv := httptest.NewServer(rv)
 	defer srv.Close()
 	// Only faults; and a lead time that would otherwise fire.
-	n, _ := start(t, []config.Webhook{{Name: "faults", URL: srv.URL, LeadTime: time.Hour, Events: []string{"fault"}}}, Options{})
+	n, _ := start(t, []Webhook{{Name: "faults", URL: srv.URL, LeadTime: time.Hour, Events: []string{"fault"}}}, Options{})
 	n.Observe([]Channel{plate(seg.Add(35*time.Minute), "predicted"), plate(seg.Add(41*time.Minute), "reached")})
 	time.Sleep(50 * time.Millisecond)
 	if req, _, _ := rv.snapshot(); req != 0 {
@@ -212,7 +210,7 @@ func TestEventSelectionAndLeadTime(t *testing.T) {
 	rv2 := newReceiver(0)
 	srv2 := httptest.NewServer(rv2)
 	defer srv2.Close()
-	n2, _ := start(t, []config.Webhook{{Name: "soon", URL: srv2.URL, LeadTime: 2 * time.Minute}}, Options{})
+	n2, _ := start(t, []Webhook{{Name: "soon", URL: srv2.URL, LeadTime: 2 * time.Minute}}, Options{})
 	n2.Observe([]Channel{plate(seg.Add(35*time.Minute), "predicted")})
 	time.Sleep(50 * time.Millisecond)
 	if req, _, _ := rv2.snapshot(); req != 0 {
@@ -230,7 +228,7 @@ func TestPermanentFailureIsNotRetried(t *testing.T) {
 		http.Error(w, "gone", http.StatusGone)
 	}))
 	defer bad.Close()
-	n, _ := start(t, []config.Webhook{{Name: "bench", URL: bad.URL}}, Options{Attempts: 4})
+	n, _ := start(t, []Webhook{{Name: "bench", URL: bad.URL}}, Options{Attempts: 4})
 	if q, err := n.Test("", seg); err != nil || q != 1 {
 		t.Fatalf("Test = %d, %v", q, err)
 	}
@@ -253,7 +251,7 @@ func TestRetriesGiveUp(t *testing.T) {
 	rv := newReceiver(1000)
 	srv := httptest.NewServer(rv)
 	defer srv.Close()
-	n, _ := start(t, []config.Webhook{{Name: "bench", URL: srv.URL}}, Options{Attempts: 3})
+	n, _ := start(t, []Webhook{{Name: "bench", URL: srv.URL}}, Options{Attempts: 3})
 	n.Test("bench", seg)
 	deadline := time.Now().Add(10 * time.Second)
 	for testutil.ToFloat64(n.dropped.WithLabelValues("bench")) != 1 {
@@ -293,7 +291,7 @@ func TestRedact(t *testing.T) {
 // unreachable target sends nothing (never "reached"), and a handling target's "soon"
 // waits for its due time (the interval's late end), not the central estimate.
 func TestOnlyReadingsBackedStatesNotify(t *testing.T) {
-	n, _ := start(t, []config.Webhook{{Name: "all", URL: "http://127.0.0.1:1/unused", LeadTime: 5 * time.Minute}}, Options{})
+	n, _ := start(t, []Webhook{{Name: "all", URL: "http://127.0.0.1:1/unused", LeadTime: 5 * time.Minute}}, Options{})
 	h := n.hooks[0]
 	for _, state := range []string{"empty", "insufficient", "unreachable"} {
 		if evs := h.events(plate(seg.Add(41*time.Minute), state), nil); len(evs) != 0 {
