@@ -112,7 +112,7 @@ func TestGoodConfigs(t *testing.T) {
 					{Name: "settled-held", Within: ptr(1.5), Hold: 2 * time.Hour},
 				}},
 				{Name: "cylinder-3", Targets: []Target{
-					{Name: "test", Celsius: ptr(-18), Within: ptr(0.5), Hold: 90 * time.Minute},
+					{Name: "test", Within: ptr(0.5), Hold: 90 * time.Minute},
 				}},
 			},
 			Journal: defaultJournal,
@@ -144,8 +144,8 @@ func TestExample(t *testing.T) {
 		t.Fatalf("example has %d loggers and %d channels, want 1 and 3", len(c.Loggers), len(c.Channels))
 	}
 	held := c.Channels[2].Targets[1]
-	if held.Name != "test-temperature" || *held.Celsius != 23 || *held.Within != 0.5 || held.Hold != 30*time.Minute {
-		t.Errorf("bar-2's second target = %+v, want test-temperature 23 °C ±0.5 for 30m", held)
+	if held.Name != "test-temperature" || held.Celsius != nil || *held.Within != 0.5 || held.Hold != 30*time.Minute {
+		t.Errorf("bar-2's second target = %+v, want test-temperature within 0.5 °C for 30m", held)
 	}
 	if c.Listen != DefaultListen || c.DataDir != DefaultDataDir {
 		t.Errorf("example listen/data_dir = %q/%q, want the defaults it documents", c.Listen, c.DataDir)

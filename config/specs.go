@@ -18,9 +18,9 @@ import (
 // refusals, each naming the key path (e.g. channels[2].targets[0]): a duplicate
 // channel name or an ambient that names no other channel (the rules of Validate), a
 // specimen the engine refuses, and a target the engine cannot take: both or
-// neither of celsius and within (the engine has no band around a fixed temperature
-// yet, so a file's {celsius, within, hold} is refused here), or a band that is not
-// positive.
+// neither of celsius and within (the engine has no band around a fixed temperature;
+// Validate refuses {celsius, within} too, so a checked file never reaches this), or a
+// band that is not positive.
 func ChannelSpecs(channels []Channel) ([]predict.ChannelSpec, error) {
 	index := channelIndex(channels)
 	for i, c := range channels {

@@ -1,6 +1,7 @@
 package config
 
 import (
+	"path/filepath"
 	"strings"
 	"testing"
 
@@ -105,5 +106,29 @@ func TestChannelSpecsConduction(t *testing.T) {
 		tg[0] != (predict.Target{Name: "handling", Celsius: 50, Handling: true}) ||
 		tg[1].Name != "settled" || !tg[1].IsWithin() || tg[1].Within != 2 {
 		t.Errorf("specs %+v, want slab-7 with its specimen as given and a 50 °C handling target and a 2 °C band", specs)
+	}
+}
+
+// TestValidConfigsStart: every file `settle config check` passes — the example that
+// `settle config example` prints and the good files in testdata — builds the engine's
+// channel specs, as the daemon does at start. (The example once offered a band around
+// a fixed temperature that the check passed and the daemon refused.)
+func TestValidConfigsStart(t *testing.T) {
+	ex, err := Parse("example.yaml", []byte(Example))
+	if err != nil {
+		t.Fatalf("example: %v", err)
+	}
+	cfgs := map[string]*Config{"example": ex}
+	for _, f := range []string{"minimal.yaml", "full.yaml", "drivers.yaml"} {
+		c, err := Load(filepath.Join(testdataDir, "good", f))
+		if err != nil {
+			t.Fatalf("%s: %v", f, err)
+		}
+		cfgs[f] = c
+	}
+	for name, c := range cfgs {
+		if _, err := ChannelSpecs(c.Channels); err != nil {
+			t.Errorf("%s passes the check but the engine refuses it: %v", name, err)
+		}
 	}
 }

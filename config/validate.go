@@ -165,14 +165,17 @@ func checkTargets(k *checker, chKey string, targets []Target) {
 	}
 }
 
-// checkTarget enforces the target forms: {celsius}, {within}, {within, hold} and
-// {celsius, within, hold} (stay within the band around celsius for the hold time).
+// checkTarget enforces the target forms the engine takes: {celsius}, {within} and
+// {within, hold}. A band around a fixed temperature ({celsius, within}) is refused here
+// as the engine refuses it (config.ChannelSpecs), so that `settle config check` never
+// passes a file the daemon will not start with.
 func checkTarget(k *checker, key string, t Target) {
 	switch {
 	case t.Celsius == nil && t.Within == nil:
 		k.add(key, "give celsius (a fixed temperature) or within (a band around the settling temperature)")
-	case t.Celsius != nil && t.Within != nil && t.Hold == 0:
-		k.add(key, "celsius and within together need hold (stay within the band around celsius for the hold time); otherwise give only one of them")
+	case t.Celsius != nil && t.Within != nil:
+		k.add(key, "give celsius or within, not both: within is a band around the temperature the specimen settles toward; "+
+			"for a test temperature, measure the conditioning room or chamber as the channel's ambient and give within (and hold)")
 	case t.Celsius != nil && t.Within == nil && t.Hold != 0:
 		k.add(key+".hold", "hold needs within (the band to stay in), e.g. within: 1")
 	}
