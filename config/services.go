@@ -45,13 +45,7 @@ func (c *Config) checkServices(k *checker) {
 }
 
 func checkWebhook(k *checker, key string, w notify.Webhook, i int, names map[string]int) {
-	if w.Name == "" {
-		k.add(key+".name", "must not be empty")
-	} else if first, dup := names[w.Name]; dup {
-		k.add(key+".name", "duplicate webhook %q (first at notify.webhooks[%d])", w.Name, first)
-	} else {
-		names[w.Name] = i
-	}
+	k.uniqueName(key, "webhook", w.Name, i, names, "notify.webhooks")
 	if u, err := url.Parse(w.URL); err != nil || (u.Scheme != "http" && u.Scheme != "https") || u.Host == "" {
 		k.add(key+".url", "want an http:// or https:// URL, got %q", w.URL)
 	}

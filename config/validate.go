@@ -61,18 +61,29 @@ func channelIndex(channels []Channel) map[string]int {
 	return index
 }
 
+// uniqueName checks the name of entry i of a list (key is the entry's key path, list
+// the list's): not empty, and not one an earlier entry took. names maps each name to
+// the first entry that took it and is filled as the entries are checked.
+func (k *checker) uniqueName(key, kind, name string, i int, names map[string]int, list string) {
+	switch first, dup := names[name]; {
+	case name == "":
+		k.add(key+".name", "must not be empty")
+	case dup:
+		k.add(key+".name", "duplicate %s %q (first at %s[%d])", kind, name, list, first)
+	default:
+		names[name] = i
+	}
+}
+
 // checkChannels checks every channel; index is from channelIndex.
 func (c *Config) checkChannels(k *checker, index map[string]int) {
 	if len(c.Channels) == 0 {
 		k.add("channels", "at least one channel is needed")
 	}
+	names := map[string]int{}
 	for i, ch := range c.Channels {
 		key := fmt.Sprintf("channels[%d]", i)
-		if ch.Name == "" {
-			k.add(key+".name", "must not be empty")
-		} else if first := index[ch.Name]; first != i {
-			k.add(key+".name", "duplicate channel %q (first at channels[%d])", ch.Name, first)
-		}
+		k.uniqueName(key, "channel", ch.Name, i, names, "channels")
 		checkAmbient(k, key+".ambient", ch, index)
 		checkTargets(k, key, ch.Targets)
 		c.checkRole(k, key, ch)
@@ -154,13 +165,7 @@ func checkTargets(k *checker, chKey string, targets []Target) {
 	seen := map[string]int{}
 	for i, t := range targets {
 		key := fmt.Sprintf("%s.targets[%d]", chKey, i)
-		if t.Name == "" {
-			k.add(key+".name", "must not be empty")
-		} else if first, dup := seen[t.Name]; dup {
-			k.add(key+".name", "duplicate target %q (first at %s.targets[%d])", t.Name, chKey, first)
-		} else {
-			seen[t.Name] = i
-		}
+		k.uniqueName(key, "target", t.Name, i, seen, chKey+".targets")
 		checkTarget(k, key, t)
 	}
 }
@@ -198,13 +203,7 @@ func (c *Config) checkLoggers(k *checker, channels map[string]int) {
 	readBy := map[string]string{} // channel name → key of the column that reads it
 	for i, l := range c.Loggers {
 		key := fmt.Sprintf("loggers[%d]", i)
-		if l.Name == "" {
-			k.add(key+".name", "must not be empty")
-		} else if first, dup := names[l.Name]; dup {
-			k.add(key+".name", "duplicate logger %q (first at loggers[%d])", l.Name, first)
-		} else {
-			names[l.Name] = i
-		}
+		k.uniqueName(key, "logger", l.Name, i, names, "loggers")
 		checkLogger(k, key, l, channels, readBy)
 	}
 }
