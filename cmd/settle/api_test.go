@@ -63,7 +63,7 @@ func TestAPIAgainstDemo(t *testing.T) {
 		c.HTTP.Token = "demo-token"
 		c.Notify.Webhooks = []notify.Webhook{{Name: "bench", URL: recv.URL, Events: []string{"reached", "fault"}}}
 	})
-	tile := "alumina-tile-d" // reaches 50 °C after about 13 s of wall time (daq/sim)
+	tile := "alumina-tile-d" // reaches 50 °C after about 13 s of wall time (cmd/settle/internal/sim)
 	// Wait (a hang guard) for the tile's handling target to be reached.
 	waitFor(t, base, 90*time.Second, func(m map[string]float64) bool {
 		return m[`settle_target_reached{channel="`+tile+`",target="handling"}`] == 1
