@@ -1,0 +1,143 @@
+package journal
+
+import (
+	"database/sql"
+	"fmt"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strconv"
+	"testing"
+	"time"
+
+	"github.com/settle-lab/settle/daq"
+)
+
+// storageLoad is the storage benchmark's load: channels at 1 Hz for seconds, each
+// reading a two-decimal figure (as a logger prints it) at the host's receive time in
+// nanoseconds, all channels' readings of one second committed together (the daemon
+// commits once a second). SETTLE_STORAGE_CHANNELS and SETTLE_STORAGE_SECONDS change it.
+func storageLoad(b *testing.B) (channels, seconds int) {
+	channels, seconds = 100, 3600
+	for _, v := range []struct {
+		env string
+		n   *int
+	}{{"SETTLE_STORAGE_CHANNELS", &channels}, {"SETTLE_STORAGE_SECONDS", &seconds}} {
+		if s := os.Getenv(v.env); s != "" {
+			n, err := strconv.Atoi(s)
+			if err != nil || n < 1 {
+				b.Fatalf("%s=%q: want a positive count", v.env, s)
+			}
+			*v.n = n
+		}
+	}
+	return channels, seconds
+}
+
+// storageReadings calls fn with each second's readings of the load.
+func storageReadings(channels, seconds int, fn func([]daq.Reading)) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	batch := make([]daq.Reading, channels)
+	for s := range seconds {
+		for c := range batch {
+			v, _ := strconv.ParseFloat(strconv.FormatFloat(20+280*rng.Float64(), 'f', 2, 64), 64)
+			batch[c] = daq.Reading{Logger: fmt.Sprintf("rack-%d", c/8), Channel: fmt.Sprintf("s%d", c),
+				Time:    t0.Add(time.Duration(s)*time.Second + time.Duration(rng.Int64N(int64(time.Second)))),
+				Celsius: v, Status: daq.StatusOK}
+		}
+		fn(batch)
+	}
+}
+
+// BenchmarkStoragePerReading measures the journal file's bytes per reading (after the
+// last commit and a checkpoint) under storageLoad, for this package's schema and, side
+// by side, for schema version 3 (its statements and its insert, one transaction a
+// second). Run it once: go test ./daq/journal -run X -bench StoragePerReading -benchtime 1x
+func BenchmarkStoragePerReading(b *testing.B) {
+	channels, seconds := storageLoad(b)
+	b.Run("v4", func(b *testing.B) {
+		for range b.N {
+			dir := b.TempDir()
+			j, err := Open(dir, Options{Logger: quiet, CommitInterval: time.Hour})
+			if err != nil {
+				b.Fatal(err)
+			}
+			storageReadings(channels, seconds, func(rs []daq.Reading) {
+				for _, r := range rs {
+					j.Append(r)
+				}
+				mustFlush(b, j)
+			})
+			if err := j.Close(); err != nil {
+				b.Fatal(err)
+			}
+			reportStorage(b, filepath.Join(dir, FileName), channels*seconds)
+		}
+	})
+	b.Run("v3", func(b *testing.B) {
+		for range b.N {
+			path := filepath.Join(b.TempDir(), FileName)
+			db := openV3(b, path)
+			storageReadings(channels, seconds, func(rs []daq.Reading) { insertV3(b, db, rs) })
+			if err := db.Close(); err != nil {
+				b.Fatal(err)
+			}
+			reportStorage(b, path, channels*seconds)
+		}
+	})
+}
+
+// reportStorage reports the file's size per reading and per channel-day at 1 Hz.
+func reportStorage(b *testing.B, path string, readings int) {
+	st, err := os.Stat(path)
+	if err != nil {
+		b.Fatal(err)
+	}
+	if _, err := os.Stat(path + "-wal"); err == nil {
+		b.Fatalf("%s-wal left beside the journal: the sizes would miss it", path)
+	}
+	per := float64(st.Size()) / float64(readings)
+	b.ReportMetric(per, "bytes/reading")
+	b.ReportMetric(per*86400/1e6, "MB/channel-day")
+}
+
+// openV3 creates a journal file of schema version 3 from its own statements, as the
+// version-3 code did (write-ahead log, synchronous FULL).
+func openV3(t testing.TB, path string) *sql.DB {
+	t.Helper()
+	db, err := sql.Open("sqlite", dsn(path, map[string][]string{"_pragma": {"journal_mode(WAL)", "synchronous(FULL)", "foreign_keys(1)"}}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	db.SetMaxOpenConns(1)
+	for _, q := range []string{ddlV1, ddlV2, ddlV3, "PRAGMA user_version = 3"} {
+		if _, err := db.Exec(q); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return db
+}
+
+// insertV3 writes readings in one transaction as the version-3 code did.
+func insertV3(t testing.TB, db *sql.DB, rs []daq.Reading) {
+	t.Helper()
+	tx, err := db.Begin()
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer tx.Rollback()
+	for _, r := range rs {
+		if _, err := tx.Exec("INSERT OR IGNORE INTO channels (logger, name) VALUES (?, ?)", r.Logger, r.Channel); err != nil {
+			t.Fatal(err)
+		}
+		c := sql.NullFloat64{Float64: r.Celsius, Valid: r.Celsius == r.Celsius}
+		if _, err := tx.Exec("INSERT INTO readings (channel_id, t, celsius, status, raw) VALUES"+
+			" ((SELECT id FROM channels WHERE logger = ? AND name = ?), ?, ?, ?, ?)",
+			r.Logger, r.Channel, r.Time.UnixNano(), c, r.Status.String(), r.Raw); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := tx.Commit(); err != nil {
+		t.Fatal(err)
+	}
+}
