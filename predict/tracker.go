@@ -94,6 +94,8 @@ type Tracker struct {
 	fitting bool           // a fit is running (at most one at a time)
 	sched   func(*Tracker) // hands a due fit to a Bench's workers; nil: fit in Add
 	queued  bool           // handed to sched and not yet started
+	phase   time.Duration  // on a running Bench: where this channel's fits fall in FitEvery (see periodDue)
+	phased  bool           // phase is set: fits follow the grid
 }
 
 // NewTracker returns a tracker forecasting the given targets.
@@ -211,8 +213,34 @@ func (tr *Tracker) SetPlaced(placed bool) {
 
 // due reports whether the schedule calls for a fit now. Callers hold mu.
 func (tr *Tracker) due() bool {
-	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
+	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.periodDue() &&
 		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
+}
+
+// periodDue reports whether FitEvery of reading time has passed since the last fit.
+// On a running Bench (phased) a channel's fits follow a grid of its own instead,
+// FitEvery apart and offset by its phase: a fit is due at the first reading past the
+// next grid point after the last fit. Channels whose segments start together (a rack
+// loaded at once, a restart) then spread their fits evenly over FitEvery rather than
+// all coming due in the same second and waiting in the workers' queue, and a fit that
+// did wait does not push the channel's later fits back. Callers hold mu.
+func (tr *Tracker) periodDue() bool {
+	every := tr.opt.FitEvery
+	if !tr.phased || every <= 0 || tr.fitAt.IsZero() {
+		return tr.last.Sub(tr.fitAt) >= every
+	}
+	return gridSlot(tr.last, tr.phase, every) > gridSlot(tr.fitAt, tr.phase, every)
+}
+
+// gridSlot numbers the FitEvery-long slots of a phased schedule: slot k runs from
+// k×every + phase (Unix time) to the next.
+func gridSlot(t time.Time, phase, every time.Duration) int64 {
+	n := t.UnixNano() - int64(phase)
+	k := n / int64(every)
+	if n%int64(every) < 0 {
+		k--
+	}
+	return k
 }
 
 // FitPending fits when the schedule called for a fit (FitEvery and MinNewPoints met)
