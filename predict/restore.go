@@ -44,9 +44,10 @@ func (b *Bench) fitAll(workers int) {
 // share the fits. Each channel is queued at most once at a time. When Run returns,
 // fits are back in Observe.
 //
-// While Run runs, each channel's fits keep to a phase of their own (see
-// Tracker.periodDue): the channels' phases are spread evenly over FitEvery, so the
-// workers get a steady share of the fits each second, not every channel at once.
+// While Run runs, each channel's schedule is aligned once (at its next fit, and again
+// at each new segment) to a phase of its own (see Tracker.fitFrom): the channels'
+// phases are spread evenly over FitEvery, so the workers get a steady share of the
+// fits each second, not every channel at once.
 func (b *Bench) Run(ctx context.Context, workers int) {
 	queue := make(chan *Tracker, len(b.trackers)) // room for every channel: never blocks
 	b.schedule(func(t *Tracker) { queue <- t })
@@ -75,7 +76,7 @@ func (b *Bench) Run(ctx context.Context, workers int) {
 func (b *Bench) schedule(sched func(*Tracker)) {
 	for i, tr := range b.trackers {
 		tr.mu.Lock()
-		tr.sched, tr.phased = sched, sched != nil
+		tr.sched, tr.phased, tr.rephase = sched, sched != nil, sched != nil
 		tr.phase = time.Duration(int64(i) * int64(tr.opt.FitEvery) / int64(len(b.trackers)))
 		if sched == nil {
 			tr.queued = false

@@ -94,8 +94,9 @@ type Tracker struct {
 	fitting bool           // a fit is running (at most one at a time)
 	sched   func(*Tracker) // hands a due fit to a Bench's workers; nil: fit in Add
 	queued  bool           // handed to sched and not yet started
-	phase   time.Duration  // on a running Bench: where this channel's fits fall in FitEvery (see periodDue)
-	phased  bool           // phase is set: fits follow the grid
+	phase   time.Duration  // on a running Bench: where this channel's fits fall in FitEvery (see fitFrom)
+	phased  bool           // phase is set
+	rephase bool           // the next fit realigns the schedule to the phase
 }
 
 // NewTracker returns a tracker forecasting the given targets.
@@ -213,34 +214,32 @@ func (tr *Tracker) SetPlaced(placed bool) {
 
 // due reports whether the schedule calls for a fit now. Callers hold mu.
 func (tr *Tracker) due() bool {
-	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.periodDue() &&
+	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
 		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
 }
 
-// periodDue reports whether FitEvery of reading time has passed since the last fit.
-// On a running Bench (phased) a channel's fits follow a grid of its own instead,
-// FitEvery apart and offset by its phase: a fit is due at the first reading past the
-// next grid point after the last fit. Channels whose segments start together (a rack
-// loaded at once, a restart) then spread their fits evenly over FitEvery rather than
-// all coming due in the same second and waiting in the workers' queue, and a fit that
-// did wait does not push the channel's later fits back. Callers hold mu.
-func (tr *Tracker) periodDue() bool {
+// fitFrom is the reading time FitEvery counts from after a fit that starts now: the
+// last reading; or, for a channel's first fit on a running Bench's phases (of a
+// segment, or since the phases were set), the point of its phase's grid (FitEvery
+// apart, offset by phase) nearest to it. Channels whose segments start together (a
+// rack loaded at once, a restart) then come due in their own share of FitEvery rather
+// than all in the same second, where most would wait in the workers' queue. Later fits
+// count from the last reading as always, so a bench that falls behind still fits each
+// channel less often. Callers hold mu.
+func (tr *Tracker) fitFrom() time.Time {
 	every := tr.opt.FitEvery
-	if !tr.phased || every <= 0 || tr.fitAt.IsZero() {
-		return tr.last.Sub(tr.fitAt) >= every
+	if !tr.phased || !tr.rephase || every <= 0 {
+		return tr.last
 	}
-	return gridSlot(tr.last, tr.phase, every) > gridSlot(tr.fitAt, tr.phase, every)
-}
-
-// gridSlot numbers the FitEvery-long slots of a phased schedule: slot k runs from
-// k×every + phase (Unix time) to the next.
-func gridSlot(t time.Time, phase, every time.Duration) int64 {
-	n := t.UnixNano() - int64(phase)
-	k := n / int64(every)
-	if n%int64(every) < 0 {
-		k--
+	tr.rephase = false
+	n := time.Duration((tr.last.UnixNano() - int64(tr.phase)) % int64(every))
+	if n < 0 {
+		n += every
 	}
-	return k
+	if n > every/2 { // the nearest grid point: the next fit comes ½ to 1½ FitEvery on
+		n -= every
+	}
+	return tr.last.Add(-n)
 }
 
 // FitPending fits when the schedule called for a fit (FitEvery and MinNewPoints met)
@@ -273,7 +272,7 @@ func (tr *Tracker) busy() bool {
 func (tr *Tracker) newSegment(at time.Time) {
 	tr.gen++
 	tr.pts = tr.pts[:0]
-	tr.start, tr.fitAt = at, at
+	tr.start, tr.fitAt, tr.rephase = at, at, true
 	tr.newPts = 0
 	tr.forecast = nil
 }
@@ -326,7 +325,7 @@ func (tr *Tracker) fitNow() {
 		return
 	}
 	job := fitJob{all: tr.problem(), start: tr.start, targets: tr.targets, opt: tr.opt, placed: tr.placed, gen: tr.gen}
-	tr.fitAt, tr.newPts, tr.fitWall = tr.last, 0, time.Now()
+	tr.fitAt, tr.newPts, tr.fitWall = tr.fitFrom(), 0, time.Now()
 	tr.fitting, tr.queued = true, false
 	tr.mu.Unlock()
 
