@@ -211,6 +211,10 @@ func (j *Journal) openReadOnly() error {
 		db.Close()
 		return fmt.Errorf("journal %s: version %d: %w", j.path, v, ErrSchemaTooNew)
 	}
+	if v < SchemaVersion {
+		db.Close()
+		return fmt.Errorf("journal %s: version %d, this settle reads version %d: start the daemon (settle run) once on this data directory to migrate it", j.path, v, SchemaVersion)
+	}
 	j.rdb = db
 	return nil
 }
@@ -237,9 +241,14 @@ func (j *Journal) openWriter() error {
 	}
 	w.SetMaxOpenConns(1)
 	w.SetConnMaxIdleTime(0)
-	if err := migrate(context.Background(), w, j.path); err != nil {
+	start := time.Now()
+	from, err := migrate(context.Background(), w, j.path)
+	if err != nil {
 		w.Close()
 		return err
+	}
+	if from > 0 && from < SchemaVersion {
+		j.log.Info("journal migrated", "path", j.path, "from_version", from, "to_version", SchemaVersion, "took", time.Since(start).Round(time.Millisecond))
 	}
 	r, err := sql.Open("sqlite", dsn(j.path, url.Values{"mode": {"ro"}, "_pragma": {"busy_timeout(5000)"}}))
 	if err != nil {

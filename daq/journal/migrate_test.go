@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
@@ -70,6 +71,14 @@ func TestMigrateV3KeepsEveryReading(t *testing.T) {
 		t.Fatalf("version-3 file holds %d readings, want %d", len(want), len(rs))
 	}
 
+	// A reader (a report, an export) cannot migrate: it says what to do, and leaves
+	// the file as it is.
+	if ro, err := Open(dir, Options{Logger: quiet, ReadOnly: true}); err == nil || !strings.Contains(err.Error(), "version 3, this settle reads version 4: start the daemon") {
+		t.Errorf("read-only open of a version-3 journal: %v, want the versions and what to do", err)
+		if ro != nil {
+			ro.Close()
+		}
+	}
 	j, err := Open(dir, Options{Logger: quiet, CommitInterval: time.Hour})
 	if err != nil {
 		t.Fatal(err)

@@ -181,21 +181,22 @@ func v3Status(name string) daq.Status {
 	return daq.Status(255)
 }
 
-// migrate brings the schema of db up to SchemaVersion, one transaction per step.
-func migrate(ctx context.Context, db *sql.DB, path string) error {
+// migrate brings the schema of db up to SchemaVersion, one transaction per step, and
+// returns the version it found.
+func migrate(ctx context.Context, db *sql.DB, path string) (int, error) {
 	var v int
 	if err := db.QueryRowContext(ctx, "PRAGMA user_version").Scan(&v); err != nil {
-		return fmt.Errorf("journal %s: read schema version: %w", path, err)
+		return 0, fmt.Errorf("journal %s: read schema version: %w", path, err)
 	}
 	if v > len(migrations) {
-		return fmt.Errorf("journal %s: version %d, this settle knows up to %d: %w", path, v, len(migrations), ErrSchemaTooNew)
+		return v, fmt.Errorf("journal %s: version %d, this settle knows up to %d: %w", path, v, len(migrations), ErrSchemaTooNew)
 	}
-	for ; v < len(migrations); v++ {
-		if err := migrateStep(ctx, db, v); err != nil {
-			return fmt.Errorf("journal %s: migrate schema %d→%d: %w", path, v, v+1, err)
+	for from := v; from < len(migrations); from++ {
+		if err := migrateStep(ctx, db, from); err != nil {
+			return v, fmt.Errorf("journal %s: migrate schema %d→%d: %w", path, from, from+1, err)
 		}
 	}
-	return nil
+	return v, nil
 }
 
 func migrateStep(ctx context.Context, db *sql.DB, from int) error {

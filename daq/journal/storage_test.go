@@ -168,3 +168,53 @@ func insertV3(t testing.TB, db *sql.DB, rs []daq.Reading) {
 		t.Fatal(err)
 	}
 }
+
+// BenchmarkMigrateV3 opens a version-3 journal of channels × seconds readings
+// (storageLoad's, SETTLE_STORAGE_* to change it), which migrates it to this package's
+// schema, and reports the readings migrated per second of wall time.
+// Run it once: go test ./daq/journal -run X -bench MigrateV3 -benchtime 1x
+func BenchmarkMigrateV3(b *testing.B) {
+	channels, seconds := storageLoad(b)
+	for range b.N {
+		b.StopTimer()
+		dir := b.TempDir()
+		db := openV3(b, filepath.Join(dir, FileName))
+		tx, err := db.Begin()
+		if err != nil {
+			b.Fatal(err)
+		}
+		storageReadings(channels, seconds, func(rs []daq.Reading) {
+			for i, r := range rs {
+				if _, err := tx.Exec("INSERT OR IGNORE INTO channels (id, logger, name) VALUES (?, ?, ?)", i+1, r.Logger, r.Channel); err != nil {
+					b.Fatal(err)
+				}
+				if _, err := tx.Exec("INSERT INTO readings (channel_id, t, celsius, status, raw) VALUES (?, ?, ?, 'ok', '')",
+					i+1, r.Time.UnixNano(), r.Celsius); err != nil {
+					b.Fatal(err)
+				}
+			}
+		}, func() {})
+		if err := tx.Commit(); err != nil {
+			b.Fatal(err)
+		}
+		if err := db.Close(); err != nil {
+			b.Fatal(err)
+		}
+		b.StartTimer()
+		start := time.Now()
+		j, err := Open(dir, Options{Logger: quiet})
+		if err != nil {
+			b.Fatal(err)
+		}
+		took := time.Since(start)
+		b.StopTimer()
+		if h := j.Health(); h.LastError != "" {
+			b.Fatalf("migration failed: %s", h.LastError)
+		}
+		if n, err := j.Count(""); err != nil || n != int64(channels*seconds) {
+			b.Fatalf("%d readings after migration (%v), want %d", n, err, channels*seconds)
+		}
+		j.Close()
+		b.ReportMetric(float64(channels*seconds)/took.Seconds(), "readings/s")
+	}
+}
