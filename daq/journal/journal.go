@@ -133,6 +133,7 @@ type Journal struct {
 	flushMu sync.Mutex        // serialises Flush with the writer loop
 	chanIDs map[chanKey]int64 // under flushMu
 	gen     int64             // generation written into new readings (see LastSeq); under flushMu
+	newest  map[int64]int64   // channel id → its newest time written, or later (see writes.insert); under flushMu
 	wake    chan struct{}
 	stop    chan struct{}
 	done    chan struct{}
@@ -256,6 +257,7 @@ func (j *Journal) openWriter() error {
 		return fmt.Errorf("journal: open %s for reading: %w", j.path, err)
 	}
 	r.SetMaxOpenConns(4)
+	j.newest = map[int64]int64{}
 	if err := w.QueryRow("SELECT coalesce(max(gen), 0) FROM marks").Scan(&j.gen); err != nil {
 		w.Close()
 		r.Close()
@@ -546,7 +548,7 @@ func (j *Journal) insertReadings(ctx context.Context, tx *sql.Tx, batch []daq.Re
 		if err != nil {
 			return err
 		}
-		if err := w.insert(ctx, id, j.gen, r); err != nil {
+		if err := w.insert(ctx, j.newest, id, j.gen, r); err != nil {
 			return fmt.Errorf("journal %s: insert reading of %s: %w", j.path, r.Channel, err)
 		}
 	}

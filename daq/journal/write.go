@@ -4,6 +4,7 @@ import (
 	"context"
 	"database/sql"
 	"errors"
+	"math"
 
 	"github.com/settle-lab/settle/daq"
 )
@@ -14,7 +15,7 @@ const genMask = 1<<32 - 1
 
 // writes holds the statements that write readings within one transaction.
 type writes struct {
-	ins, insRaw, rawLast, delRaw, find, set *sql.Stmt
+	ins, insNew, newest, insRaw, rawLast, delRaw, find, set *sql.Stmt
 }
 
 func prepareWrites(ctx context.Context, tx *sql.Tx) (*writes, error) {
@@ -27,6 +28,10 @@ func prepareWrites(ctx context.Context, tx *sql.Tx) (*writes, error) {
 		// this time already hold (none: 0), so that k orders them as written.
 		{&w.ins, "INSERT INTO readings (channel_id, t, k, v) VALUES (?1, ?2, ?3 +" +
 			" (coalesce((SELECT (max(k) >> 32) + 1 FROM readings WHERE channel_id = ?1 AND t = ?2), 0) << 32), ?4)"},
+		// A time after the channel's newest (the usual case) has no readings yet: k is
+		// the generation.
+		{&w.insNew, "INSERT INTO readings (channel_id, t, k, v) VALUES (?, ?, ?, ?)"},
+		{&w.newest, "SELECT max(t) FROM readings WHERE channel_id = ?"},
 		{&w.insRaw, "INSERT OR REPLACE INTO raw_texts (channel_id, t, k, raw) VALUES (?, ?, ?, ?)"},
 		{&w.rawLast, "INSERT INTO raw_texts (channel_id, t, k, raw)" +
 			" SELECT ?1, ?2, max(k), ?3 FROM readings WHERE channel_id = ?1 AND t = ?2"},
@@ -45,7 +50,7 @@ func prepareWrites(ctx context.Context, tx *sql.Tx) (*writes, error) {
 }
 
 func (w *writes) close() {
-	for _, st := range []*sql.Stmt{w.ins, w.insRaw, w.rawLast, w.delRaw, w.find, w.set} {
+	for _, st := range []*sql.Stmt{w.ins, w.insNew, w.newest, w.insRaw, w.rawLast, w.delRaw, w.find, w.set} {
 		if st != nil {
 			st.Close()
 		}
@@ -54,11 +59,29 @@ func (w *writes) close() {
 
 // insert adds one reading of channel id in generation gen. A second reading of the
 // channel with the same time (a logger repeating a line) is kept too, after the first.
-func (w *writes) insert(ctx context.Context, id, gen int64, r daq.Reading) error {
+// newest caches each channel's newest time written (at least the newest in the file),
+// so that a reading later than it, the usual case, is written without a lookup.
+func (w *writes) insert(ctx context.Context, newest map[int64]int64, id, gen int64, r daq.Reading) error {
 	t := r.Time.UnixNano()
-	if _, err := w.ins.ExecContext(ctx, id, t, gen, encodeValue(r.Celsius, r.Status)); err != nil {
+	last, ok := newest[id]
+	if !ok {
+		var v sql.NullInt64
+		if err := w.newest.QueryRowContext(ctx, id).Scan(&v); err != nil {
+			return err
+		}
+		last = v.Int64
+		if !v.Valid {
+			last = math.MinInt64
+		}
+	}
+	st := w.ins
+	if t > last {
+		st = w.insNew
+	}
+	if _, err := st.ExecContext(ctx, id, t, gen, encodeValue(r.Celsius, r.Status)); err != nil {
 		return err
 	}
+	newest[id] = max(last, t)
 	if r.Raw == "" {
 		return nil
 	}
