@@ -215,3 +215,42 @@ func TestSameTimeReadingsKept(t *testing.T) {
 		}
 	}
 }
+
+// Retention takes a pruned reading's fault text with it and leaves the others' (a
+// stale text would otherwise attach to a later reading written at the same time).
+func TestPruneTakesFaultTexts(t *testing.T) {
+	j, _ := open(t, Options{CommitInterval: time.Hour})
+	for i := range 700 {
+		r := reading("c1", i)
+		if i%50 == 0 {
+			r.Status, r.Raw = daq.StatusOpen, fmt.Sprintf("OPEN %d", i)
+		}
+		j.Append(r)
+	}
+	mustFlush(t, j)
+	run, err := j.StartRun(RunSpec{Channel: "c1", Specimen: "S", Start: t0.Add(100 * time.Second)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := j.StopRun(run.ID, t0.Add(399*time.Second)); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := j.Prune(t0.Add(2*time.Hour), Retention{Age: time.Hour}); err != nil {
+		t.Fatal(err)
+	}
+	var texts []string
+	for _, r := range collect(t, j, "c1", time.Time{}, time.Time{}) {
+		if r.Raw != "" {
+			texts = append(texts, r.Raw)
+		}
+	}
+	db, _ := j.reader()
+	var n int
+	if err := db.QueryRow("SELECT count(*) FROM raw_texts").Scan(&n); err != nil {
+		t.Fatal(err)
+	}
+	// Faults at 0, 50, …, 650; the run (100–399 s) held 100, 150, …, 350.
+	if want := "[OPEN 0 OPEN 50 OPEN 400 OPEN 450 OPEN 500 OPEN 550 OPEN 600 OPEN 650]"; fmt.Sprint(texts) != want || n != 8 {
+		t.Errorf("fault texts after pruning %v (%d stored), want %s (8)", texts, n, want)
+	}
+}
