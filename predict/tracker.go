@@ -209,6 +209,7 @@ func (tr *Tracker) SetPlaced(placed bool) {
 	if tr.placed != placed {
 		tr.placed = placed
 		tr.fitAt, tr.newPts = time.Time{}, max(tr.newPts, tr.opt.MinNewPoints)
+		tr.rephase = true // a rack's runs start together: keep their fits apart
 	}
 }
 
@@ -220,7 +221,7 @@ func (tr *Tracker) due() bool {
 
 // fitFrom is the reading time FitEvery counts from after a fit that starts now: the
 // last reading; or, for a channel's first fit on a running Bench's phases (of a
-// segment, or since the phases were set), the point of its phase's grid (FitEvery
+// segment, since the phases were set, or since SetPlaced changed), the point of its phase's grid (FitEvery
 // apart, offset by phase) nearest to it. Channels whose segments start together (a
 // rack loaded at once, a restart) then come due in their own share of FitEvery rather
 // than all in the same second, where most would wait in the workers' queue. Later fits
