@@ -43,13 +43,14 @@ func (b *Bench) fitAll(workers int) {
 // Observe (the daemon's analysis loop) never waits on a fit and the machine's cores
 // share the fits. Each channel is queued at most once at a time. When Run returns,
 // fits are back in Observe.
+//
+// While Run runs, each channel's schedule is aligned once (at its next fit, and again
+// at each new segment) to a phase of its own (see Tracker.fitFrom): the channels'
+// phases are spread evenly over FitEvery, so the workers get a steady share of the
+// fits each second, not every channel at once.
 func (b *Bench) Run(ctx context.Context, workers int) {
 	queue := make(chan *Tracker, len(b.trackers)) // room for every channel: never blocks
-	for _, tr := range b.trackers {
-		tr.mu.Lock()
-		tr.sched = func(t *Tracker) { queue <- t }
-		tr.mu.Unlock()
-	}
+	b.schedule(func(t *Tracker) { queue <- t })
 	var wg sync.WaitGroup
 	for range max(1, workers) {
 		wg.Add(1)
@@ -66,9 +67,20 @@ func (b *Bench) Run(ctx context.Context, workers int) {
 		}()
 	}
 	wg.Wait()
-	for _, tr := range b.trackers {
+	b.schedule(nil)
+}
+
+// schedule hands the channels' due fits to sched, with their phases spread over
+// FitEvery (channel i of n at i/n of it); nil puts fits back in Observe, on the plain
+// schedule.
+func (b *Bench) schedule(sched func(*Tracker)) {
+	for i, tr := range b.trackers {
 		tr.mu.Lock()
-		tr.sched, tr.queued = nil, false
+		tr.sched, tr.phased, tr.rephase = sched, sched != nil, sched != nil
+		tr.phase = time.Duration(int64(i) * int64(tr.opt.FitEvery) / int64(len(b.trackers)))
+		if sched == nil {
+			tr.queued = false
+		}
 		tr.mu.Unlock()
 	}
 }

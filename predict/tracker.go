@@ -94,6 +94,9 @@ type Tracker struct {
 	fitting bool           // a fit is running (at most one at a time)
 	sched   func(*Tracker) // hands a due fit to a Bench's workers; nil: fit in Add
 	queued  bool           // handed to sched and not yet started
+	phase   time.Duration  // on a running Bench: where this channel's fits fall in FitEvery (see fitFrom)
+	phased  bool           // phase is set
+	rephase bool           // the next fit realigns the schedule to the phase
 }
 
 // NewTracker returns a tracker forecasting the given targets.
@@ -206,6 +209,7 @@ func (tr *Tracker) SetPlaced(placed bool) {
 	if tr.placed != placed {
 		tr.placed = placed
 		tr.fitAt, tr.newPts = time.Time{}, max(tr.newPts, tr.opt.MinNewPoints)
+		tr.rephase = true // a rack's runs start together: keep their fits apart
 	}
 }
 
@@ -213,6 +217,30 @@ func (tr *Tracker) SetPlaced(placed bool) {
 func (tr *Tracker) due() bool {
 	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
 		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
+}
+
+// fitFrom is the reading time FitEvery counts from after a fit that starts now: the
+// last reading; or, for a channel's first fit on a running Bench's phases (of a
+// segment, since the phases were set, or since SetPlaced changed), the point of its phase's grid (FitEvery
+// apart, offset by phase) nearest to it. Channels whose segments start together (a
+// rack loaded at once, a restart) then come due in their own share of FitEvery rather
+// than all in the same second, where most would wait in the workers' queue. Later fits
+// count from the last reading as always, so a bench that falls behind still fits each
+// channel less often. Callers hold mu.
+func (tr *Tracker) fitFrom() time.Time {
+	every := tr.opt.FitEvery
+	if !tr.phased || !tr.rephase || every <= 0 {
+		return tr.last
+	}
+	tr.rephase = false
+	n := time.Duration((tr.last.UnixNano() - int64(tr.phase)) % int64(every))
+	if n < 0 {
+		n += every
+	}
+	if n > every/2 { // the nearest grid point: the next fit comes ½ to 1½ FitEvery on
+		n -= every
+	}
+	return tr.last.Add(-n)
 }
 
 // FitPending fits when the schedule called for a fit (FitEvery and MinNewPoints met)
@@ -245,7 +273,7 @@ func (tr *Tracker) busy() bool {
 func (tr *Tracker) newSegment(at time.Time) {
 	tr.gen++
 	tr.pts = tr.pts[:0]
-	tr.start, tr.fitAt = at, at
+	tr.start, tr.fitAt, tr.rephase = at, at, true
 	tr.newPts = 0
 	tr.forecast = nil
 }
@@ -298,7 +326,7 @@ func (tr *Tracker) fitNow() {
 		return
 	}
 	job := fitJob{all: tr.problem(), start: tr.start, targets: tr.targets, opt: tr.opt, placed: tr.placed, gen: tr.gen}
-	tr.fitAt, tr.newPts, tr.fitWall = tr.last, 0, time.Now()
+	tr.fitAt, tr.newPts, tr.fitWall = tr.fitFrom(), 0, time.Now()
 	tr.fitting, tr.queued = true, false
 	tr.mu.Unlock()
 

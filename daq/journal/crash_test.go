@@ -178,15 +178,20 @@ func checkPrefix(t *testing.T, dir string) int {
 	if err := db.QueryRow("PRAGMA integrity_check").Scan(&ok); err != nil || ok != "ok" {
 		t.Fatalf("integrity_check = %q (%v)", ok, err)
 	}
-	rows, err := db.Query("SELECT celsius FROM readings ORDER BY seq")
+	// Reading i is at t0 + i ms: time order is the order they were appended.
+	rows, err := db.Query("SELECT v FROM readings ORDER BY t")
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer rows.Close()
 	n := 0
 	for rows.Next() {
-		var c float64
-		if err := rows.Scan(&c); err != nil {
+		var v any
+		if err := rows.Scan(&v); err != nil {
+			t.Fatal(err)
+		}
+		c, _, err := decodeValue(v)
+		if err != nil {
 			t.Fatal(err)
 		}
 		if c != float64(n) {

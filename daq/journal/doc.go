@@ -15,6 +15,12 @@
 // through Health, and retries every commit interval; writing resumes when the disk
 // recovers.
 //
+// A reading takes about 23 bytes on disk (schema version 4, see schema.go): one
+// b-tree keyed by channel, time and a small generation number serves every query, the
+// value and status share one column (a logger's decimal figure as a small integer when
+// that decodes to the same float64 bit for bit, else the exact 8 bytes), and fault
+// texts sit apart. Opening an older journal migrates it, every reading kept.
+//
 // Readers (Readings, Latest, Replay, Runs) use a separate read-only connection pool, so
 // a report can read a journal while the daemon writes it; another process may open the
 // same file with Options.ReadOnly.

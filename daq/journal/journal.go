@@ -132,6 +132,8 @@ type Journal struct {
 
 	flushMu sync.Mutex        // serialises Flush with the writer loop
 	chanIDs map[chanKey]int64 // under flushMu
+	gen     int64             // generation written into new readings (see LastSeq); under flushMu
+	newest  map[int64]int64   // channel id → its newest time written, or later (see writes.insert); under flushMu
 	wake    chan struct{}
 	stop    chan struct{}
 	done    chan struct{}
@@ -210,6 +212,10 @@ func (j *Journal) openReadOnly() error {
 		db.Close()
 		return fmt.Errorf("journal %s: version %d: %w", j.path, v, ErrSchemaTooNew)
 	}
+	if v < SchemaVersion {
+		db.Close()
+		return fmt.Errorf("journal %s: version %d, this settle reads version %d: start the daemon (settle run) once on this data directory to migrate it", j.path, v, SchemaVersion)
+	}
 	j.rdb = db
 	return nil
 }
@@ -236,9 +242,14 @@ func (j *Journal) openWriter() error {
 	}
 	w.SetMaxOpenConns(1)
 	w.SetConnMaxIdleTime(0)
-	if err := migrate(context.Background(), w, j.path); err != nil {
+	start := time.Now()
+	from, err := migrate(context.Background(), w, j.path)
+	if err != nil {
 		w.Close()
 		return err
+	}
+	if from > 0 && from < SchemaVersion {
+		j.log.Info("journal migrated", "path", j.path, "from_version", from, "to_version", SchemaVersion, "took", time.Since(start).Round(time.Millisecond))
 	}
 	r, err := sql.Open("sqlite", dsn(j.path, url.Values{"mode": {"ro"}, "_pragma": {"busy_timeout(5000)"}}))
 	if err != nil {
@@ -246,6 +257,12 @@ func (j *Journal) openWriter() error {
 		return fmt.Errorf("journal: open %s for reading: %w", j.path, err)
 	}
 	r.SetMaxOpenConns(4)
+	j.newest = map[int64]int64{}
+	if err := w.QueryRow("SELECT coalesce(max(gen), 0) FROM marks").Scan(&j.gen); err != nil {
+		w.Close()
+		r.Close()
+		return fmt.Errorf("journal: read %s: %w", j.path, err)
+	}
 	j.dbMu.Lock()
 	j.wdb, j.rdb = w, r
 	j.dbMu.Unlock()
@@ -521,40 +538,40 @@ func (j *Journal) insertReadings(ctx context.Context, tx *sql.Tx, batch []daq.Re
 	if len(batch) == 0 {
 		return nil
 	}
-	stmt, err := tx.PrepareContext(ctx, "INSERT INTO readings (channel_id, t, celsius, status, raw) VALUES (?, ?, ?, ?, ?)")
+	w, err := prepareWrites(ctx, tx)
 	if err != nil {
 		return fmt.Errorf("journal %s: prepare insert: %w", j.path, err)
 	}
-	defer stmt.Close()
+	defer w.close()
 	for _, r := range batch {
 		id, err := j.channelID(ctx, tx, chanKey{r.Logger, r.Channel}, added)
 		if err != nil {
 			return err
 		}
-		if _, err := stmt.ExecContext(ctx, id, r.Time.UnixNano(), nullFloat(r.Celsius), r.Status.String(), r.Raw); err != nil {
+		if err := w.insert(ctx, j.newest, id, j.gen, r); err != nil {
 			return fmt.Errorf("journal %s: insert reading of %s: %w", j.path, r.Channel, err)
 		}
 	}
 	return nil
 }
 
-// updateStatuses applies Restatus changes; a reading not in the journal (dropped while
-// the disk was full) is skipped.
+// updateStatuses applies Restatus changes (status and raw text, the value kept); a
+// reading not in the journal (dropped while the disk was full) is skipped.
 func (j *Journal) updateStatuses(ctx context.Context, tx *sql.Tx, sts []daq.Reading, added map[chanKey]int64) error {
 	if len(sts) == 0 {
 		return nil
 	}
-	stmt, err := tx.PrepareContext(ctx, "UPDATE readings SET status = ?, raw = ? WHERE channel_id = ? AND t = ?")
+	w, err := prepareWrites(ctx, tx)
 	if err != nil {
 		return fmt.Errorf("journal %s: prepare status update: %w", j.path, err)
 	}
-	defer stmt.Close()
+	defer w.close()
 	for _, r := range sts {
 		id, err := j.channelID(ctx, tx, chanKey{r.Logger, r.Channel}, added)
 		if err != nil {
 			return err
 		}
-		if _, err := stmt.ExecContext(ctx, r.Status.String(), r.Raw, id, r.Time.UnixNano()); err != nil {
+		if err := w.restatus(ctx, id, r); err != nil {
 			return fmt.Errorf("journal %s: update status of %s: %w", j.path, r.Channel, err)
 		}
 	}
@@ -579,9 +596,4 @@ func (j *Journal) channelID(ctx context.Context, tx *sql.Tx, k chanKey, added ma
 	}
 	added[k] = id
 	return id, nil
-}
-
-// nullFloat stores NaN as NULL (SQLite has no NaN).
-func nullFloat(v float64) sql.NullFloat64 {
-	return sql.NullFloat64{Float64: v, Valid: v == v}
 }

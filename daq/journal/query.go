@@ -12,75 +12,90 @@ import (
 	"github.com/settle-lab/settle/daq"
 )
 
-const readingCols = "c.logger, c.name, r.t, r.celsius, r.status, r.raw"
+// readingCols are the columns scanReading reads, from readings r joined with channels c
+// (readingFrom).
+const readingCols = "c.logger, c.name, r.t, r.v, coalesce(x.raw, '')"
+
+// readingFrom joins a reading with its channel and its raw text, if any.
+const readingFrom = " FROM readings r JOIN channels c ON c.id = r.channel_id" +
+	" LEFT JOIN raw_texts x ON x.channel_id = r.channel_id AND x.t = r.t AND x.k = r.k"
 
 // scanReading reads one row of readingCols.
 func scanReading(rows interface{ Scan(...any) error }) (daq.Reading, error) {
 	var (
 		r  daq.Reading
 		ns int64
-		c  sql.NullFloat64
-		st string
+		v  any
 	)
-	if err := rows.Scan(&r.Logger, &r.Channel, &ns, &c, &st, &r.Raw); err != nil {
+	if err := rows.Scan(&r.Logger, &r.Channel, &ns, &v, &r.Raw); err != nil {
 		return r, err
 	}
 	r.Time = time.Unix(0, ns)
-	r.Celsius = math.NaN()
-	if c.Valid {
-		r.Celsius = c.Float64
+	c, s, err := decodeValue(v)
+	if err != nil {
+		return r, fmt.Errorf("reading of %s at %d: %w", r.Channel, ns, err)
 	}
-	s, ok := daq.ParseStatus(st)
-	if !ok {
-		s = daq.Status(255) // String() gives "unknown"
-	}
-	r.Status = s
+	r.Celsius, r.Status = c, s
 	return r, nil
 }
 
 // Readings yields the committed readings of channel with from <= Time < to, oldest
-// first. A zero from or to leaves that end open. The error, if any, comes with a zero
+// first (readings with the same time in the order they were written).
+// A zero from or to leaves that end open. The error, if any, comes with a zero
 // reading as the last pair.
 func (j *Journal) Readings(channel string, from, to time.Time) iter.Seq2[daq.Reading, error] {
-	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
-		" WHERE c.name = ? AND r.t >= ? AND r.t < ? ORDER BY r.t, r.seq"
+	q := "SELECT " + readingCols + readingFrom +
+		" WHERE r.channel_id IN (SELECT id FROM channels WHERE name = ?) AND r.t >= ? AND r.t < ? ORDER BY r.t, r.k"
 	return j.query(fmt.Sprintf("readings of %s", channel), q, channel, lo(from), hi(to))
 }
 
 // Replay calls fn with every committed reading with Time >= since, of all channels, in
-// time order, so a restarted daemon can rebuild its trackers.
+// time order (readings with the same time by channel, in the order the channels were
+// first journaled, which for one logger's line is its column order), so a restarted
+// daemon can rebuild its trackers.
 func (j *Journal) Replay(since time.Time, fn func(daq.Reading)) error {
-	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
-		" WHERE r.t >= ? ORDER BY r.t, r.seq"
-	for r, err := range j.query("replay", q, lo(since)) {
-		if err != nil {
-			return err
-		}
-		fn(r)
-	}
-	return nil
+	return j.ReplayBefore(since, math.MaxInt64, func(r daq.Reading) bool { fn(r); return true })
 }
 
-// LastSeq returns the sequence number of the newest committed reading (0 when none):
-// a mark that tells the readings committed so far from later ones.
+// LastSeq returns a mark that tells the readings committed so far from later ones
+// (for ReplayBefore and ReplayStarts). On a journal open for writing it starts a new
+// generation: readings committed from now on carry the next one (at most one a daemon
+// start: the generation lives in each reading's key, where a small number takes one
+// byte). On a read-only journal it is the newest generation.
 func (j *Journal) LastSeq() (int64, error) {
-	db, err := j.reader()
-	if err != nil {
-		return 0, err
+	if j.opt.ReadOnly {
+		db, err := j.reader()
+		if err != nil {
+			return 0, err
+		}
+		var gen int64
+		if err := db.QueryRow("SELECT coalesce(max(gen), 0) FROM marks").Scan(&gen); err != nil {
+			return 0, fmt.Errorf("journal %s: last mark: %w", j.path, err)
+		}
+		return gen, nil
 	}
-	var seq sql.NullInt64
-	if err := db.QueryRow("SELECT max(seq) FROM readings").Scan(&seq); err != nil {
-		return 0, fmt.Errorf("journal %s: last reading: %w", j.path, err)
+	j.flushMu.Lock()
+	defer j.flushMu.Unlock()
+	db := j.writer()
+	if db == nil {
+		return 0, fmt.Errorf("%w: %s", ErrUnavailable, j.path)
 	}
-	return seq.Int64, nil
+	if _, err := db.Exec("INSERT INTO marks (gen) VALUES (?)", j.gen+1); err != nil {
+		return 0, fmt.Errorf("journal %s: new mark: %w", j.path, err)
+	}
+	j.gen++
+	return j.gen - 1, nil
 }
 
-// ReplayBefore is Replay restricted to the readings with a sequence number of at most
-// seq (see LastSeq): the record as it stood at a mark, whatever the readings' clocks.
-// It stops early, without error, when fn returns false.
+// ReplayBefore is Replay restricted to the readings committed by the mark seq (see
+// LastSeq): the record as it stood at a mark, whatever the readings' clocks. It stops
+// early, without error, when fn returns false.
 func (j *Journal) ReplayBefore(since time.Time, seq int64, fn func(daq.Reading) bool) error {
-	q := "SELECT " + readingCols + " FROM readings r JOIN channels c ON c.id = r.channel_id" +
-		" WHERE r.t >= ? AND r.seq <= ? ORDER BY r.t, r.seq"
+	// Each channel's readings are one range of the key (channel, time): the IN list
+	// makes SQLite seek each range rather than scan the table, then merge by time.
+	q := "SELECT " + readingCols + readingFrom +
+		" WHERE r.channel_id IN (SELECT id FROM channels) AND r.t >= ? AND (r.k & 4294967295) <= ?" +
+		" ORDER BY r.t, r.channel_id, r.k"
 	for r, err := range j.query("replay", q, lo(since), seq) {
 		if err != nil {
 			return err
@@ -93,8 +108,8 @@ func (j *Journal) ReplayBefore(since time.Time, seq int64, fn func(daq.Reading) 
 }
 
 // ReplayStarts returns, for every channel, the time of its perChannel-th newest
-// committed reading with Time >= since and a sequence number of at most seq (since
-// when it has fewer). ReplayBefore from the earliest of them, skipping each channel's
+// committed reading with Time >= since and committed by the mark seq (since when it has
+// fewer). ReplayBefore from the earliest of them, skipping each channel's
 // readings before its own start, feeds at most perChannel readings of each channel: a
 // restart's cost stays bounded however fast the loggers read.
 func (j *Journal) ReplayStarts(since time.Time, seq int64, perChannel int) (map[string]time.Time, error) {
@@ -120,7 +135,7 @@ func (j *Journal) ReplayStarts(since time.Time, seq int64, perChannel int) (map[
 	out := map[string]time.Time{}
 	for id, name := range ids {
 		var ns int64
-		err := db.QueryRow("SELECT t FROM readings WHERE channel_id = ? AND t >= ? AND seq <= ? ORDER BY t DESC LIMIT 1 OFFSET ?",
+		err := db.QueryRow("SELECT t FROM readings WHERE channel_id = ? AND t >= ? AND (k & 4294967295) <= ? ORDER BY t DESC LIMIT 1 OFFSET ?",
 			id, lo(since), seq, perChannel-1).Scan(&ns)
 		switch {
 		case errors.Is(err, sql.ErrNoRows):
@@ -138,8 +153,10 @@ func (j *Journal) ReplayStarts(since time.Time, seq int64, perChannel int) (map[
 
 // Latest returns the newest committed reading of every channel, by channel name.
 func (j *Journal) Latest() (map[string]daq.Reading, error) {
-	q := "SELECT " + readingCols + " FROM channels c JOIN readings r ON r.seq = " +
-		"(SELECT seq FROM readings WHERE channel_id = c.id ORDER BY t DESC, seq DESC LIMIT 1)"
+	// Each channel's newest time, then the readings at it (newest written first).
+	q := "SELECT " + readingCols + " FROM channels c JOIN readings r ON r.channel_id = c.id" +
+		" AND r.t = (SELECT max(t) FROM readings WHERE channel_id = c.id)" +
+		" LEFT JOIN raw_texts x ON x.channel_id = r.channel_id AND x.t = r.t AND x.k = r.k ORDER BY r.k DESC"
 	out := map[string]daq.Reading{}
 	for r, err := range j.query("latest readings", q) {
 		if err != nil {

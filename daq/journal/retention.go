@@ -112,7 +112,9 @@ func (j *Journal) pruneRun(ctx context.Context, run Run, keep time.Duration) (in
 	q, mark := "DELETE FROM readings WHERE "+span, "dropped"
 	args := []any{run.Channel, run.Started.UnixNano(), run.Stopped.UnixNano()}
 	if keep > 0 {
-		q += " AND seq NOT IN (SELECT min(seq) FROM readings WHERE " + span + " GROUP BY (t - ?2) / ?4)"
+		// The first reading (by time, then as written) of each keep-long slot stays.
+		q += " AND (channel_id, t, k) NOT IN (SELECT channel_id, t, k FROM (SELECT channel_id, t, k," +
+			" row_number() OVER (PARTITION BY (t - ?2) / ?4 ORDER BY t, k) AS n FROM readings WHERE " + span + ") WHERE n = 1)"
 		args, mark = append(args, keep.Nanoseconds()), "thinned"
 	}
 	res, err := tx.ExecContext(ctx, q, args...)
@@ -121,6 +123,11 @@ func (j *Journal) pruneRun(ctx context.Context, run Run, keep time.Duration) (in
 	}
 	n, err := res.RowsAffected()
 	if err != nil {
+		return 0, err
+	}
+	// The raw texts of the readings gone go with them.
+	if _, err := tx.ExecContext(ctx, "DELETE FROM raw_texts AS x WHERE "+span+" AND NOT EXISTS"+
+		" (SELECT 1 FROM readings r WHERE r.channel_id = x.channel_id AND r.t = x.t AND r.k = x.k)", args[:3]...); err != nil {
 		return 0, err
 	}
 	if _, err := tx.ExecContext(ctx, "UPDATE runs SET pruned = ? WHERE id = ?", mark, run.ID); err != nil {
