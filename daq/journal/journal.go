@@ -535,12 +535,30 @@ func (j *Journal) commit(batch []daq.Reading, fcs []forecastRow, sts []daq.Readi
 }
 
 func (j *Journal) insertReadings(ctx context.Context, tx *sql.Tx, batch []daq.Reading, added map[chanKey]int64) error {
+	return j.eachReading(ctx, tx, batch, added, "insert", "insert reading", func(w *writes, id int64, r daq.Reading) error {
+		return w.insert(ctx, j.newest, id, j.gen, r)
+	})
+}
+
+// updateStatuses applies Restatus changes (status and raw text, the value kept); a
+// reading not in the journal (dropped while the disk was full) is skipped.
+func (j *Journal) updateStatuses(ctx context.Context, tx *sql.Tx, sts []daq.Reading, added map[chanKey]int64) error {
+	return j.eachReading(ctx, tx, sts, added, "status update", "update status", func(w *writes, id int64, r daq.Reading) error {
+		return w.restatus(ctx, id, r)
+	})
+}
+
+// eachReading prepares the write statements in tx and applies op to each reading of
+// batch with its channel's row id; step and each name the statement and one reading's
+// write in errors.
+func (j *Journal) eachReading(ctx context.Context, tx *sql.Tx, batch []daq.Reading, added map[chanKey]int64,
+	step, each string, op func(w *writes, id int64, r daq.Reading) error) error {
 	if len(batch) == 0 {
 		return nil
 	}
 	w, err := prepareWrites(ctx, tx)
 	if err != nil {
-		return fmt.Errorf("journal %s: prepare insert: %w", j.path, err)
+		return fmt.Errorf("journal %s: prepare %s: %w", j.path, step, err)
 	}
 	defer w.close()
 	for _, r := range batch {
@@ -548,31 +566,8 @@ func (j *Journal) insertReadings(ctx context.Context, tx *sql.Tx, batch []daq.Re
 		if err != nil {
 			return err
 		}
-		if err := w.insert(ctx, j.newest, id, j.gen, r); err != nil {
-			return fmt.Errorf("journal %s: insert reading of %s: %w", j.path, r.Channel, err)
-		}
-	}
-	return nil
-}
-
-// updateStatuses applies Restatus changes (status and raw text, the value kept); a
-// reading not in the journal (dropped while the disk was full) is skipped.
-func (j *Journal) updateStatuses(ctx context.Context, tx *sql.Tx, sts []daq.Reading, added map[chanKey]int64) error {
-	if len(sts) == 0 {
-		return nil
-	}
-	w, err := prepareWrites(ctx, tx)
-	if err != nil {
-		return fmt.Errorf("journal %s: prepare status update: %w", j.path, err)
-	}
-	defer w.close()
-	for _, r := range sts {
-		id, err := j.channelID(ctx, tx, chanKey{r.Logger, r.Channel}, added)
-		if err != nil {
-			return err
-		}
-		if err := w.restatus(ctx, id, r); err != nil {
-			return fmt.Errorf("journal %s: update status of %s: %w", j.path, r.Channel, err)
+		if err := op(w, id, r); err != nil {
+			return fmt.Errorf("journal %s: %s of %s: %w", j.path, each, r.Channel, err)
 		}
 	}
 	return nil
