@@ -92,6 +92,7 @@ type Tracker struct {
 
 	gen     uint64         // counts segments: a fit of an older one is discarded
 	fitting bool           // a fit is running (at most one at a time)
+	every   time.Duration  // the reading time between fits the last forecast calls for (fitInterval); 0: FitEvery
 	sched   func(*Tracker) // hands a due fit to a Bench's workers; nil: fit in Add
 	queued  bool           // handed to sched and not yet started
 	phase   time.Duration  // on a running Bench: where this channel's fits fall in FitEvery (see fitFrom)
@@ -215,7 +216,11 @@ func (tr *Tracker) SetPlaced(placed bool) {
 
 // due reports whether the schedule calls for a fit now. Callers hold mu.
 func (tr *Tracker) due() bool {
-	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= tr.opt.FitEvery &&
+	every := tr.opt.FitEvery
+	if tr.every > 0 {
+		every = tr.every
+	}
+	return !tr.hold && !tr.fitting && tr.newPts >= tr.opt.MinNewPoints && tr.last.Sub(tr.fitAt) >= every &&
 		(tr.opt.MinFitGap <= 0 || time.Since(tr.fitWall) >= tr.opt.MinFitGap)
 }
 
@@ -334,10 +339,49 @@ func (tr *Tracker) fitNow() {
 
 	tr.mu.Lock()
 	if job.gen == tr.gen {
-		tr.forecast = f
+		tr.forecast, tr.every = f, fitInterval(f, tr.last, tr.opt.FitEvery)
 	}
 	tr.fitting = false
 	tr.mu.Unlock()
+}
+
+// The schedule follows the forecast: a channel whose next target is far away is
+// refitted less often, one close to a target more often, so the fits go where a
+// fresh forecast matters (and a thousand channels' fits fit in a core).
+const (
+	nearTarget = 5 * time.Minute  // a target due sooner is near: FitEvery/2
+	farTarget  = 20 * time.Minute // no target due sooner is far: farFactor × FitEvery
+	farFactor  = 3
+)
+
+// fitInterval returns the reading time until the next fit after forecast f, whose
+// last reading was at last: FitEvery/2 while a pending target's predicted crossing
+// is within nearTarget, farFactor × FitEvery while every pending target's interval
+// opens beyond farTarget (a wide early interval keeps the usual pace), and FitEvery
+// otherwise — always FitEvery while there is no forecast,
+// the position is empty, or any target is reached or holding (a state the readings
+// may take back, which must not stand longer than it does today).
+func fitInterval(f *Forecast, last time.Time, every time.Duration) time.Duration {
+	if f == nil || f.Empty || len(f.Targets) == 0 {
+		return every
+	}
+	const never = time.Duration(math.MaxInt64)
+	at, earliest := never, never // the soonest predicted crossing and interval opening
+	for _, tf := range f.Targets {
+		switch tf.State {
+		case StateReached, StateHolding:
+			return every
+		case StatePredicted:
+			at, earliest = min(at, tf.At.Sub(last)), min(earliest, tf.Earliest.Sub(last))
+		}
+	}
+	switch {
+	case at <= nearTarget:
+		return every / 2
+	case earliest > farTarget && earliest != never:
+		return farFactor * every
+	}
+	return every
 }
 
 // run is Analyze on the job's segment (or the empty-position forecast).

@@ -201,3 +201,63 @@ func TestTrackerMugMisfit(t *testing.T) {
 		t.Errorf("40 °C: %s in [%.0f, %.0f] min: want an interval at least half as wide as the horizon", tg.State, lo, hi)
 	}
 }
+
+// TestFitIntervalFollowsTheForecast: the next fit comes sooner when a target's
+// predicted crossing is within 5 minutes, later when every pending target's interval
+// opens more than 20 minutes away, and at the usual FitEvery while a target is reached or holding (a state the
+// readings may take back), the position is empty or nothing is forecast.
+func TestFitIntervalFollowsTheForecast(t *testing.T) {
+	last := time.Date(2026, 12, 3, 10, 0, 0, 0, time.UTC)
+	in := func(d time.Duration) TargetForecast {
+		return TargetForecast{State: StatePredicted, Earliest: last.Add(d), At: last.Add(d + time.Minute)}
+	}
+	const every = 10 * time.Second
+	for _, c := range []struct {
+		name string
+		f    *Forecast
+		want time.Duration
+	}{
+		{"no forecast", nil, every},
+		{"empty position", &Forecast{Empty: true, Targets: []TargetForecast{in(time.Hour)}}, every},
+		{"near", &Forecast{Targets: []TargetForecast{in(time.Hour), in(4 * time.Minute)}}, every / 2},
+		{"between", &Forecast{Targets: []TargetForecast{in(10 * time.Minute)}}, every},
+		{"wide interval, far crossing", &Forecast{Targets: []TargetForecast{{State: StatePredicted, Earliest: last, At: last.Add(time.Hour)}}}, every},
+		{"far", &Forecast{Targets: []TargetForecast{in(time.Hour), in(21 * time.Minute)}}, 3 * every},
+		{"far but one reached", &Forecast{Targets: []TargetForecast{in(time.Hour), {State: StateReached, At: last}}}, every},
+		{"far but one holding", &Forecast{Targets: []TargetForecast{in(time.Hour), {State: StateHolding}}}, every},
+		{"nothing predicted", &Forecast{Targets: []TargetForecast{{State: StateInsufficient}}}, every},
+	} {
+		if got := fitInterval(c.f, last, every); got != c.want {
+			t.Errorf("%s: %v, want %v", c.name, got, c.want)
+		}
+	}
+}
+
+// TestTrackerFitsFarTargetsLessOften counts a tracker's fits over 10 minutes of 1 Hz
+// readings of a slow cooling (our own invented curve: 180 °C toward 21 °C, τ = 1 h,
+// so 50 °C is about 1 h 42 min away): about one every 30 s instead of the 60 fits of
+// every 10 s. With a target crossed at 12½ min the fits come every 5 s from the
+// 7½-minute mark, when the crossing is 5 min ahead: about 45 + 30.
+func TestTrackerFitsFarTargetsLessOften(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	count := func(level float64) int {
+		tr := NewTracker([]Target{{Name: "t", Celsius: level}}, TrackerOptions{})
+		fits, prev := 0, time.Time{}
+		for s := 0; s <= 600; s++ {
+			tr.SetAmbient(21)
+			tr.Add(start.Add(time.Duration(s)*time.Second), 21+159*math.Exp(-float64(s)/3600))
+			if f := tr.Forecast(); f != nil && !f.FittedAt.Equal(prev) {
+				fits, prev = fits+1, f.FittedAt
+			}
+		}
+		return fits
+	}
+	// 150 °C: crossed at 3600·ln(159/129) ≈ 753 s, 2½ minutes after the last reading.
+	far, near := count(50), count(150)
+	if far < 15 || far > 30 {
+		t.Errorf("far target: %d fits in 10 min, want about 20 (every 30 s after the first ones)", far)
+	}
+	if near < 70 {
+		t.Errorf("near target: %d fits in 10 min, want more than 70 (every 5 s once it is within 5 min)", near)
+	}
+}
