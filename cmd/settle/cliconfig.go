@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io/fs"
 	"net"
+	"net/url"
 	"os"
 	"path/filepath"
 	"strings"
@@ -159,7 +160,7 @@ func (f *cliFlags) daemon(c cliConfig) (daemonTarget, error) {
 	}
 	t.url = u
 	if secure && strings.HasPrefix(u, "https://") {
-		t.tls = clientTLS(c.cfg.HTTP.TLSCert)
+		t.tls = clientTLS(c.cfg.HTTP.TLSCert, urlHost(u))
 	}
 	t.token = f.token
 	if t.token == "" {
@@ -215,7 +216,7 @@ func daemonURL(addr string, secure bool) (string, error) {
 // 127.0.0.1 for a listen address of ":8391". Any other certificate goes through the
 // usual chain and host-name verification against the system's roots. crypto/tls has
 // no setting for this, hence VerifyConnection.
-func clientTLS(certFile string) *tls.Config {
+func clientTLS(certFile, host string) *tls.Config {
 	pool, err := x509.SystemCertPool()
 	if err != nil || pool == nil {
 		pool = x509.NewCertPool()
@@ -230,22 +231,23 @@ func clientTLS(certFile string) *tls.Config {
 	}
 	cfg.InsecureSkipVerify = true // verification is VerifyConnection's, below
 	cfg.VerifyConnection = func(cs tls.ConnectionState) error {
-		return verifyDaemon(cs, pinned, pool, time.Now())
+		return verifyDaemon(cs, pinned, pool, host, time.Now())
 	}
 	return cfg
 }
 
 // verifyDaemon accepts the pinned certificate itself, else a chain to roots valid for
-// the dialled host name. Its errors are tls.CertificateVerificationError, as crypto/tls's
-// own verification returns them.
-func verifyDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509.CertPool, now time.Time) error {
-	if err := checkDaemon(cs, pinned, roots, now); err != nil {
+// host, the name or address dialled (not the connection's ServerName: Go sends no
+// server name for an IP address, which would check no name at all). Its errors are
+// tls.CertificateVerificationError, as crypto/tls's own verification returns them.
+func verifyDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509.CertPool, host string, now time.Time) error {
+	if err := checkDaemon(cs, pinned, roots, host, now); err != nil {
 		return &tls.CertificateVerificationError{UnverifiedCertificates: cs.PeerCertificates, Err: err}
 	}
 	return nil
 }
 
-func checkDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509.CertPool, now time.Time) error {
+func checkDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509.CertPool, host string, now time.Time) error {
 	if len(cs.PeerCertificates) == 0 {
 		return errors.New("the daemon presented no certificate")
 	}
@@ -264,8 +266,18 @@ func checkDaemon(cs tls.ConnectionState, pinned []*x509.Certificate, roots *x509
 	for _, c := range cs.PeerCertificates[1:] {
 		inter.AddCert(c)
 	}
-	_, err := leaf.Verify(x509.VerifyOptions{Roots: roots, Intermediates: inter, DNSName: cs.ServerName, CurrentTime: now})
+	_, err := leaf.Verify(x509.VerifyOptions{Roots: roots, Intermediates: inter, DNSName: host, CurrentTime: now})
 	return err
+}
+
+// urlHost returns the host name or address of a URL ("127.0.0.1", "::1",
+// "bench-pc.lab"); "" when it does not parse.
+func urlHost(raw string) string {
+	u, err := url.Parse(raw)
+	if err != nil {
+		return ""
+	}
+	return u.Hostname()
 }
 
 // readCerts returns the certificates in a PEM file; none when it cannot be read.

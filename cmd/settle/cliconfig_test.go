@@ -2,10 +2,15 @@ package main
 
 import (
 	"context"
+	"crypto/ecdsa"
+	"crypto/elliptic"
+	"crypto/rand"
 	"crypto/tls"
 	"crypto/x509"
+	"crypto/x509/pkix"
 	"fmt"
 	"io"
+	"math/big"
 	"net/http"
 	"net/http/httptest"
 	"os"
@@ -133,7 +138,7 @@ func TestClientTLSPinsTheDaemonsCertificate(t *testing.T) {
 		return srv.URL // https://127.0.0.1:port
 	}
 	get := func(url string) error {
-		hc := &http.Client{Timeout: 10 * time.Second, Transport: &http.Transport{TLSClientConfig: clientTLS(daemonCert)}}
+		hc := &http.Client{Timeout: 10 * time.Second, Transport: &http.Transport{TLSClientConfig: clientTLS(daemonCert, "127.0.0.1")}}
 		resp, err := hc.Get(url)
 		if err != nil {
 			return err
@@ -152,7 +157,7 @@ func TestClientTLSPinsTheDaemonsCertificate(t *testing.T) {
 		t.Errorf("another self-signed certificate: err %v, want a certificate error", err)
 	}
 	c := &daemonClient{addr: other, token: "t", http: &http.Client{Timeout: 10 * time.Second,
-		Transport: &http.Transport{TLSClientConfig: clientTLS(daemonCert)}}}
+		Transport: &http.Transport{TLSClientConfig: clientTLS(daemonCert, "127.0.0.1")}}}
 	err := c.call(context.Background(), http.MethodGet, "/api/v1/runs", nil, nil)
 	if err == nil || !strings.Contains(err.Error(), "the daemon's certificate was not accepted") {
 		t.Errorf("runs API behind another certificate: err %v, want the certificate hint", err)
@@ -168,14 +173,54 @@ func TestVerifyDaemonExpired(t *testing.T) {
 		t.Fatalf("read %d certificates from %s, want 1", len(pinned), certFile)
 	}
 	cs := tls.ConnectionState{PeerCertificates: pinned, ServerName: "127.0.0.1"}
-	if err := verifyDaemon(cs, pinned, x509.NewCertPool(), time.Now()); err != nil {
+	if err := verifyDaemon(cs, pinned, x509.NewCertPool(), "127.0.0.1", time.Now()); err != nil {
 		t.Errorf("within its validity: %v", err)
 	}
-	err := verifyDaemon(cs, pinned, x509.NewCertPool(), time.Now().Add(48*time.Hour))
+	err := verifyDaemon(cs, pinned, x509.NewCertPool(), "127.0.0.1", time.Now().Add(48*time.Hour))
 	if err == nil || !strings.Contains(err.Error(), "renew http.tls_cert") {
 		t.Errorf("two days later: err %v, want the validity period and a hint", err)
 	}
-	if err := verifyDaemon(tls.ConnectionState{}, pinned, x509.NewCertPool(), time.Now()); err == nil {
+	if err := verifyDaemon(tls.ConnectionState{}, pinned, x509.NewCertPool(), "127.0.0.1", time.Now()); err == nil {
 		t.Error("no certificate at all was accepted")
+	}
+}
+
+// TestVerifyDaemonChecksTheDialledHost: a certificate other than the daemon's own must
+// be valid for the host dialled — also an IP address, for which Go sends no server
+// name, so the connection's ServerName is empty and cannot be what is checked. A
+// certificate for another name under a trusted root is refused; one for the dialled
+// name is accepted. Our own throwaway root and leaves.
+func TestVerifyDaemonChecksTheDialledHost(t *testing.T) {
+	rootKey, _ := ecdsa.GenerateKey(elliptic.P256(), rand.Reader)
+	rootTmpl := &x509.Certificate{SerialNumber: big.NewInt(1), Subject: pkix.Name{CommonName: "lab root"},
+		NotBefore: time.Now().Add(-time.Hour), NotAfter: time.Now().Add(time.Hour), IsCA: true,
+		BasicConstraintsValid: true, KeyUsage: x509.KeyUsageCertSign}
+	rootDER, err := x509.CreateCertificate(rand.Reader, rootTmpl, rootTmpl, &rootKey.PublicKey, rootKey)
+	if err != nil {
+		t.Fatal(err)
+	}
+	root, _ := x509.ParseCertificate(rootDER)
+	leaf := func(dns string) *x509.Certificate {
+		k, _ := ecdsa.GenerateKey(elliptic.P256(), rand.Reader)
+		tmpl := &x509.Certificate{SerialNumber: big.NewInt(2), Subject: pkix.Name{CommonName: dns}, DNSNames: []string{dns},
+			NotBefore: time.Now().Add(-time.Hour), NotAfter: time.Now().Add(time.Hour),
+			ExtKeyUsage: []x509.ExtKeyUsage{x509.ExtKeyUsageServerAuth}}
+		der, err := x509.CreateCertificate(rand.Reader, tmpl, root, &k.PublicKey, rootKey)
+		if err != nil {
+			t.Fatal(err)
+		}
+		c, _ := x509.ParseCertificate(der)
+		return c
+	}
+	roots := x509.NewCertPool()
+	roots.AddCert(root)
+	pinned := readCerts(func() string { p, _ := selfSigned(t, t.TempDir()); return p }())
+	evil := tls.ConnectionState{PeerCertificates: []*x509.Certificate{leaf("evil.example")}} // no ServerName: an IP was dialled
+	if err := verifyDaemon(evil, pinned, roots, "10.0.0.5", time.Now()); err == nil {
+		t.Error("a certificate for evil.example was accepted for 10.0.0.5")
+	}
+	good := tls.ConnectionState{PeerCertificates: []*x509.Certificate{leaf("bench-pc.lab")}, ServerName: "bench-pc.lab"}
+	if err := verifyDaemon(good, pinned, roots, "bench-pc.lab", time.Now()); err != nil {
+		t.Errorf("a certificate for the dialled bench-pc.lab under a trusted root: %v", err)
 	}
 }
