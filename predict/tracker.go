@@ -280,7 +280,7 @@ func (tr *Tracker) newSegment(at time.Time) {
 	tr.pts = tr.pts[:0]
 	tr.start, tr.fitAt, tr.rephase = at, at, true
 	tr.newPts = 0
-	tr.forecast = nil
+	tr.forecast, tr.every = nil, 0 // a new specimen: the usual pace until it has a forecast
 }
 
 // thin drops every other reading of the oldest half, keeping the first.

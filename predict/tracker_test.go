@@ -261,3 +261,31 @@ func TestTrackerFitsFarTargetsLessOften(t *testing.T) {
 		t.Errorf("near target: %d fits in 10 min, want more than 70 (every 5 s once it is within 5 min)", near)
 	}
 }
+
+// TestNewSpecimenFitsAtTheUsualPace: a position whose last specimen's target was far
+// (fits every 30 s) gets a new specimen (a jump to 200 °C): its first forecast comes
+// at the usual 10 s, not at the old specimen's slow pace.
+func TestNewSpecimenFitsAtTheUsualPace(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	tr := NewTracker([]Target{{Name: "t", Celsius: 50}}, TrackerOptions{})
+	s := 0
+	for ; s <= 600; s++ { // far: 50 °C about 1 h 42 min away
+		tr.SetAmbient(21)
+		tr.Add(start.Add(time.Duration(s)*time.Second), 21+159*math.Exp(-float64(s)/3600))
+	}
+	if tr.every != 30*time.Second {
+		t.Fatalf("before the new specimen the pace is %v, want 30s", tr.every)
+	}
+	placed := start.Add(time.Duration(s) * time.Second)
+	for k := 0; k <= 20; k++ {
+		tr.SetAmbient(21)
+		tr.Add(placed.Add(time.Duration(k)*time.Second), 21+179*math.Exp(-float64(k)/600))
+		if f := tr.Forecast(); f != nil && f.SegmentStart.Equal(placed) {
+			if k > 12 {
+				t.Errorf("first forecast of the new specimen after %d s, want about 10", k)
+			}
+			return
+		}
+	}
+	t.Error("no forecast of the new specimen within 20 s")
+}
