@@ -61,7 +61,8 @@ func (j *Journal) Replay(since time.Time, fn func(daq.Reading)) error {
 // (for ReplayBefore and ReplayStarts). On a journal open for writing it starts a new
 // generation: readings committed from now on carry the next one (at most one a daemon
 // start: the generation lives in each reading's key, where a small number takes one
-// byte). On a read-only journal it is the newest generation.
+// byte); when the mark cannot be written (a full disk) it is the current generation.
+// On a read-only journal it is the newest generation.
 func (j *Journal) LastSeq() (int64, error) {
 	if j.opt.ReadOnly {
 		db, err := j.reader()
@@ -81,7 +82,11 @@ func (j *Journal) LastSeq() (int64, error) {
 		return 0, fmt.Errorf("%w: %s", ErrUnavailable, j.path)
 	}
 	if _, err := db.Exec("INSERT INTO marks (gen) VALUES (?)", j.gen+1); err != nil {
-		return 0, fmt.Errorf("journal %s: new mark: %w", j.path, err)
+		// A full disk refuses the new mark: the current generation still marks every
+		// reading committed so far (and a full disk commits none meanwhile), so the
+		// daemon resumes its history rather than starting every channel empty.
+		j.log.Warn("journal: no new generation mark; resuming from the current one", "path", j.path, "err", err)
+		return j.gen, nil
 	}
 	j.gen++
 	return j.gen - 1, nil
