@@ -150,7 +150,11 @@ func exportFile(path string, write func(io.Writer) (int, error)) (n int, err err
 	if err = bw.Flush(); err != nil {
 		return n, err
 	}
-	if err = tmp.Chmod(0o640); err != nil {
+	mode := os.FileMode(0o640)
+	if fi, err := os.Stat(path); err == nil && fi.Mode().IsRegular() {
+		mode = fi.Mode().Perm() // replacing a file keeps its permissions
+	}
+	if err = tmp.Chmod(mode); err != nil {
 		return n, err
 	}
 	if err = tmp.Sync(); err != nil {

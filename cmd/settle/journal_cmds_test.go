@@ -275,6 +275,15 @@ func TestExportFileNeverLeavesATruncatedFile(t *testing.T) {
 	if fi, err := os.Stat(path); err != nil || fi.Mode().Perm() != 0o640 {
 		t.Errorf("mode %v, err %v; want 0640", fi.Mode(), err)
 	}
+	if err := os.Chmod(path, 0o600); err != nil { // a lab that keeps its exports private
+		t.Fatal(err)
+	}
+	if _, err := exportFile(path, ok); err != nil {
+		t.Fatal(err)
+	}
+	if fi, err := os.Stat(path); err != nil || fi.Mode().Perm() != 0o600 {
+		t.Errorf("replacing a 0600 file: mode %v, err %v; want 0600 kept", fi.Mode(), err)
+	}
 	if left, _ := filepath.Glob(filepath.Join(dir, ".*partial")); len(left) != 0 {
 		t.Errorf("partial files left behind: %v", left)
 	}
