@@ -161,6 +161,9 @@ func (tr *Tracker) add(at time.Time, celsius float64) bool {
 	}
 	tr.pts = append(tr.pts, point{at.Sub(tr.start).Seconds(), celsius, tr.amb})
 	tr.newPts++
+	if tr.contradictsReady(celsius) { // refit now: "ready" must not outlive the readings
+		tr.fitAt, tr.newPts = time.Time{}, max(tr.newPts, tr.opt.MinNewPoints)
+	}
 	if !tr.due() {
 		return false
 	}
@@ -172,6 +175,24 @@ func (tr *Tracker) add(at time.Time, celsius float64) bool {
 		return false
 	}
 	return true
+}
+
+// contradictsReady reports whether a new reading lies above a handling target the
+// current forecast has as reached (a specimen that warms again: put back in the oven,
+// or a warmer one set down on the position with less than a jump): the next fit then
+// comes at once instead of on the schedule, so the "ready" it judges from the latest
+// readings lasts no longer than they show it. Callers hold mu.
+func (tr *Tracker) contradictsReady(celsius float64) bool {
+	f := tr.forecast
+	if f == nil || f.Empty {
+		return false
+	}
+	for _, tf := range f.Targets {
+		if tf.Target.Handling && tf.State == StateReached && celsius > tf.Celsius {
+			return true
+		}
+	}
+	return false
 }
 
 // followsCurve reports whether a reading lies within Jump of the current fit's curve:

@@ -289,3 +289,33 @@ func TestNewSpecimenFitsAtTheUsualPace(t *testing.T) {
 	}
 	t.Error("no forecast of the new specimen within 20 s")
 }
+
+// TestReadyEndsWithTheReadings: a specimen reaches its 50 °C handling target, then
+// warms again by 12 °C (set back near the furnace: less than a jump, so the same
+// segment). A reading above the target refits at once instead of on the 10-second
+// schedule, so "reached" is gone by the second reading above it (the state takes the
+// median of the latest three). Our own invented curve: 120 °C toward 21 °C, τ = 120 s.
+func TestReadyEndsWithTheReadings(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	tr := NewTracker([]Target{{Name: "handle", Celsius: 50, Handling: true}}, TrackerOptions{})
+	s := 0
+	for ; s <= 170; s++ {
+		tr.SetAmbient(21)
+		tr.Add(start.Add(time.Duration(s)*time.Second), 21+99*math.Exp(-float64(s)/120))
+	}
+	tr.Fit()
+	if st := tr.Forecast().Targets[0].State; st != StateReached {
+		t.Fatalf("after 170 s at %.1f °C the handling target is %s, want reached", 21+99*math.Exp(-170.0/120), st)
+	}
+	for k := 1; k <= 4; k++ {
+		tr.SetAmbient(21)
+		tr.Add(start.Add(time.Duration(s+k)*time.Second), 60)
+		f := tr.Forecast()
+		if f == nil {
+			t.Fatalf("reading %d at 60 °C started a new segment; the test wants the same one", k)
+		}
+		if st := f.Targets[0].State; k >= 2 && st == StateReached {
+			t.Errorf("%d readings at 60 °C after reaching 50 °C, the target still shows reached", k)
+		}
+	}
+}
