@@ -18,12 +18,10 @@ func logBuffer() (*slog.Logger, *syncBuffer) {
 	return slog.New(slog.NewTextHandler(&b, nil)), &b
 }
 
-// TestDiskFull fills the journal for real: SQLite's max_page_count makes every insert
-// fail with SQLITE_FULL, as on a full disk. Readings stay in memory, Health says why,
-// one log line says it, and raising the limit (the disk recovering) writes them all.
-func TestDiskFull(t *testing.T) {
-	log, logs := logBuffer()
-	j, _ := open(t, Options{CommitInterval: time.Hour, MaxBytes: 128 << 10, Logger: log})
+// fillUp appends readings of c1 until a flush fails (the journal's page limit reached,
+// as on a full disk) and returns how many it appended.
+func fillUp(t *testing.T, j *Journal) int {
+	t.Helper()
 	i, deadline := 0, time.Now().Add(20*time.Second)
 	for j.Flush() == nil {
 		if time.Now().After(deadline) {
@@ -34,6 +32,16 @@ func TestDiskFull(t *testing.T) {
 			i++
 		}
 	}
+	return i
+}
+
+// TestDiskFull fills the journal for real: SQLite's max_page_count makes every insert
+// fail with SQLITE_FULL, as on a full disk. Readings stay in memory, Health says why,
+// one log line says it, and raising the limit (the disk recovering) writes them all.
+func TestDiskFull(t *testing.T) {
+	log, logs := logBuffer()
+	j, _ := open(t, Options{CommitInterval: time.Hour, MaxBytes: 128 << 10, Logger: log})
+	i := fillUp(t, j)
 	h := j.Health()
 	if h.Writable || !strings.Contains(h.LastError, "full") || h.Pending == 0 {
 		t.Fatalf("health on a full journal = %+v, want not writable, a 'full' error and pending readings", h)
@@ -186,16 +194,7 @@ func TestBacklogAfterOutage(t *testing.T) {
 func TestLastSeqOnFullDisk(t *testing.T) {
 	log, logs := logBuffer()
 	j, _ := open(t, Options{CommitInterval: time.Hour, MaxBytes: 128 << 10, Logger: log})
-	i, deadline := 0, time.Now().Add(20*time.Second)
-	for j.Flush() == nil {
-		if time.Now().After(deadline) {
-			t.Fatal("the journal never filled up")
-		}
-		for range 100 {
-			j.Append(reading("c1", i))
-			i++
-		}
-	}
+	i := fillUp(t, j)
 	// Some writes still fit between a full batch and the mark; fill what is left.
 	for {
 		if _, err := j.writer().Exec("INSERT INTO marks (gen) VALUES (?)", j.gen+1000+int64(i)); err != nil {
