@@ -76,7 +76,7 @@ func (b *Bench) Run(ctx context.Context, workers int) {
 func (b *Bench) schedule(sched func(*Tracker)) {
 	for i, tr := range b.trackers {
 		tr.mu.Lock()
-		tr.sched, tr.phased, tr.rephase = sched, sched != nil, sched != nil
+		tr.sched, tr.rephase = sched, sched != nil
 		tr.phase = time.Duration(int64(i) * int64(tr.opt.FitEvery) / int64(len(b.trackers)))
 		if sched == nil {
 			tr.queued = false

@@ -12,7 +12,8 @@ import (
 // loaded together), one reading a second each for seconds, and counts the fits that
 // come due in each second and each channel's fits. A due fit is taken as done at once
 // (fitNow's bookkeeping without the fit: this counts the schedule, not the fits'
-// cost). phased runs the schedule of a running Bench.
+// cost). phased spreads the channels' phases as a running Bench does; otherwise they
+// share one phase, the plain schedule's bursts.
 func scheduleCounts(t *testing.T, channels, seconds int, phased bool) (perSecond []int, perChannel map[*Tracker][]time.Time) {
 	t.Helper()
 	specs := make([]ChannelSpec, channels)
@@ -22,9 +23,9 @@ func scheduleCounts(t *testing.T, channels, seconds int, phased bool) (perSecond
 	b := NewBench(specs, TrackerOptions{})
 	var due []*Tracker
 	b.schedule(func(tr *Tracker) { due = append(due, tr) })
-	if !phased {
+	if !phased { // every channel on one phase: the plain schedule's bursts
 		for _, tr := range b.trackers {
-			tr.phased = false
+			tr.phase = 0
 		}
 	}
 	perChannel = map[*Tracker][]time.Time{}

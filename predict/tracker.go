@@ -95,8 +95,7 @@ type Tracker struct {
 	every   time.Duration  // the reading time between fits the last forecast calls for (fitInterval); 0: FitEvery
 	sched   func(*Tracker) // hands a due fit to a Bench's workers; nil: fit in Add
 	queued  bool           // handed to sched and not yet started
-	phase   time.Duration  // on a running Bench: where this channel's fits fall in FitEvery (see fitFrom)
-	phased  bool           // phase is set
+	phase   time.Duration  // on a running Bench (sched set): where this channel's fits fall in FitEvery (see fitFrom)
 	rephase bool           // the next fit realigns the schedule to the phase
 }
 
@@ -246,16 +245,16 @@ func (tr *Tracker) due() bool {
 }
 
 // fitFrom is the reading time FitEvery counts from after a fit that starts now: the
-// last reading; or, for a channel's first fit on a running Bench's phases (of a
-// segment, since the phases were set, or since SetPlaced changed), the point of its phase's grid (FitEvery
-// apart, offset by phase) nearest to it. Channels whose segments start together (a
+// last reading; or, for a channel's first fit on a running Bench (of a segment, since
+// the phases were set, or since SetPlaced changed), the point of its phase's grid
+// (FitEvery apart, offset by phase) nearest to it. Channels whose segments start together (a
 // rack loaded at once, a restart) then come due in their own share of FitEvery rather
 // than all in the same second, where most would wait in the workers' queue. Later fits
 // count from the last reading as always, so a bench that falls behind still fits each
 // channel less often. Callers hold mu.
 func (tr *Tracker) fitFrom() time.Time {
 	every := tr.opt.FitEvery
-	if !tr.phased || !tr.rephase || every <= 0 {
+	if tr.sched == nil || !tr.rephase || every <= 0 {
 		return tr.last
 	}
 	tr.rephase = false
@@ -379,9 +378,9 @@ const (
 // last reading was at last: FitEvery/2 while a pending target's predicted crossing
 // is within nearTarget, farFactor × FitEvery while every pending target's interval
 // opens beyond farTarget (a wide early interval keeps the usual pace), and FitEvery
-// otherwise — always FitEvery while there is no forecast,
-// the position is empty, or any target is reached or holding (a state the readings
-// may take back, which must not stand longer than it does today).
+// otherwise — always FitEvery while there is no forecast, the position is empty, or
+// any target is reached or holding (a state the readings may take back, which must
+// not stand longer than it does today).
 func fitInterval(f *Forecast, last time.Time, every time.Duration) time.Duration {
 	if f == nil || f.Empty || len(f.Targets) == 0 {
 		return every
