@@ -516,10 +516,7 @@ func (j *Journal) commit(batch []daq.Reading, fcs []forecastRow, sts []daq.Readi
 	}
 	defer tx.Rollback()
 	added := map[chanKey]int64{}
-	if err := j.insertReadings(ctx, tx, batch, added); err != nil {
-		return err
-	}
-	if err := j.updateStatuses(ctx, tx, sts, added); err != nil {
+	if err := j.writeReadings(ctx, tx, batch, sts, added); err != nil {
 		return err
 	}
 	if err := insertForecasts(ctx, tx, fcs); err != nil {
@@ -534,39 +531,39 @@ func (j *Journal) commit(batch []daq.Reading, fcs []forecastRow, sts []daq.Readi
 	return nil
 }
 
-func (j *Journal) insertReadings(ctx context.Context, tx *sql.Tx, batch []daq.Reading, added map[chanKey]int64) error {
-	return j.eachReading(ctx, tx, batch, added, "insert", "insert reading", func(w *writes, id int64, r daq.Reading) error {
-		return w.insert(ctx, j.newest, id, j.gen, r)
-	})
-}
-
-// updateStatuses applies Restatus changes (status and raw text, the value kept); a
-// reading not in the journal (dropped while the disk was full) is skipped.
-func (j *Journal) updateStatuses(ctx context.Context, tx *sql.Tx, sts []daq.Reading, added map[chanKey]int64) error {
-	return j.eachReading(ctx, tx, sts, added, "status update", "update status", func(w *writes, id int64, r daq.Reading) error {
-		return w.restatus(ctx, id, r)
-	})
-}
-
-// eachReading prepares the write statements in tx and applies op to each reading of
-// batch with its channel's row id; step and each name the statement and one reading's
-// write in errors.
-func (j *Journal) eachReading(ctx context.Context, tx *sql.Tx, batch []daq.Reading, added map[chanKey]int64,
-	step, each string, op func(w *writes, id int64, r daq.Reading) error) error {
-	if len(batch) == 0 {
+// writeReadings inserts batch and applies the Restatus changes sts (status and raw
+// text, the value kept; a reading not in the journal, dropped while the disk was full,
+// is skipped), with the write statements prepared once for the transaction. New
+// channels' ids go to added.
+func (j *Journal) writeReadings(ctx context.Context, tx *sql.Tx, batch, sts []daq.Reading, added map[chanKey]int64) error {
+	if len(batch) == 0 && len(sts) == 0 {
 		return nil
 	}
 	w, err := prepareWrites(ctx, tx)
 	if err != nil {
-		return fmt.Errorf("journal %s: prepare %s: %w", j.path, step, err)
+		return fmt.Errorf("journal %s: prepare writes: %w", j.path, err)
 	}
 	defer w.close()
+	if err := j.eachReading(ctx, tx, batch, added, "insert reading", func(id int64, r daq.Reading) error {
+		return w.insert(ctx, j.newest, id, j.gen, r)
+	}); err != nil {
+		return err
+	}
+	return j.eachReading(ctx, tx, sts, added, "update status", func(id int64, r daq.Reading) error {
+		return w.restatus(ctx, id, r)
+	})
+}
+
+// eachReading applies op to each reading of batch with its channel's row id; each
+// names one reading's write in errors.
+func (j *Journal) eachReading(ctx context.Context, tx *sql.Tx, batch []daq.Reading, added map[chanKey]int64,
+	each string, op func(id int64, r daq.Reading) error) error {
 	for _, r := range batch {
 		id, err := j.channelID(ctx, tx, chanKey{r.Logger, r.Channel}, added)
 		if err != nil {
 			return err
 		}
-		if err := op(w, id, r); err != nil {
+		if err := op(id, r); err != nil {
 			return fmt.Errorf("journal %s: %s of %s: %w", j.path, each, r.Channel, err)
 		}
 	}
