@@ -69,7 +69,9 @@ func Inflation(rho, limit float64) float64 {
 //     interval from the fit's covariance, widened by Inflation(fit.Rho), by the fit's
 //     Misfit (as a level error turned into time through the slope) and by the
 //     model-form term of IntervalSettings.ModelError, and never starting before the
-//     last reading.
+//     last reading. With a fitted ambient, a target some plausible settling
+//     temperatures never reach gets an open-ended interval instead (Latest zero;
+//     At zero too when the fit itself does not reach it): see notBefore.
 //
 // The ambient is assumed to stay at fit.Ambient from the last reading on.
 func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
@@ -537,7 +539,7 @@ type handlingFitted interface {
 func (f *forecaster) core(out TargetForecast, seen crossSeen, tStar, v, rate float64, ok bool) TargetForecast {
 	pred := f.predictedFrom(out, tStar, v, rate, ok)
 	last := f.abs(f.p.Times[len(f.p.Times)-1])
-	if seen == crossed && pred.State == StatePredicted && !pred.Latest.After(last) {
+	if seen == crossed && pred.State == StatePredicted && !pred.Latest.IsZero() && !pred.Latest.After(last) {
 		out.State, out.At, out.Estimated = StateReached, f.abs(tStar).Add(out.Target.Hold), true
 		return out
 	}
@@ -576,6 +578,9 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C is not a plausible room (the prior is %.0f ± %.0f °C) and no ambient is measured, so settle does not call a target beyond it unreachable; measure the ambient on a channel of its own.",
 				f.ambient, roomPrior, roomPriorSD))
 		}
+		if out.State == StateInsufficient {
+			return f.notBefore(out, u, true)
+		}
 		return out
 	}
 	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
@@ -592,7 +597,84 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 	out.At = f.abs(max(tStar, last)).Add(hold)
 	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
 	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
+	if u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit; f.profiled(out) && math.Abs(out.Celsius-f.fit.ambient()) <= u {
+		if nb := f.notBefore(out, u, false); nb.State == StatePredicted && nb.Earliest.Before(out.Earliest) {
+			out.Earliest = nb.Earliest
+		}
+		out.Latest = time.Time{}
+		f.note(fmt.Sprintf("%.1f °C lies within the uncertainty of the fitted settling temperature %.1f ± %.1f °C: some settling temperatures the readings allow never reach it, so its interval has no late end.",
+			out.Celsius, f.fit.ambient(), u))
+	}
 	return out
+}
+
+// notBefore is the open-ended forecast of a target that some settling temperatures the
+// readings allow never reach: "not before" the earliest crossing over the plausible
+// ones, with no late end and no central estimate (out's At is kept when set). The
+// settling temperatures the readings allow reach from the fitted one to u beyond it
+// toward the target (u: its interval, widened for correlated residuals, plus the
+// misfit) and, when untrusted (the fitted one is not credibly the end: a
+// mismatched model, readings not yet bent toward it, or not a plausible room), on
+// to the room prior's far end roomPrior ∓ 2·roomPriorSD. The earliest crossing is
+// that of the lumped exponential refitted with its settling temperature held at the
+// far end (a profile over the settling temperature: the nearer a settling
+// temperature lies beyond the target, the sooner the curve through the readings
+// crosses it), less its own interval's half-width. The exponential is the faster of
+// the lumped models in the tail (a surface coefficient that falls with the
+// temperature difference only slows the late cooling), so the bound errs early, the
+// safe side for a handling target. It applies to a fitted settling temperature of a
+// lumped or h(T) fit only: a measured ambient has no such range, and a conduction
+// fit judges a handling target at the core. Insufficient (out unchanged) when even
+// the far end does not reach the target or the refit fails.
+func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) TargetForecast {
+	if !f.profiled(out) {
+		return out
+	}
+	far := f.fit.ambient() - f.side*u
+	if room := roomPrior - f.side*2*roomPriorSD; untrusted && f.side*(far-room) > 0 {
+		far = room
+	}
+	if f.side*(out.Celsius-far) <= 0 {
+		return out
+	}
+	amb := make([]float64, len(f.p.Times))
+	for i := range amb {
+		amb[i] = far
+	}
+	r, err := FitLumped(LumpedProblem{Times: f.p.Times, Celsius: f.p.Celsius, Ambient: amb}, nil)
+	if err != nil {
+		return out
+	}
+	g := lumpedFitted{&r}
+	tStar, v, rate, ok := g.crossing(out.Celsius, false)
+	if !ok || g.side() != f.side {
+		return out
+	}
+	rho, misfit := g.residuals()
+	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
+	last := f.p.Times[len(f.p.Times)-1]
+	form := 0.0
+	if span := last - f.p.Times[0]; f.s.ModelError > 0 && span > 0 && tStar > last {
+		h := tStar - last
+		form = f.s.ModelError * h * math.Sqrt(h/span)
+	}
+	half := f.s.Z * math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form)
+	out.State = StatePredicted
+	out.Earliest = f.abs(max(tStar-half, last)).Add(out.Target.Hold)
+	out.Latest = time.Time{}
+	if !untrusted {
+		return out
+	}
+	f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet. The fitted settling temperature %.1f °C lies short of it but is not credibly where the readings end (see above); the readings allow settling temperatures as far as %.1f °C (with no ambient measured, as far as the room prior's %.0f ± 2×%.0f °C reaches), and none of them crosses it sooner.",
+		out.Celsius, seconds(max(tStar-half, last)).Round(time.Second), f.fit.ambient(), far, roomPrior, roomPriorSD))
+	return out
+}
+
+// profiled reports whether out's target may get an open-ended interval (notBefore):
+// a fixed temperature, a fitted settling temperature, a lumped or h(T) fit.
+func (f *forecaster) profiled(out TargetForecast) bool {
+	_, cond := f.fit.(*condFitted)
+	return f.p.Ambient == nil && !out.Target.IsWithin() && !cond
 }
 
 // maxOffset bounds forecast offsets (about 31 years) so durations cannot overflow.
