@@ -312,7 +312,7 @@ func (f *forecaster) target(tg Target) TargetForecast {
 		return out
 	}
 	if f.fit == nil {
-		return out
+		return f.notBefore(out, 0, true)
 	}
 	return f.predicted(out)
 }
@@ -624,14 +624,20 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // temperature difference only slows the late cooling), so the bound errs early, the
 // safe side for a handling target. It applies to a fitted settling temperature of a
 // lumped or h(T) fit only: a measured ambient has no such range, and a conduction
-// fit judges a handling target at the core. Insufficient (out unchanged) when even
-// the far end does not reach the target or the refit fails.
+// fit judges a handling target at the core. With no usable fit (f.fit nil: no model
+// resolves the readings yet, but their direction is known), the far end is the room
+// prior's. Insufficient (out unchanged) when even the far end does not reach the
+// target or the refit fails (fewer than LumpedSettings' MinPoints readings).
 func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) TargetForecast {
 	if !f.profiled(out) {
 		return out
 	}
-	far := f.fit.ambient() - f.side*u
-	if room := roomPrior - f.side*2*roomPriorSD; untrusted && f.side*(far-room) > 0 {
+	room := roomPrior - f.side*2*roomPriorSD
+	far := room
+	if f.fit != nil {
+		far = f.fit.ambient() - f.side*u
+	}
+	if untrusted && f.side*(far-room) > 0 {
 		far = room
 	}
 	if f.side*(out.Celsius-far) <= 0 {
@@ -663,6 +669,11 @@ func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) Ta
 	out.Earliest = f.abs(max(tStar-half, last)).Add(out.Target.Hold)
 	out.Latest = time.Time{}
 	if !untrusted {
+		return out
+	}
+	if f.fit == nil {
+		f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet. No model resolves the readings yet; held at a settling temperature of %.1f °C (with no ambient measured, the room prior's %.0f ± 2×%.0f °C at its far end), the exponential through them crosses it no sooner.",
+			out.Celsius, seconds(max(tStar-half, last)).Round(time.Second), far, roomPrior, roomPriorSD))
 		return out
 	}
 	f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet. The fitted settling temperature %.1f °C lies short of it but is not credibly where the readings end (see above); the readings allow settling temperatures as far as %.1f °C (with no ambient measured, as far as the room prior's %.0f ± 2×%.0f °C reaches), and none of them crosses it sooner.",
