@@ -144,12 +144,16 @@ type score struct {
 	widths          []float64 // interval widths over the remaining time, where judged
 	covered, judged int
 	open            int // answers with an open-ended interval ("not before")
+	openLate        int // of them, those whose early bound came after the truth
 }
 
 func (s *score) add(tr trial) {
 	s.errs = append(s.errs, tr.rel)
 	if tr.open {
 		s.open++
+		if !tr.covered {
+			s.openLate++
+		}
 	}
 	if tr.judged {
 		s.judged++
@@ -320,6 +324,13 @@ func TestAccuracyTable(t *testing.T) {
 	}
 	sc := accuracy(t)
 	t.Log(accuracyTable(sc))
+	for _, m := range []string{"engine", "engine+spec"} {
+		for _, fr := range fractions {
+			if s := sc[fmt.Sprintf("%s/%.2f/all", m, fr)]; s.open > 0 {
+				t.Logf("%s at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing", m, 100*fr, s.open, s.openLate)
+			}
+		}
+	}
 	for _, c := range []struct {
 		key string
 		max float64
