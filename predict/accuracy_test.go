@@ -145,6 +145,7 @@ type score struct {
 	covered, judged int
 	open            int // answers with an open-ended interval ("not before")
 	openLate        int // of them, those whose early bound came after the truth
+	openVacuous     int // and those that open at the last reading ("not before now")
 }
 
 func (s *score) add(tr trial) {
@@ -153,6 +154,9 @@ func (s *score) add(tr trial) {
 		s.open++
 		if !tr.covered {
 			s.openLate++
+		}
+		if tr.vacuous {
+			s.openVacuous++
 		}
 	}
 	if tr.judged {
@@ -270,6 +274,7 @@ func readBenchCase(t testing.TB, c benchgen.Case) CurveFile {
 type trial struct {
 	rel, width            float64
 	covered, judged, open bool
+	vacuous               bool // open-ended from the last reading on: "not before now"
 }
 
 // judge runs m on the case's curve up to frac of the time from placement to crossing.
@@ -294,6 +299,7 @@ func judgeAt(m method, part CurveFile, level, truth float64) trial {
 		tr.covered = lo <= truth && truth <= hi
 		tr.width = (hi - lo) / horizon
 		tr.open = math.IsInf(hi, 1)
+		tr.vacuous = tr.open && lo <= part.Times[len(part.Times)-1]+1
 	}
 	return tr
 }
@@ -327,7 +333,7 @@ func TestAccuracyTable(t *testing.T) {
 	for _, m := range []string{"engine", "engine+spec"} {
 		for _, fr := range fractions {
 			if s := sc[fmt.Sprintf("%s/%.2f/all", m, fr)]; s.open > 0 {
-				t.Logf("%s at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing", m, 100*fr, s.open, s.openLate)
+				t.Logf("%s at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing, %d opening at the last reading", m, 100*fr, s.open, s.openLate, s.openVacuous)
 			}
 		}
 	}

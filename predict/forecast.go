@@ -627,7 +627,9 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // fit judges a handling target at the core. With no usable fit (f.fit nil: no model
 // resolves the readings yet, but their direction is known), the far end is the room
 // prior's. Insufficient (out unchanged) when even the far end does not reach the
-// target or the refit fails (fewer than LumpedSettings' MinPoints readings).
+// target, the refit fails (fewer than LumpedSettings' MinPoints readings), or the
+// bound would be the last reading itself with no central estimate beside it ("not
+// before now" says nothing).
 func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) TargetForecast {
 	if !f.profiled(out) {
 		return out
@@ -665,6 +667,9 @@ func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) Ta
 		form = f.s.ModelError * h * math.Sqrt(h/span)
 	}
 	half := f.s.Z * math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form)
+	if tStar-half <= last && out.At.IsZero() {
+		return out // "not before now" and no central estimate: no answer at all
+	}
 	out.State = StatePredicted
 	out.Earliest = f.abs(max(tStar-half, last)).Add(out.Target.Hold)
 	out.Latest = time.Time{}

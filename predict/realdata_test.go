@@ -357,6 +357,11 @@ func TestAccuracyReal(t *testing.T) {
 		}
 	}
 	t.Log(b.String())
+	for _, fr := range fractions {
+		if s := sc[fmt.Sprintf("engine/%.2f/all", fr)]; s.open > 0 {
+			t.Logf("engine at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing, %d opening at the last reading", 100*fr, s.open, s.openLate, s.openVacuous)
+		}
+	}
 	realFloors(t, sc)
 }
 
