@@ -617,9 +617,9 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // mismatched model, readings not yet bent toward it, or not a plausible room), on
 // to the room prior's far end roomPrior ∓ 2·roomPriorSD. The earliest crossing is
 // that of the lumped exponential refitted with its settling temperature held at the
-// far end (a profile over the settling temperature: the nearer a settling
+// far end (a profile over the settling temperature: the farther a settling
 // temperature lies beyond the target, the sooner the curve through the readings
-// crosses it), less its own interval's half-width. The exponential is the faster of
+// crosses it), less its own interval's half-width (profileBound). The exponential is the faster of
 // the lumped models in the tail (a surface coefficient that falls with the
 // temperature difference only slows the late cooling), so the bound errs early, the
 // safe side for a handling target. It applies to a fitted settling temperature of a
@@ -645,45 +645,62 @@ func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) Ta
 	if f.side*(out.Celsius-far) <= 0 {
 		return out
 	}
+	lo, ok := f.profileBound(out.Celsius, far)
+	last := f.p.Times[len(f.p.Times)-1]
+	if !ok || lo <= last && out.At.IsZero() {
+		return out // no bound, or "not before now" with no central estimate: says nothing
+	}
+	lo = max(lo, last)
+	out.State = StatePredicted
+	out.Earliest = f.abs(lo).Add(out.Target.Hold)
+	out.Latest = time.Time{}
+	if untrusted {
+		f.noteNotBefore(out.Celsius, lo, far)
+	}
+	return out
+}
+
+// profileBound returns the crossing of level by the lumped exponential fitted with its
+// settling temperature held at far, less its interval's half-width (the parameter
+// covariance widened for correlated residuals, the misfit through the slope and the
+// model-form term, as predictedFrom sizes it); ok is false when the fit fails, runs
+// the other way or never reaches level.
+func (f *forecaster) profileBound(level, far float64) (lo float64, ok bool) {
 	amb := make([]float64, len(f.p.Times))
 	for i := range amb {
 		amb[i] = far
 	}
 	r, err := FitLumped(LumpedProblem{Times: f.p.Times, Celsius: f.p.Celsius, Ambient: amb}, nil)
 	if err != nil {
-		return out
+		return 0, false
 	}
 	g := lumpedFitted{&r}
-	tStar, v, rate, ok := g.crossing(out.Celsius, false)
+	tStar, v, rate, ok := g.crossing(level, false)
 	if !ok || g.side() != f.side {
-		return out
+		return 0, false
 	}
 	rho, misfit := g.residuals()
 	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
-	last := f.p.Times[len(f.p.Times)-1]
 	form := 0.0
+	last := f.p.Times[len(f.p.Times)-1]
 	if span := last - f.p.Times[0]; f.s.ModelError > 0 && span > 0 && tStar > last {
 		h := tStar - last
 		form = f.s.ModelError * h * math.Sqrt(h/span)
 	}
-	half := f.s.Z * math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form)
-	if tStar-half <= last && out.At.IsZero() {
-		return out // "not before now" and no central estimate: no answer at all
-	}
-	out.State = StatePredicted
-	out.Earliest = f.abs(max(tStar-half, last)).Add(out.Target.Hold)
-	out.Latest = time.Time{}
-	if !untrusted {
-		return out
-	}
+	return tStar - f.s.Z*math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form), true
+}
+
+// noteNotBefore explains an open-ended forecast of level from lo (s into the segment)
+// with the settling temperature held at far.
+func (f *forecaster) noteNotBefore(level, lo, far float64) {
+	head := fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet.", level, seconds(lo).Round(time.Second))
 	if f.fit == nil {
-		f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet. No model resolves the readings yet; held at a settling temperature of %.1f °C (with no ambient measured, the room prior's %.0f ± 2×%.0f °C at its far end), the exponential through them crosses it no sooner.",
-			out.Celsius, seconds(max(tStar-half, last)).Round(time.Second), far, roomPrior, roomPriorSD))
-		return out
+		f.note(fmt.Sprintf("%s No model resolves the readings yet; held at a settling temperature of %.1f °C (with no ambient measured, the room prior's %.0f ± 2×%.0f °C at its far end), the exponential through them crosses it no sooner.",
+			head, far, roomPrior, roomPriorSD))
+		return
 	}
-	f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet. The fitted settling temperature %.1f °C lies short of it but is not credibly where the readings end (see above); the readings allow settling temperatures as far as %.1f °C (with no ambient measured, as far as the room prior's %.0f ± 2×%.0f °C reaches), and none of them crosses it sooner.",
-		out.Celsius, seconds(max(tStar-half, last)).Round(time.Second), f.fit.ambient(), far, roomPrior, roomPriorSD))
-	return out
+	f.note(fmt.Sprintf("%s The fitted settling temperature %.1f °C lies short of it but is not credibly where the readings end (see above); the readings allow settling temperatures as far as %.1f °C (with no ambient measured, as far as the room prior's %.0f ± 2×%.0f °C reaches), and none of them crosses it sooner.",
+		head, f.fit.ambient(), far, roomPrior, roomPriorSD))
 }
 
 // profiled reports whether out's target may get an open-ended interval (notBefore):
