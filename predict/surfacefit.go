@@ -1,7 +1,6 @@
 package predict
 
 import (
-	"errors"
 	"math"
 	"slices"
 
@@ -446,40 +445,61 @@ func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
 	return normalInverse(&jtj, sigma)
 }
 
-// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ, inverting it with its rows
-// and columns scaled to a unit diagonal so that parameters of very different size
-// (kelvin, seconds, J/(m²·K)) do not make it look singular. An ill-conditioned but
-// invertible N is accepted (gonum reports that as a Condition error).
+// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ of at most 3×3, inverting
+// it with its rows and columns scaled to a unit diagonal so that parameters of very
+// different size (kelvin, seconds, J/(m²·K)) do not make it look singular. It fails
+// only when the scaled matrix is not positive definite (a Cholesky pivot not above
+// zero); an ill-conditioned but invertible N is accepted. The factorisation is written
+// out: gonum's also estimates the condition number, which cost more than the rest of
+// a lumped fit's covariance.
 func normalInverse(n *mat.SymDense, sigma float64) (*mat.SymDense, bool) {
 	k := n.SymmetricDim()
-	scale := make([]float64, k)
+	if k > 3 {
+		panic("predict: normalInverse of more than 3 parameters")
+	}
+	var scale [3]float64
 	for i := range k {
 		scale[i] = math.Sqrt(n.At(i, i))
 		if !(scale[i] > 0) {
 			return nil, false
 		}
 	}
-	a := mat.NewSymDense(k, nil)
-	for i := range k {
-		for l := i; l < k; l++ {
-			a.SetSym(i, l, n.At(i, l)/(scale[i]*scale[l]))
+	// A = L·Lᵀ for the scaled matrix, then A⁻¹ = L⁻ᵀ·L⁻¹.
+	var l, li [3][3]float64
+	for j := range k {
+		for i := j; i < k; i++ {
+			s := n.At(i, j) / (scale[i] * scale[j])
+			for m := range j {
+				s -= l[i][m] * l[j][m]
+			}
+			if i == j {
+				if !(s > 0) {
+					return nil, false
+				}
+				l[j][j] = math.Sqrt(s)
+			} else {
+				l[i][j] = s / l[j][j]
+			}
 		}
 	}
-	var ch mat.Cholesky
-	if !ch.Factorize(a) {
-		return nil, false
-	}
-	var inv mat.SymDense
-	if err := ch.InverseTo(&inv); err != nil {
-		var c mat.Condition
-		if !errors.As(err, &c) {
-			return nil, false
+	for j := range k {
+		li[j][j] = 1 / l[j][j]
+		for i := j + 1; i < k; i++ {
+			var s float64
+			for m := j; m < i; m++ {
+				s += l[i][m] * li[m][j]
+			}
+			li[i][j] = -s / l[i][i]
 		}
 	}
 	out := mat.NewSymDense(k, nil)
 	for i := range k {
-		for l := i; l < k; l++ {
-			out.SetSym(i, l, sigma*sigma*inv.At(i, l)/(scale[i]*scale[l]))
+		for j := i; j < k; j++ {
+			var s float64
+			for m := j; m < k; m++ {
+				s += li[m][i] * li[m][j]
+			}
+			out.SetSym(i, j, sigma*sigma*s/(scale[i]*scale[j]))
 		}
 	}
 	return out, true

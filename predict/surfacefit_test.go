@@ -5,6 +5,8 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/settle-lab/settle/predict/surface"
 )
 
@@ -197,6 +199,67 @@ func TestPhiTableLazyMatchesComplete(t *testing.T) {
 		got := m.residuals(full, math.Log(480), 1e-5, r, nil, limit)
 		if limit < all && !(got > limit) || limit >= all && got != all {
 			t.Errorf("limit %g: sum %g (all %g)", limit, got, all)
+		}
+	}
+}
+
+// normalInverse's written-out Cholesky inverse must agree with gonum's (mat.Cholesky,
+// the reference here, applied to the same unit-diagonal scaling) on random positive
+// definite matrices whose diagonals span sixteen orders of magnitude, as a fit's
+// parameters do, and must refuse matrices that are not positive definite.
+func TestNormalInverseMatchesGonum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 22))
+	for trial := range 300 {
+		k := 1 + trial%3
+		j := mat.NewDense(k+4, k, nil)
+		for r := range k + 4 {
+			for c := range k {
+				j.Set(r, c, rng.NormFloat64()*math.Pow(10, float64(4*c-4)))
+			}
+		}
+		var n mat.SymDense
+		n.SymOuterK(1, j.T())
+		got, ok := normalInverse(&n, 0.3)
+		if !ok {
+			t.Fatalf("trial %d: refused a positive definite %d×%d matrix", trial, k, k)
+		}
+		d := make([]float64, k)
+		a := mat.NewSymDense(k, nil)
+		for r := range k {
+			d[r] = math.Sqrt(n.At(r, r))
+		}
+		for r := range k {
+			for c := r; c < k; c++ {
+				a.SetSym(r, c, n.At(r, c)/(d[r]*d[c]))
+			}
+		}
+		var ch mat.Cholesky
+		var inv mat.SymDense
+		if !ch.Factorize(a) {
+			t.Fatalf("trial %d: gonum refused the matrix", trial)
+		}
+		_ = ch.InverseTo(&inv) // a Condition error still gives the inverse
+		for r := range k {
+			for c := range k {
+				want := 0.09 * inv.At(r, c) / (d[r] * d[c])
+				scale := 0.09 * math.Sqrt(inv.At(r, r)*inv.At(c, c)) / (d[r] * d[c])
+				if math.Abs(got.At(r, c)-want) > 1e-9*scale {
+					t.Fatalf("trial %d: inverse[%d][%d] = %g, gonum %g", trial, r, c, got.At(r, c), want)
+				}
+			}
+		}
+	}
+	for _, c := range []struct {
+		name string
+		n    []float64
+	}{
+		{"rank one", []float64{1, 2, 2, 4}},
+		{"indefinite", []float64{1, 3, 3, 1}},
+		{"zero diagonal", []float64{0, 0, 0, 1}},
+		{"NaN", []float64{math.NaN(), 0, 0, 1}},
+	} {
+		if _, ok := normalInverse(mat.NewSymDense(2, c.n), 1); ok {
+			t.Errorf("%s: normalInverse accepted %v", c.name, c.n)
 		}
 	}
 }

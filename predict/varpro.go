@@ -61,17 +61,30 @@ func newProjection(p *LumpedProblem) *projection {
 	v.tbar, v.step = spacing(p.Times)
 	switch p.free() {
 	case 3:
+		yc := v.yc[:n]
 		for i, y := range v.y {
-			d := y - v.ybar
-			v.yc[i] = d
-			v.syy += d * d
+			yc[i] = y - v.ybar
 		}
+		v.syy = sumSquares(yc)
 	case 2:
-		for _, y := range v.y {
-			v.syy += y * y
-		}
+		v.syy = sumSquares(v.y)
 	}
 	return v
+}
+
+// sumSquares returns Σ x² in four interleaved partial sums: a single running sum
+// waits on each addition in turn.
+func sumSquares(xs []float64) float64 {
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(xs); i += 4 {
+		a, b, c, d := xs[i], xs[i+1], xs[i+2], xs[i+3]
+		s0, s1, s2, s3 = s0+a*a, s1+b*b, s2+c*c, s3+d*d
+	}
+	for ; i < len(xs); i++ {
+		s0 += xs[i] * xs[i]
+	}
+	return (s0 + s1) + (s2 + s3)
 }
 
 // release hands the work slices back for reuse; v must not be used afterwards.
@@ -200,43 +213,57 @@ func spacing(ts []float64) (avg, step float64) {
 		return mean(ts), 0
 	}
 	step = (ts[n-1] - ts[0]) / float64(n-1)
-	var sum float64
-	for i, t := range ts {
-		sum += t
-		if i > 0 && math.Abs(t-ts[i-1]-step) > 1e-9*step {
+	for i := 1; i < n; i++ {
+		if math.Abs(ts[i]-ts[i-1]-step) > 1e-9*step {
 			step = 0
+			break
 		}
 	}
-	return sum / float64(n), step
+	return mean(ts), step
 }
 
 // decay fills v.e with exp(−t/τ) unless it already holds it. Equally spaced readings
-// (the usual case) take a factor exp(−Δt/τ) per step in four interleaved chains, so a
-// pass costs a multiplication per reading instead of an exp; other readings get one
-// exp each.
+// (the usual case) take one exp per block of resync readings: the block's first four
+// from its first by the factors q, q², q³ (q = exp(−Δt/τ)), then a factor q⁴ per step
+// in four interleaved chains, so a pass costs a multiplication per reading instead of
+// an exp; other readings get one exp each.
 func (v *projection) decay(tau float64) {
 	if tau == v.tau {
 		return
 	}
 	v.tau = tau
-	ts, e := v.p.Times, v.e
+	ts, e := v.p.Times, v.e[:len(v.p.Times)]
 	if v.step == 0 || len(ts) < 8 {
 		for i, t := range ts {
 			e[i] = math.Exp(-t / tau)
 		}
 		return
 	}
-	q4 := math.Exp(-4 * v.step / tau)
+	q := math.Exp(-v.step / tau)
+	q2 := q * q
+	q3, q4 := q2*q, math.Exp(-4*v.step/tau)
 	for i := 0; i < len(ts); i += resync {
-		end := min(i+resync, len(ts))
-		for j := i; j < min(i+4, end); j++ {
-			e[j] = math.Exp(-ts[j] / tau)
+		blk := e[i:min(i+resync, len(ts))]
+		e0 := math.Exp(-ts[i] / tau)
+		blk[0] = e0
+		if len(blk) >= 4 {
+			blk[1], blk[2], blk[3] = e0*q, e0*q2, e0*q3
+		} else {
+			for j := 1; j < len(blk); j++ {
+				blk[j] = blk[j-1] * q
+			}
 		}
-		for j := i + 4; j+3 < end; j += 4 {
-			e[j], e[j+1], e[j+2], e[j+3] = e[j-4]*q4, e[j-3]*q4, e[j-2]*q4, e[j-1]*q4
+		j := 4
+		if len(blk) >= 8 {
+			// The chains stay in registers; a chain through memory waits on each store.
+			a, b, c, d := blk[0], blk[1], blk[2], blk[3]
+			for ; j+4 <= len(blk); j += 4 {
+				a, b, c, d = a*q4, b*q4, c*q4, d*q4
+				blk[j], blk[j+1], blk[j+2], blk[j+3] = a, b, c, d
+			}
 		}
-		for j := max(i+4, end-(end-i-4)%4); j < end; j++ {
-			e[j] = e[j-4] * q4
+		for ; j < len(blk); j++ {
+			blk[j] = blk[j-4] * q4
 		}
 	}
 }
@@ -288,16 +315,21 @@ func (v *projection) guess() (float64, bool) {
 	return math.Log(-w / math.Log(ratio)), true
 }
 
-// mean returns the mean of xs (0 when empty).
+// mean returns the mean of xs (0 when empty), summed in four interleaved parts as in
+// sumSquares.
 func mean(xs []float64) float64 {
 	if len(xs) == 0 {
 		return 0
 	}
-	var s float64
-	for _, x := range xs {
-		s += x
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(xs); i += 4 {
+		s0, s1, s2, s3 = s0+xs[i], s1+xs[i+1], s2+xs[i+2], s3+xs[i+3]
 	}
-	return s / float64(len(xs))
+	for ; i < len(xs); i++ {
+		s0 += xs[i]
+	}
+	return ((s0 + s1) + (s2 + s3)) / float64(len(xs))
 }
 
 // maxNewton bounds the Gauss–Newton steps; from a good guess a small-residual fit
