@@ -127,8 +127,9 @@ func (p *LumpedProblem) check() {
 	if p.FixExcess && p.Ambient == nil {
 		panic("predict: LumpedProblem FixExcess requires Ambient")
 	}
-	for i := 1; i < len(p.Times); i++ {
-		if p.Times[i] < p.Times[i-1] {
+	ts := p.Times
+	for i := 1; i < len(ts); i++ {
+		if ts[i] < ts[i-1] {
 			panic("predict: LumpedProblem Times not in non-decreasing order")
 		}
 	}
@@ -270,13 +271,13 @@ func FitLumped(p LumpedProblem, settings *LumpedSettings) (LumpedResult, error) 
 
 // finish fills the residual statistics and the covariance at the optimum.
 func (r *LumpedResult) finish(v *projection, p *LumpedProblem) {
-	amb, exc, _ := v.solve(r.Tau)
-	st, g := v.stats(amb, exc, r.Tau)
+	at := v.eval(r.Tau)
+	st := v.stats(at.amb, at.exc, r.Tau)
 	r.RMSE = math.Sqrt(st.ssr / float64(r.N))
 	r.Sigma = math.Sqrt(st.ssr / float64(r.N-r.Free))
 	r.Rho = st.rho
 	r.Misfit = math.Sqrt(max(0, r.RMSE*r.RMSE-st.vonNeumann))
-	cov, ok := covariance(p, g, r.Sigma)
+	cov, ok := covariance(p, at.jtj, r.Sigma)
 	if !ok {
 		r.Status = FitSingular
 		return
@@ -298,46 +299,32 @@ type residualStats struct {
 	vonNeumann float64 // half the mean squared successive difference (0 when undefined)
 }
 
-// stats computes the residual statistics of the curve (amb, exc, τ) and, in the same
-// pass, JᵀJ in the order ambient, excess, tau, summed directly from the Jacobian
-// columns 1, e and θi·e·t/τ².
-func (v *projection) stats(amb, exc, tau float64) (residualStats, [3][3]float64) {
+// stats computes the residual statistics of the curve (amb, exc, τ) in one pass.
+func (v *projection) stats(amb, exc, tau float64) residualStats {
 	v.decay(tau)
 	var st residualStats
-	var ssr, lag, diff, prev float64
-	var se, see, sd, sed, sdd float64
-	c := exc / (tau * tau)
-	ts, es := v.p.Times[:len(v.y)], v.e[:len(v.y)]
+	var lag, diff, prev float64
 	for i, y := range v.y {
-		e := es[i]
-		r := y - amb - exc*e
-		ssr += r * r
+		r := y - amb - exc*v.e[i]
+		st.ssr += r * r
 		if i > 0 {
 			lag += r * prev
 			diff += (r - prev) * (r - prev)
 		}
 		prev = r
-		d := c * e * ts[i]
-		se += e
-		see += e * e
-		sd += d
-		sed += e * d
-		sdd += d * d
 	}
-	st.ssr = ssr
 	if st.ssr > 0 {
 		st.rho = lag / st.ssr
 	}
 	if n := len(v.y); n > 1 {
 		st.vonNeumann = diff / float64(2*(n-1))
 	}
-	s1 := float64(len(v.y))
-	return st, [3][3]float64{{s1, se, sd}, {se, see, sed}, {sd, sed, sdd}}
+	return st
 }
 
 // covariance returns σ²·(JᵀJ)⁻¹ embedded in the 3×3 order ambient, excess, tau from
-// the full JᵀJ g (stats), scaled to a unit diagonal before the inversion for
-// conditioning.
+// JᵀJ g of the fitted parameters (projected.jtj), scaled to a unit diagonal before
+// the inversion for conditioning.
 func covariance(p *LumpedProblem, g [3][3]float64, sigma float64) (*mat.SymDense, bool) {
 	idx := freeIndexes(p)
 	k := len(idx)

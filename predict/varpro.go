@@ -35,6 +35,10 @@ type projected struct {
 	ssr      float64 // residual sum of squares
 	slope    float64 // d ssr / d ln τ at the linear optimum
 	curv     float64 // Gauss–Newton approximation of d² ssr / d ln τ² (Kaufman 1975)
+	// jtj is JᵀJ of the full problem at τ and the linear optimum, in the order
+	// ambient, excess, tau (Jacobian columns 1, e and θi·e·t/τ²), from the same sums;
+	// entries of given parameters are zero. The covariance at the optimum uses it.
+	jtj [3][3]float64
 }
 
 // buffers recycles the projection's work slices between fits, so a tracker refitting
@@ -130,16 +134,18 @@ func (v *projection) eval(tau float64) projected {
 func (v *projection) evalAmbient(tau float64) projected {
 	k := math.Exp(-v.tbar / tau)
 	var s1, s2, sdy, set, seet, syet, seett float64
-	for i, e := range v.e {
-		t := v.p.Times[i]
+	es := v.e
+	ts, yc := v.p.Times[:len(es)], v.yc[:len(es)]
+	for i, e := range es {
+		t, y := ts[i], yc[i]
 		d := e - k
 		s1 += d
 		s2 += d * d
-		sdy += d * v.yc[i]
+		sdy += d * y
 		et := e * t
 		set += et
 		seet += e * et
-		syet += v.yc[i] * et
+		syet += y * et
 		seett += et * et
 	}
 	n := float64(len(v.y))
@@ -152,12 +158,14 @@ func (v *projection) evalAmbient(tau float64) projected {
 	// ∂e/∂ln τ = e·t/τ projected off the columns 1 and e, for the Gauss–Newton curvature.
 	cross := seet - ebar*set
 	perp := seett - set*set/n - cross*cross/sxx
+	se, see, c := s1+n*k, s2+2*k*s1+n*k*k, b/(tau*tau)
 	return projected{
 		amb:   v.ybar - b*ebar,
 		exc:   b,
 		ssr:   max(v.syy-b*sdy, 0),
 		slope: -2 * b * (syet - b*cross) / tau,
 		curv:  2 * b * b * perp / (tau * tau),
+		jtj:   [3][3]float64{{n, se, c * set}, {se, see, c * seet}, {c * set, c * seet, c * c * seett}},
 	}
 }
 
@@ -178,11 +186,13 @@ func (v *projection) evalExcess(tau float64) projected {
 	}
 	b := sey / see
 	perp := sett - set*set/see
+	c := b / (tau * tau)
 	return projected{
 		exc:   b,
 		ssr:   max(v.syy-b*sey, 0),
 		slope: -2 * b * (syt - b*set) / tau,
 		curv:  2 * b * b * perp / (tau * tau),
+		jtj:   [3][3]float64{1: {1: see, 2: c * set}, 2: {1: c * set, 2: c * c * sett}},
 	}
 }
 
@@ -197,13 +207,20 @@ func (v *projection) evalFixed(tau float64) projected {
 		s += r * et
 		sett += et * et
 	}
-	return projected{exc: b, ssr: ssr, slope: -2 * b * s / tau, curv: 2 * b * b * sett / (tau * tau)}
+	c := b / (tau * tau)
+	return projected{exc: b, ssr: ssr, slope: -2 * b * s / tau, curv: 2 * b * b * sett / (tau * tau),
+		jtj: [3][3]float64{2: {2: c * c * sett}}}
 }
 
-// resync is how many consecutive decay factors are chained by multiplication before
-// exp(−t/τ) is computed afresh; it bounds the accumulated rounding to about
-// resync·2⁻⁵³ relative.
-const resync = 64
+// resync is how many readings share one exp(−t/τ) when the times are equally
+// spaced: the block's first chains readings are that value times q, q², …, and each
+// later one is the reading chains before times q^chains, so no factor is a product of
+// more than about resync/chains + chains roundings (under 2e-15 relative). chains
+// running products stay in registers.
+const (
+	resync = 128
+	chains = 8
+)
 
 // spacing returns the mean of ts and their common spacing, or 0 for the spacing when
 // successive differences vary by more than 1e-9 relative (beyond rounding of the times).
@@ -213,57 +230,58 @@ func spacing(ts []float64) (avg, step float64) {
 		return mean(ts), 0
 	}
 	step = (ts[n-1] - ts[0]) / float64(n-1)
+	tol := 1e-9 * step
 	for i := 1; i < n; i++ {
-		if math.Abs(ts[i]-ts[i-1]-step) > 1e-9*step {
-			step = 0
-			break
+		if math.Abs(ts[i]-ts[i-1]-step) > tol {
+			return mean(ts), 0
 		}
 	}
-	return mean(ts), step
+	// Equally spaced: the midpoint is the mean to rounding.
+	return (ts[0] + ts[n-1]) / 2, step
 }
 
 // decay fills v.e with exp(−t/τ) unless it already holds it. Equally spaced readings
-// (the usual case) take one exp per block of resync readings: the block's first four
-// from its first by the factors q, q², q³ (q = exp(−Δt/τ)), then a factor q⁴ per step
-// in four interleaved chains, so a pass costs a multiplication per reading instead of
-// an exp; other readings get one exp each.
+// (the usual case) take one exp per block of resync readings and a multiplication per
+// reading (see resync); other readings get one exp each.
 func (v *projection) decay(tau float64) {
 	if tau == v.tau {
 		return
 	}
 	v.tau = tau
 	ts, e := v.p.Times, v.e[:len(v.p.Times)]
-	if v.step == 0 || len(ts) < 8 {
+	if v.step == 0 || len(ts) < 2*chains {
 		for i, t := range ts {
 			e[i] = math.Exp(-t / tau)
 		}
 		return
 	}
+	var qs [chains]float64 // q⁰ … q⁷
+	qs[0] = 1
 	q := math.Exp(-v.step / tau)
-	q2 := q * q
-	q3, q4 := q2*q, math.Exp(-4*v.step/tau)
+	for j := 1; j < chains; j++ {
+		qs[j] = qs[j-1] * q
+	}
+	q8 := math.Exp(-chains * v.step / tau)
 	for i := 0; i < len(ts); i += resync {
 		blk := e[i:min(i+resync, len(ts))]
 		e0 := math.Exp(-ts[i] / tau)
-		blk[0] = e0
-		if len(blk) >= 4 {
-			blk[1], blk[2], blk[3] = e0*q, e0*q2, e0*q3
-		} else {
-			for j := 1; j < len(blk); j++ {
-				blk[j] = blk[j-1] * q
-			}
+		for j := range min(chains, len(blk)) {
+			blk[j] = e0 * qs[j]
 		}
-		j := 4
-		if len(blk) >= 8 {
-			// The chains stay in registers; a chain through memory waits on each store.
+		j := chains
+		if len(blk) >= 2*chains {
+			// The products stay in registers; a chain through memory waits on each store.
 			a, b, c, d := blk[0], blk[1], blk[2], blk[3]
-			for ; j+4 <= len(blk); j += 4 {
-				a, b, c, d = a*q4, b*q4, c*q4, d*q4
-				blk[j], blk[j+1], blk[j+2], blk[j+3] = a, b, c, d
+			f, g, h, k := blk[4], blk[5], blk[6], blk[7]
+			for ; j+chains <= len(blk); j += chains {
+				a, b, c, d = a*q8, b*q8, c*q8, d*q8
+				f, g, h, k = f*q8, g*q8, h*q8, k*q8
+				x := blk[j : j+chains : j+chains]
+				x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7] = a, b, c, d, f, g, h, k
 			}
 		}
 		for ; j < len(blk); j++ {
-			blk[j] = blk[j-4] * q4
+			blk[j] = blk[j-chains] * q8
 		}
 	}
 }
