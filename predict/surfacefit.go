@@ -44,11 +44,20 @@ func FitH(p HProblem, start *LumpedResult) (HResult, error) {
 // fitH is FitH leaving the result's Φ table lazy: the caller completes it
 // (phiTable.complete) before the result leaves the goroutine.
 func fitH(p HProblem, start *LumpedResult) (HResult, error) {
-	return fitHBinned(p, start, maxFitPoints)
+	return fitHBinned(p, start, nil, maxFitPoints)
 }
 
-// fitHBinned is fitH iterating on at most about maxPts binned points (binned).
-func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
+// fitHFrom is fitH starting its iterations from the parameters of from, a fit of the
+// same law to a longer stretch of the same curve (the backtest's refits start from
+// the whole segment's fit, which lies a few iterations closer to theirs than the
+// lumped start does); start still sets the bins and the prior's weight.
+func fitHFrom(p HProblem, start *LumpedResult, from *HResult) (HResult, error) {
+	return fitHBinned(p, start, from, maxFitPoints)
+}
+
+// fitHBinned is fitH iterating on at most about maxPts binned points (binned), from
+// the parameters of from when it is a successful fit (fitHFrom).
+func fitHBinned(p HProblem, start *LumpedResult, from *HResult, maxPts int) (HResult, error) {
 	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
 	if p.Ambient != nil {
 		res.Free = 2
@@ -72,6 +81,12 @@ func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
 	m.tmax = 2*max(m.tmax, math.Abs(start.Excess)) + 50
 	w0 := math.Log(math.Abs(start.Excess))
 	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
+	if from != nil && from.Status == FitSuccess && sign(from.Initial-from.Ambient) == m.side && from.q > 0 {
+		w0, q = math.Log(math.Abs(from.Initial-from.Ambient)), from.q
+		if !m.measured {
+			amb = from.Ambient
+		}
+	}
 	lm := levmar{m: m, x: []float64{w0, q, amb}, free: res.Free}
 	if res.Free == 3 && p.AmbientPriorSD > 0 {
 		lm.priorAmb = p.AmbientPrior
