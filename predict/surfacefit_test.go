@@ -263,3 +263,70 @@ func TestNormalInverseMatchesGonum(t *testing.T) {
 		}
 	}
 }
+
+// fitHRace must return exactly the fit that fitting every law to convergence and
+// keeping the lowest residual returns (the dropped laws would not have won), on the
+// independent benchmark's curves (testdata/bench, every case at 25, 50 and 100 % of
+// the time to its crossing) with the unknown specimen's still- and moving-air laws,
+// and on the steel bar with its ambient fitted and measured; and it must drop some.
+func TestFitHRaceMatchesAll(t *testing.T) {
+	var problems []LumpedProblem
+	for _, c := range benchIndex(t).Cases {
+		curve := readBenchCase(t, c)
+		for _, frac := range []float64{0.25, 0.5, 1} {
+			part := curve.Until(c.PlacedS + frac*(c.CrossingS-c.PlacedS))
+			var p LumpedProblem
+			for i, tt := range part.Times {
+				if tt >= c.PlacedS && !math.IsNaN(part.Celsius[i]) {
+					p.Times, p.Celsius = append(p.Times, tt-c.PlacedS), append(p.Celsius, part.Celsius[i])
+				}
+			}
+			problems = append(problems, p)
+		}
+	}
+	bar := hotBar()
+	measured := hotBar()
+	measured.Ambient = measuredAmbient(measured, 17)
+	problems = append(problems, bar, measured)
+	var races, dropped int
+	for i, p := range problems {
+		if len(p.Times) < minPointsH {
+			continue
+		}
+		lr, err := FitLumped(p, nil)
+		start := &lr
+		if err != nil {
+			start = roughStart(p)
+		}
+		if start == nil {
+			continue
+		}
+		still, moving := hCandidates(nil)
+		for _, laws := range [][]SurfaceLaw{still, moving} {
+			var hps []HProblem
+			var want *HResult
+			for _, law := range laws {
+				hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}
+				if p.Ambient == nil {
+					hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
+				}
+				hps = append(hps, hp)
+				if r, err := fitH(hp, start); err == nil && (want == nil || r.RMSE < want.RMSE) {
+					want = &r
+				}
+			}
+			got, d := fitHRace(hps, start)
+			races, dropped = races+1, dropped+d
+			switch {
+			case (got == nil) != (want == nil):
+				t.Fatalf("problem %d: race %v, all laws %v", i, got, want)
+			case got != nil && (got.Law != want.Law || got.RMSE != want.RMSE || got.Ambient != want.Ambient):
+				t.Errorf("problem %d: race kept %+v (rms %.6g), all laws %+v (rms %.6g)", i, got.Law, got.RMSE, want.Law, want.RMSE)
+			}
+		}
+	}
+	t.Logf("%d races of 3 laws, %d laws dropped", races, dropped)
+	if dropped == 0 {
+		t.Error("no law was dropped: the race saves nothing")
+	}
+}
