@@ -405,16 +405,25 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 const lmTables = 4
 
 // table returns the Φ table at ambient amb, reusing one built before at the same
-// ambient.
+// ambient. The tables are kept least recently used first; a new table takes over the
+// storage of the least recently used one when lmTables are kept, so a fit allocates
+// lmTables tables however long it runs. A table returned stays valid through the
+// next call (it is then the most recently used), and jacobian looks lm.tb up afresh
+// each time, so a trial step's table never overwrites one still in use.
 func (lm *levmar) table(amb float64) *phiTable {
-	for _, tb := range lm.tables {
+	for i, tb := range lm.tables {
 		if tb.amb == amb {
+			lm.tables = append(append(lm.tables[:i], lm.tables[i+1:]...), tb)
 			return tb
 		}
 	}
-	tb := newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
+	var tb *phiTable
 	if len(lm.tables) == lmTables {
+		tb = lm.tables[0]
 		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
+		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, lo: 1, hi: 0}
+	} else {
+		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
 	}
 	lm.tables = append(lm.tables, tb)
 	return tb
