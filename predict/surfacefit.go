@@ -446,6 +446,11 @@ func (lm *levmar) iterate() (done, ok bool) {
 	lm.cur, lm.floor = cur, 0
 	if inv, ok := normalInverse(&jtj, 1); ok {
 		lm.floor = cur - mat.Inner(g, inv, g)
+		if cur-lm.floor <= 1e-10*cur {
+			// Converged: the full Gauss–Newton step would lower the sum by less than
+			// a taken step that ends the iterations.
+			return true, true
+		}
 	}
 	dscale := make([]float64, k)
 	for i := range k {
