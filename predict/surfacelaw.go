@@ -191,10 +191,15 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 		}
 	}
 	*hint = i
-	// Newton on the cell's cubic from the linear estimate; Φ' = 1/h > 0.
+	// Newton on the cell's cubic from the cubic Hermite interpolant of the inverse
+	// (s at the cell's ends is 0 and 1, ds/dΦ there 1/(phiStep·Φ')), which is within
+	// about 1e-7 of the root, so that one step brings it to rounding; Φ' = 1/h > 0.
 	// Newton converges quadratically: after a step under 1e-8 of a cell the error
-	// left is of order 1e-16, so it stops there (at most 4 steps, as before).
-	s := (f - tb.phi[i]) / (tb.phi[i+1] - tb.phi[i])
+	// left is of order 1e-16, so it stops there (at most 4 steps).
+	df := tb.phi[i+1] - tb.phi[i]
+	u := (f - tb.phi[i]) / df
+	s := hermiteAt(u, 0, 1, 0, 1, df/(phiStep*tb.inv[i]), df/(phiStep*tb.inv[i+1]))
+	s = max(0, min(1, s))
 	for range 4 {
 		d := tb.hermite(i, s) - f
 		ds := tb.slope(i, s)
