@@ -70,6 +70,7 @@ type hFit struct {
 	res   HResult
 	lm    levmar
 	full  *hModel // every reading (lm.m holds the bins when binned)
+	bins  *hModel // the bins, nil when not binned
 	iters int
 	done  bool // converged, failed, or never started (res.Status says which)
 }
@@ -77,6 +78,14 @@ type hFit struct {
 // newHFit sets up the fit of p from the lumped fit start (and from, see fitHFrom);
 // the fit is done at once, with res.Status set, when start is not a usable fit.
 func newHFit(p HProblem, start *LumpedResult, from *HResult, maxPts int) *hFit {
+	return newHFitLike(p, start, from, nil, maxPts)
+}
+
+// newHFitLike is newHFit taking the readings' models (every reading, and the bins)
+// from like, when like is not nil: a fit of the same readings and ambient from the
+// same start under another law, whose models differ from p's only in the law. The
+// models' readings are shared, never written.
+func newHFitLike(p HProblem, start *LumpedResult, from *HResult, like *hFit, maxPts int) *hFit {
 	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
 	if p.Ambient != nil {
 		res.Free = 2
@@ -84,6 +93,37 @@ func newHFit(p HProblem, start *LumpedResult, from *HResult, maxPts int) *hFit {
 	if start == nil || start.Status != FitSuccess || start.Excess == 0 {
 		return &hFit{res: res, done: true}
 	}
+	var m, bins *hModel
+	if like != nil && like.full != nil {
+		m, bins = like.full.withLaw(p.Law), like.bins.withLaw(p.Law)
+	} else {
+		m = newHModel(p, start)
+		bins = binned(m, start, maxPts)
+	}
+	amb := m.amb
+	w0 := math.Log(math.Abs(start.Excess))
+	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
+	if from != nil && from.Status == FitSuccess && sign(from.Initial-from.Ambient) == m.side && from.q > 0 {
+		w0, q = math.Log(math.Abs(from.Initial-from.Ambient)), from.q
+		if !m.measured {
+			amb = from.Ambient
+		}
+	}
+	f := &hFit{res: res, full: m, bins: bins}
+	f.lm = levmar{m: m, x: []float64{w0, q, amb}, free: res.Free, lambda: 1e-3}
+	if res.Free == 3 && p.AmbientPriorSD > 0 {
+		f.lm.priorAmb = p.AmbientPrior
+		f.lm.priorW2 = math.Pow(max(start.Sigma, 0.05)/p.AmbientPriorSD, 2)
+	}
+	if bins != nil {
+		f.lm.m = bins
+	}
+	return f
+}
+
+// newHModel returns the model of p's readings from the lumped fit start: the
+// readings shifted to the last ambient when it is measured, the table's extent.
+func newHModel(p HProblem, start *LumpedResult) *hModel {
 	m := &hModel{ts: p.Times, law: p.Law, side: sign(start.Excess), measured: p.Ambient != nil}
 	m.y = append([]float64(nil), p.Celsius...)
 	amb := start.Ambient
@@ -98,24 +138,17 @@ func newHFit(p HProblem, start *LumpedResult, from *HResult, maxPts int) *hFit {
 		m.tmax = max(m.tmax, math.Abs(y-amb))
 	}
 	m.tmax = 2*max(m.tmax, math.Abs(start.Excess)) + 50
-	w0 := math.Log(math.Abs(start.Excess))
-	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
-	if from != nil && from.Status == FitSuccess && sign(from.Initial-from.Ambient) == m.side && from.q > 0 {
-		w0, q = math.Log(math.Abs(from.Initial-from.Ambient)), from.q
-		if !m.measured {
-			amb = from.Ambient
-		}
+	return m
+}
+
+// withLaw returns a copy of m under law, sharing its readings (nil for nil).
+func (m *hModel) withLaw(law SurfaceLaw) *hModel {
+	if m == nil {
+		return nil
 	}
-	f := &hFit{res: res, full: m}
-	f.lm = levmar{m: m, x: []float64{w0, q, amb}, free: res.Free, lambda: 1e-3}
-	if res.Free == 3 && p.AmbientPriorSD > 0 {
-		f.lm.priorAmb = p.AmbientPrior
-		f.lm.priorW2 = math.Pow(max(start.Sigma, 0.05)/p.AmbientPriorSD, 2)
-	}
-	if b := binned(m, start, maxPts); b != nil {
-		f.lm.m = b
-	}
-	return f
+	c := *m
+	c.law, c.w, c.th = law, nil, nil
+	return &c
 }
 
 // step takes one iteration (at most hMaxIter in all) and reports whether the fit is
@@ -167,14 +200,19 @@ const (
 	pruneFactor = 2.0
 )
 
-// fitHRace fits the h(T) model to each of ps (one curve under several surface laws)
-// from the lumped fit start, advancing the fits an iteration at a time and dropping
+// fitHRace fits the h(T) model to each of ps (one curve under several surface laws:
+// the same readings, ambient and prior, so they share their models) from the lumped
+// fit start, advancing the fits an iteration at a time and dropping
 // those that clearly lose (pruneFactor), and returns the successful fit with the
 // lowest residual, or nil when none succeeds, and how many laws it dropped.
 func fitHRace(ps []HProblem, start *LumpedResult) (best *HResult, dropped int) {
 	fits := make([]*hFit, len(ps))
 	for i, p := range ps {
-		fits[i] = newHFit(p, start, nil, maxFitPoints)
+		var like *hFit
+		if i > 0 {
+			like = fits[0]
+		}
+		fits[i] = newHFitLike(p, start, nil, like, maxFitPoints)
 	}
 	for {
 		running := false
