@@ -472,17 +472,14 @@ func (lm *levmar) table(amb float64) *phiTable {
 func (lm *levmar) iterate() (done, ok bool) {
 	k := lm.free
 	lm.jacobian()
-	var jtj mat.SymDense
-	jtj.SymOuterK(1, lm.jac.T())
-	g := mat.NewVecDense(k, nil)
-	g.MulVec(lm.jac.T(), mat.NewVecDense(len(lm.r), lm.r))
+	jtj, g := normalEquations(lm.jac, lm.r)
 	if lm.priorW2 > 0 {
 		jtj.SetSym(2, 2, jtj.At(2, 2)+lm.priorW2)
 		g.SetVec(2, g.AtVec(2)+lm.priorW2*(lm.priorAmb-lm.x[2]))
 	}
 	cur := lm.ssr + lm.penalty(lm.x[2])
 	lm.cur, lm.floor = cur, 0
-	if inv, ok := normalInverse(&jtj, 1); ok {
+	if inv, ok := normalInverse(jtj, 1); ok {
 		lm.floor = cur - mat.Inner(g, inv, g)
 		if cur-lm.floor <= 1e-10*cur {
 			// Converged: the full Gauss–Newton step would lower the sum by less than
@@ -554,6 +551,32 @@ func (lm *levmar) iterate() (done, ok bool) {
 		return true, true // no step reduces the sum: at the optimum to rounding
 	}
 	return false, false
+}
+
+// normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 3 columns, summed
+// row by row (gonum's general routines cost more than the sums for so few columns).
+func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
+	raw := j.RawMatrix()
+	k := raw.Cols
+	var a [3][3]float64
+	var b [3]float64
+	for i, ri := range r[:raw.Rows] {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+k]
+		for p, jp := range row {
+			b[p] += jp * ri
+			for q := p; q < k; q++ {
+				a[p][q] += jp * row[q]
+			}
+		}
+	}
+	jtj, g := mat.NewSymDense(k, nil), mat.NewVecDense(k, nil)
+	for p := range k {
+		g.SetVec(p, b[p])
+		for q := p; q < k; q++ {
+			jtj.SetSym(p, q, a[p][q])
+		}
+	}
+	return jtj, g
 }
 
 // finish fills the result from the converged state.
