@@ -156,7 +156,7 @@ func refit(head LumpedProblem, m fitted, opt AnalyzeOptions) fitted {
 		if head.Ambient == nil {
 			hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
 		}
-		r, err := fitHFrom(hp, start, h.r)
+		r, err := fitH(hp, start)
 		if err != nil {
 			return nil
 		}

@@ -44,21 +44,12 @@ func FitH(p HProblem, start *LumpedResult) (HResult, error) {
 // fitH is FitH leaving the result's Φ table lazy: the caller completes it
 // (phiTable.complete) before the result leaves the goroutine.
 func fitH(p HProblem, start *LumpedResult) (HResult, error) {
-	return fitHBinned(p, start, nil, maxFitPoints)
+	return fitHBinned(p, start, maxFitPoints)
 }
 
-// fitHFrom is fitH starting its iterations from the parameters of from, a fit of the
-// same law to a longer stretch of the same curve (the backtest's refits start from
-// the whole segment's fit, which lies a few iterations closer to theirs than the
-// lumped start does); start still sets the bins and the prior's weight.
-func fitHFrom(p HProblem, start *LumpedResult, from *HResult) (HResult, error) {
-	return fitHBinned(p, start, from, maxFitPoints)
-}
-
-// fitHBinned is fitH iterating on at most about maxPts binned points (binned), from
-// the parameters of from when it is a successful fit (fitHFrom).
-func fitHBinned(p HProblem, start *LumpedResult, from *HResult, maxPts int) (HResult, error) {
-	f := newHFit(p, start, from, maxPts)
+// fitHBinned is fitH iterating on at most about maxPts binned points (binned).
+func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
+	f := newHFit(p, start, maxPts)
 	for !f.step() {
 	}
 	return f.result()
@@ -75,17 +66,17 @@ type hFit struct {
 	done  bool // converged, failed, or never started (res.Status says which)
 }
 
-// newHFit sets up the fit of p from the lumped fit start (and from, see fitHFrom);
-// the fit is done at once, with res.Status set, when start is not a usable fit.
-func newHFit(p HProblem, start *LumpedResult, from *HResult, maxPts int) *hFit {
-	return newHFitLike(p, start, from, nil, maxPts)
+// newHFit sets up the fit of p from the lumped fit start; the fit is done at once,
+// with res.Status set, when start is not a usable fit.
+func newHFit(p HProblem, start *LumpedResult, maxPts int) *hFit {
+	return newHFitLike(p, start, nil, maxPts)
 }
 
 // newHFitLike is newHFit taking the readings' models (every reading, and the bins)
 // from like, when like is not nil: a fit of the same readings and ambient from the
 // same start under another law, whose models differ from p's only in the law. The
 // models' readings are shared, never written.
-func newHFitLike(p HProblem, start *LumpedResult, from *HResult, like *hFit, maxPts int) *hFit {
+func newHFitLike(p HProblem, start *LumpedResult, like *hFit, maxPts int) *hFit {
 	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
 	if p.Ambient != nil {
 		res.Free = 2
@@ -103,12 +94,6 @@ func newHFitLike(p HProblem, start *LumpedResult, from *HResult, like *hFit, max
 	amb := m.amb
 	w0 := math.Log(math.Abs(start.Excess))
 	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
-	if from != nil && from.Status == FitSuccess && sign(from.Initial-from.Ambient) == m.side && from.q > 0 {
-		w0, q = math.Log(math.Abs(from.Initial-from.Ambient)), from.q
-		if !m.measured {
-			amb = from.Ambient
-		}
-	}
 	f := &hFit{res: res, full: m, bins: bins}
 	f.lm = levmar{m: m, x: []float64{w0, q, amb}, free: res.Free, lambda: 1e-3}
 	if res.Free == 3 && p.AmbientPriorSD > 0 {
@@ -212,7 +197,7 @@ func fitHRace(ps []HProblem, start *LumpedResult) (best *HResult, dropped int) {
 		if i > 0 {
 			like = fits[0]
 		}
-		fits[i] = newHFitLike(p, start, nil, like, maxFitPoints)
+		fits[i] = newHFitLike(p, start, like, maxFitPoints)
 	}
 	for {
 		running := false

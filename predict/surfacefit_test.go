@@ -144,8 +144,8 @@ func TestFitHBinnedMatchesFull(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			all, err1 := fitHBinned(hp, &lr, nil, len(c.p.Times))
-			bin, err2 := fitHBinned(hp, &lr, nil, maxFitPoints)
+			all, err1 := fitHBinned(hp, &lr, len(c.p.Times))
+			bin, err2 := fitHBinned(hp, &lr, maxFitPoints)
 			if err1 != nil || err2 != nil {
 				t.Fatal(err1, err2)
 			}
