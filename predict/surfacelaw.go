@@ -3,6 +3,7 @@ package predict
 import (
 	"math"
 	"sort"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -249,12 +250,17 @@ type HResult struct {
 	w0, phi0, q float64
 	table       *phiTable
 	tmax        float64
+	// hint is the table cell of the latest Value, where the next one usually lies
+	// (callers walk a curve in time); read and written atomically, since Value may
+	// run on several goroutines, and only a starting guess for invert.
+	hint int32
 }
 
 // Value evaluates the fitted curve at t seconds from the segment start.
 func (r *HResult) Value(t float64) float64 {
-	hint := -1
+	hint := int(atomic.LoadInt32(&r.hint))
 	w, _ := r.table.invert(r.phi0-r.q*t, &hint)
+	atomic.StoreInt32(&r.hint, int32(hint))
 	return r.Ambient + r.table.side*math.Exp(w)
 }
 
