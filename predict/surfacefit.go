@@ -397,13 +397,14 @@ func (lm *levmar) jacobian() {
 	tb := lm.table(lm.x[2] + ambDelta)
 	phi0 := lm.tb.at(lm.x[0])
 	da0 := (tb.at(lm.x[0]) - phi0) / ambDelta
+	raw := lm.jac.RawMatrix()
 	for i, t := range lm.m.ts {
 		da := (tb.at(lm.m.w[i]) - (phi0 - lm.x[1]*t)) / ambDelta
 		wt := 1.0
 		if lm.m.wt != nil {
 			wt = lm.m.wt[i]
 		}
-		lm.jac.Set(i, 2, wt+lm.m.th[i]*(da0-da))
+		raw.Data[i*raw.Stride+2] = wt + lm.m.th[i]*(da0-da)
 	}
 }
 

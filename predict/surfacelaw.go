@@ -298,8 +298,14 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 	phi0 := tb.at(w0)
 	h0 := tb.law.H(tb.amb+tb.side*math.Exp(w0), tb.amb)
 	hint := -1
-	if jac != nil && m.w == nil {
-		m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+	var jd []float64 // jac's rows, written directly (Dense.Set checks every index)
+	var js int
+	if jac != nil {
+		if m.w == nil {
+			m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+		}
+		raw := jac.RawMatrix()
+		jd, js = raw.Data, raw.Stride
 	}
 	for i, t := range m.ts {
 		w, h := tb.invert(phi0-q*t, &hint)
@@ -315,8 +321,7 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 		}
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
-			jac.Set(i, 0, wt*theta*h/h0)
-			jac.Set(i, 1, -wt*theta*h*t)
+			jd[i*js], jd[i*js+1] = wt*theta*h/h0, -wt*theta*h*t
 			m.w[i], m.th[i] = w, wt*theta*h
 		}
 	}
