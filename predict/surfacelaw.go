@@ -81,8 +81,11 @@ type phiTable struct {
 	lo, hi    int       // the computed nodes; lo > hi before the first
 }
 
-// phiGrowth is the fewest nodes a table is extended by at a time.
-const phiGrowth = 8
+// phiGrowth is the fewest nodes a table is extended by at a time. Each node costs two
+// evaluations of h(T), so the table grows by little more than the nodes asked for
+// (a node's value does not depend on how the range grew: each is its neighbour's
+// plus one cell).
+const phiGrowth = 2
 
 func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64) *phiTable {
 	n := int(math.Ceil((math.Log(max(thetaMax, 1))-phiLow)/phiStep)) + 2
@@ -160,10 +163,10 @@ func (tb *phiTable) hermite(i int, s float64) float64 {
 // table), so that f can be inverted; the table must have a node.
 func (tb *phiTable) cover(f float64) {
 	for tb.lo > 0 && f < tb.phi[tb.lo] {
-		tb.ensure(tb.lo-max(phiGrowth, (tb.hi-tb.lo)/2), tb.hi)
+		tb.ensure(tb.lo-phiGrowth, tb.hi)
 	}
 	for tb.hi < len(tb.phi)-1 && f > tb.phi[tb.hi] {
-		tb.ensure(tb.lo, tb.hi+max(phiGrowth, (tb.hi-tb.lo)/2))
+		tb.ensure(tb.lo, tb.hi+phiGrowth)
 	}
 }
 
