@@ -340,7 +340,7 @@ type levmar struct {
 	jac  *mat.Dense
 	ssr  float64
 
-	// tables holds the Φ tables built so far by ambient, newest last (a trial step's
+	// tables holds the Φ tables built so far by ambient, most recently used last (a trial step's
 	// table is the next iteration's when the step is taken; a measured ambient needs
 	// one for the whole fit).
 	tables []*phiTable
