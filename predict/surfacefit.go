@@ -340,9 +340,9 @@ type levmar struct {
 	jac  *mat.Dense
 	ssr  float64
 
-	// tables holds the Φ tables built so far by ambient, most recently used last (a trial step's
-	// table is the next iteration's when the step is taken; a measured ambient needs
-	// one for the whole fit).
+	// tables holds the Φ tables built so far by ambient, most recently used last (a
+	// trial step's table is the next iteration's when the step is taken; a measured
+	// ambient needs one for the whole fit).
 	tables []*phiTable
 	// A trial step's residuals and Jacobian rows (the ambient column aside), its
 	// point, sum of squares and whether the sum ran to the end: when the step is
