@@ -214,9 +214,10 @@ func (v *projection) evalFixed(tau float64) projected {
 
 // resync is how many readings share one exp(−t/τ) when the times are equally
 // spaced: the block's first chains readings are that value times q, q², …, and each
-// later one is the reading chains before times q^chains, so no factor is a product of
-// more than about resync/chains + chains roundings (under 2e-15 relative). chains
-// running products stay in registers.
+// later one is the reading chains before times q^chains, so no factor carries more
+// than about resync/chains + chains roundings (a few 1e-15 relative;
+// TestDecayMatchesExp holds them to 1e-14). The chains running products stay in
+// registers.
 const (
 	resync = 128
 	chains = 8
@@ -236,7 +237,8 @@ func spacing(ts []float64) (avg, step float64) {
 			return mean(ts), 0
 		}
 	}
-	// Equally spaced: the midpoint is the mean to rounding.
+	// Equally spaced: the midpoint is the mean (within the spacing's tolerance), all
+	// evalAmbient's centring needs.
 	return (ts[0] + ts[n-1]) / 2, step
 }
 
@@ -270,7 +272,8 @@ func (v *projection) decay(tau float64) {
 		}
 		j := chains
 		if len(blk) >= 2*chains {
-			// The products stay in registers; a chain through memory waits on each store.
+			// The products stay in registers (a chain through memory waits on each
+			// store); written out for chains = 8.
 			a, b, c, d := blk[0], blk[1], blk[2], blk[3]
 			f, g, h, k := blk[4], blk[5], blk[6], blk[7]
 			for ; j+chains <= len(blk); j += chains {
