@@ -468,8 +468,8 @@ func (lm *levmar) iterate() (done, ok bool) {
 	if inv, ok := normalInverse(jtj, 1); ok {
 		lm.floor = cur - mat.Inner(g, inv, g)
 		if cur-lm.floor <= 1e-10*cur {
-			// Converged: the full Gauss–Newton step would lower the sum by less than
-			// a taken step that ends the iterations.
+			// Converged: even the full Gauss–Newton step would lower the sum by no
+			// more than the 1e-10 under which a taken step ends the iterations.
 			return true, true
 		}
 	}
