@@ -143,6 +143,7 @@ type score struct {
 	errs            []float64 // relative errors; +Inf where the method gave no time
 	widths          []float64 // interval widths over the remaining time, where judged
 	covered, judged int
+	closedCovered   int // of covered, those by a closed interval
 	open            int // answers with an open-ended interval ("not before")
 	openLate        int // of them, those whose early bound came after the truth
 	openVacuous     int // and those that open at the last reading ("not before now")
@@ -152,7 +153,7 @@ func (s *score) add(tr trial) {
 	s.errs = append(s.errs, tr.rel)
 	if tr.open {
 		s.open++
-		if !tr.covered {
+		if !tr.covered && !tr.vacuous {
 			s.openLate++
 		}
 		if tr.vacuous {
@@ -164,20 +165,25 @@ func (s *score) add(tr trial) {
 		s.widths = append(s.widths, tr.width)
 		if tr.covered {
 			s.covered++
+			if !tr.open {
+				s.closedCovered++
+			}
 		}
 	}
 }
 
 // row formats the score as a table row's figures: median and 90th-percentile
 // relative error (a missing answer or central estimate counts as an infinite error),
-// the median over the forecasts with a central estimate, coverage, median width ("∞"
+// the median over the forecasts with a central estimate, coverage, the coverage by
+// closed intervals alone (an open-ended answer counted as a miss), median width ("∞"
 // when more than half the intervals are open-ended or missing), the share without a
 // central estimate and the share answered with an open-ended interval only or beside
 // a central estimate.
 func (s *score) row() string {
-	cov, width := "-", "-"
+	cov, closed, width := "-", "-", "-"
 	if s.judged > 0 {
 		cov = fmt.Sprintf("%.0f %%", 100*float64(s.covered)/float64(s.judged))
+		closed = fmt.Sprintf("%.0f %%", 100*float64(s.closedCovered)/float64(s.judged))
 		width = "∞"
 		if w := quantile(s.widths, 0.5); w < 99 {
 			width = fmt.Sprintf("%.2f", w)
@@ -194,8 +200,8 @@ func (s *score) row() string {
 		ans = pct(quantile(answered, 0.5))
 	}
 	none := len(s.errs) - len(answered)
-	return fmt.Sprintf("%8s %8s %8s %9s %6s %8.0f%% %5.0f%%  (n=%d)", pct(quantile(s.errs, 0.5)), pct(quantile(s.errs, 0.9)),
-		ans, cov, width, 100*float64(none)/float64(len(s.errs)), 100*float64(s.open)/float64(len(s.errs)), len(s.errs))
+	return fmt.Sprintf("%8s %8s %8s %9s %7s %6s %8.0f%% %5.0f%%  (n=%d)", pct(quantile(s.errs, 0.5)), pct(quantile(s.errs, 0.9)),
+		ans, cov, closed, width, 100*float64(none)/float64(len(s.errs)), 100*float64(s.open)/float64(len(s.errs)), len(s.errs))
 }
 
 // pct formats a relative error as a percentage; "none" for a missing answer and
@@ -211,7 +217,7 @@ func pct(x float64) string {
 }
 
 // tableHead is the header of the figures row() prints.
-const tableHead = "  median      p90 answered  coverage  width no point  open"
+const tableHead = "  median      p90 answered  coverage  closed  width no point  open"
 
 func quantile(xs []float64, q float64) float64 {
 	s := slices.Clone(xs)
@@ -286,7 +292,8 @@ func judge(m method, curve CurveFile, c benchgen.Case, frac float64) trial {
 // true time is truth. A method without intervals (NaN bounds) is not judged on
 // coverage; an interval method that gives no answer is, as a miss of infinite width.
 // An open-ended interval [lo, ∞) covers a truth at or after lo and has an infinite
-// width; an answer without a central estimate has an infinite error (it counts in
+// width, except one that opens at the last reading ("not before now" says nothing of
+// the time, so it covers nothing); an answer without a central estimate has an infinite error (it counts in
 // the error columns as no answer).
 func judgeAt(m method, part CurveFile, level, truth float64) trial {
 	horizon := truth - part.Times[len(part.Times)-1]
@@ -296,10 +303,10 @@ func judgeAt(m method, part CurveFile, level, truth float64) trial {
 		if !math.IsNaN(at) {
 			tr.rel = math.Abs(at-truth) / horizon
 		}
-		tr.covered = lo <= truth && truth <= hi
 		tr.width = (hi - lo) / horizon
 		tr.open = math.IsInf(hi, 1)
 		tr.vacuous = tr.open && lo <= part.Times[len(part.Times)-1]+1
+		tr.covered = lo <= truth && truth <= hi && !tr.vacuous
 	}
 	return tr
 }
@@ -322,8 +329,10 @@ func group(c benchgen.Case) string {
 // on the independent generator (not the goals, which it does not all meet;
 // see README "Forecast accuracy"): at 25 % elapsed, median relative error at most
 // 8 % without the description and 4 % with it, fan and oven cases with it at most 7 %;
-// ~90 % interval coverage over all fractions at least 78 % without the description
-// and within 85–97 % with it; median width at 25 % elapsed at most 0.5 and 0.3.
+// ~90 % interval coverage over all fractions at least 72 % without the description
+// (74 % measured, 81 % before open-ended answers: "not before now" beside a central
+// estimate, where a closed interval used to be, counts as a miss) and within 85–97 %
+// with it; median width at 25 % elapsed at most 0.5 and 0.3.
 func TestAccuracyTable(t *testing.T) {
 	if testing.Short() {
 		t.Skip("accuracy benchmark skipped with -short")
@@ -360,7 +369,7 @@ func TestAccuracyTable(t *testing.T) {
 	for _, c := range []struct {
 		method string
 		lo, hi float64
-	}{{"engine", 0.78, 0.97}, {"engine+spec", 0.85, 0.97}} {
+	}{{"engine", 0.72, 0.97}, {"engine+spec", 0.85, 0.97}} {
 		var covered, judged int
 		for _, fr := range fractions {
 			s := sc[fmt.Sprintf("%s/%.2f/all", c.method, fr)]

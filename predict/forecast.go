@@ -613,9 +613,12 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // ones, with no late end and no central estimate (out's At is kept when set). The
 // settling temperatures the readings allow reach from the fitted one to u beyond it
 // toward the target (u: its interval, widened for correlated residuals, plus the
-// misfit) and, when untrusted (the fitted one is not credibly the end: a
-// mismatched model, readings not yet bent toward it, or not a plausible room), on
-// to the room prior's far end roomPrior ∓ 2·roomPriorSD. The earliest crossing is
+// misfit) and, when untrusted, on to the room prior's far end roomPrior ∓
+// 2·roomPriorSD. predictedFrom passes untrusted for every target its fit left
+// insufficient: the fitted one is not credibly the end (a mismatched model, readings
+// not yet bent toward it, not a plausible room) or the target lies within its
+// uncertainty — in the last case the room's far end only loosens the bound (earlier),
+// the safe side. The earliest crossing is
 // that of the lumped exponential refitted with its settling temperature held at the
 // far end (a profile over the settling temperature: the farther a settling
 // temperature lies beyond the target, the sooner the curve through the readings
@@ -647,7 +650,7 @@ func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) Ta
 	}
 	lo, ok := f.profileBound(out.Celsius, far)
 	last := f.p.Times[len(f.p.Times)-1]
-	if !ok || lo <= last && out.At.IsZero() {
+	if !ok || math.IsNaN(lo) || lo <= last && out.At.IsZero() {
 		return out // no bound, or "not before now" with no central estimate: says nothing
 	}
 	lo = max(lo, last)

@@ -399,14 +399,15 @@ func realFloors(t *testing.T, sc map[string]*score) {
 			t.Errorf("%.0f %% elapsed: %d of %d open-ended answers ('not before') came after the true crossing", 100*fr, s.openLate, s.open)
 		}
 	}
-	// Coverage at 25 % elapsed, an unanswered forecast counted as a miss: 62 % over all
-	// families measured (46 % before open-ended answers), 10 of 14 on the two mug
-	// families (2 of 14 before); the heater board's power steps stay unanswered (the
+	// Coverage at 25 % elapsed, an unanswered forecast or a "not before now" counted as
+	// a miss: 59 % over all families measured (46 % before open-ended answers; 43 % by
+	// closed intervals alone), 9 of 14 on the two mug families (2 of 14 before, all of
+	// the gain open-ended); the heater board's power steps stay unanswered (the
 	// direction rules; see README).
 	for _, c := range []struct {
 		families []string
 		min      float64
-	}{{[]string{"all"}, 0.60}, {[]string{"mug", "mug, oil film"}, 0.70}} {
+	}{{[]string{"all"}, 0.55}, {[]string{"mug", "mug, oil film"}, 0.60}} {
 		var covered, judged int
 		for _, fam := range c.families {
 			s := sc["engine/0.25/"+fam]
