@@ -127,6 +127,6 @@ func (tr *Tracker) state() ChannelState {
 		LastTime:    tr.last,
 		LastCelsius: tr.lastC,
 		Readings:    tr.readings,
-		Forecast:    copyForecast(tr.forecast),
+		Forecast:    tr.view(),
 	}
 }

@@ -87,8 +87,10 @@ type Tracker struct {
 	fitWall  time.Time // wall-clock time of the last fit (for MinFitGap)
 	hold     bool      // Restore is loading readings: no fits until it ends
 	newPts   int
-	forecast *Forecast
-	placed   bool // a run is active on the channel (SetPlaced)
+	forecast *Forecast // as fitted; Forecast and state re-anchor it (lead, updated)
+	lead     float64   // s: how far the readings since are ahead of the fit's curve (reanchor.go)
+	updated  time.Time // the reading the lead was taken at (zero: none since the fit)
+	placed   bool      // a run is active on the channel (SetPlaced)
 
 	gen     uint64         // counts segments: a fit of an older one is discarded
 	fitting bool           // a fit is running (at most one at a time)
@@ -160,6 +162,7 @@ func (tr *Tracker) add(at time.Time, celsius float64) bool {
 	}
 	tr.pts = append(tr.pts, point{at.Sub(tr.start).Seconds(), celsius, tr.amb})
 	tr.newPts++
+	tr.anchor()
 	if tr.contradictsReady(celsius) { // refit now: "ready" must not outlive the readings
 		tr.fitAt, tr.newPts = time.Time{}, max(tr.newPts, tr.opt.MinNewPoints)
 	}
@@ -203,7 +206,7 @@ func (tr *Tracker) followsCurve(at time.Time, celsius float64) bool {
 	if f == nil || f.Empty || f.Curve == nil {
 		return false
 	}
-	v := f.Curve(at)
+	v := f.Curve(at.Add(seconds(tr.lead)))
 	return !math.IsNaN(v) && !math.IsInf(v, 0) && math.Abs(celsius-v) <= tr.opt.Jump
 }
 
@@ -301,6 +304,7 @@ func (tr *Tracker) newSegment(at time.Time) {
 	tr.start, tr.fitAt, tr.rephase = at, at, true
 	tr.newPts = 0
 	tr.forecast, tr.every = nil, 0 // a new specimen: the usual pace until it has a forecast
+	tr.lead, tr.updated = 0, time.Time{}
 }
 
 // thin drops every other reading of the oldest half, keeping the first.
@@ -327,8 +331,54 @@ func (tr *Tracker) Fit() *Forecast {
 func (tr *Tracker) Forecast() *Forecast {
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
-	return copyForecast(tr.forecast)
+	return tr.view()
 }
+
+// view is a copy of the forecast re-anchored to the latest readings (see anchor), with
+// UpdatedAt the reading it reflects. Callers hold mu.
+func (tr *Tracker) view() *Forecast {
+	f := copyForecast(tr.forecast)
+	if f == nil {
+		return nil
+	}
+	if tr.updated.After(f.FittedAt) {
+		return f.anchored(tr.lead, tr.updated)
+	}
+	f.UpdatedAt = f.FittedAt
+	return f
+}
+
+// anchor re-anchors the forecast to the latest readings of its segment: the lead by
+// which they are ahead of its curve (anchorLead), taken at the newest reading. A
+// forecast with no predicted target has nothing to move; when the curve cannot place
+// the readings (flat, or never at their temperature) the last anchor stands. Callers
+// hold mu.
+func (tr *Tracker) anchor() {
+	f := tr.forecast
+	if tr.hold || f == nil || f.Empty || f.Curve == nil || len(tr.pts) == 0 ||
+		!slices.ContainsFunc(f.Targets, func(tf TargetForecast) bool { return tf.State == StatePredicted }) {
+		return
+	}
+	var times []time.Time
+	var celsius []float64
+	for i := max(0, len(tr.pts)-anchorWindow); i < len(tr.pts); i++ {
+		if at := tr.start.Add(seconds(tr.pts[i].t)); !at.Before(f.SegmentStart) {
+			times, celsius = append(times, at), append(celsius, tr.pts[i].celsius)
+		}
+	}
+	if len(times) == 0 {
+		return
+	}
+	now := times[len(times)-1]
+	if lead, ok := anchorLead(f.Curve, times, celsius, max(minLeadBound, now.Sub(f.SegmentStart).Seconds())); ok {
+		tr.lead, tr.updated = lead, now
+	}
+}
+
+// minLeadBound, s, is the least bound on a lead (anchorLead's maxLead); beyond it the
+// bound is the segment's age: readings a whole segment ahead of or behind the fit are
+// not a phase to follow but a fit to redo.
+const minLeadBound = 60
 
 // fitJob is what one fit needs, copied from the tracker under its lock.
 type fitJob struct {
@@ -360,6 +410,8 @@ func (tr *Tracker) fitNow() {
 	tr.mu.Lock()
 	if job.gen == tr.gen {
 		tr.forecast, tr.every = f, fitInterval(f, tr.last, tr.opt.FitEvery)
+		tr.lead, tr.updated = 0, time.Time{}
+		tr.anchor() // to the readings that came while it ran
 	}
 	tr.fitting = false
 	tr.mu.Unlock()

@@ -51,3 +51,23 @@ func TestFileFitAxis(t *testing.T) {
 		t.Errorf("target %+v: want t_s 110, interval 100 to 130, due 130 and the cautions", tg)
 	}
 }
+
+// TestForecastUpdatedAt: a forecast re-anchored by later readings says so beside its
+// fit time; one straight from a fit (settle fit, a report: UpdatedAt zero) is updated
+// when fitted. Expected times are the inputs (our own format).
+func TestForecastUpdatedAt(t *testing.T) {
+	for _, tc := range []struct {
+		name    string
+		updated time.Time
+		want    time.Time
+	}{
+		{"re-anchored", t0.Add(17 * time.Second), t0.Add(17 * time.Second)},
+		{"as fitted", time.Time{}, t0},
+	} {
+		f := &predict.Forecast{Model: "lumped", FittedAt: t0, UpdatedAt: tc.updated, Biot: math.NaN()}
+		got := NewForecast(f)
+		if !got.FittedAt.Equal(t0) || !got.UpdatedAt.Equal(tc.want) {
+			t.Errorf("%s: fitted_at %v, updated_at %v; want %v and %v", tc.name, got.FittedAt, got.UpdatedAt, t0, tc.want)
+		}
+	}
+}
