@@ -1,6 +1,7 @@
 package predict
 
 import (
+	"sync/atomic"
 	"time"
 )
 
@@ -51,6 +52,26 @@ type Bench struct {
 	index    map[string]int
 	users    map[string][]int // ambient channel → channels measuring their ambient on it
 	roles    []string
+	stats    fitStats
+}
+
+// fitStats counts a bench's fits and the time they took.
+type fitStats struct {
+	fits  atomic.Uint64
+	nanos atomic.Int64
+}
+
+func (s *fitStats) add(d time.Duration) {
+	if s != nil {
+		s.fits.Add(1)
+		s.nanos.Add(int64(d))
+	}
+}
+
+// FitStats returns how many fits the bench's trackers have run and the time they took
+// in all (wall-clock, summed over the fits): the schedule's cost, to size a machine.
+func (b *Bench) FitStats() (fits uint64, took time.Duration) {
+	return b.stats.fits.Load(), time.Duration(b.stats.nanos.Load())
 }
 
 // NewBench returns a bench with one tracker per spec. A later spec with a name already
@@ -67,7 +88,9 @@ func NewBench(specs []ChannelSpec, opt TrackerOptions) *Bench {
 		if s.Specimen != nil {
 			o.Specimen = s.Specimen
 		}
-		b.trackers = append(b.trackers, NewTracker(s.Targets, o))
+		tr := NewTracker(s.Targets, o)
+		tr.stats = &b.stats
+		b.trackers = append(b.trackers, tr)
 	}
 	for i, s := range b.specs {
 		if s.Ambient != "" {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"sync"
 	"testing"
+	"time"
 )
 
 func TestBenchAmbientAndSnapshot(t *testing.T) {
@@ -75,5 +76,29 @@ func TestBenchConcurrent(t *testing.T) {
 		if st.Readings != 200 || st.Forecast == nil && st.Name != "room" {
 			t.Errorf("%s: %d readings, forecast %v; want 200 and a forecast", st.Name, st.Readings, st.Forecast)
 		}
+	}
+}
+
+// TestBenchFitStats: the bench counts every fit its trackers run (each new forecast
+// is one) and the time they took.
+func TestBenchFitStats(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	b := NewBench([]ChannelSpec{{Name: "a", Targets: []Target{{Name: "t", Celsius: 50}}},
+		{Name: "b", Targets: []Target{{Name: "t", Celsius: 50}}}}, TrackerOptions{})
+	seen := map[string]time.Time{}
+	forecasts := 0
+	for s := 0; s <= 60; s++ {
+		at := start.Add(time.Duration(s) * time.Second)
+		b.Observe("a", at, 21+99*math.Exp(-float64(s)/300))
+		b.Observe("b", at, 21+150*math.Exp(-float64(s)/600))
+		for _, st := range b.Snapshot() {
+			if f := st.Forecast; f != nil && !f.FittedAt.Equal(seen[st.Name]) {
+				seen[st.Name], forecasts = f.FittedAt, forecasts+1
+			}
+		}
+	}
+	fits, took := b.FitStats()
+	if forecasts < 8 || fits != uint64(forecasts) || took <= 0 {
+		t.Errorf("%d fits taking %v; want the %d forecasts seen (about 6 a channel in 60 s at the 10 s pace), and some time", fits, took, forecasts)
 	}
 }

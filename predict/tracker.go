@@ -99,6 +99,7 @@ type Tracker struct {
 	queued  bool           // handed to sched and not yet started
 	phase   time.Duration  // on a running Bench (sched set): where this channel's fits fall in FitEvery (see fitFrom)
 	rephase bool           // the next fit realigns the schedule to the phase
+	stats   *fitStats      // its Bench's fit counters; nil for a tracker of its own
 }
 
 // NewTracker returns a tracker forecasting the given targets.
@@ -406,7 +407,9 @@ func (tr *Tracker) fitNow() {
 	tr.fitting, tr.queued = true, false
 	tr.mu.Unlock()
 
+	began := time.Now()
 	f := job.run()
+	tr.stats.add(time.Since(began))
 
 	tr.mu.Lock()
 	if job.gen == tr.gen {
