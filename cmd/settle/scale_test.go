@@ -10,6 +10,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
@@ -161,7 +162,7 @@ func runScale(t *testing.T, bin string, channels int, span time.Duration) {
 	window := at1.Sub(at0).Seconds()
 	core := (cpu1 - cpu0) / window
 	fits := (m["settle_fit_runs_total"] - m0["settle_fit_runs_total"]) / window
-	fitCore := (m["settle_fit_seconds_total"] - m0["settle_fit_seconds_total"]) / window
+	busy := (m["settle_fit_seconds_total"] - m0["settle_fit_seconds_total"]) / window
 	peak := procPeakRSS(t, cmd.Process.Pid)
 	// The journal's growth: stop the daemon (its last commit and checkpoint), then
 	// the files' size over the empty journal's, per reading, scaled to a day at 1 Hz.
@@ -169,8 +170,8 @@ func runScale(t *testing.T, bin string, channels int, span time.Duration) {
 	cmd.Wait()
 	perDay := (checkpointedBytes(t, dir) - checkpointedBytes(t, t.TempDir())) /
 		(m["settle_journal_committed_readings_total"] + m["settle_journal_pending_readings"]) * 86400
-	t.Logf("%d channels at 1 Hz (ambient fitted), %v: daemon CPU %.2f of a core; %.0f fits a second (%.3f per channel-second) taking %.2f of a core's time; peak memory %.0f MB (%.0f MB idle, so %.2f MB a channel); forecast age (the newest reading it reflects, updated_at) median %.1f s, 90th percentile %.1f s, max %.1f s; fit age (fitted_at; fits every 5, 10 or 30 s of readings) median %.1f s, 90th percentile %.1f s, max %.1f s; journal %.2f MB per channel-day",
-		channels, span, core, fits, fits/float64(channels), fitCore, peak/1e6, idle/1e6, (peak-idle)/1e6/float64(channels), ages[len(ages)/2], ages[len(ages)*9/10], ages[len(ages)-1],
+	t.Logf("%d channels at 1 Hz (ambient fitted), %v: daemon CPU %.2f of a core; %.0f fits a second (%.3f per channel-second; the fit workers busy %.2f of the time each, waiting for the CPU included); peak memory %.0f MB (%.0f MB idle, so %.2f MB a channel); forecast age (the newest reading it reflects, updated_at) median %.1f s, 90th percentile %.1f s, max %.1f s; fit age (fitted_at; fits every 5, 10 or 30 s of readings) median %.1f s, 90th percentile %.1f s, max %.1f s; journal %.2f MB per channel-day",
+		channels, span, core, fits, fits/float64(channels), busy/float64(runtime.GOMAXPROCS(0)), peak/1e6, idle/1e6, (peak-idle)/1e6/float64(channels), ages[len(ages)/2], ages[len(ages)*9/10], ages[len(ages)-1],
 		fitAges[len(fitAges)/2], fitAges[len(fitAges)*9/10], fitAges[len(fitAges)-1], perDay/1e6)
 }
 
