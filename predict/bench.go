@@ -132,24 +132,35 @@ func (b *Bench) Observe(channel string, t time.Time, celsius float64) {
 	}
 }
 
-// Snapshot returns the state of every channel, in spec order. The results are copies.
-func (b *Bench) Snapshot() []ChannelState {
+// Snapshot returns the state of every channel, in spec order, each forecast
+// re-anchored to the readings since its fit (see Tracker). The results are copies.
+func (b *Bench) Snapshot() []ChannelState { return b.snapshot(false) }
+
+// SnapshotFitted is Snapshot with each forecast as its fit left it, not re-anchored:
+// what a replay of the same readings reproduces, and so what a run's forecast
+// history records.
+func (b *Bench) SnapshotFitted() []ChannelState { return b.snapshot(true) }
+
+func (b *Bench) snapshot(fitted bool) []ChannelState {
 	out := make([]ChannelState, len(b.specs))
 	for i, s := range b.specs {
-		out[i] = b.trackers[i].state()
+		out[i] = b.trackers[i].state(fitted)
 		out[i].Name, out[i].Ambient, out[i].Role = s.Name, s.Ambient, b.roles[i]
 	}
 	return out
 }
 
-// state returns the tracker's part of a ChannelState.
-func (tr *Tracker) state() ChannelState {
+// state returns the tracker's part of a ChannelState, its forecast as fitted or
+// re-anchored.
+func (tr *Tracker) state(fitted bool) ChannelState {
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
-	return ChannelState{
-		LastTime:    tr.last,
-		LastCelsius: tr.lastC,
-		Readings:    tr.readings,
-		Forecast:    tr.view(),
+	f := tr.view()
+	if fitted {
+		f = copyForecast(tr.forecast)
+		if f != nil {
+			f.UpdatedAt = f.FittedAt
+		}
 	}
+	return ChannelState{LastTime: tr.last, LastCelsius: tr.lastC, Readings: tr.readings, Forecast: f}
 }

@@ -102,3 +102,35 @@ func TestBenchFitStats(t *testing.T) {
 		t.Errorf("%d fits taking %v; want the %d forecasts seen (about 6 a channel in 60 s at the 10 s pace), and some time", fits, took, forecasts)
 	}
 }
+
+// TestSnapshotFitted: between fits Snapshot shows each forecast re-anchored to the
+// newest reading, SnapshotFitted as its fit left it (what a run's history records and
+// a replay reproduces). Our own invented curve, read 20 s ahead of the fit after it:
+// 150 °C toward 21 °C, τ = 600 s.
+func TestSnapshotFitted(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	b := NewBench([]ChannelSpec{{Name: "a", Ambient: "room", Targets: []Target{{Name: "t", Celsius: 50}}}, {Name: "room"}},
+		TrackerOptions{FitEvery: time.Hour})
+	curve := func(s int) float64 { return 21 + 129*math.Exp(-float64(s)/600) }
+	obs := func(s, ahead int) {
+		at := start.Add(time.Duration(s) * time.Second)
+		b.Observe("room", at, 21)
+		b.Observe("a", at, curve(s+ahead))
+	}
+	for s := 0; s <= 120; s++ {
+		obs(s, 0)
+	}
+	b.trackers[0].Fit()
+	for s := 121; s <= 130; s++ {
+		obs(s, 20)
+	}
+	shown, fitted := b.Snapshot()[0].Forecast, b.SnapshotFitted()[0].Forecast
+	last := start.Add(130 * time.Second)
+	if !fitted.UpdatedAt.Equal(fitted.FittedAt) || !shown.UpdatedAt.Equal(last) || !shown.FittedAt.Equal(fitted.FittedAt) {
+		t.Errorf("fitted at %v: updated %v as fitted, %v shown; want the fit's time and the last reading, %v", fitted.FittedAt, fitted.UpdatedAt, shown.UpdatedAt, last)
+	}
+	// Ten readings 20 s ahead: the median lead is 20 s, so the crossing comes 20 s earlier.
+	if d := fitted.Targets[0].At.Sub(shown.Targets[0].At); (d - 20*time.Second).Abs() > time.Second {
+		t.Errorf("shown crossing %v, fitted %v: %v earlier, want about 20 s", shown.Targets[0].At, fitted.Targets[0].At, d)
+	}
+}

@@ -139,7 +139,7 @@ func TestTrackerSegments(t *testing.T) {
 	// Out-of-order and non-finite readings are ignored.
 	tr.Add(secs(10), 100)
 	tr.Add(secs(82), math.NaN())
-	if s := tr.state(); s.Readings != 84 || s.LastCelsius != curve(20) {
+	if s := tr.state(false); s.Readings != 84 || s.LastCelsius != curve(20) {
 		t.Errorf("readings %d, last %g; want 84, %g", s.Readings, s.LastCelsius, curve(20))
 	}
 }
