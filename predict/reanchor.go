@@ -99,6 +99,7 @@ func (f *Forecast) anchored(lead float64, updated time.Time) *Forecast {
 		return f
 	}
 	d := seconds(lead)
+	f.Lead = d
 	for i := range f.Targets {
 		tf := &f.Targets[i]
 		if tf.State != StatePredicted {

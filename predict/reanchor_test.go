@@ -203,8 +203,8 @@ func TestAnchorLeadOnALumpedCurve(t *testing.T) {
 	if v := f.Curve(now); math.Abs(v-celsius[len(celsius)-1]) > 1e-6 {
 		t.Errorf("re-anchored curve reads %.4f °C at the newest reading, which is %.4f °C", v, celsius[len(celsius)-1])
 	}
-	if !f.UpdatedAt.Equal(now) {
-		t.Errorf("UpdatedAt %v, want the newest reading %v", f.UpdatedAt, now)
+	if !f.UpdatedAt.Equal(now) || (f.Lead-ahead*time.Second).Abs() > 10*time.Millisecond {
+		t.Errorf("UpdatedAt %v, lead %v; want the newest reading %v and 30s", f.UpdatedAt, f.Lead, now)
 	}
 }
 

@@ -137,6 +137,11 @@ type Forecast struct {
 	// readings are (its predicted crossings move with it; states change only at a fit).
 	// Zero from Analyze.
 	UpdatedAt time.Time
+	// Lead is how much earlier than its fit re-anchoring has put the predicted times
+	// (negative: later): the specimen's lead on the fitted curve at UpdatedAt. Zero as
+	// fitted. A predicted time re-anchoring held at UpdatedAt (a crossing the readings
+	// are about to show) moved by less.
+	Lead time.Duration
 	// Notes explain the model choice and any validity concern, one sentence each.
 	Notes []string
 	// OutOfRange is true when the model is used outside its validity range (for example

@@ -30,7 +30,10 @@ type Forecast struct {
 	// UpdatedAt is the newest reading the forecast reflects (predict.Forecast.UpdatedAt):
 	// FittedAt, or a later reading that re-anchored the fit between fits.
 	UpdatedAt time.Time `json:"updated_at"`
-	Notes     []string  `json:"notes"`
+	// LeadS is how many seconds earlier than the fit re-anchoring has put the predicted
+	// times (predict.Forecast.Lead; negative: later); 0 as fitted.
+	LeadS float64  `json:"lead_s"`
+	Notes []string `json:"notes"`
 }
 
 // NewForecast is f in JSON form. A forecast straight from a fit (UpdatedAt zero) is
@@ -44,7 +47,7 @@ func NewForecast(f *predict.Forecast) *Forecast {
 		Model: f.Model, Parameters: Params(f.Params), TimeConstantS: jsonval.Num(f.TimeConstant.Seconds()),
 		AmbientC: jsonval.Num(f.Ambient), RMSEC: jsonval.Num(f.RMSE), Biot: jsonval.Num(f.Biot),
 		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
-		FittedAt: f.FittedAt.UTC(), UpdatedAt: updated.UTC(), Notes: append([]string{}, f.Notes...),
+		FittedAt: f.FittedAt.UTC(), UpdatedAt: updated.UTC(), LeadS: f.Lead.Seconds(), Notes: append([]string{}, f.Notes...),
 	}
 }
 

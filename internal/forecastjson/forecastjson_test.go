@@ -53,21 +53,23 @@ func TestFileFitAxis(t *testing.T) {
 }
 
 // TestForecastUpdatedAt: a forecast re-anchored by later readings says so beside its
-// fit time; one straight from a fit (settle fit, a report: UpdatedAt zero) is updated
-// when fitted. Expected times are the inputs (our own format).
+// fit time, with how far it moved (lead_s); one straight from a fit (settle fit, a
+// report: UpdatedAt zero) is updated when fitted. Expected values are the inputs (our
+// own format).
 func TestForecastUpdatedAt(t *testing.T) {
 	for _, tc := range []struct {
 		name    string
 		updated time.Time
+		lead    time.Duration
 		want    time.Time
 	}{
-		{"re-anchored", t0.Add(17 * time.Second), t0.Add(17 * time.Second)},
-		{"as fitted", time.Time{}, t0},
+		{"re-anchored", t0.Add(17 * time.Second), -2500 * time.Millisecond, t0.Add(17 * time.Second)},
+		{"as fitted", time.Time{}, 0, t0},
 	} {
-		f := &predict.Forecast{Model: "lumped", FittedAt: t0, UpdatedAt: tc.updated, Biot: math.NaN()}
+		f := &predict.Forecast{Model: "lumped", FittedAt: t0, UpdatedAt: tc.updated, Lead: tc.lead, Biot: math.NaN()}
 		got := NewForecast(f)
-		if !got.FittedAt.Equal(t0) || !got.UpdatedAt.Equal(tc.want) {
-			t.Errorf("%s: fitted_at %v, updated_at %v; want %v and %v", tc.name, got.FittedAt, got.UpdatedAt, t0, tc.want)
+		if !got.FittedAt.Equal(t0) || !got.UpdatedAt.Equal(tc.want) || got.LeadS != tc.lead.Seconds() {
+			t.Errorf("%s: fitted_at %v, updated_at %v, lead_s %v; want %v, %v and %v", tc.name, got.FittedAt, got.UpdatedAt, got.LeadS, t0, tc.want, tc.lead.Seconds())
 		}
 	}
 }
