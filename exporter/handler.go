@@ -13,7 +13,6 @@ import (
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
-	"github.com/prometheus/client_golang/prometheus/promhttp"
 
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/internal/httpjson"
@@ -168,9 +167,7 @@ func (h *Handler) channels(now time.Time) ChannelsResponse {
 
 func (h *Handler) routes(reg Metrics) {
 	m := h.mux
-	m.Handle("GET /metrics", promhttp.HandlerFor(reg, promhttp.HandlerOpts{
-		Registry: reg, MaxRequestsInFlight: 4, Timeout: 10 * time.Second,
-	}))
+	m.Handle("GET /metrics", metricsHandler(reg))
 	m.HandleFunc("GET /healthz", func(w http.ResponseWriter, r *http.Request) {
 		out := map[string]any{}
 		if h.opt.Health != nil {

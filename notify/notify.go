@@ -59,13 +59,19 @@ type Target struct {
 	// At is the predicted or observed crossing; Earliest and Latest bound a prediction.
 	At, Earliest, Latest time.Time
 	// Due is the time to plan with: for a handling target the interval's late bound,
-	// else At (zero: use At).
+	// else At (zero: use At, except for a predicted handling target, whose open-ended
+	// interval — Latest zero — has no time to plan with).
 	Due time.Time
 }
 
-// due is the target's Due, or At where Due is not set.
+// due is the target's Due, or At where Due is not set; zero for a predicted
+// handling target with an open-ended interval (no "soon" event: only "not before
+// Earliest" is known).
 func (t Target) due() time.Time {
 	if t.Due.IsZero() {
+		if t.Handling && t.State == "predicted" && t.Latest.IsZero() {
+			return time.Time{}
+		}
 		return t.At
 	}
 	return t.Due
@@ -289,6 +295,9 @@ func targetEvent(key string, kind Kind, ch Channel, tg Target, cautions []string
 		ev.Message = fmt.Sprintf("%s is expected below %s (%s) by %s UTC with high confidence, in about %s (central estimate %s UTC).",
 			ch.Name, tg.Name, temp, tg.due().UTC().Format(time.TimeOnly), tg.due().Sub(ch.Now).Round(time.Minute),
 			tg.At.UTC().Format(time.TimeOnly))
+	} else if tg.Latest.IsZero() {
+		ev.Message = fmt.Sprintf("%s is expected to reach %s (%s) in about %s (not before %s UTC; it may settle short of it).",
+			ch.Name, tg.Name, temp, tg.At.Sub(ch.Now).Round(time.Minute), tg.Earliest.UTC().Format(time.TimeOnly))
 	} else {
 		ev.Message = fmt.Sprintf("%s is expected to reach %s (%s) in about %s (between %s and %s UTC).",
 			ch.Name, tg.Name, temp, tg.At.Sub(ch.Now).Round(time.Minute),

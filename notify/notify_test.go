@@ -307,3 +307,23 @@ func TestOnlyReadingsBackedStatesNotify(t *testing.T) {
 		t.Errorf("4 min before the due time: %+v, want one soon event", evs)
 	}
 }
+
+// An open-ended handling forecast ("not before", no late end) has no time to plan
+// with, so it never makes a "soon" event, even with a central estimate inside the
+// lead time; a closed one plans with its late end, a temperature target with At.
+func TestOpenEndedHandlingHasNoDue(t *testing.T) {
+	at := seg.Add(time.Minute)
+	for _, c := range []struct {
+		name string
+		tg   Target
+		want time.Time
+	}{
+		{"open handling", Target{State: "predicted", Handling: true, At: at, Earliest: at}, time.Time{}},
+		{"closed handling", Target{State: "predicted", Handling: true, At: at, Earliest: at, Latest: at.Add(time.Hour), Due: at.Add(time.Hour)}, at.Add(time.Hour)},
+		{"open temperature", Target{State: "predicted", At: at, Earliest: at}, at},
+	} {
+		if got := c.tg.due(); !got.Equal(c.want) {
+			t.Errorf("%s: due %v, want %v", c.name, got, c.want)
+		}
+	}
+}

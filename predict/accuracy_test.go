@@ -59,16 +59,27 @@ func benchIndex(t testing.TB) benchgen.Index {
 }
 
 // method forecasts the crossing of level from the readings up to now: the predicted
-// time (t_s) and interval (NaN when none); ok is false when it gives no time.
+// time (t_s; NaN when it gives an interval without a central estimate) and interval
+// (NaN bounds for a method without intervals; hi = +Inf for an open-ended "not
+// before lo"); ok is false when it gives no answer at all.
 type method func(c CurveFile, level float64) (at, lo, hi float64, ok bool)
 
 // origin anchors the files' time axis for the engine.
 var origin = time.Date(2000, 1, 1, 0, 0, 0, 0, time.UTC)
 
+// fromForecast reads a forecast's answer: an open-ended interval ("not before",
+// Latest zero) has hi = +Inf, and one without a central estimate (At zero) at = NaN.
 func fromForecast(tf TargetForecast) (at, lo, hi float64, ok bool) {
 	switch tf.State {
 	case StatePredicted:
-		return tf.At.Sub(origin).Seconds(), tf.Earliest.Sub(origin).Seconds(), tf.Latest.Sub(origin).Seconds(), true
+		at, hi = math.NaN(), math.Inf(1)
+		if !tf.At.IsZero() {
+			at = tf.At.Sub(origin).Seconds()
+		}
+		if !tf.Latest.IsZero() {
+			hi = tf.Latest.Sub(origin).Seconds()
+		}
+		return at, tf.Earliest.Sub(origin).Seconds(), hi, true
 	case StateReached:
 		at := tf.At.Sub(origin).Seconds()
 		return at, at, at, true
@@ -132,10 +143,22 @@ type score struct {
 	errs            []float64 // relative errors; +Inf where the method gave no time
 	widths          []float64 // interval widths over the remaining time, where judged
 	covered, judged int
+	open            int // answers with an open-ended interval ("not before")
+	openLate        int // of them, those whose early bound came after the truth
+	openVacuous     int // and those that open at the last reading ("not before now")
 }
 
 func (s *score) add(tr trial) {
 	s.errs = append(s.errs, tr.rel)
+	if tr.open {
+		s.open++
+		if !tr.covered {
+			s.openLate++
+		}
+		if tr.vacuous {
+			s.openVacuous++
+		}
+	}
 	if tr.judged {
 		s.judged++
 		s.widths = append(s.widths, tr.width)
@@ -146,13 +169,16 @@ func (s *score) add(tr trial) {
 }
 
 // row formats the score as a table row's figures: median and 90th-percentile
-// relative error (a missing answer counts as an infinite error), the median over the
-// forecasts that answered, coverage, median width and the share without an answer.
+// relative error (a missing answer or central estimate counts as an infinite error),
+// the median over the forecasts with a central estimate, coverage, median width ("∞"
+// when more than half the intervals are open-ended or missing), the share without a
+// central estimate and the share answered with an open-ended interval only or beside
+// a central estimate.
 func (s *score) row() string {
 	cov, width := "-", "-"
 	if s.judged > 0 {
 		cov = fmt.Sprintf("%.0f %%", 100*float64(s.covered)/float64(s.judged))
-		width = "none"
+		width = "∞"
 		if w := quantile(s.widths, 0.5); w < 99 {
 			width = fmt.Sprintf("%.2f", w)
 		}
@@ -168,8 +194,8 @@ func (s *score) row() string {
 		ans = pct(quantile(answered, 0.5))
 	}
 	none := len(s.errs) - len(answered)
-	return fmt.Sprintf("%8s %8s %8s %9s %6s %8.0f%%  (n=%d)", pct(quantile(s.errs, 0.5)), pct(quantile(s.errs, 0.9)),
-		ans, cov, width, 100*float64(none)/float64(len(s.errs)), len(s.errs))
+	return fmt.Sprintf("%8s %8s %8s %9s %6s %8.0f%% %5.0f%%  (n=%d)", pct(quantile(s.errs, 0.5)), pct(quantile(s.errs, 0.9)),
+		ans, cov, width, 100*float64(none)/float64(len(s.errs)), 100*float64(s.open)/float64(len(s.errs)), len(s.errs))
 }
 
 // pct formats a relative error as a percentage; "none" for a missing answer and
@@ -185,7 +211,7 @@ func pct(x float64) string {
 }
 
 // tableHead is the header of the figures row() prints.
-const tableHead = "  median      p90 answered  coverage  width no answer"
+const tableHead = "  median      p90 answered  coverage  width no point  open"
 
 func quantile(xs []float64, q float64) float64 {
 	s := slices.Clone(xs)
@@ -246,8 +272,9 @@ func readBenchCase(t testing.TB, c benchgen.Case) CurveFile {
 // crossing (+Inf without an answer), whether an interval was given (judged) and held
 // the truth, and its width over the remaining time to the true crossing.
 type trial struct {
-	rel, width      float64
-	covered, judged bool
+	rel, width            float64
+	covered, judged, open bool
+	vacuous               bool // open-ended from the last reading on: "not before now"
 }
 
 // judge runs m on the case's curve up to frac of the time from placement to crossing.
@@ -258,14 +285,21 @@ func judge(m method, curve CurveFile, c benchgen.Case, frac float64) trial {
 // judgeAt runs m on the readings part (up to now) for the crossing of level, whose
 // true time is truth. A method without intervals (NaN bounds) is not judged on
 // coverage; an interval method that gives no answer is, as a miss of infinite width.
+// An open-ended interval [lo, ∞) covers a truth at or after lo and has an infinite
+// width; an answer without a central estimate has an infinite error (it counts in
+// the error columns as no answer).
 func judgeAt(m method, part CurveFile, level, truth float64) trial {
 	horizon := truth - part.Times[len(part.Times)-1]
 	at, lo, hi, ok := m(part, level)
 	tr := trial{rel: math.Inf(1), width: math.Inf(1), judged: !math.IsNaN(lo)}
 	if ok {
-		tr.rel = math.Abs(at-truth) / horizon
+		if !math.IsNaN(at) {
+			tr.rel = math.Abs(at-truth) / horizon
+		}
 		tr.covered = lo <= truth && truth <= hi
 		tr.width = (hi - lo) / horizon
+		tr.open = math.IsInf(hi, 1)
+		tr.vacuous = tr.open && lo <= part.Times[len(part.Times)-1]+1
 	}
 	return tr
 }
@@ -296,6 +330,13 @@ func TestAccuracyTable(t *testing.T) {
 	}
 	sc := accuracy(t)
 	t.Log(accuracyTable(sc))
+	for _, m := range []string{"engine", "engine+spec"} {
+		for _, fr := range fractions {
+			if s := sc[fmt.Sprintf("%s/%.2f/all", m, fr)]; s.open > 0 {
+				t.Logf("%s at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing, %d opening at the last reading", m, 100*fr, s.open, s.openLate, s.openVacuous)
+			}
+		}
+	}
 	for _, c := range []struct {
 		key string
 		max float64

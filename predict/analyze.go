@@ -345,19 +345,17 @@ func hCandidates(sp *Specimen) (still, moving []SurfaceLaw) {
 }
 
 // fitHBest fits the h(T) model with each of laws and returns the fit with the lowest
-// residual, or nil when no fit succeeds.
+// residual, or nil when no fit succeeds; laws that clearly lose are dropped early
+// (fitHRace).
 func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw) *HResult {
-	var best *HResult
-	for _, law := range laws {
-		hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}
+	hps := make([]HProblem, len(laws))
+	for i, law := range laws {
+		hps[i] = HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}
 		if p.Ambient == nil {
-			hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
-		}
-		r, err := fitH(hp, lr)
-		if err == nil && (best == nil || r.RMSE < best.RMSE) {
-			best = &r
+			hps[i].AmbientPrior, hps[i].AmbientPriorSD = roomPrior, roomPriorSD
 		}
 	}
+	best, _ := fitHRace(hps, lr)
 	return best
 }
 

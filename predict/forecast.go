@@ -69,7 +69,9 @@ func Inflation(rho, limit float64) float64 {
 //     interval from the fit's covariance, widened by Inflation(fit.Rho), by the fit's
 //     Misfit (as a level error turned into time through the slope) and by the
 //     model-form term of IntervalSettings.ModelError, and never starting before the
-//     last reading.
+//     last reading. With a fitted ambient, a target some plausible settling
+//     temperatures never reach gets an open-ended interval instead (Latest zero;
+//     At zero too when the fit itself does not reach it): see notBefore.
 //
 // The ambient is assumed to stay at fit.Ambient from the last reading on.
 func ForecastLumped(fit *LumpedResult, p *LumpedProblem, start time.Time, targets []Target, s *IntervalSettings) []TargetForecast {
@@ -310,7 +312,7 @@ func (f *forecaster) target(tg Target) TargetForecast {
 		return out
 	}
 	if f.fit == nil {
-		return out
+		return f.notBefore(out, 0, true)
 	}
 	return f.predicted(out)
 }
@@ -537,7 +539,7 @@ type handlingFitted interface {
 func (f *forecaster) core(out TargetForecast, seen crossSeen, tStar, v, rate float64, ok bool) TargetForecast {
 	pred := f.predictedFrom(out, tStar, v, rate, ok)
 	last := f.abs(f.p.Times[len(f.p.Times)-1])
-	if seen == crossed && pred.State == StatePredicted && !pred.Latest.After(last) {
+	if seen == crossed && pred.State == StatePredicted && !pred.Latest.IsZero() && !pred.Latest.After(last) {
 		out.State, out.At, out.Estimated = StateReached, f.abs(tStar).Add(out.Target.Hold), true
 		return out
 	}
@@ -576,6 +578,9 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 			f.note(fmt.Sprintf("The fitted settling temperature %.1f °C is not a plausible room (the prior is %.0f ± %.0f °C) and no ambient is measured, so settle does not call a target beyond it unreachable; measure the ambient on a channel of its own.",
 				f.ambient, roomPrior, roomPriorSD))
 		}
+		if out.State == StateInsufficient {
+			return f.notBefore(out, u, true)
+		}
 		return out
 	}
 	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
@@ -592,7 +597,117 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 	out.At = f.abs(max(tStar, last)).Add(hold)
 	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
 	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
+	if u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit; f.profiled(out) && math.Abs(out.Celsius-f.fit.ambient()) <= u {
+		if nb := f.notBefore(out, u, false); nb.State == StatePredicted && nb.Earliest.Before(out.Earliest) {
+			out.Earliest = nb.Earliest
+		}
+		out.Latest = time.Time{}
+		f.note(fmt.Sprintf("%.1f °C lies within the uncertainty of the fitted settling temperature %.1f ± %.1f °C: some settling temperatures the readings allow never reach it, so its interval has no late end.",
+			out.Celsius, f.fit.ambient(), u))
+	}
 	return out
+}
+
+// notBefore is the open-ended forecast of a target that some settling temperatures the
+// readings allow never reach: "not before" the earliest crossing over the plausible
+// ones, with no late end and no central estimate (out's At is kept when set). The
+// settling temperatures the readings allow reach from the fitted one to u beyond it
+// toward the target (u: its interval, widened for correlated residuals, plus the
+// misfit) and, when untrusted (the fitted one is not credibly the end: a
+// mismatched model, readings not yet bent toward it, or not a plausible room), on
+// to the room prior's far end roomPrior ∓ 2·roomPriorSD. The earliest crossing is
+// that of the lumped exponential refitted with its settling temperature held at the
+// far end (a profile over the settling temperature: the farther a settling
+// temperature lies beyond the target, the sooner the curve through the readings
+// crosses it), less its own interval's half-width (profileBound). The exponential is the faster of
+// the lumped models in the tail (a surface coefficient that falls with the
+// temperature difference only slows the late cooling), so the bound errs early, the
+// safe side for a handling target. It applies to a fitted settling temperature of a
+// lumped or h(T) fit only: a measured ambient has no such range, and a conduction
+// fit judges a handling target at the core. With no usable fit (f.fit nil: no model
+// resolves the readings yet, but their direction is known), the far end is the room
+// prior's. Insufficient (out unchanged) when even the far end does not reach the
+// target, the refit fails (fewer than LumpedSettings' MinPoints readings), or the
+// bound would be the last reading itself with no central estimate beside it ("not
+// before now" says nothing).
+func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) TargetForecast {
+	if !f.profiled(out) {
+		return out
+	}
+	room := roomPrior - f.side*2*roomPriorSD
+	far := room
+	if f.fit != nil {
+		far = f.fit.ambient() - f.side*u
+	}
+	if untrusted && f.side*(far-room) > 0 {
+		far = room
+	}
+	if f.side*(out.Celsius-far) <= 0 {
+		return out
+	}
+	lo, ok := f.profileBound(out.Celsius, far)
+	last := f.p.Times[len(f.p.Times)-1]
+	if !ok || lo <= last && out.At.IsZero() {
+		return out // no bound, or "not before now" with no central estimate: says nothing
+	}
+	lo = max(lo, last)
+	out.State = StatePredicted
+	out.Earliest = f.abs(lo).Add(out.Target.Hold)
+	out.Latest = time.Time{}
+	if untrusted {
+		f.noteNotBefore(out.Celsius, lo, far)
+	}
+	return out
+}
+
+// profileBound returns the crossing of level by the lumped exponential fitted with its
+// settling temperature held at far, less its interval's half-width (the parameter
+// covariance widened for correlated residuals, the misfit through the slope and the
+// model-form term, as predictedFrom sizes it); ok is false when the fit fails, runs
+// the other way or never reaches level.
+func (f *forecaster) profileBound(level, far float64) (lo float64, ok bool) {
+	amb := make([]float64, len(f.p.Times))
+	for i := range amb {
+		amb[i] = far
+	}
+	r, err := FitLumped(LumpedProblem{Times: f.p.Times, Celsius: f.p.Celsius, Ambient: amb}, nil)
+	if err != nil {
+		return 0, false
+	}
+	g := lumpedFitted{&r}
+	tStar, v, rate, ok := g.crossing(level, false)
+	if !ok || g.side() != f.side {
+		return 0, false
+	}
+	rho, misfit := g.residuals()
+	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
+	form := 0.0
+	last := f.p.Times[len(f.p.Times)-1]
+	if span := last - f.p.Times[0]; f.s.ModelError > 0 && span > 0 && tStar > last {
+		h := tStar - last
+		form = f.s.ModelError * h * math.Sqrt(h/span)
+	}
+	return tStar - f.s.Z*math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form), true
+}
+
+// noteNotBefore explains an open-ended forecast of level from lo (s into the segment)
+// with the settling temperature held at far.
+func (f *forecaster) noteNotBefore(level, lo, far float64) {
+	head := fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate yet.", level, seconds(lo).Round(time.Second))
+	if f.fit == nil {
+		f.note(fmt.Sprintf("%s No model resolves the readings yet; held at a settling temperature of %.1f °C (with no ambient measured, the room prior's %.0f ± 2×%.0f °C at its far end), the exponential through them crosses it no sooner.",
+			head, far, roomPrior, roomPriorSD))
+		return
+	}
+	f.note(fmt.Sprintf("%s The fitted settling temperature %.1f °C lies short of it but is not credibly where the readings end (see above); the readings allow settling temperatures as far as %.1f °C (with no ambient measured, as far as the room prior's %.0f ± 2×%.0f °C reaches), and none of them crosses it sooner.",
+		head, f.fit.ambient(), far, roomPrior, roomPriorSD))
+}
+
+// profiled reports whether out's target may get an open-ended interval (notBefore):
+// a fixed temperature, a fitted settling temperature, a lumped or h(T) fit.
+func (f *forecaster) profiled(out TargetForecast) bool {
+	_, cond := f.fit.(*condFitted)
+	return f.p.Ambient == nil && !out.Target.IsWithin() && !cond
 }
 
 // maxOffset bounds forecast offsets (about 31 years) so durations cannot overflow.

@@ -123,8 +123,6 @@ func TestForecastStates(t *testing.T) {
 		{"cooling reached", cool, Target{Celsius: 100}, StateReached, trueCrossing(20, 180, 300, 100)},
 		{"cooling predicted", cool, Target{Celsius: 30}, StatePredicted, trueCrossing(20, 180, 300, 30)},
 		{"cooling below ambient", cool, Target{Celsius: 15}, StateUnreachable, math.NaN()},
-		// At the fitted ambient itself the ambient's own uncertainty decides nothing.
-		{"cooling at ambient", cool, Target{Celsius: 20}, StateInsufficient, math.NaN()},
 		// Never seen above 250 °C: the readings alone cannot say the specimen crossed it.
 		{"cooling above start", cool, Target{Celsius: 250}, StateInsufficient, math.NaN()},
 		{"heating reached", heat, Target{Celsius: 20}, StateReached, trueCrossing(30, -20, 300, 20)},
@@ -164,6 +162,33 @@ func TestForecastStates(t *testing.T) {
 				t.Errorf("bounds [%v, %v] around %v for %s", got.Earliest, got.Latest, got.At, got.State)
 			}
 		})
+	}
+}
+
+// TestForecastOpenEnded: a target at or just past a fitted ambient (cooling from
+// 200 °C toward 20 °C, τ = 300 s, as in TestForecastStates) lies inside the ambient's
+// own uncertainty, so some settling temperatures the readings allow never reach it:
+// the forecast is "not before" a time after the last reading (Latest zero), neither
+// "unreachable" nor "insufficient" (before the open-ended interval, "insufficient":
+// no answer). A target 10 K above the ambient keeps a closed interval.
+func TestForecastOpenEnded(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 16))
+	p := synth(rng, 300, 600, 20, 180, 300, 0.1, 0.1)
+	for _, c := range []struct {
+		target float64 // °C
+		open   bool
+	}{{20, true}, {19.97, true}, {30, false}} {
+		got := fitAndForecast(t, p, Target{Celsius: c.target})[0]
+		if got.State != StatePredicted || got.Latest.IsZero() != c.open || got.Earliest.IsZero() {
+			t.Errorf("%.2f °C: state %s, interval [%v, %v]: want predicted, open-ended %v", c.target, got.State, got.Earliest, got.Latest, c.open)
+			continue
+		}
+		if lo, last := got.Earliest.Sub(t0).Seconds(), p.Times[len(p.Times)-1]; lo < last {
+			t.Errorf("%.2f °C: not before %.0f s, earlier than the last reading at %.0f s", c.target, lo, last)
+		}
+		if !got.At.IsZero() && got.At.Before(got.Earliest) {
+			t.Errorf("%.2f °C: central estimate %v before the early bound %v", c.target, got.At, got.Earliest)
+		}
 	}
 }
 

@@ -127,8 +127,9 @@ func (p *LumpedProblem) check() {
 	if p.FixExcess && p.Ambient == nil {
 		panic("predict: LumpedProblem FixExcess requires Ambient")
 	}
-	for i := 1; i < len(p.Times); i++ {
-		if p.Times[i] < p.Times[i-1] {
+	ts := p.Times
+	for i := 1; i < len(ts); i++ {
+		if ts[i] < ts[i-1] {
 			panic("predict: LumpedProblem Times not in non-decreasing order")
 		}
 	}
@@ -270,13 +271,13 @@ func FitLumped(p LumpedProblem, settings *LumpedSettings) (LumpedResult, error) 
 
 // finish fills the residual statistics and the covariance at the optimum.
 func (r *LumpedResult) finish(v *projection, p *LumpedProblem) {
-	amb, exc, _ := v.solve(r.Tau)
-	st := v.stats(amb, exc, r.Tau)
+	at := v.eval(r.Tau)
+	st := v.stats(at.amb, at.exc, r.Tau)
 	r.RMSE = math.Sqrt(st.ssr / float64(r.N))
 	r.Sigma = math.Sqrt(st.ssr / float64(r.N-r.Free))
 	r.Rho = st.rho
 	r.Misfit = math.Sqrt(max(0, r.RMSE*r.RMSE-st.vonNeumann))
-	cov, ok := covariance(v, p, exc, r.Tau, r.Sigma)
+	cov, ok := covariance(p, at.jtj, r.Sigma)
 	if !ok {
 		r.Status = FitSingular
 		return
@@ -321,23 +322,10 @@ func (v *projection) stats(amb, exc, tau float64) residualStats {
 	return st
 }
 
-// covariance returns σ²·(JᵀJ)⁻¹ embedded in the 3×3 order ambient, excess, tau. JᵀJ is
-// summed directly from the Jacobian columns 1, e and θi·e·t/τ², and scaled to a unit
-// diagonal before the inversion for conditioning.
-func covariance(v *projection, p *LumpedProblem, exc, tau, sigma float64) (*mat.SymDense, bool) {
-	v.decay(tau)
-	var s1, se, see, sd, sed, sdd float64
-	c := exc / (tau * tau)
-	for i, e := range v.e {
-		d := c * e * p.Times[i]
-		se += e
-		see += e * e
-		sd += d
-		sed += e * d
-		sdd += d * d
-	}
-	s1 = float64(len(v.e))
-	g := [3][3]float64{{s1, se, sd}, {se, see, sed}, {sd, sed, sdd}}
+// covariance returns σ²·(JᵀJ)⁻¹ embedded in the 3×3 order ambient, excess, tau from
+// JᵀJ g of the fitted parameters (projected.jtj), scaled to a unit diagonal before
+// the inversion for conditioning.
+func covariance(p *LumpedProblem, g [3][3]float64, sigma float64) (*mat.SymDense, bool) {
 	idx := freeIndexes(p)
 	k := len(idx)
 	n := mat.NewSymDense(k, nil)

@@ -92,7 +92,8 @@ func solveLevel(at func(float64) float64, level, maxLead float64) (float64, bool
 // anchored returns f (a copy the caller owns) moved along its curve by lead seconds
 // as of the reading at updated: every predicted target's crossing and interval come
 // lead earlier, never before updated (plus the target's hold, as at a fit), and the
-// curves run lead ahead. Other states and their times are left as fitted.
+// curves run lead ahead; an open-ended interval stays open (its zero times stay zero).
+// Other states and their times are left as fitted.
 func (f *Forecast) anchored(lead float64, updated time.Time) *Forecast {
 	f.UpdatedAt = updated
 	if lead == 0 || f.Empty {
@@ -107,6 +108,9 @@ func (f *Forecast) anchored(lead float64, updated time.Time) *Forecast {
 		}
 		floor := updated.Add(tf.Target.Hold)
 		move := func(t time.Time) time.Time {
+			if t.IsZero() { // an open-ended interval: no central estimate or late end
+				return t
+			}
 			if t = t.Add(-d); t.Before(floor) {
 				return floor
 			}

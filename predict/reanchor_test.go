@@ -188,6 +188,7 @@ func TestAnchorLeadOnALumpedCurve(t *testing.T) {
 		{Target: Target{Name: "handle", Celsius: 50, Handling: true}, Celsius: 50, State: StatePredicted,
 			At: fitted, Earliest: fitted.Add(-time.Minute), Latest: fitted.Add(time.Minute)},
 		{Target: Target{Name: "warm", Celsius: 150}, Celsius: 150, State: StateReached, At: t0.Add(80 * time.Second)},
+		{Target: Target{Name: "cold", Celsius: 20}, Celsius: 20, State: StatePredicted, Earliest: fitted.Add(time.Hour)}, // not before
 	}}).anchored(lead, times[len(times)-1])
 	now := times[len(times)-1]
 	want := now.Add(seconds(tau * math.Log((celsius[len(celsius)-1]-amb)/(50-amb))))
@@ -199,6 +200,9 @@ func TestAnchorLeadOnALumpedCurve(t *testing.T) {
 	}
 	if tf := f.Targets[1]; tf.State != StateReached || !tf.At.Equal(t0.Add(80*time.Second)) {
 		t.Errorf("reached target moved: %+v", tf)
+	}
+	if tf := f.Targets[2]; !tf.At.IsZero() || !tf.Latest.IsZero() || tf.Earliest.Sub(fitted.Add(time.Hour)) != -f.Lead {
+		t.Errorf("open-ended target: at %v, latest %v, earliest %v; want zero, zero and not before %v", tf.At, tf.Latest, tf.Earliest, fitted.Add(time.Hour).Add(-f.Lead))
 	}
 	if v := f.Curve(now); math.Abs(v-celsius[len(celsius)-1]) > 1e-6 {
 		t.Errorf("re-anchored curve reads %.4f °C at the newest reading, which is %.4f °C", v, celsius[len(celsius)-1])

@@ -1,7 +1,6 @@
 package predict
 
 import (
-	"errors"
 	"math"
 	"slices"
 
@@ -50,13 +49,66 @@ func fitH(p HProblem, start *LumpedResult) (HResult, error) {
 
 // fitHBinned is fitH iterating on at most about maxPts binned points (binned).
 func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
+	f := newHFit(p, start, maxPts)
+	for !f.step() {
+	}
+	return f.result()
+}
+
+// hFit is an h(T) fit in progress, between its Levenberg–Marquardt iterations, so
+// that fitHRace can advance several laws side by side.
+type hFit struct {
+	res   HResult
+	lm    levmar
+	full  *hModel // every reading (lm.m holds the bins when binned)
+	bins  *hModel // the bins, nil when not binned
+	iters int
+	done  bool // converged, failed, or never started (res.Status says which)
+}
+
+// newHFit sets up the fit of p from the lumped fit start; the fit is done at once,
+// with res.Status set, when start is not a usable fit.
+func newHFit(p HProblem, start *LumpedResult, maxPts int) *hFit {
+	return newHFitLike(p, start, nil, maxPts)
+}
+
+// newHFitLike is newHFit taking the readings' models (every reading, and the bins)
+// from like, when like is not nil: a fit of the same readings and ambient from the
+// same start under another law, whose models differ from p's only in the law. The
+// models' readings are shared, never written.
+func newHFitLike(p HProblem, start *LumpedResult, like *hFit, maxPts int) *hFit {
 	res := HResult{Law: p.Law, N: len(p.Times), Free: 3, Status: FitNoDecay}
 	if p.Ambient != nil {
 		res.Free = 2
 	}
 	if start == nil || start.Status != FitSuccess || start.Excess == 0 {
-		return res, res.Status.Err()
+		return &hFit{res: res, done: true}
 	}
+	var m, bins *hModel
+	if like != nil && like.full != nil {
+		m, bins = like.full.withLaw(p.Law), like.bins.withLaw(p.Law)
+	} else {
+		m = newHModel(p, start)
+		bins = binned(m, start, maxPts)
+	}
+	amb := m.amb
+	w0 := math.Log(math.Abs(start.Excess))
+	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
+	f := &hFit{res: res, full: m, bins: bins}
+	f.lm = levmar{m: m, x: []float64{w0, q, amb}, free: res.Free, lambda: 1e-3}
+	if res.Free == 3 && p.AmbientPriorSD > 0 {
+		f.lm.priorAmb = p.AmbientPrior
+		f.lm.priorW2 = math.Pow(max(start.Sigma, 0.05)/p.AmbientPriorSD, 2)
+	}
+	if bins != nil {
+		f.lm.m = bins
+	}
+	return f
+}
+
+// newHModel returns the model of p's readings from the lumped fit start: the
+// readings shifted to the last ambient when it is measured, the table's extent.
+func newHModel(p HProblem, start *LumpedResult) *hModel {
 	m := &hModel{ts: p.Times, law: p.Law, side: sign(start.Excess), measured: p.Ambient != nil}
 	m.y = append([]float64(nil), p.Celsius...)
 	amb := start.Ambient
@@ -71,29 +123,109 @@ func fitHBinned(p HProblem, start *LumpedResult, maxPts int) (HResult, error) {
 		m.tmax = max(m.tmax, math.Abs(y-amb))
 	}
 	m.tmax = 2*max(m.tmax, math.Abs(start.Excess)) + 50
-	w0 := math.Log(math.Abs(start.Excess))
-	q := 1 / (start.Tau * p.Law.H(amb+start.Excess/2, amb))
-	lm := levmar{m: m, x: []float64{w0, q, amb}, free: res.Free}
-	if res.Free == 3 && p.AmbientPriorSD > 0 {
-		lm.priorAmb = p.AmbientPrior
-		lm.priorW2 = math.Pow(max(start.Sigma, 0.05)/p.AmbientPriorSD, 2)
+	return m
+}
+
+// withLaw returns a copy of m under law, sharing its readings (nil for nil).
+func (m *hModel) withLaw(law SurfaceLaw) *hModel {
+	if m == nil {
+		return nil
 	}
-	full := m
-	if b := binned(m, start, maxPts); b != nil {
-		lm.m = b
+	c := *m
+	c.law, c.w, c.th = law, nil, nil
+	return &c
+}
+
+// step takes one iteration (at most hMaxIter in all) and reports whether the fit is
+// done.
+func (f *hFit) step() bool {
+	if f.done {
+		return true
 	}
-	if !lm.run() {
-		res.Status = FitSingular
+	if f.iters == hMaxIter {
+		f.lm.jacobian()
+		f.done = true
+		return true
+	}
+	f.iters++
+	done, ok := f.lm.iterate()
+	if done && !ok {
+		f.res.Status = FitSingular
+		f.lm.m = nil
+	}
+	f.done = done
+	return done
+}
+
+// result finishes a done fit.
+func (f *hFit) result() (HResult, error) {
+	res := f.res
+	if f.lm.m == nil {
 		return res, res.Status.Err()
 	}
-	if lm.m != full {
+	if f.lm.m != f.full {
 		// The residual statistics are those of every reading at the optimum the bins
 		// found; the weighted bins' Jacobian stands for every reading's (JᵀJ differs
 		// by the spread of the rows within a bin, of relative order (bin width/τ)²).
-		lm.r = interpolatedResiduals(full, lm.m, lm.r, lm.x[1])
+		f.lm.r = interpolatedResiduals(f.full, f.lm.m, f.lm.r, f.lm.x[1])
 	}
-	lm.finish(&res)
+	f.lm.finish(&res)
 	return res, res.Status.Err()
+}
+
+// Pruning in fitHRace: after pruneAfter iterations, a law whose Gauss–Newton floor
+// (the least sum the linearised model reaches from its current point) exceeds
+// pruneFactor times the leader's current sum is dropped. The leader's sum only falls
+// as it iterates, and a law's floor a few iterations in lies near its final sum, so
+// a dropped law would not have been the best. Our choice, checked by
+// TestFitHRaceMatchesAll on the benchmark's 338 races of three laws: at 2 a race
+// drops 177 laws and always keeps the winner; at 1.5 it once dropped the winner.
+const (
+	pruneAfter  = 2
+	pruneFactor = 2.0
+)
+
+// fitHRace fits the h(T) model to each of ps (one curve under several surface laws:
+// the same readings, ambient and prior, so they share their models) from the lumped
+// fit start, advancing the fits an iteration at a time and dropping those that
+// clearly lose (pruneFactor). It returns the successful fit with the lowest
+// residual, or nil when none succeeds, and how many laws it dropped.
+func fitHRace(ps []HProblem, start *LumpedResult) (best *HResult, dropped int) {
+	fits := make([]*hFit, len(ps))
+	for i, p := range ps {
+		var like *hFit
+		if i > 0 {
+			like = fits[0]
+		}
+		fits[i] = newHFitLike(p, start, like, maxFitPoints)
+	}
+	for {
+		running := false
+		lead := math.Inf(1)
+		for _, f := range fits {
+			if !f.step() {
+				running = true
+			}
+			if f.lm.m != nil && f.iters > 0 {
+				lead = min(lead, f.lm.cur)
+			}
+		}
+		if !running {
+			break
+		}
+		for _, f := range fits {
+			if !f.done && f.iters >= pruneAfter && f.lm.floor > pruneFactor*lead {
+				f.done, f.lm.m = true, nil
+				dropped++
+			}
+		}
+	}
+	for _, f := range fits {
+		if r, err := f.result(); err == nil && (best == nil || r.RMSE < best.RMSE) {
+			best = &r
+		}
+	}
+	return best, dropped
 }
 
 // maxFitPoints is about the most points an h(T) fit iterates on (binned): a fit's
@@ -208,9 +340,9 @@ type levmar struct {
 	jac  *mat.Dense
 	ssr  float64
 
-	// tables holds the Φ tables built so far by ambient, newest last (a trial step's
-	// table is the next iteration's when the step is taken; a measured ambient needs
-	// one for the whole fit).
+	// tables holds the Φ tables built so far by ambient, most recently used last (a
+	// trial step's table is the next iteration's when the step is taken; a measured
+	// ambient needs one for the whole fit).
 	tables []*phiTable
 	// A trial step's residuals and Jacobian rows (the ambient column aside), its
 	// point, sum of squares and whether the sum ran to the end: when the step is
@@ -222,6 +354,12 @@ type levmar struct {
 	tfull bool
 
 	priorAmb, priorW2 float64 // the ambient prior's mean and weight (0: none)
+
+	lambda float64 // Marquardt's damping
+	// cur is the objective (sum of squares and prior) at the start of the latest
+	// iteration, floor the least the Gauss–Newton model reaches from there (0 when
+	// unknown): fitHRace compares them across laws.
+	cur, floor float64
 }
 
 // penalty is the ambient prior's term of the objective at ambient amb.
@@ -259,13 +397,14 @@ func (lm *levmar) jacobian() {
 	tb := lm.table(lm.x[2] + ambDelta)
 	phi0 := lm.tb.at(lm.x[0])
 	da0 := (tb.at(lm.x[0]) - phi0) / ambDelta
+	raw := lm.jac.RawMatrix()
 	for i, t := range lm.m.ts {
 		da := (tb.at(lm.m.w[i]) - (phi0 - lm.x[1]*t)) / ambDelta
 		wt := 1.0
 		if lm.m.wt != nil {
 			wt = lm.m.wt[i]
 		}
-		lm.jac.Set(i, 2, wt+lm.m.th[i]*(da0-da))
+		raw.Data[i*raw.Stride+2] = wt + lm.m.th[i]*(da0-da)
 	}
 }
 
@@ -290,102 +429,140 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 const lmTables = 4
 
 // table returns the Φ table at ambient amb, reusing one built before at the same
-// ambient.
+// ambient. The tables are kept least recently used first; a new table takes over the
+// storage of the least recently used one when lmTables are kept, so a fit allocates
+// lmTables tables however long it runs. A table returned stays valid through the
+// next call (it is then the most recently used), and jacobian looks lm.tb up afresh
+// each time, so a trial step's table never overwrites one still in use.
 func (lm *levmar) table(amb float64) *phiTable {
-	for _, tb := range lm.tables {
+	for i, tb := range lm.tables {
 		if tb.amb == amb {
+			lm.tables = append(append(lm.tables[:i], lm.tables[i+1:]...), tb)
 			return tb
 		}
 	}
-	tb := newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
+	var tb *phiTable
 	if len(lm.tables) == lmTables {
+		tb = lm.tables[0]
 		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
+		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, lo: 1, hi: 0}
+	} else {
+		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
 	}
 	lm.tables = append(lm.tables, tb)
 	return tb
 }
 
-// run iterates to convergence; false when the normal equations are singular.
-func (lm *levmar) run() bool {
-	lambda := 1e-3
+// iterate takes one Levenberg–Marquardt step from lm.x; done is set when the fit has
+// converged (ok) or its normal equations are singular (not ok).
+func (lm *levmar) iterate() (done, ok bool) {
 	k := lm.free
-	for range hMaxIter {
-		lm.jacobian()
-		var jtj mat.SymDense
-		jtj.SymOuterK(1, lm.jac.T())
-		g := mat.NewVecDense(k, nil)
-		g.MulVec(lm.jac.T(), mat.NewVecDense(len(lm.r), lm.r))
-		if lm.priorW2 > 0 {
-			jtj.SetSym(2, 2, jtj.At(2, 2)+lm.priorW2)
-			g.SetVec(2, g.AtVec(2)+lm.priorW2*(lm.priorAmb-lm.x[2]))
-		}
-		cur := lm.ssr + lm.penalty(lm.x[2])
-		dscale := make([]float64, k)
-		for i := range k {
-			dscale[i] = math.Sqrt(jtj.At(i, i))
-			if !(dscale[i] > 0) {
-				return false
-			}
-		}
-		improved := false
-		for range 6 {
-			// Solve in variables scaled by sqrt(diag JᵀJ) (Marquardt's scaling): the
-			// parameters differ by many orders of magnitude, and unscaled normal
-			// equations would be too ill-conditioned to factorise at small λ.
-			a := mat.NewSymDense(k, nil)
-			gs := mat.NewVecDense(k, nil)
-			for i := range k {
-				for j := i; j < k; j++ {
-					a.SetSym(i, j, jtj.At(i, j)/(dscale[i]*dscale[j]))
-				}
-				a.SetSym(i, i, 1+lambda)
-				gs.SetVec(i, g.AtVec(i)/dscale[i])
-			}
-			var ch mat.Cholesky
-			if !ch.Factorize(a) {
-				lambda *= 10
-				continue
-			}
-			var dx mat.VecDense
-			if err := ch.SolveVecTo(&dx, gs); err != nil {
-				lambda *= 10
-				continue
-			}
-			for i := range k {
-				dx.SetVec(i, dx.AtVec(i)/dscale[i])
-			}
-			next := append([]float64(nil), lm.x...)
-			small := true
-			for i := range k {
-				next[i] += dx.AtVec(i)
-				small = small && math.Abs(dx.AtVec(i)) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
-			}
-			pen := lm.penalty(next[2])
-			limit := math.Inf(1)
-			if !small {
-				limit = cur - pen // a larger sum refuses the step
-			}
-			s := lm.ssrAt(next, limit) + pen
-			if s < cur || small {
-				converged := cur-s <= 1e-10*cur || small
-				copy(lm.x, next)
-				lambda = max(lambda/10, 1e-12)
-				improved = true
-				if converged {
-					lm.jacobian()
-					return true
-				}
-				break
-			}
-			lambda *= 10
-		}
-		if !improved {
-			lm.jacobian()
-			return true // no step reduces the sum: at the optimum to rounding
+	lm.jacobian()
+	jtj, g := normalEquations(lm.jac, lm.r)
+	if lm.priorW2 > 0 {
+		jtj.SetSym(2, 2, jtj.At(2, 2)+lm.priorW2)
+		g.SetVec(2, g.AtVec(2)+lm.priorW2*(lm.priorAmb-lm.x[2]))
+	}
+	cur := lm.ssr + lm.penalty(lm.x[2])
+	lm.cur, lm.floor = cur, 0
+	if inv, ok := normalInverse(jtj, 1); ok {
+		lm.floor = cur - mat.Inner(g, inv, g)
+		if cur-lm.floor <= 1e-10*cur {
+			// Converged: even the full Gauss–Newton step would lower the sum by no
+			// more than the 1e-10 under which a taken step ends the iterations.
+			return true, true
 		}
 	}
-	lm.jacobian()
-	return true
+	dscale := make([]float64, k)
+	for i := range k {
+		dscale[i] = math.Sqrt(jtj.At(i, i))
+		if !(dscale[i] > 0) {
+			return true, false
+		}
+	}
+	improved := false
+	for range 6 {
+		// Solve in variables scaled by sqrt(diag JᵀJ) (Marquardt's scaling): the
+		// parameters differ by many orders of magnitude, and unscaled normal
+		// equations would be too ill-conditioned to factorise at small λ.
+		a := mat.NewSymDense(k, nil)
+		gs := mat.NewVecDense(k, nil)
+		for i := range k {
+			for j := i; j < k; j++ {
+				a.SetSym(i, j, jtj.At(i, j)/(dscale[i]*dscale[j]))
+			}
+			a.SetSym(i, i, 1+lm.lambda)
+			gs.SetVec(i, g.AtVec(i)/dscale[i])
+		}
+		var ch mat.Cholesky
+		if !ch.Factorize(a) {
+			lm.lambda *= 10
+			continue
+		}
+		var dx mat.VecDense
+		if err := ch.SolveVecTo(&dx, gs); err != nil {
+			lm.lambda *= 10
+			continue
+		}
+		for i := range k {
+			dx.SetVec(i, dx.AtVec(i)/dscale[i])
+		}
+		next := append([]float64(nil), lm.x...)
+		small := true
+		for i := range k {
+			next[i] += dx.AtVec(i)
+			small = small && math.Abs(dx.AtVec(i)) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
+		}
+		pen := lm.penalty(next[2])
+		limit := math.Inf(1)
+		if !small {
+			limit = cur - pen // a larger sum refuses the step
+		}
+		s := lm.ssrAt(next, limit) + pen
+		if s < cur || small {
+			converged := cur-s <= 1e-10*cur || small
+			copy(lm.x, next)
+			lm.lambda = max(lm.lambda/10, 1e-12)
+			improved = true
+			if converged {
+				lm.jacobian()
+				return true, true
+			}
+			break
+		}
+		lm.lambda *= 10
+	}
+	if !improved {
+		lm.jacobian()
+		return true, true // no step reduces the sum: at the optimum to rounding
+	}
+	return false, false
+}
+
+// normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 3 columns, summed
+// row by row (gonum's general routines cost more than the sums for so few columns).
+func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
+	raw := j.RawMatrix()
+	k := raw.Cols
+	var a [3][3]float64
+	var b [3]float64
+	for i, ri := range r[:raw.Rows] {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+k]
+		for p, jp := range row {
+			b[p] += jp * ri
+			for q := p; q < k; q++ {
+				a[p][q] += jp * row[q]
+			}
+		}
+	}
+	jtj, g := mat.NewSymDense(k, nil), mat.NewVecDense(k, nil)
+	for p := range k {
+		g.SetVec(p, b[p])
+		for q := p; q < k; q++ {
+			jtj.SetSym(p, q, a[p][q])
+		}
+	}
+	return jtj, g
 }
 
 // finish fills the result from the converged state.
@@ -446,40 +623,61 @@ func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
 	return normalInverse(&jtj, sigma)
 }
 
-// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ, inverting it with its rows
-// and columns scaled to a unit diagonal so that parameters of very different size
-// (kelvin, seconds, J/(m²·K)) do not make it look singular. An ill-conditioned but
-// invertible N is accepted (gonum reports that as a Condition error).
+// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ of at most 3×3, inverting
+// it with its rows and columns scaled to a unit diagonal so that parameters of very
+// different size (kelvin, seconds, J/(m²·K)) do not make it look singular. It fails
+// only when the scaled matrix is not positive definite (a Cholesky pivot not above
+// zero); an ill-conditioned but invertible N is accepted. The factorisation is written
+// out: gonum's also estimates the condition number, which cost more than the rest of
+// a lumped fit's covariance.
 func normalInverse(n *mat.SymDense, sigma float64) (*mat.SymDense, bool) {
 	k := n.SymmetricDim()
-	scale := make([]float64, k)
+	if k > 3 {
+		panic("predict: normalInverse of more than 3 parameters")
+	}
+	var scale [3]float64
 	for i := range k {
 		scale[i] = math.Sqrt(n.At(i, i))
 		if !(scale[i] > 0) {
 			return nil, false
 		}
 	}
-	a := mat.NewSymDense(k, nil)
-	for i := range k {
-		for l := i; l < k; l++ {
-			a.SetSym(i, l, n.At(i, l)/(scale[i]*scale[l]))
+	// A = L·Lᵀ for the scaled matrix, then A⁻¹ = L⁻ᵀ·L⁻¹.
+	var l, li [3][3]float64
+	for j := range k {
+		for i := j; i < k; i++ {
+			s := n.At(i, j) / (scale[i] * scale[j])
+			for m := range j {
+				s -= l[i][m] * l[j][m]
+			}
+			if i == j {
+				if !(s > 0) {
+					return nil, false
+				}
+				l[j][j] = math.Sqrt(s)
+			} else {
+				l[i][j] = s / l[j][j]
+			}
 		}
 	}
-	var ch mat.Cholesky
-	if !ch.Factorize(a) {
-		return nil, false
-	}
-	var inv mat.SymDense
-	if err := ch.InverseTo(&inv); err != nil {
-		var c mat.Condition
-		if !errors.As(err, &c) {
-			return nil, false
+	for j := range k {
+		li[j][j] = 1 / l[j][j]
+		for i := j + 1; i < k; i++ {
+			var s float64
+			for m := j; m < i; m++ {
+				s += l[i][m] * li[m][j]
+			}
+			li[i][j] = -s / l[i][i]
 		}
 	}
 	out := mat.NewSymDense(k, nil)
 	for i := range k {
-		for l := i; l < k; l++ {
-			out.SetSym(i, l, sigma*sigma*inv.At(i, l)/(scale[i]*scale[l]))
+		for j := i; j < k; j++ {
+			var s float64
+			for m := j; m < k; m++ {
+				s += li[m][i] * li[m][j]
+			}
+			out.SetSym(i, j, sigma*sigma*s/(scale[i]*scale[j]))
 		}
 	}
 	return out, true

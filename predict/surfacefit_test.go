@@ -5,6 +5,8 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/settle-lab/settle/predict/surface"
 )
 
@@ -198,5 +200,133 @@ func TestPhiTableLazyMatchesComplete(t *testing.T) {
 		if limit < all && !(got > limit) || limit >= all && got != all {
 			t.Errorf("limit %g: sum %g (all %g)", limit, got, all)
 		}
+	}
+}
+
+// normalInverse's written-out Cholesky inverse must agree with gonum's (mat.Cholesky,
+// the reference here, applied to the same unit-diagonal scaling) on random positive
+// definite matrices whose diagonals span sixteen orders of magnitude, as a fit's
+// parameters do, and must refuse matrices that are not positive definite.
+func TestNormalInverseMatchesGonum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 22))
+	for trial := range 300 {
+		k := 1 + trial%3
+		j := mat.NewDense(k+4, k, nil)
+		for r := range k + 4 {
+			for c := range k {
+				j.Set(r, c, rng.NormFloat64()*math.Pow(10, float64(4*c-4)))
+			}
+		}
+		var n mat.SymDense
+		n.SymOuterK(1, j.T())
+		got, ok := normalInverse(&n, 0.3)
+		if !ok {
+			t.Fatalf("trial %d: refused a positive definite %d×%d matrix", trial, k, k)
+		}
+		d := make([]float64, k)
+		a := mat.NewSymDense(k, nil)
+		for r := range k {
+			d[r] = math.Sqrt(n.At(r, r))
+		}
+		for r := range k {
+			for c := r; c < k; c++ {
+				a.SetSym(r, c, n.At(r, c)/(d[r]*d[c]))
+			}
+		}
+		var ch mat.Cholesky
+		var inv mat.SymDense
+		if !ch.Factorize(a) {
+			t.Fatalf("trial %d: gonum refused the matrix", trial)
+		}
+		_ = ch.InverseTo(&inv) // a Condition error still gives the inverse
+		for r := range k {
+			for c := range k {
+				want := 0.09 * inv.At(r, c) / (d[r] * d[c])
+				scale := 0.09 * math.Sqrt(inv.At(r, r)*inv.At(c, c)) / (d[r] * d[c])
+				if math.Abs(got.At(r, c)-want) > 1e-9*scale {
+					t.Fatalf("trial %d: inverse[%d][%d] = %g, gonum %g", trial, r, c, got.At(r, c), want)
+				}
+			}
+		}
+	}
+	for _, c := range []struct {
+		name string
+		n    []float64
+	}{
+		{"rank one", []float64{1, 2, 2, 4}},
+		{"indefinite", []float64{1, 3, 3, 1}},
+		{"zero diagonal", []float64{0, 0, 0, 1}},
+		{"NaN", []float64{math.NaN(), 0, 0, 1}},
+	} {
+		if _, ok := normalInverse(mat.NewSymDense(2, c.n), 1); ok {
+			t.Errorf("%s: normalInverse accepted %v", c.name, c.n)
+		}
+	}
+}
+
+// fitHRace must return exactly the fit that fitting every law to convergence and
+// keeping the lowest residual returns (the dropped laws would not have won), on the
+// independent benchmark's curves (testdata/bench, every case at 25, 50 and 100 % of
+// the time to its crossing) with the unknown specimen's still- and moving-air laws,
+// and on the steel bar with its ambient fitted and measured; and it must drop some.
+func TestFitHRaceMatchesAll(t *testing.T) {
+	var problems []LumpedProblem
+	for _, c := range benchIndex(t).Cases {
+		curve := readBenchCase(t, c)
+		for _, frac := range []float64{0.25, 0.5, 1} {
+			part := curve.Until(c.PlacedS + frac*(c.CrossingS-c.PlacedS))
+			var p LumpedProblem
+			for i, tt := range part.Times {
+				if tt >= c.PlacedS && !math.IsNaN(part.Celsius[i]) {
+					p.Times, p.Celsius = append(p.Times, tt-c.PlacedS), append(p.Celsius, part.Celsius[i])
+				}
+			}
+			problems = append(problems, p)
+		}
+	}
+	bar := hotBar()
+	measured := hotBar()
+	measured.Ambient = measuredAmbient(measured, 17)
+	problems = append(problems, bar, measured)
+	var races, dropped int
+	for i, p := range problems {
+		if len(p.Times) < minPointsH {
+			continue
+		}
+		lr, err := FitLumped(p, nil)
+		start := &lr
+		if err != nil {
+			start = roughStart(p)
+		}
+		if start == nil {
+			continue
+		}
+		still, moving := hCandidates(nil)
+		for _, laws := range [][]SurfaceLaw{still, moving} {
+			var hps []HProblem
+			var want *HResult
+			for _, law := range laws {
+				hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}
+				if p.Ambient == nil {
+					hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
+				}
+				hps = append(hps, hp)
+				if r, err := fitH(hp, start); err == nil && (want == nil || r.RMSE < want.RMSE) {
+					want = &r
+				}
+			}
+			got, d := fitHRace(hps, start)
+			races, dropped = races+1, dropped+d
+			switch {
+			case (got == nil) != (want == nil):
+				t.Fatalf("problem %d: race %v, all laws %v", i, got, want)
+			case got != nil && (got.Law != want.Law || got.RMSE != want.RMSE || got.Ambient != want.Ambient):
+				t.Errorf("problem %d: race kept %+v (rms %.6g), all laws %+v (rms %.6g)", i, got.Law, got.RMSE, want.Law, want.RMSE)
+			}
+		}
+	}
+	t.Logf("%d races of 3 laws, %d laws dropped", races, dropped)
+	if dropped == 0 {
+		t.Error("no law was dropped: the race saves nothing")
 	}
 }

@@ -3,6 +3,7 @@ package predict
 import (
 	"math"
 	"sort"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -80,8 +81,11 @@ type phiTable struct {
 	lo, hi    int       // the computed nodes; lo > hi before the first
 }
 
-// phiGrowth is the fewest nodes a table is extended by at a time.
-const phiGrowth = 8
+// phiGrowth is the fewest nodes a table is extended by at a time. Each node costs two
+// evaluations of h(T), so the table grows by little more than the nodes asked for
+// (a node's value does not depend on how the range grew: each is its neighbour's
+// plus one cell).
+const phiGrowth = 2
 
 func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64) *phiTable {
 	n := int(math.Ceil((math.Log(max(thetaMax, 1))-phiLow)/phiStep)) + 2
@@ -159,10 +163,10 @@ func (tb *phiTable) hermite(i int, s float64) float64 {
 // table), so that f can be inverted; the table must have a node.
 func (tb *phiTable) cover(f float64) {
 	for tb.lo > 0 && f < tb.phi[tb.lo] {
-		tb.ensure(tb.lo-max(phiGrowth, (tb.hi-tb.lo)/2), tb.hi)
+		tb.ensure(tb.lo-phiGrowth, tb.hi)
 	}
 	for tb.hi < len(tb.phi)-1 && f > tb.phi[tb.hi] {
-		tb.ensure(tb.lo, tb.hi+max(phiGrowth, (tb.hi-tb.lo)/2))
+		tb.ensure(tb.lo, tb.hi+phiGrowth)
 	}
 }
 
@@ -191,17 +195,29 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 		}
 	}
 	*hint = i
-	// Newton on the cell's cubic from the linear estimate; Φ' = 1/h > 0.
+	// Newton on the cell's cubic from the cubic Hermite interpolant of the inverse
+	// (s at the cell's ends is 0 and 1, ds/dΦ there 1/(phiStep·Φ')), which is within
+	// about 1e-7 of the root, so that one step brings it to rounding; Φ' = 1/h > 0.
 	// Newton converges quadratically: after a step under 1e-8 of a cell the error
-	// left is of order 1e-16, so it stops there (at most 4 steps, as before).
-	s := (f - tb.phi[i]) / (tb.phi[i+1] - tb.phi[i])
+	// left is of order 1e-16, so it stops there (at most 4 steps).
+	df := tb.phi[i+1] - tb.phi[i]
+	u := (f - tb.phi[i]) / df
+	s := hermiteAt(u, 0, 1, 0, 1, df/(phiStep*tb.inv[i]), df/(phiStep*tb.inv[i+1]))
+	s = max(0, min(1, s))
+	// Newton's next correction would be about Φ''/(2Φ')·step²; the cubic's |Φ''| is
+	// largest at an end of the cell (it is linear in s). Once that correction is
+	// under 1e-14 of a cell (w within 4e-16, about an ulp of θ) the iteration stops
+	// without the evaluation that would confirm it.
+	m0, m1 := phiStep*tb.inv[i], phiStep*tb.inv[i+1]
+	c2, c3 := 3*df-2*m0-m1, m0+m1-2*df
+	curv := max(math.Abs(2*c2), math.Abs(2*c2+6*c3))
 	for range 4 {
 		d := tb.hermite(i, s) - f
 		ds := tb.slope(i, s)
 		next := max(0, min(1, s-d/ds))
 		step := math.Abs(next - s)
 		s = next
-		if step < 1e-8 {
+		if step < 1e-8 || curv*step*step < 2e-14*ds {
 			break
 		}
 	}
@@ -244,12 +260,17 @@ type HResult struct {
 	w0, phi0, q float64
 	table       *phiTable
 	tmax        float64
+	// hint is the table cell of the latest Value, where the next one usually lies
+	// (callers walk a curve in time); read and written atomically, since Value may
+	// run on several goroutines, and only a starting guess for invert.
+	hint int32
 }
 
 // Value evaluates the fitted curve at t seconds from the segment start.
 func (r *HResult) Value(t float64) float64 {
-	hint := -1
+	hint := int(atomic.LoadInt32(&r.hint))
 	w, _ := r.table.invert(r.phi0-r.q*t, &hint)
+	atomic.StoreInt32(&r.hint, int32(hint))
 	return r.Ambient + r.table.side*math.Exp(w)
 }
 
@@ -287,8 +308,14 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 	phi0 := tb.at(w0)
 	h0 := tb.law.H(tb.amb+tb.side*math.Exp(w0), tb.amb)
 	hint := -1
-	if jac != nil && m.w == nil {
-		m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+	var jd []float64 // jac's rows, written directly (Dense.Set checks every index)
+	var js int
+	if jac != nil {
+		if m.w == nil {
+			m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+		}
+		raw := jac.RawMatrix()
+		jd, js = raw.Data, raw.Stride
 	}
 	for i, t := range m.ts {
 		w, h := tb.invert(phi0-q*t, &hint)
@@ -304,8 +331,7 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 		}
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
-			jac.Set(i, 0, wt*theta*h/h0)
-			jac.Set(i, 1, -wt*theta*h*t)
+			jd[i*js], jd[i*js+1] = wt*theta*h/h0, -wt*theta*h*t
 			m.w[i], m.th[i] = w, wt*theta*h
 		}
 	}

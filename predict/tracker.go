@@ -454,7 +454,10 @@ func fitInterval(f *Forecast, last time.Time, every time.Duration) time.Duration
 		case StateReached, StateHolding:
 			return every
 		case StatePredicted:
-			at, earliest = min(at, tf.At.Sub(last)), min(earliest, tf.Earliest.Sub(last))
+			if !tf.At.IsZero() { // zero: an open-ended interval without a central estimate
+				at = min(at, tf.At.Sub(last))
+			}
+			earliest = min(earliest, tf.Earliest.Sub(last))
 		}
 	}
 	switch {

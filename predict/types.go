@@ -47,7 +47,10 @@ type State string
 
 // The target states.
 const (
-	// StatePredicted has a predicted crossing time with bounds.
+	// StatePredicted has a predicted crossing time with bounds. With a fitted (not
+	// measured) ambient, a target that some settling temperatures the readings allow
+	// never reach has an open-ended interval, "not before Earliest": Latest is zero,
+	// and so is At when the fitted curve itself does not reach the target.
 	StatePredicted State = "predicted"
 	// StateReached: the readings themselves have crossed the target. The median of the
 	// latest readings is on the target's side, and earlier in the same segment the
@@ -89,10 +92,12 @@ type TargetForecast struct {
 	// State is the forecast state.
 	State State
 	// At is the predicted crossing (StatePredicted, StateHolding: the hold's end) or
-	// the observed one (StateReached); zero otherwise.
+	// the observed one (StateReached); zero otherwise, and for a predicted target
+	// whose fitted curve does not reach it (an open-ended interval).
 	At time.Time
 	// Earliest and Latest bound At (the interval's lower and upper ends); zero when
-	// State is not StatePredicted or StateHolding.
+	// State is not StatePredicted or StateHolding. Latest is zero for an open-ended
+	// interval ("not before Earliest").
 	Earliest, Latest time.Time
 	// Estimated is true when a reached target's At is not a reading's time but the
 	// fitted crossing inside a gap in the readings (an unplugged logger, a pause).
@@ -101,9 +106,11 @@ type TargetForecast struct {
 
 // Due is the time to plan with: for a predicted handling target the interval's late
 // bound (the specimen is below the target by then with high confidence), otherwise
-// At, the central estimate. Zero when the state has no time.
+// At, the central estimate. Zero when the state has no time, and for a predicted
+// handling target with an open-ended interval (no time is safe to plan with; only
+// "not before Earliest" is known).
 func (tf TargetForecast) Due() time.Time {
-	if tf.Target.Handling && tf.State == StatePredicted && !tf.Latest.IsZero() {
+	if tf.Target.Handling && tf.State == StatePredicted {
 		return tf.Latest
 	}
 	return tf.At

@@ -35,6 +35,10 @@ type projected struct {
 	ssr      float64 // residual sum of squares
 	slope    float64 // d ssr / d ln τ at the linear optimum
 	curv     float64 // Gauss–Newton approximation of d² ssr / d ln τ² (Kaufman 1975)
+	// jtj is JᵀJ of the full problem at τ and the linear optimum, in the order
+	// ambient, excess, tau (Jacobian columns 1, e and θi·e·t/τ²), from the same sums;
+	// entries of given parameters are zero. The covariance at the optimum uses it.
+	jtj [3][3]float64
 }
 
 // buffers recycles the projection's work slices between fits, so a tracker refitting
@@ -61,17 +65,30 @@ func newProjection(p *LumpedProblem) *projection {
 	v.tbar, v.step = spacing(p.Times)
 	switch p.free() {
 	case 3:
+		yc := v.yc[:n]
 		for i, y := range v.y {
-			d := y - v.ybar
-			v.yc[i] = d
-			v.syy += d * d
+			yc[i] = y - v.ybar
 		}
+		v.syy = sumSquares(yc)
 	case 2:
-		for _, y := range v.y {
-			v.syy += y * y
-		}
+		v.syy = sumSquares(v.y)
 	}
 	return v
+}
+
+// sumSquares returns Σ x² in four interleaved partial sums: a single running sum
+// waits on each addition in turn.
+func sumSquares(xs []float64) float64 {
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(xs); i += 4 {
+		a, b, c, d := xs[i], xs[i+1], xs[i+2], xs[i+3]
+		s0, s1, s2, s3 = s0+a*a, s1+b*b, s2+c*c, s3+d*d
+	}
+	for ; i < len(xs); i++ {
+		s0 += xs[i] * xs[i]
+	}
+	return (s0 + s1) + (s2 + s3)
 }
 
 // release hands the work slices back for reuse; v must not be used afterwards.
@@ -117,16 +134,18 @@ func (v *projection) eval(tau float64) projected {
 func (v *projection) evalAmbient(tau float64) projected {
 	k := math.Exp(-v.tbar / tau)
 	var s1, s2, sdy, set, seet, syet, seett float64
-	for i, e := range v.e {
-		t := v.p.Times[i]
+	es := v.e
+	ts, yc := v.p.Times[:len(es)], v.yc[:len(es)]
+	for i, e := range es {
+		t, y := ts[i], yc[i]
 		d := e - k
 		s1 += d
 		s2 += d * d
-		sdy += d * v.yc[i]
+		sdy += d * y
 		et := e * t
 		set += et
 		seet += e * et
-		syet += v.yc[i] * et
+		syet += y * et
 		seett += et * et
 	}
 	n := float64(len(v.y))
@@ -139,12 +158,14 @@ func (v *projection) evalAmbient(tau float64) projected {
 	// ∂e/∂ln τ = e·t/τ projected off the columns 1 and e, for the Gauss–Newton curvature.
 	cross := seet - ebar*set
 	perp := seett - set*set/n - cross*cross/sxx
+	se, see, c := s1+n*k, s2+2*k*s1+n*k*k, b/(tau*tau)
 	return projected{
 		amb:   v.ybar - b*ebar,
 		exc:   b,
 		ssr:   max(v.syy-b*sdy, 0),
 		slope: -2 * b * (syet - b*cross) / tau,
 		curv:  2 * b * b * perp / (tau * tau),
+		jtj:   [3][3]float64{{n, se, c * set}, {se, see, c * seet}, {c * set, c * seet, c * c * seett}},
 	}
 }
 
@@ -165,11 +186,13 @@ func (v *projection) evalExcess(tau float64) projected {
 	}
 	b := sey / see
 	perp := sett - set*set/see
+	c := b / (tau * tau)
 	return projected{
 		exc:   b,
 		ssr:   max(v.syy-b*sey, 0),
 		slope: -2 * b * (syt - b*set) / tau,
 		curv:  2 * b * b * perp / (tau * tau),
+		jtj:   [3][3]float64{1: {1: see, 2: c * set}, 2: {1: c * set, 2: c * c * sett}},
 	}
 }
 
@@ -184,13 +207,21 @@ func (v *projection) evalFixed(tau float64) projected {
 		s += r * et
 		sett += et * et
 	}
-	return projected{exc: b, ssr: ssr, slope: -2 * b * s / tau, curv: 2 * b * b * sett / (tau * tau)}
+	c := b / (tau * tau)
+	return projected{exc: b, ssr: ssr, slope: -2 * b * s / tau, curv: 2 * b * b * sett / (tau * tau),
+		jtj: [3][3]float64{2: {2: c * c * sett}}}
 }
 
-// resync is how many consecutive decay factors are chained by multiplication before
-// exp(−t/τ) is computed afresh; it bounds the accumulated rounding to about
-// resync·2⁻⁵³ relative.
-const resync = 64
+// resync is how many readings share one exp(−t/τ) when the times are equally
+// spaced: the block's first chains readings are that value times q, q², …, and each
+// later one is the reading chains before times q^chains, so no factor carries more
+// than about resync/chains + chains roundings (a few 1e-15 relative;
+// TestDecayMatchesExp holds them to 1e-14). The chains running products stay in
+// registers.
+const (
+	resync = 128
+	chains = 8
+)
 
 // spacing returns the mean of ts and their common spacing, or 0 for the spacing when
 // successive differences vary by more than 1e-9 relative (beyond rounding of the times).
@@ -200,43 +231,60 @@ func spacing(ts []float64) (avg, step float64) {
 		return mean(ts), 0
 	}
 	step = (ts[n-1] - ts[0]) / float64(n-1)
-	var sum float64
-	for i, t := range ts {
-		sum += t
-		if i > 0 && math.Abs(t-ts[i-1]-step) > 1e-9*step {
-			step = 0
+	tol := 1e-9 * step
+	for i := 1; i < n; i++ {
+		if math.Abs(ts[i]-ts[i-1]-step) > tol {
+			return mean(ts), 0
 		}
 	}
-	return sum / float64(n), step
+	// Equally spaced: the midpoint is the mean (within the spacing's tolerance), all
+	// evalAmbient's centring needs.
+	return (ts[0] + ts[n-1]) / 2, step
 }
 
 // decay fills v.e with exp(−t/τ) unless it already holds it. Equally spaced readings
-// (the usual case) take a factor exp(−Δt/τ) per step in four interleaved chains, so a
-// pass costs a multiplication per reading instead of an exp; other readings get one
-// exp each.
+// (the usual case) take one exp per block of resync readings and a multiplication per
+// reading (see resync); other readings get one exp each.
 func (v *projection) decay(tau float64) {
 	if tau == v.tau {
 		return
 	}
 	v.tau = tau
-	ts, e := v.p.Times, v.e
-	if v.step == 0 || len(ts) < 8 {
+	ts, e := v.p.Times, v.e[:len(v.p.Times)]
+	if v.step == 0 || len(ts) < 2*chains {
 		for i, t := range ts {
 			e[i] = math.Exp(-t / tau)
 		}
 		return
 	}
-	q4 := math.Exp(-4 * v.step / tau)
+	var qs [chains]float64 // q⁰ … q⁷
+	qs[0] = 1
+	q := math.Exp(-v.step / tau)
+	for j := 1; j < chains; j++ {
+		qs[j] = qs[j-1] * q
+	}
+	q8 := math.Exp(-chains * v.step / tau)
 	for i := 0; i < len(ts); i += resync {
-		end := min(i+resync, len(ts))
-		for j := i; j < min(i+4, end); j++ {
-			e[j] = math.Exp(-ts[j] / tau)
+		blk := e[i:min(i+resync, len(ts))]
+		e0 := math.Exp(-ts[i] / tau)
+		for j := range min(chains, len(blk)) {
+			blk[j] = e0 * qs[j]
 		}
-		for j := i + 4; j+3 < end; j += 4 {
-			e[j], e[j+1], e[j+2], e[j+3] = e[j-4]*q4, e[j-3]*q4, e[j-2]*q4, e[j-1]*q4
+		j := chains
+		if len(blk) >= 2*chains {
+			// The products stay in registers (a chain through memory waits on each
+			// store); written out for chains = 8.
+			a, b, c, d := blk[0], blk[1], blk[2], blk[3]
+			f, g, h, k := blk[4], blk[5], blk[6], blk[7]
+			for ; j+chains <= len(blk); j += chains {
+				a, b, c, d = a*q8, b*q8, c*q8, d*q8
+				f, g, h, k = f*q8, g*q8, h*q8, k*q8
+				x := blk[j : j+chains : j+chains]
+				x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7] = a, b, c, d, f, g, h, k
+			}
 		}
-		for j := max(i+4, end-(end-i-4)%4); j < end; j++ {
-			e[j] = e[j-4] * q4
+		for ; j < len(blk); j++ {
+			blk[j] = blk[j-chains] * q8
 		}
 	}
 }
@@ -288,16 +336,21 @@ func (v *projection) guess() (float64, bool) {
 	return math.Log(-w / math.Log(ratio)), true
 }
 
-// mean returns the mean of xs (0 when empty).
+// mean returns the mean of xs (0 when empty), summed in four interleaved parts as in
+// sumSquares.
 func mean(xs []float64) float64 {
 	if len(xs) == 0 {
 		return 0
 	}
-	var s float64
-	for _, x := range xs {
-		s += x
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(xs); i += 4 {
+		s0, s1, s2, s3 = s0+xs[i], s1+xs[i+1], s2+xs[i+2], s3+xs[i+3]
 	}
-	return s / float64(len(xs))
+	for ; i < len(xs); i++ {
+		s0 += xs[i]
+	}
+	return ((s0 + s1) + (s2 + s3)) / float64(len(xs))
 }
 
 // maxNewton bounds the Gauss–Newton steps; from a good guess a small-residual fit

@@ -377,6 +377,14 @@ func (f Figure) caption() []string {
 		line := fmt.Sprintf("%s %s %.1f °C: ", kind, t.Name, t.Celsius)
 		switch t.State {
 		case string(predict.StatePredicted):
+			if t.Latest.IsZero() && !t.Earliest.IsZero() {
+				// An open-ended interval: some settling temperatures never reach it.
+				line += "predicted not before " + sec(t.Earliest) + ", no late end yet"
+				if !t.At.IsZero() {
+					line += " (central estimate " + sec(t.At) + ")"
+				}
+				break
+			}
 			line += "predicted " + sec(t.At)
 			if !t.Earliest.IsZero() && !t.Latest.IsZero() {
 				line += fmt.Sprintf(" (~90 %% interval %s–%s)", sec(t.Earliest), sec(t.Latest))

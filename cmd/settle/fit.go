@@ -306,11 +306,28 @@ func (res *fitResult) writeText(w io.Writer) error {
 // secondsText prints seconds on the file's axis to at most a tenth of a second.
 func secondsText(v float64) string { return strconv.FormatFloat(math.Round(v*10)/10, 'f', -1, 64) }
 
+// notBefore says an open-ended forecast in words: the early bound, and why there is
+// no late one (and, for a handling target, no time to plan with).
+func (res *fitResult) notBefore(tg predict.TargetForecast) string {
+	s := "predicted: not before t_s " + secondsText(math.Round(res.fileTime(tg.Earliest))) +
+		", with no late end yet (some settling temperatures the readings allow never reach it)"
+	if !tg.At.IsZero() {
+		s += "; central estimate t_s " + secondsText(math.Round(res.fileTime(tg.At)))
+	}
+	if tg.Target.Handling {
+		s += "; no time to plan handling with yet"
+	}
+	return s + ", an estimate"
+}
+
 // describe says one target's state in words.
 func (res *fitResult) describe(tg predict.TargetForecast) string {
 	at := func(t time.Time) string { return "t_s " + secondsText(math.Round(res.fileTime(t))) }
 	switch tg.State {
 	case predict.StatePredicted:
+		if tg.Latest.IsZero() {
+			return res.notBefore(tg)
+		}
 		if tg.Target.Handling {
 			return fmt.Sprintf("predicted: below it by %s with high confidence (the late end of the 90 %% interval %.0f to %.0f s; central estimate %s), an estimate",
 				at(tg.Latest), res.fileTime(tg.Earliest), res.fileTime(tg.Latest), at(tg.At))

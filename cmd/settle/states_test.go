@@ -107,8 +107,10 @@ func TestFitMugNotUnreachable(t *testing.T) {
 			t.Errorf("insufficient without saying why: %q", got.Notes)
 		}
 	case "predicted":
-		if tg.LatestS == nil || *tg.LatestS < crossed {
-			t.Errorf("predicted interval ends at %v s, before the observed crossing at %g s", tg.LatestS, crossed)
+		// An open-ended interval ("not before", latest_s null) must open before the
+		// crossing; a closed one must also end after it.
+		if tg.EarliestS == nil || *tg.EarliestS > crossed || tg.LatestS != nil && *tg.LatestS < crossed {
+			t.Errorf("predicted interval [%v, %v] s does not hold the observed crossing at %g s", tg.EarliestS, tg.LatestS, crossed)
 		}
 	default:
 		t.Errorf("t32 at 1950 s: %s, want insufficient or a forecast whose interval holds %g s", tg.State, crossed)

@@ -21,7 +21,9 @@ type FileFit struct {
 
 // FileTarget is one target's forecast on a file's axis. DueS is the time to plan with
 // (predict.TargetForecast.Due): for a handling target the interval's late bound. A
-// handling target carries the cautions.
+// handling target carries the cautions. A predicted target with an open-ended
+// interval ("not before EarliestS") has LatestS null, DueS null for a handling
+// target, and TS null when the fitted curve does not reach it.
 type FileTarget struct {
 	Name      string   `json:"name"`
 	Kind      string   `json:"kind"`
@@ -38,7 +40,12 @@ type FileTarget struct {
 // NewFileFit is f in `settle fit --json` form: origin is the time of the file's t_s = 0
 // and untilS the last second fitted.
 func NewFileFit(f *predict.Forecast, origin time.Time, untilS float64) FileFit {
-	at := func(t time.Time) *float64 { return jsonval.Num(t.Sub(origin).Seconds()) }
+	at := func(t time.Time) *float64 { // null for a zero time (an open-ended interval's late end)
+		if t.IsZero() {
+			return nil
+		}
+		return jsonval.Num(t.Sub(origin).Seconds())
+	}
 	out := FileFit{
 		Model: f.Model, UntilS: untilS, Parameters: map[string]float64{},
 		Biot: jsonval.Num(f.Biot), Notes: append([]string{}, f.Notes...), Targets: []FileTarget{},

@@ -72,7 +72,9 @@ func Params(ps []predict.Param) []Param {
 // TargetForecast is one target's forecast. Times are null where there is none. Due is
 // the time to plan with (predict.TargetForecast.Due): for a handling target the
 // interval's late bound, by which the specimen is below the target with high
-// confidence; At is the central estimate. Estimated marks a reached At that is the
+// confidence; At is the central estimate. An open-ended interval ("not before
+// Earliest", predict.StatePredicted) has Latest null, Due null for a handling target,
+// and At null when the fitted curve does not reach the target. Estimated marks a reached At that is the
 // fitted crossing (in a gap of the readings, or at a surface-sensed specimen's unseen
 // core).
 type TargetForecast struct {

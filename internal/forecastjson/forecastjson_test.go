@@ -26,6 +26,14 @@ func TestTargetForecastNulls(t *testing.T) {
 		{"handling", predict.TargetForecast{Target: predict.Target{Name: "handle", Celsius: 45, Handling: true},
 			Celsius: 45, State: predict.StatePredicted, At: t0.Add(time.Minute), Earliest: t0, Latest: t0.Add(2 * time.Minute)},
 			`{"name":"handle","kind":"handling","celsius":45,"state":"predicted","at":"2026-03-14T09:01:00Z","earliest":"2026-03-14T09:00:00Z","latest":"2026-03-14T09:02:00Z","due":"2026-03-14T09:02:00Z","estimated":false}`},
+		// An open-ended interval ("not before"): no late end, so no time to plan
+		// handling with, even beside a central estimate.
+		{"handling, not before", predict.TargetForecast{Target: predict.Target{Name: "handle", Celsius: 45, Handling: true},
+			Celsius: 45, State: predict.StatePredicted, At: t0.Add(time.Minute), Earliest: t0},
+			`{"name":"handle","kind":"handling","celsius":45,"state":"predicted","at":"2026-03-14T09:01:00Z","earliest":"2026-03-14T09:00:00Z","latest":null,"due":null,"estimated":false}`},
+		{"not before, no central estimate", predict.TargetForecast{Target: predict.Target{Name: "test", Celsius: 30},
+			Celsius: 30, State: predict.StatePredicted, Earliest: t0},
+			`{"name":"test","kind":"temperature","celsius":30,"state":"predicted","at":null,"earliest":"2026-03-14T09:00:00Z","latest":null,"due":null,"estimated":false}`},
 	} {
 		b, err := json.Marshal(NewTargetForecast(tc.tf))
 		if err != nil || string(b) != tc.want {
@@ -71,5 +79,19 @@ func TestForecastUpdatedAt(t *testing.T) {
 		if !got.FittedAt.Equal(t0) || !got.UpdatedAt.Equal(tc.want) || got.LeadS != tc.lead.Seconds() {
 			t.Errorf("%s: fitted_at %v, updated_at %v, lead_s %v; want %v, %v and %v", tc.name, got.FittedAt, got.UpdatedAt, got.LeadS, t0, tc.want, tc.lead.Seconds())
 		}
+	}
+}
+
+// TestFileFitOpenEnded: an open-ended interval keeps its early bound on the file's axis
+// and has null for the late end, the due time and (no central estimate) t_s, never
+// a time computed from a zero one. Expected seconds worked by hand: origin is t0 − 10 s.
+func TestFileFitOpenEnded(t *testing.T) {
+	origin := t0.Add(-10 * time.Second)
+	f := &predict.Forecast{Model: "lumped", Biot: math.NaN(), Targets: []predict.TargetForecast{{
+		Target: predict.Target{Name: "handle", Celsius: 45, Handling: true}, Celsius: 45,
+		State: predict.StatePredicted, Earliest: t0.Add(90 * time.Second)}}}
+	tg := NewFileFit(f, origin, 50).Targets[0]
+	if tg.EarliestS == nil || *tg.EarliestS != 100 || tg.LatestS != nil || tg.DueS != nil || tg.TS != nil {
+		t.Errorf("target %+v: want earliest 100 and null t_s, latest and due", tg)
 	}
 }

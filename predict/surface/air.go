@@ -92,9 +92,13 @@ func airAt(filmK float64) (AirProps, [3]float64) {
 	if filmK >= airTable[last].t {
 		return airTable[last].p, prFactors[last]
 	}
-	i := 1
+	// Rows are 50 K apart up to 1000 K: start the search there, a row or two away.
+	i := max(1, min(int((filmK-airTable[0].t)/50), last))
 	for airTable[i].t < filmK {
 		i++
+	}
+	for i > 1 && airTable[i-1].t >= filmK {
+		i--
 	}
 	lo, hi := &airTable[i-1], &airTable[i]
 	if filmK == hi.t {

@@ -85,3 +85,49 @@ func TestAirRowsOrdered(t *testing.T) {
 			airTable[0].t, airTable[len(airTable)-1].t, MinFilmK, MaxFilmK)
 	}
 }
+
+// airAt starts its row search from an estimate; it must pick the same rows as a scan
+// from the first row, at every row's temperature and between them.
+func TestAirAtRowSearch(t *testing.T) {
+	var temps []float64
+	for _, row := range airTable {
+		temps = append(temps, row.t, row.t-1e-9, row.t+1e-9)
+	}
+	for tK := 150.0; tK < 1300; tK += 0.37 {
+		temps = append(temps, tK)
+	}
+	for _, tK := range temps {
+		got, gotF := airAt(tK)
+		want, wantF := scanAir(tK)
+		if got != want || gotF != wantF {
+			t.Fatalf("airAt(%.12g) = %+v %v, scan %+v %v", tK, got, gotF, want, wantF)
+		}
+	}
+}
+
+// scanAir is airAt's interpolation with the rows found by a scan from the first.
+func scanAir(filmK float64) (AirProps, [3]float64) {
+	last := len(airTable) - 1
+	switch {
+	case filmK <= airTable[0].t:
+		return airTable[0].p, prFactors[0]
+	case filmK >= airTable[last].t:
+		return airTable[last].p, prFactors[last]
+	}
+	i := 1
+	for airTable[i].t < filmK {
+		i++
+	}
+	if filmK == airTable[i].t {
+		return airTable[i].p, prFactors[i]
+	}
+	lo, hi := airTable[i-1], airTable[i]
+	f := (filmK - lo.t) / (hi.t - lo.t)
+	p := AirProps{K: lerp(lo.p.K, hi.p.K, f), Nu: lerp(lo.p.Nu, hi.p.Nu, f), Alpha: lerp(lo.p.Alpha, hi.p.Alpha, f),
+		Pr: lerp(lo.p.Pr, hi.p.Pr, f), Rho: lerp(lo.p.Rho, hi.p.Rho, f), Cp: lerp(lo.p.Cp, hi.p.Cp, f), Mu: lerp(lo.p.Mu, hi.p.Mu, f)}
+	var fac [3]float64
+	for g := range fac {
+		fac[g] = lerp(prFactors[i-1][g], prFactors[i][g], f)
+	}
+	return p, fac
+}

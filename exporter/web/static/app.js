@@ -71,7 +71,10 @@
   const wallNow = () => Date.now() + S.skew; // the daemon's clock
 
   // ---- states --------------------------------------------------------------
-  const due = (t) => t.due || (t.kind === "handling" ? t.latest : t.at) || t.at || null;
+  // A predicted handling target without a late end ("not before", an open-ended
+  // interval) has no time to plan with: never fall back to its central estimate.
+  const openEnded = (t) => t.state === "predicted" && !t.latest && !!t.earliest;
+  const due = (t) => t.due || (t.kind === "handling" ? t.latest : t.at) || (t.kind === "handling" && openEnded(t) ? null : t.at) || null;
   const handlingOf = (ch) => (ch.targets || []).find((t) => t.kind === "handling");
   const LOOK = {
     hot: ["▲", "hot — not yet safe"], nearly: ["◆", "nearly there"], ready: ["●", "ready to handle (estimate)"],
@@ -243,6 +246,12 @@
       return;
     }
     const t = nextTarget(ch);
+    if (!t && h && openEnded(h)) {
+      add("", "Below " + fmtT(h.celsius) + " " + deg + " not before ");
+      add("due", when(Date.parse(h.earliest), now));
+      add("interval", "no late end yet: it may settle above " + fmtT(h.celsius) + " " + deg);
+      return;
+    }
     if (!t) {
       if (h && h.state === "unreachable") add("", "Will not get below " + fmtT(h.celsius) + " " + deg + " on this curve (settles above it).");
       else if (!ch.forecast || (h && h.state === "insufficient")) add("", "Learning the curve: no forecast yet.");
@@ -259,7 +268,7 @@
     if (t.earliest && t.latest && t.earliest !== t.latest) {
       const a = Date.parse(t.earliest), b = Date.parse(t.latest);
       bits.push("90 % interval " + when(a, now) + "–" + (sameDay(new Date(a), new Date(b)) ? hm(new Date(b)) : when(b, now)));
-    }
+    } else if (openEnded(t)) bits.push("not before " + when(Date.parse(t.earliest), now) + ", no late end yet");
     if (bits.length) add("interval", bits.join(" · "));
     p.dataset.target = t.name;
     p.dataset.due = due(t);
