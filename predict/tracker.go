@@ -436,7 +436,8 @@ const (
 // fitInterval returns the reading time until the next fit after forecast f, whose
 // last reading was at last: FitEvery/2 while a pending target's predicted crossing
 // is within nearTarget, farFactor × FitEvery while every pending target's predicted
-// crossing is beyond farTarget and no interval opens within nearTarget, and FitEvery
+// crossing (for an open-ended interval without one, its opening) is beyond farTarget
+// and no interval opens within nearTarget, and FitEvery
 // otherwise — always FitEvery while there is no forecast, the position is empty, or
 // any target is reached or holding (a state the readings may take back, which must
 // not stand longer than it does today). A wide interval no longer keeps the usual pace
@@ -448,22 +449,27 @@ func fitInterval(f *Forecast, last time.Time, every time.Duration) time.Duration
 		return every
 	}
 	const never = time.Duration(math.MaxInt64)
-	at, earliest := never, never // the soonest predicted crossing and interval opening
+	// The soonest predicted crossing, interval opening, and crossing or (an open-ended
+	// interval without a central estimate) opening.
+	at, earliest, soonest := never, never, never
 	for _, tf := range f.Targets {
 		switch tf.State {
 		case StateReached, StateHolding:
 			return every
 		case StatePredicted:
-			if !tf.At.IsZero() { // zero: an open-ended interval without a central estimate
-				at = min(at, tf.At.Sub(last))
-			}
 			earliest = min(earliest, tf.Earliest.Sub(last))
+			if tf.At.IsZero() { // an open-ended interval without a central estimate
+				soonest = min(soonest, tf.Earliest.Sub(last))
+				continue
+			}
+			at = min(at, tf.At.Sub(last))
+			soonest = min(soonest, tf.At.Sub(last))
 		}
 	}
 	switch {
 	case at <= nearTarget:
 		return every / 2
-	case at > farTarget && at != never && earliest > nearTarget:
+	case soonest > farTarget && soonest != never && earliest > nearTarget:
 		return farFactor * every
 	}
 	return every
