@@ -57,6 +57,7 @@ func Channels(s State, now time.Time) ChannelsResponse {
 	if s.Bench == nil {
 		return resp
 	}
+	s = portsOnce(s)
 	for _, ch := range s.Bench.Snapshot() {
 		resp.Channels = append(resp.Channels, channelJSON(s, ch, now))
 	}

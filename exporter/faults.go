@@ -92,3 +92,15 @@ func portDown(s State, logger string) (daq.PortStats, bool) {
 	}
 	return daq.PortStats{}, false
 }
+
+// portsOnce returns s whose Ports answers one snapshot taken now: a view of every
+// channel (the API, the event stream's poll) then reads the ports once, not once per
+// channel (a thousand channels on 125 loggers made 125,000 port snapshots a poll).
+func portsOnce(s State) State {
+	if s.Ports == nil {
+		return s
+	}
+	ports := s.Ports()
+	s.Ports = func() []daq.PortStats { return ports }
+	return s
+}

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"context"
 	"encoding/json"
+	"fmt"
 	"io"
 	"log/slog"
 	"math"
@@ -535,5 +536,41 @@ func TestChannelsDemo(t *testing.T) {
 		if resp := h.channels(t0); (resp.Demo != nil) != (speed > 0) {
 			t.Errorf("speed %g: channels() demo %+v", speed, resp.Demo)
 		}
+	}
+}
+
+// The API's view of every channel takes one snapshot of the ports, not one per
+// channel (the event stream's poll builds the same view every second), and each
+// channel still shows its own logger's lost port.
+func TestChannelsReadPortsOnce(t *testing.T) {
+	l := NewLatest()
+	l.now = func() time.Time { return t0 }
+	var bench fakeBench
+	for i := range 40 {
+		name := fmt.Sprintf("c%d", i)
+		bench = append(bench, predict.ChannelState{Name: name, LastCelsius: math.NaN()})
+		l.Record(daq.Reading{Logger: fmt.Sprintf("rack%d", i%4), Channel: name, Time: t0, Celsius: 80})
+	}
+	calls := 0
+	s := State{Latest: l, Bench: bench, Ports: func() []daq.PortStats {
+		calls++
+		return []daq.PortStats{{Logger: "rack0", Port: "/dev/ttyUSB0", Failed: true}, {Logger: "rack1", Up: true},
+			{Logger: "rack2", Up: true}, {Logger: "rack3", Up: true}}
+	}}
+	resp := Channels(s, t0.Add(time.Second))
+	if calls != 1 {
+		t.Errorf("40 channels on 4 loggers: %d port snapshots, want 1", calls)
+	}
+	down := 0
+	for i, ch := range resp.Channels {
+		if got, want := ch.Fault != nil && ch.Fault.Kind == FaultPortDown, i%4 == 0; got != want {
+			t.Errorf("%s (logger rack%d): port_down %v, want %v", ch.Name, i%4, got, want)
+		}
+		if ch.Fault != nil {
+			down++
+		}
+	}
+	if down != 10 {
+		t.Errorf("%d channels show a fault, want the 10 on rack0", down)
 	}
 }

@@ -56,8 +56,9 @@ func (h *Handler) poll(w *watcher) {
 		states = h.state.Bench.Snapshot()
 	}
 	chs := make([]notify.Channel, 0, len(states))
+	s := portsOnce(h.state)
 	for _, st := range states {
-		ch := channelJSON(h.state, st, now)
+		ch := channelJSON(s, st, now)
 		if fp := fingerprint(ch); fp != w.forecasts[ch.Name] {
 			w.forecasts[ch.Name] = fp
 			h.broker.publish("forecast", ch)

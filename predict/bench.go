@@ -1,6 +1,7 @@
 package predict
 
 import (
+	"sync/atomic"
 	"time"
 )
 
@@ -51,6 +52,26 @@ type Bench struct {
 	index    map[string]int
 	users    map[string][]int // ambient channel → channels measuring their ambient on it
 	roles    []string
+	stats    fitStats
+}
+
+// fitStats counts a bench's fits and the time they took.
+type fitStats struct {
+	fits  atomic.Uint64
+	nanos atomic.Int64
+}
+
+func (s *fitStats) add(d time.Duration) {
+	if s != nil {
+		s.fits.Add(1)
+		s.nanos.Add(int64(d))
+	}
+}
+
+// FitStats returns how many fits the bench's trackers have run and the time they took
+// in all (wall-clock, summed over the fits): the schedule's cost, to size a machine.
+func (b *Bench) FitStats() (fits uint64, took time.Duration) {
+	return b.stats.fits.Load(), time.Duration(b.stats.nanos.Load())
 }
 
 // NewBench returns a bench with one tracker per spec. A later spec with a name already
@@ -67,7 +88,9 @@ func NewBench(specs []ChannelSpec, opt TrackerOptions) *Bench {
 		if s.Specimen != nil {
 			o.Specimen = s.Specimen
 		}
-		b.trackers = append(b.trackers, NewTracker(s.Targets, o))
+		tr := NewTracker(s.Targets, o)
+		tr.stats = &b.stats
+		b.trackers = append(b.trackers, tr)
 	}
 	for i, s := range b.specs {
 		if s.Ambient != "" {
@@ -109,24 +132,35 @@ func (b *Bench) Observe(channel string, t time.Time, celsius float64) {
 	}
 }
 
-// Snapshot returns the state of every channel, in spec order. The results are copies.
-func (b *Bench) Snapshot() []ChannelState {
+// Snapshot returns the state of every channel, in spec order, each forecast
+// re-anchored to the readings since its fit (see Tracker). The results are copies.
+func (b *Bench) Snapshot() []ChannelState { return b.snapshot(false) }
+
+// SnapshotFitted is Snapshot with each forecast as its fit left it, not re-anchored:
+// what a replay of the same readings reproduces, and so what a run's forecast
+// history records.
+func (b *Bench) SnapshotFitted() []ChannelState { return b.snapshot(true) }
+
+func (b *Bench) snapshot(fitted bool) []ChannelState {
 	out := make([]ChannelState, len(b.specs))
 	for i, s := range b.specs {
-		out[i] = b.trackers[i].state()
+		out[i] = b.trackers[i].state(fitted)
 		out[i].Name, out[i].Ambient, out[i].Role = s.Name, s.Ambient, b.roles[i]
 	}
 	return out
 }
 
-// state returns the tracker's part of a ChannelState.
-func (tr *Tracker) state() ChannelState {
+// state returns the tracker's part of a ChannelState, its forecast as fitted or
+// re-anchored.
+func (tr *Tracker) state(fitted bool) ChannelState {
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
-	return ChannelState{
-		LastTime:    tr.last,
-		LastCelsius: tr.lastC,
-		Readings:    tr.readings,
-		Forecast:    copyForecast(tr.forecast),
+	f := tr.view()
+	if fitted {
+		f = copyForecast(tr.forecast)
+		if f != nil {
+			f.UpdatedAt = f.FittedAt
+		}
 	}
+	return ChannelState{LastTime: tr.last, LastCelsius: tr.lastC, Readings: tr.readings, Forecast: f}
 }

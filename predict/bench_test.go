@@ -5,6 +5,7 @@ import (
 	"math"
 	"sync"
 	"testing"
+	"time"
 )
 
 func TestBenchAmbientAndSnapshot(t *testing.T) {
@@ -75,5 +76,61 @@ func TestBenchConcurrent(t *testing.T) {
 		if st.Readings != 200 || st.Forecast == nil && st.Name != "room" {
 			t.Errorf("%s: %d readings, forecast %v; want 200 and a forecast", st.Name, st.Readings, st.Forecast)
 		}
+	}
+}
+
+// TestBenchFitStats: the bench counts every fit its trackers run (each new forecast
+// is one) and the time they took.
+func TestBenchFitStats(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	b := NewBench([]ChannelSpec{{Name: "a", Targets: []Target{{Name: "t", Celsius: 50}}},
+		{Name: "b", Targets: []Target{{Name: "t", Celsius: 50}}}}, TrackerOptions{})
+	seen := map[string]time.Time{}
+	forecasts := 0
+	for s := 0; s <= 60; s++ {
+		at := start.Add(time.Duration(s) * time.Second)
+		b.Observe("a", at, 21+99*math.Exp(-float64(s)/300))
+		b.Observe("b", at, 21+150*math.Exp(-float64(s)/600))
+		for _, st := range b.Snapshot() {
+			if f := st.Forecast; f != nil && !f.FittedAt.Equal(seen[st.Name]) {
+				seen[st.Name], forecasts = f.FittedAt, forecasts+1
+			}
+		}
+	}
+	fits, took := b.FitStats()
+	if forecasts < 8 || fits != uint64(forecasts) || took <= 0 {
+		t.Errorf("%d fits taking %v; want the %d forecasts seen (about 6 a channel in 60 s at the 10 s pace), and some time", fits, took, forecasts)
+	}
+}
+
+// TestSnapshotFitted: between fits Snapshot shows each forecast re-anchored to the
+// newest reading, SnapshotFitted as its fit left it (what a run's history records and
+// a replay reproduces). Our own invented curve, read 20 s ahead of the fit after it:
+// 150 °C toward 21 °C, τ = 600 s.
+func TestSnapshotFitted(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	b := NewBench([]ChannelSpec{{Name: "a", Ambient: "room", Targets: []Target{{Name: "t", Celsius: 50}}}, {Name: "room"}},
+		TrackerOptions{FitEvery: time.Hour})
+	curve := func(s int) float64 { return 21 + 129*math.Exp(-float64(s)/600) }
+	obs := func(s, ahead int) {
+		at := start.Add(time.Duration(s) * time.Second)
+		b.Observe("room", at, 21)
+		b.Observe("a", at, curve(s+ahead))
+	}
+	for s := 0; s <= 120; s++ {
+		obs(s, 0)
+	}
+	b.trackers[0].Fit()
+	for s := 121; s <= 130; s++ {
+		obs(s, 20)
+	}
+	shown, fitted := b.Snapshot()[0].Forecast, b.SnapshotFitted()[0].Forecast
+	last := start.Add(130 * time.Second)
+	if !fitted.UpdatedAt.Equal(fitted.FittedAt) || !shown.UpdatedAt.Equal(last) || !shown.FittedAt.Equal(fitted.FittedAt) {
+		t.Errorf("fitted at %v: updated %v as fitted, %v shown; want the fit's time and the last reading, %v", fitted.FittedAt, fitted.UpdatedAt, shown.UpdatedAt, last)
+	}
+	// Ten readings 20 s ahead: the median lead is 20 s, so the crossing comes 20 s earlier.
+	if d := fitted.Targets[0].At.Sub(shown.Targets[0].At); (d - 20*time.Second).Abs() > time.Second {
+		t.Errorf("shown crossing %v, fitted %v: %v earlier, want about 20 s", shown.Targets[0].At, fitted.Targets[0].At, d)
 	}
 }

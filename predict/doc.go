@@ -7,8 +7,11 @@
 //   - Tracker is one specimen position as the daemon runs it (ExampleTracker): Add
 //     each cleaned reading (SetAmbient with the room's air when it is measured), and
 //     the tracker finds the specimen's segment, fits on its schedule and keeps the
-//     latest Forecast. Bench is a rack of trackers keyed by channel, with a worker
-//     pool for the fits and Restore for resuming from the journal.
+//     latest Forecast; between fits each reading re-anchors it (its curve moved along
+//     itself to where the readings are: predicted times move, states never), and
+//     Forecast.UpdatedAt says which reading it reflects. Bench is a rack of trackers
+//     keyed by channel, with a worker pool for the fits and Restore for resuming from
+//     the journal.
 //   - Analyze is one whole fit of a segment, as `settle fit` and reports use it:
 //     Prepare cuts the segment (onset, spikes), then Analyze chooses the model and
 //     forecasts the targets.
@@ -26,7 +29,7 @@
 // backtest.go: each interval's model-form term from the segment's own earlier
 // cutoffs; forecast.go: crossings, intervals and the states (reached and ready only
 // from readings); segment.go: onset, direction, spikes; tracker.go and bench.go: the
-// daemon's schedule; specimen.go and specimen_check.go: the one specimen schema;
+// daemon's schedule; reanchor.go: the forecast between fits; specimen.go and specimen_check.go: the one specimen schema;
 // targets.go: the target codec runs and the API share; cautions.go: the handling
 // cautions every screen shows.
 //

@@ -139,7 +139,7 @@ func TestTrackerSegments(t *testing.T) {
 	// Out-of-order and non-finite readings are ignored.
 	tr.Add(secs(10), 100)
 	tr.Add(secs(82), math.NaN())
-	if s := tr.state(); s.Readings != 84 || s.LastCelsius != curve(20) {
+	if s := tr.state(false); s.Readings != 84 || s.LastCelsius != curve(20) {
 		t.Errorf("readings %d, last %g; want 84, %g", s.Readings, s.LastCelsius, curve(20))
 	}
 }
@@ -208,8 +208,8 @@ func TestTrackerMugMisfit(t *testing.T) {
 }
 
 // TestFitIntervalFollowsTheForecast: the next fit comes sooner when a target's
-// predicted crossing is within 5 minutes, later when every pending target's interval
-// opens more than 20 minutes away, and at the usual FitEvery while a target is reached or holding (a state the
+// predicted crossing is within 5 minutes, later when every pending target's crossing
+// is more than 20 minutes away and no interval opens within 5, and at the usual FitEvery while a target is reached or holding (a state the
 // readings may take back), the position is empty or nothing is forecast.
 func TestFitIntervalFollowsTheForecast(t *testing.T) {
 	last := time.Date(2026, 12, 3, 10, 0, 0, 0, time.UTC)
@@ -227,6 +227,8 @@ func TestFitIntervalFollowsTheForecast(t *testing.T) {
 		{"near", &Forecast{Targets: []TargetForecast{in(time.Hour), in(4 * time.Minute)}}, every / 2},
 		{"between", &Forecast{Targets: []TargetForecast{in(10 * time.Minute)}}, every},
 		{"wide interval, far crossing", &Forecast{Targets: []TargetForecast{{State: StatePredicted, Earliest: last, At: last.Add(time.Hour)}}}, every},
+		{"interval opening past 5 min, crossing past 20", &Forecast{Targets: []TargetForecast{{State: StatePredicted, Earliest: last.Add(6 * time.Minute), At: last.Add(30 * time.Minute)}}}, 3 * every},
+		{"interval opening past 20 min, crossing sooner", &Forecast{Targets: []TargetForecast{{State: StatePredicted, Earliest: last.Add(21 * time.Minute), At: last.Add(19 * time.Minute)}}}, every},
 		{"far", &Forecast{Targets: []TargetForecast{in(time.Hour), in(21 * time.Minute)}}, 3 * every},
 		{"far but one reached", &Forecast{Targets: []TargetForecast{in(time.Hour), {State: StateReached, At: last}}}, every},
 		{"far but one holding", &Forecast{Targets: []TargetForecast{in(time.Hour), {State: StateHolding}}}, every},
@@ -324,4 +326,44 @@ func TestReadyEndsWithTheReadings(t *testing.T) {
 			t.Errorf("%d readings at 60 °C after reaching 50 °C, the target still shows reached", k)
 		}
 	}
+}
+
+// TestPaceFollowsTheReadings: a channel fitted every 30 s because its target is 25 min
+// away is refitted at the usual 10 s once its readings show it 5 minutes further along
+// than fitted (the re-anchored crossing within 20 min), not 30 s after its last fit.
+// Our own invented curve: 180 °C toward 21 °C, τ = 1 h; 110 °C is crossed at
+// 3600·ln(159/89) ≈ 2,089 s.
+func TestPaceFollowsTheReadings(t *testing.T) {
+	start := time.Date(2026, 12, 3, 9, 0, 0, 0, time.UTC)
+	curve := func(s float64) float64 { return 21 + 159*math.Exp(-s/3600) }
+	tr := NewTracker([]Target{{Name: "t", Celsius: 110}}, TrackerOptions{})
+	var prev time.Time
+	fitted := func() bool { // a new fit since the last call
+		f := tr.Forecast()
+		if f == nil || f.FittedAt.Equal(prev) {
+			return false
+		}
+		prev = f.FittedAt
+		return true
+	}
+	s := 0
+	for ; s < 600 || !fitted(); s++ {
+		tr.SetAmbient(21)
+		tr.Add(start.Add(time.Duration(s)*time.Second), curve(float64(s)))
+	}
+	if tr.every != 30*time.Second {
+		t.Fatalf("at %d s, the crossing %v away, the pace is %v, want 30s", s, tr.Forecast().Targets[0].At.Sub(start.Add(time.Duration(s)*time.Second)), tr.every)
+	}
+	last := s - 1 // the reading the fit ended with
+	for ; s <= last+30; s++ {
+		tr.SetAmbient(21)
+		tr.Add(start.Add(time.Duration(s)*time.Second), curve(float64(s+300))) // 5 min further along
+		if fitted() {
+			if s-last > 12 {
+				t.Errorf("the next fit came %d s after the last, want about 10", s-last)
+			}
+			return
+		}
+	}
+	t.Errorf("no fit within 30 s of readings 5 min ahead of the curve")
 }

@@ -139,6 +139,16 @@ type Forecast struct {
 	SegmentStart time.Time
 	// FittedAt is the time of the last reading the fit used.
 	FittedAt time.Time
+	// UpdatedAt is the time of the newest reading the forecast reflects: FittedAt, or,
+	// from a Tracker, a later reading that re-anchored the fitted curve to where the
+	// readings are (its predicted crossings move with it; states change only at a fit).
+	// Zero from Analyze.
+	UpdatedAt time.Time
+	// Lead is how much earlier than its fit re-anchoring has put the predicted times
+	// (negative: later): the specimen's lead on the fitted curve at UpdatedAt. Zero as
+	// fitted. A predicted time re-anchoring held at UpdatedAt (a crossing the readings
+	// are about to show) moved by less.
+	Lead time.Duration
 	// Notes explain the model choice and any validity concern, one sentence each.
 	Notes []string
 	// OutOfRange is true when the model is used outside its validity range (for example

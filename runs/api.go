@@ -27,8 +27,9 @@ const MaxBodyBytes = 64 << 10
 type APIOptions struct {
 	// Token is the bearer token POST requests must carry; empty refuses every POST.
 	Token string
-	// Live returns the daemon's current forecast of a channel, or nil; reports of
-	// active runs use it. Nil: reports always refit from the journal.
+	// Live returns the daemon's latest fit of a channel (as fitted, not re-anchored to
+	// later readings, so that a report made after the run stops replays it), or nil;
+	// reports of active runs use it. Nil: reports always refit from the journal.
 	Live func(channel string) *predict.Forecast
 	// Channel returns a channel's configured targets and whether the channel exists;
 	// a run started without targets gets these, and a run on an unknown channel is

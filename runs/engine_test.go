@@ -22,9 +22,11 @@ var engineSpecs = []predict.ChannelSpec{
 // TestEngineReplaysTheLiveForecast records the demo cooling (180 → 22 °C, τ = 600 s,
 // our own invented scenario) with a measured room that drifts by 0.3 °C, while a live
 // bench fits it on its schedule as the daemon does; the run stops with RecordFinal of
-// the live forecast, as the daemon's stop handler does. Engine.Forecast must then give
-// that live forecast exactly: model, parameters, ambient, intervals; and Refit, which
-// fits its own ambient, must not (the disagreement issue 14 reported).
+// the live fit, as the daemon's stop handler does. Engine.Forecast must then give
+// that live fit exactly: model, parameters, ambient, intervals; and Refit, which
+// fits its own ambient, must not (the disagreement issue 14 reported). The live view
+// re-anchors the fit to the 4 readings after it: the same states, predicted times
+// moved together.
 func TestEngineReplaysTheLiveForecast(t *testing.T) {
 	j := openJournal(t)
 	opt := predict.TrackerOptions{MinFitGap: 0}
@@ -51,12 +53,23 @@ func TestEngineReplaysTheLiveForecast(t *testing.T) {
 			live.Observe(r.Channel, r.Time, r.Celsius)
 		}
 		if s%10 == 0 {
-			RecordBench(j, live.Snapshot())
+			RecordBench(j, live.SnapshotFitted())
 		}
 	}
 	// Readings after the last fit: the live forecast has not seen them, the replay
 	// must not either.
-	want := live.Snapshot()[0].Forecast
+	want := live.SnapshotFitted()[0].Forecast
+	shown := live.Snapshot()[0].Forecast
+	for i, tf := range shown.Targets {
+		w := want.Targets[i]
+		if tf.State != w.State || tf.Earliest.Sub(w.Earliest) != tf.At.Sub(w.At) || tf.Latest.Sub(w.Latest) != tf.At.Sub(w.At) {
+			t.Errorf("target %s shown %s %v [%v, %v], fitted %s %v [%v, %v]: want the same state, times moved together",
+				tf.Target.Name, tf.State, tf.At, tf.Earliest, tf.Latest, w.State, w.At, w.Earliest, w.Latest)
+		}
+	}
+	if !shown.UpdatedAt.Equal(t0.Add(1508 * time.Second)) {
+		t.Errorf("the live view reflects the reading at %v, want the last, at 1508 s", shown.UpdatedAt)
+	}
 	if !want.FittedAt.Equal(t0.Add(1500 * time.Second)) {
 		t.Fatalf("live fit at %v, want the last at 1500 s (4 readings after it unfitted)", want.FittedAt)
 	}

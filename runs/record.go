@@ -26,7 +26,9 @@ func forecastPoint(fc *predict.Forecast, tf predict.TargetForecast) journal.Fore
 
 // RecordFinal stores fc's target forecasts as the last of run runID's history, even
 // when they moved too little for RecordForecasts: the daemon calls it as a run stops
-// (and as it stops itself), so the history ends with the forecast it showed.
+// (and as it stops itself), so the history ends with the forecast it last fitted (the
+// live view re-anchors it to the readings since, predict.Bench.Snapshot; the history
+// keeps fits, which a replay reproduces).
 func RecordFinal(j *journal.Journal, runID string, fc *predict.Forecast) {
 	if fc == nil {
 		return
@@ -37,15 +39,16 @@ func RecordFinal(j *journal.Journal, runID string, fc *predict.Forecast) {
 }
 
 // RecordBench stores the forecasts of every channel in states that has an active run
-// (see RecordForecasts). The daemon calls it every few seconds with Bench.Snapshot();
+// (see RecordForecasts). The daemon calls it every few seconds with
+// Bench.SnapshotFitted();
 // it touches no disk itself (the journal commits with its next batch).
 func RecordBench(j *journal.Journal, states []predict.ChannelState) {
 	eachActive(j, states, RecordForecasts)
 }
 
 // RecordFinalBench ends the forecast history of every active run among states with
-// the forecast shown now (RecordFinal): the daemon calls it as it stops, so a report
-// made afterwards replays exactly the readings that forecast used.
+// its latest fit (RecordFinal; states from Bench.SnapshotFitted): the daemon calls it as
+// it stops, so a report made afterwards replays exactly the readings that fit used.
 func RecordFinalBench(j *journal.Journal, states []predict.ChannelState) {
 	eachActive(j, states, RecordFinal)
 }

@@ -7,6 +7,8 @@ import (
 	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
+
+	"github.com/settle-lab/settle/predict"
 )
 
 // The causes of settle_readings_dropped_total.
@@ -105,4 +107,27 @@ func (s *replayState) health() map[string]any {
 		out["replay_seconds"] = time.Duration(s.took.Load()).Seconds()
 	}
 	return out
+}
+
+// fitCollector exports the bench's fit counters: settle_fit_runs_total and
+// settle_fit_seconds_total (see predict.Bench.FitStats), what the schedule costs.
+type fitCollector struct {
+	bench      *predict.Bench
+	runs, secs *prometheus.Desc
+}
+
+func newFitCollector(b *predict.Bench) *fitCollector {
+	return &fitCollector{bench: b,
+		runs: prometheus.NewDesc("settle_fit_runs_total", "Model fits run on every channel since start.", nil, nil),
+		secs: prometheus.NewDesc("settle_fit_seconds_total", "Time the fits took in all (wall-clock seconds, summed over the fit workers).", nil, nil)}
+}
+
+// Describe implements prometheus.Collector.
+func (c *fitCollector) Describe(ch chan<- *prometheus.Desc) { ch <- c.runs; ch <- c.secs }
+
+// Collect implements prometheus.Collector.
+func (c *fitCollector) Collect(ch chan<- prometheus.Metric) {
+	n, took := c.bench.FitStats()
+	ch <- prometheus.MustNewConstMetric(c.runs, prometheus.CounterValue, float64(n))
+	ch <- prometheus.MustNewConstMetric(c.secs, prometheus.CounterValue, took.Seconds())
 }

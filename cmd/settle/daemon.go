@@ -63,7 +63,7 @@ func newDaemon(cfg *config.Config, log *slog.Logger) (*daemon, error) {
 	reg := exporter.NewRegistry(state)
 	reg.Log, d.metrics = log, reg
 	d.drops.journal = func() uint64 { return d.rec.j.Health().Dropped }
-	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops)
+	reg.MustRegister(exporter.NewJournalCollector(d.rec.j.Health), d.drops, newFitCollector(d.bench))
 	d.srv = exporter.NewServer(exporter.NewHandler(state, reg, exporter.Options{
 		Runs: d.rec.runsAPI(d.bench, cfg.HTTP.Token, &runs.Engine{Specs: specs, Options: trackerOptions}), Token: cfg.HTTP.Token, Display: exporter.Display{Fahrenheit: cfg.Display.Fahrenheit(), TimeLapse: cfg.Display.TimeLapse}, Webhooks: cfg.Notify.Webhooks, Log: log,
 		Health: d.replay.health, Placement: d.rec.placementAPI(),

@@ -126,7 +126,7 @@ func (r *recorder) runsAPI(bench *predict.Bench, token string, engine *runs.Engi
 		Token:  token,
 		Engine: engine,
 		Live: func(channel string) *predict.Forecast {
-			for _, s := range bench.Snapshot() {
+			for _, s := range bench.SnapshotFitted() { // a report reproduces fits, not re-anchoring
 				if s.Name == channel {
 					return s.Forecast
 				}
@@ -180,7 +180,7 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed 
 		case <-ctx.Done():
 			select {
 			case <-replayed:
-				runs.RecordFinalBench(r.j, bench.Snapshot()) // the last forecasts before shutdown
+				runs.RecordFinalBench(r.j, bench.SnapshotFitted()) // the last fits before shutdown
 			default:
 			}
 			return
@@ -196,7 +196,7 @@ func (r *recorder) maintain(ctx context.Context, bench *predict.Bench, replayed 
 			}
 			bench.FitPending()
 			if now.Sub(last) >= historyEvery {
-				runs.RecordBench(r.j, bench.Snapshot())
+				runs.RecordBench(r.j, bench.SnapshotFitted())
 				last = now
 			}
 		}

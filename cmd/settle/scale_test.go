@@ -10,6 +10,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
@@ -66,7 +67,8 @@ func scaleSpan(t *testing.T) time.Duration {
 // fitted: the costlier case) with a handling target. It asserts what must hold at any
 // size — every channel forecast, no reading dropped — and logs what a lab sizing a
 // machine needs: the daemon's CPU (share of one core), its peak memory, how old the
-// forecasts are, and the journal's growth per channel-day. The figures are measured,
+// forecasts are (the newest reading each reflects, and its fit), and the journal's
+// growth per channel-day. The figures are measured,
 // not asserted (see the README's performance table).
 func TestScaleChannels(t *testing.T) {
 	bin := buildSettle(t)
@@ -122,8 +124,9 @@ func runScale(t *testing.T, bin string, channels int, span time.Duration) {
 	// placements (every channel jumps from the room to its specimen at once). The
 	// forecasts' ages are sampled every 2 s while the lines flow.
 	time.Sleep(span / 2)
+	m0 := scrape(t, base)
 	cpu0, at0 := procCPU(t, cmd.Process.Pid), time.Now()
-	var ages []float64
+	var ages, fitAges []float64
 	missing := map[string]bool{}
 	for time.Since(at0) < span/2 {
 		time.Sleep(2 * time.Second)
@@ -132,7 +135,8 @@ func runScale(t *testing.T, bin string, channels int, span time.Duration) {
 		for _, c := range resp.Channels {
 			missing[c.Name] = c.Forecast == nil
 			if c.Forecast != nil {
-				ages = append(ages, resp.GeneratedAt.Sub(c.Forecast.FittedAt).Seconds())
+				ages = append(ages, resp.GeneratedAt.Sub(c.Forecast.UpdatedAt).Seconds())
+				fitAges = append(fitAges, resp.GeneratedAt.Sub(c.Forecast.FittedAt).Seconds())
 			}
 		}
 	}
@@ -154,7 +158,11 @@ func runScale(t *testing.T, bin string, channels int, span time.Duration) {
 		}
 	}
 	slices.Sort(ages)
-	core := (cpu1 - cpu0) / at1.Sub(at0).Seconds()
+	slices.Sort(fitAges)
+	window := at1.Sub(at0).Seconds()
+	core := (cpu1 - cpu0) / window
+	fits := (m["settle_fit_runs_total"] - m0["settle_fit_runs_total"]) / window
+	busy := (m["settle_fit_seconds_total"] - m0["settle_fit_seconds_total"]) / window
 	peak := procPeakRSS(t, cmd.Process.Pid)
 	// The journal's growth: stop the daemon (its last commit and checkpoint), then
 	// the files' size over the empty journal's, per reading, scaled to a day at 1 Hz.
@@ -162,8 +170,9 @@ func runScale(t *testing.T, bin string, channels int, span time.Duration) {
 	cmd.Wait()
 	perDay := (checkpointedBytes(t, dir) - checkpointedBytes(t, t.TempDir())) /
 		(m["settle_journal_committed_readings_total"] + m["settle_journal_pending_readings"]) * 86400
-	t.Logf("%d channels at 1 Hz (ambient fitted), %v: daemon CPU %.2f of a core; peak memory %.0f MB (%.0f MB idle, so %.2f MB a channel); forecast age (the schedule fits every 10 s of readings) median %.1f s, 90th percentile %.1f s, max %.1f s; journal %.2f MB per channel-day",
-		channels, span, core, peak/1e6, idle/1e6, (peak-idle)/1e6/float64(channels), ages[len(ages)/2], ages[len(ages)*9/10], ages[len(ages)-1], perDay/1e6)
+	t.Logf("%d channels at 1 Hz (ambient fitted), %v: daemon CPU %.2f of a core; %.0f fits a second (%.3f per channel-second; the fit workers busy %.2f of the time each, waiting for the CPU included); peak memory %.0f MB (%.0f MB idle, so %.2f MB a channel); forecast age (the newest reading it reflects, updated_at) median %.1f s, 90th percentile %.1f s, max %.1f s; fit age (fitted_at; fits every 5, 10 or 30 s of readings) median %.1f s, 90th percentile %.1f s, max %.1f s; journal %.2f MB per channel-day",
+		channels, span, core, fits, fits/float64(channels), busy/float64(runtime.GOMAXPROCS(0)), peak/1e6, idle/1e6, (peak-idle)/1e6/float64(channels), ages[len(ages)/2], ages[len(ages)*9/10], ages[len(ages)-1],
+		fitAges[len(fitAges)/2], fitAges[len(fitAges)*9/10], fitAges[len(fitAges)-1], perDay/1e6)
 }
 
 // feedLogger sends one line a second on p, one value per column: logger i's channels

@@ -27,16 +27,27 @@ type Forecast struct {
 	Points        int       `json:"points"`
 	SegmentStart  time.Time `json:"segment_start"`
 	FittedAt      time.Time `json:"fitted_at"`
-	Notes         []string  `json:"notes"`
+	// UpdatedAt is the newest reading the forecast reflects (predict.Forecast.UpdatedAt):
+	// FittedAt, or a later reading that re-anchored the fit between fits.
+	UpdatedAt time.Time `json:"updated_at"`
+	// LeadS is how many seconds earlier than the fit re-anchoring has put the predicted
+	// times (predict.Forecast.Lead; negative: later); 0 as fitted.
+	LeadS float64  `json:"lead_s"`
+	Notes []string `json:"notes"`
 }
 
-// NewForecast is f in JSON form.
+// NewForecast is f in JSON form. A forecast straight from a fit (UpdatedAt zero) is
+// updated when it was fitted.
 func NewForecast(f *predict.Forecast) *Forecast {
+	updated := f.UpdatedAt
+	if updated.IsZero() {
+		updated = f.FittedAt
+	}
 	return &Forecast{
 		Model: f.Model, Parameters: Params(f.Params), TimeConstantS: jsonval.Num(f.TimeConstant.Seconds()),
 		AmbientC: jsonval.Num(f.Ambient), RMSEC: jsonval.Num(f.RMSE), Biot: jsonval.Num(f.Biot),
 		OutOfRange: f.OutOfRange, Points: f.Points, SegmentStart: f.SegmentStart.UTC(),
-		FittedAt: f.FittedAt.UTC(), Notes: append([]string{}, f.Notes...),
+		FittedAt: f.FittedAt.UTC(), UpdatedAt: updated.UTC(), LeadS: f.Lead.Seconds(), Notes: append([]string{}, f.Notes...),
 	}
 }
 

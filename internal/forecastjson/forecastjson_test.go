@@ -60,6 +60,28 @@ func TestFileFitAxis(t *testing.T) {
 	}
 }
 
+// TestForecastUpdatedAt: a forecast re-anchored by later readings says so beside its
+// fit time, with how far it moved (lead_s); one straight from a fit (settle fit, a
+// report: UpdatedAt zero) is updated when fitted. Expected values are the inputs (our
+// own format).
+func TestForecastUpdatedAt(t *testing.T) {
+	for _, tc := range []struct {
+		name    string
+		updated time.Time
+		lead    time.Duration
+		want    time.Time
+	}{
+		{"re-anchored", t0.Add(17 * time.Second), -2500 * time.Millisecond, t0.Add(17 * time.Second)},
+		{"as fitted", time.Time{}, 0, t0},
+	} {
+		f := &predict.Forecast{Model: "lumped", FittedAt: t0, UpdatedAt: tc.updated, Lead: tc.lead, Biot: math.NaN()}
+		got := NewForecast(f)
+		if !got.FittedAt.Equal(t0) || !got.UpdatedAt.Equal(tc.want) || got.LeadS != tc.lead.Seconds() {
+			t.Errorf("%s: fitted_at %v, updated_at %v, lead_s %v; want %v, %v and %v", tc.name, got.FittedAt, got.UpdatedAt, got.LeadS, t0, tc.want, tc.lead.Seconds())
+		}
+	}
+}
+
 // TestFileFitOpenEnded: an open-ended interval keeps its early bound on the file's axis
 // and has null for the late end, the due time and (no central estimate) t_s, never
 // a time computed from a zero one. Expected seconds worked by hand: origin is t0 − 10 s.
