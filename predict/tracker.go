@@ -431,13 +431,19 @@ const (
 	nearTarget = 5 * time.Minute  // a target due sooner is near: FitEvery/2
 	farTarget  = 20 * time.Minute // no target due sooner is far: farFactor × FitEvery
 	farFactor  = 3
+	// A segment younger than learnSpan whose fit predicts no target yet (every pending
+	// target insufficient) is refitted at FitEvery/2: nothing can be re-anchored until
+	// a fit predicts, so the first forecast comes sooner, and a curve the engine cannot
+	// read does not keep the quicker pace for good.
+	learnSpan = 10 * time.Minute
 )
 
 // fitInterval returns the reading time until the next fit after forecast f, whose
 // last reading was at last: FitEvery/2 while a pending target's predicted crossing
 // is within nearTarget, farFactor × FitEvery while every pending target's predicted
 // crossing (for an open-ended interval without one, its opening) is beyond farTarget
-// and no interval opens within nearTarget, and FitEvery
+// and no interval opens within nearTarget, FitEvery/2 while learning (every pending
+// target insufficient, in the segment's first learnSpan), and FitEvery
 // otherwise — always FitEvery while there is no forecast, the position is empty, or
 // any target is reached or holding (a state the readings may take back, which must
 // not stand longer than it does today). A wide interval no longer keeps the usual pace
@@ -452,10 +458,13 @@ func fitInterval(f *Forecast, last time.Time, every time.Duration) time.Duration
 	// The soonest predicted crossing, interval opening, and crossing or (an open-ended
 	// interval without a central estimate) opening.
 	at, earliest, soonest := never, never, never
+	learning := last.Sub(f.SegmentStart) < learnSpan
 	for _, tf := range f.Targets {
 		switch tf.State {
 		case StateReached, StateHolding:
 			return every
+		case StateInsufficient:
+			continue
 		case StatePredicted:
 			earliest = min(earliest, tf.Earliest.Sub(last))
 			if tf.At.IsZero() { // an open-ended interval without a central estimate
@@ -465,9 +474,10 @@ func fitInterval(f *Forecast, last time.Time, every time.Duration) time.Duration
 			at = min(at, tf.At.Sub(last))
 			soonest = min(soonest, tf.At.Sub(last))
 		}
+		learning = false // a state decided or predicted: not learning
 	}
 	switch {
-	case at <= nearTarget:
+	case at <= nearTarget, learning:
 		return every / 2
 	case soonest > farTarget && soonest != never && earliest > nearTarget:
 		return farFactor * every

@@ -209,8 +209,10 @@ func TestTrackerMugMisfit(t *testing.T) {
 
 // TestFitIntervalFollowsTheForecast: the next fit comes sooner when a target's
 // predicted crossing is within 5 minutes, later when every pending target's crossing
-// is more than 20 minutes away and no interval opens within 5, and at the usual FitEvery while a target is reached or holding (a state the
-// readings may take back), the position is empty or nothing is forecast.
+// is more than 20 minutes away and no interval opens within 5, sooner while a young
+// segment's fit predicts nothing yet, and at the usual FitEvery while a target is
+// reached or holding (a state the readings may take back), the position is empty or
+// nothing is forecast.
 func TestFitIntervalFollowsTheForecast(t *testing.T) {
 	last := time.Date(2026, 12, 3, 10, 0, 0, 0, time.UTC)
 	in := func(d time.Duration) TargetForecast {
@@ -232,7 +234,9 @@ func TestFitIntervalFollowsTheForecast(t *testing.T) {
 		{"far", &Forecast{Targets: []TargetForecast{in(time.Hour), in(21 * time.Minute)}}, 3 * every},
 		{"far but one reached", &Forecast{Targets: []TargetForecast{in(time.Hour), {State: StateReached, At: last}}}, every},
 		{"far but one holding", &Forecast{Targets: []TargetForecast{in(time.Hour), {State: StateHolding}}}, every},
-		{"nothing predicted", &Forecast{Targets: []TargetForecast{{State: StateInsufficient}}}, every},
+		{"learning: nothing predicted, segment 3 min old", &Forecast{SegmentStart: last.Add(-3 * time.Minute), Targets: []TargetForecast{{State: StateInsufficient}, {State: StateInsufficient}}}, every / 2},
+		{"nothing predicted after 10 min", &Forecast{SegmentStart: last.Add(-11 * time.Minute), Targets: []TargetForecast{{State: StateInsufficient}}}, every},
+		{"one insufficient, one unreachable", &Forecast{SegmentStart: last.Add(-3 * time.Minute), Targets: []TargetForecast{{State: StateInsufficient}, {State: StateUnreachable}}}, every},
 		{"not before, far", &Forecast{Targets: []TargetForecast{{State: StatePredicted, Earliest: last.Add(time.Hour)}}}, 3 * every},
 	} {
 		if got := fitInterval(c.f, last, every); got != c.want {
