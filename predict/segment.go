@@ -163,14 +163,62 @@ func Spikes(c []float64, minSpike float64) []bool {
 	return bad
 }
 
-// median returns the median of xs (it sorts a copy).
+// median returns the median of xs: the element a sort would put at len(xs)/2 (the
+// upper median), found on a copy by selection, which is linear where a sort is not (the
+// sort of a 2,000-reading segment's second differences was about 5 % of a fit; the
+// standard library has no selection). With a NaN in xs it sorts the copy, as before.
 func median(xs []float64) float64 {
 	if len(xs) == 0 {
 		return math.NaN()
 	}
 	s := slices.Clone(xs)
-	slices.Sort(s)
-	return s[len(s)/2]
+	if slices.ContainsFunc(s, math.IsNaN) {
+		slices.Sort(s)
+		return s[len(s)/2]
+	}
+	return selectKth(s, len(s)/2)
+}
+
+// selectKth returns the element of s a sort would put at k, reordering s (Hoare's
+// selection with a median-of-three pivot; s holds no NaN).
+func selectKth(s []float64, k int) float64 {
+	lo, hi := 0, len(s)-1
+	for lo < hi {
+		mid := lo + (hi-lo)/2
+		if s[mid] < s[lo] {
+			s[mid], s[lo] = s[lo], s[mid]
+		}
+		if s[hi] < s[lo] {
+			s[hi], s[lo] = s[lo], s[hi]
+		}
+		if s[hi] < s[mid] {
+			s[hi], s[mid] = s[mid], s[hi]
+		}
+		pivot := s[mid]
+		i, j := lo, hi
+		for i <= j {
+			for s[i] < pivot {
+				i++
+			}
+			for pivot < s[j] {
+				j--
+			}
+			if i <= j {
+				s[i], s[j] = s[j], s[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return s[k]
+		}
+	}
+	return s[k]
 }
 
 // spikeMin is the least deviation from the running median, °C, that counts as a spike.
