@@ -235,13 +235,7 @@ func TestPermanentFailureIsNotRetried(t *testing.T) {
 	if _, err := n.Test("nope", seg); err == nil {
 		t.Error("Test of an unknown webhook gave no error")
 	}
-	deadline := time.Now().Add(10 * time.Second)
-	for testutil.ToFloat64(n.dropped.WithLabelValues("bench")) != 1 {
-		if time.Now().After(deadline) {
-			t.Fatal("the event was never given up")
-		}
-		time.Sleep(10 * time.Millisecond)
-	}
+	waitGivenUp(t, n, "bench")
 	if req, _, _ := rv.snapshot(); req != 1 {
 		t.Errorf("requests = %d, want 1 (410 Gone is not retried)", req)
 	}
@@ -253,13 +247,7 @@ func TestRetriesGiveUp(t *testing.T) {
 	defer srv.Close()
 	n, _ := start(t, []Webhook{{Name: "bench", URL: srv.URL}}, Options{Attempts: 3})
 	n.Test("bench", seg)
-	deadline := time.Now().Add(10 * time.Second)
-	for testutil.ToFloat64(n.dropped.WithLabelValues("bench")) != 1 {
-		if time.Now().After(deadline) {
-			t.Fatal("the event was never given up")
-		}
-		time.Sleep(10 * time.Millisecond)
-	}
+	waitGivenUp(t, n, "bench")
 	if req, _, _ := rv.snapshot(); req != 3 {
 		t.Errorf("requests = %d, want 3 attempts", req)
 	}
@@ -325,5 +313,17 @@ func TestOpenEndedHandlingHasNoDue(t *testing.T) {
 		if got := c.tg.due(); !got.Equal(c.want) {
 			t.Errorf("%s: due %v, want %v", c.name, got, c.want)
 		}
+	}
+}
+
+// waitGivenUp waits up to 10 s for the notifier to give up one event to webhook.
+func waitGivenUp(t *testing.T, n *Notifier, webhook string) {
+	t.Helper()
+	deadline := time.Now().Add(10 * time.Second)
+	for testutil.ToFloat64(n.dropped.WithLabelValues(webhook)) != 1 {
+		if time.Now().After(deadline) {
+			t.Fatal("the event was never given up")
+		}
+		time.Sleep(10 * time.Millisecond)
 	}
 }

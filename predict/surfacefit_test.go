@@ -88,14 +88,7 @@ func benchmarkH(b *testing.B, fit func(p LumpedProblem)) {
 	for i := range p.Celsius {
 		p.Celsius[i] = 0.1 * math.Round((p.Celsius[i]+0.1*rng.NormFloat64())/0.1)
 	}
-	b.ReportAllocs()
-	c0 := cpuTime()
-	for b.Loop() {
-		fit(p)
-	}
-	if c := cpuTime() - c0; c > 0 {
-		b.ReportMetric(float64(c.Nanoseconds())/float64(b.N), "cpu-ns/op")
-	}
+	benchmarkCurve(b, p, fit)
 }
 
 // BenchmarkFitH2000 fits the h(T) model to 2,000 readings of a cooling steel bar.

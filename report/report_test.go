@@ -6,6 +6,7 @@ import (
 	"image/png"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"testing"
 	"time"
@@ -77,7 +78,7 @@ func checkCSV(t *testing.T, path string, rows int) {
 	if err != nil {
 		t.Fatalf("CSV %s does not parse: %v", path, err)
 	}
-	if len(recs) != rows+1 || !equal(recs[0], report.CSVHeader) {
+	if len(recs) != rows+1 || !slices.Equal(recs[0], report.CSVHeader) {
 		t.Fatalf("CSV has %d rows (header %v), want %d plus the header", len(recs), recs[0], rows)
 	}
 	first, err := time.Parse(time.RFC3339, recs[1][0])
@@ -184,18 +185,6 @@ func TestSafeCell(t *testing.T) {
 			t.Errorf("report.SafeCell(%q) = %q, want %q", in, got, want)
 		}
 	}
-}
-
-func equal(a, b []string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 func TestModelReportsH(t *testing.T) {
