@@ -155,12 +155,11 @@ func (b *Bench) snapshot(fitted bool) []ChannelState {
 func (tr *Tracker) state(fitted bool) ChannelState {
 	tr.mu.Lock()
 	defer tr.mu.Unlock()
-	f := tr.view()
-	if fitted {
-		f = copyForecast(tr.forecast)
-		if f != nil {
-			f.UpdatedAt = f.FittedAt
-		}
+	var f *Forecast
+	if !fitted {
+		f = tr.view()
+	} else if f = copyForecast(tr.forecast); f != nil {
+		f.UpdatedAt = f.FittedAt
 	}
 	return ChannelState{LastTime: tr.last, LastCelsius: tr.lastC, Readings: tr.readings, Forecast: f}
 }
