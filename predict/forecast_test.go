@@ -226,7 +226,10 @@ func TestInflation(t *testing.T) {
 }
 
 // TestDirectionUnknownSaysWhy: with no measured ambient a curve whose direction is not
-// known gets no forecast, and the note says why in the terms of the case: a specimen
+// known gets no forecast time — no central estimate, no late end; the oven warm-up,
+// still moving away from the room and slowing steadily, gets at most "not before" a
+// time after its last reading (speedBound) — and the note says why in the terms of the
+// case: a specimen
 // warming in an unmeasured oven (still at its extreme, far from the room) is told to
 // give the oven's set point, not that its readings lie near the room. Our own invented
 // curves: an oven at 180 °C with τ = 600 s seen for 5 minutes, and one near a 22 °C room.
@@ -247,12 +250,94 @@ func TestDirectionUnknownSaysWhy(t *testing.T) {
 			}
 			p, onset, _ := Prepare(ts, cs, nil)
 			f := Analyze(p, time.Unix(0, 0).Add(seconds(onset)), []Target{{Name: "t", Celsius: c.tgt}}, AnalyzeOptions{})
-			if st := f.Targets[0].State; st != StateInsufficient {
-				t.Errorf("state %s, want insufficient", st)
+			tf := f.Targets[0]
+			last := time.Unix(0, 0).Add(seconds(onset + p.Times[len(p.Times)-1]))
+			notBefore := tf.State == StatePredicted && tf.At.IsZero() && tf.Latest.IsZero() && tf.Earliest.After(last)
+			if tf.State != StateInsufficient && !notBefore {
+				t.Errorf("%s at %v [%v, %v], want insufficient or only not-before a time after %v", tf.State, tf.At, tf.Earliest, tf.Latest, last)
 			}
 			if !slices.ContainsFunc(f.Notes, func(n string) bool { return strings.Contains(n, c.want) }) {
 				t.Errorf("notes %q, want one with %q", f.Notes, c.want)
 			}
+		})
+	}
+}
+
+// lumpedWarmUp simulates a lumped body of time constant tau (s) starting at t0c in air
+// whose temperature air(t) it follows (dT/dt = (air − T)/tau, small Euler steps), read
+// every dt seconds until end with Gaussian noise of sd °C.
+func lumpedWarmUp(rng *rand.Rand, air func(float64) float64, t0c, tau, dt, end, sd float64) (ts, cs, truth []float64) {
+	const h = 0.05
+	temp, next := t0c, 0.0
+	for s := 0.0; s <= end; s += h {
+		if s >= next {
+			ts, truth = append(ts, s), append(truth, temp)
+			cs = append(cs, temp+sd*rng.NormFloat64())
+			next += dt
+		}
+		temp += h * (air(s) - temp) / tau
+	}
+	return ts, cs, truth
+}
+
+// TestSpeedBoundNeverLate: specimens warming in an oven whose air is not measured get
+// "not before" a time for a target ahead of the readings (never a central estimate,
+// never a late end, never for a handling target), and that time is never after the
+// true crossing — swept over cutoffs every 40 s, through a door opened for two minutes
+// (the air drops by 60 K; the recovery after it is the fastest the readings ever move
+// again) and through an oven still ramping to its set point when the specimen went in.
+// Our own invented records: 180 °C oven, specimen from 21 °C, read every 5 s, 0.1 °C
+// noise.
+func TestSpeedBoundNeverLate(t *testing.T) {
+	for _, c := range []struct {
+		name     string
+		tau      float64
+		minFired int // cutoffs that must get a not-before (the rule still applies)
+		air      func(float64) float64
+	}{
+		{"door at 900 s", 600, 10, func(s float64) float64 {
+			if s >= 900 && s < 1020 {
+				return 120
+			}
+			return 180
+		}},
+		// While the air ramps the readings speed up, so no quarter-by-quarter slowing is
+		// seen before the crossing: no answer, which is right.
+		{"oven ramping for 15 min", 300, 0, func(s float64) float64 { return min(21+159*s/900, 180) }},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(51, 52))
+			ts, cs, truth := lumpedWarmUp(rng, c.air, 21, c.tau, 5, 6000, 0.1)
+			const level = 175.0
+			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return v >= level })]
+			fired := 0
+			step := 40.0
+			if raceEnabled {
+				step = 160
+			}
+			for upTo := 100.0; upTo < cross; upTo += step {
+				n := slices.IndexFunc(ts, func(s float64) bool { return s > upTo })
+				p, onset, _ := Prepare(ts[:n], cs[:n], nil)
+				f := Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "hot", Celsius: level}, {Name: "handle", Celsius: level, Handling: true}}, AnalyzeOptions{})
+				if h := f.Targets[1]; h.State != StateInsufficient {
+					t.Fatalf("%.0f s: handling target %s on a warming specimen", upTo, h.State)
+				}
+				tf := f.Targets[0]
+				if tf.State == StateInsufficient {
+					continue
+				}
+				if tf.State != StatePredicted || !tf.At.IsZero() || !tf.Latest.IsZero() {
+					t.Fatalf("%.0f s: %s at %v [%v, %v]; want insufficient or only a not-before", upTo, tf.State, tf.At, tf.Earliest, tf.Latest)
+				}
+				fired++
+				if lo := tf.Earliest.Sub(t0).Seconds(); lo > cross {
+					t.Errorf("%.0f s: not before %.0f s, after the true crossing at %.0f s", upTo, lo, cross)
+				}
+			}
+			if fired < c.minFired {
+				t.Errorf("only %d of the cutoffs got a not-before: the rule no longer applies to a plain oven warm-up", fired)
+			}
+			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", fired, cross)
 		})
 	}
 }

@@ -354,3 +354,37 @@ func TestEarlyDipDoesNotUnreach(t *testing.T) {
 		t.Errorf("%s: %s", s.name, msg)
 	}
 }
+
+// TestCatchingUpForecastsNoHandling: a hot specimen just placed on a thermocouple that
+// reads the room (our own invented record: 21 °C room, a 180 °C specimen, the sensor
+// catching up with a time constant of 20 s, read every 2 s, no ambient measured). While
+// the readings rise to their peak they look like a specimen warming in an unmeasured
+// oven — even once the rise has bent over — so a handling target (50 °C) gets no
+// forecast at all: no time, no bound, never reached; nor is a cooling target the
+// readings passed on the way up (100 °C) called reached.
+func TestCatchingUpForecastsNoHandling(t *testing.T) {
+	const room, hot, sensorTau = 21.0, 180.0, 20.0
+	rng := rand.New(rand.NewPCG(41, 42))
+	var ts, cs []float64
+	for s := 0.0; s <= 150; s += 2 {
+		ts = append(ts, s)
+		cs = append(cs, hot+(room-hot)*math.Exp(-s/sensorTau)+0.1*rng.NormFloat64())
+	}
+	targets := []Target{{Name: "handle", Celsius: 50, Handling: true}, {Name: "cool", Celsius: 100}}
+	for _, upTo := range []float64{10, 30, 60, 100, 150} { // 0.5 to 7.5 sensor time constants
+		n := slices.IndexFunc(ts, func(s float64) bool { return s > upTo })
+		if n < 0 {
+			n = len(ts)
+		}
+		p, onset, _ := Prepare(ts[:n], cs[:n], nil)
+		f := Analyze(p, t0.Add(seconds(onset)), targets, AnalyzeOptions{})
+		h := f.Targets[0]
+		if h.State != StateInsufficient || !h.At.IsZero() || !h.Earliest.IsZero() || !h.Latest.IsZero() {
+			t.Errorf("%.0f s after placing: handling target %s, at %v [%v, %v]; want insufficient with no time\nnotes: %s",
+				upTo, h.State, h.At, h.Earliest, h.Latest, strings.Join(f.Notes, " | "))
+		}
+		if c := f.Targets[1]; c.State == StateReached || c.State == StateUnreachable {
+			t.Errorf("%.0f s after placing: the 100 °C target is %s while the readings still rise", upTo, c.State)
+		}
+	}
+}
