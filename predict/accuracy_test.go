@@ -329,10 +329,11 @@ func group(c benchgen.Case) string {
 // on the independent generator (not the goals, which it does not all meet;
 // see README "Forecast accuracy"): at 25 % elapsed, median relative error at most
 // 8 % without the description and 4 % with it, fan and oven cases with it at most 7 %;
-// ~90 % interval coverage over all fractions at least 72 % without the description
-// (74 % measured, 81 % before open-ended answers: "not before now" beside a central
-// estimate, where a closed interval used to be, counts as a miss) and within 85–97 %
-// with it; median width at 25 % elapsed at most 0.5 and 0.3.
+// ~90 % interval coverage over all fractions at least 78 % without the description
+// (81.5 % measured; 74 % before the readings' own speed bounded "not before" answers —
+// speedFloor, speedBound — and 81 % before open-ended answers: "not before now" beside
+// a central estimate, where a closed interval used to be, counts as a miss) and within
+// 85–97 % with it; median width at 25 % elapsed at most 0.5 and 0.3.
 func TestAccuracyTable(t *testing.T) {
 	if testing.Short() {
 		t.Skip("accuracy benchmark skipped with -short")
@@ -369,7 +370,7 @@ func TestAccuracyTable(t *testing.T) {
 	for _, c := range []struct {
 		method string
 		lo, hi float64
-	}{{"engine", 0.72, 0.97}, {"engine+spec", 0.85, 0.97}} {
+	}{{"engine", 0.78, 0.97}, {"engine+spec", 0.85, 0.97}} {
 		var covered, judged int
 		for _, fr := range fractions {
 			s := sc[fmt.Sprintf("%s/%.2f/all", c.method, fr)]

@@ -606,6 +606,16 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		if nb := f.notBefore(out, u, false); nb.State == StatePredicted && nb.Earliest.Before(out.Earliest) {
 			out.Earliest = nb.Earliest
 		}
+		// The readings' own speed may bound the crossing later still (speedFloor); a
+		// central estimate before that bound is no estimate at all.
+		if s, steady := f.speedFloor(out.Celsius); steady {
+			if e := f.abs(s).Add(hold); e.After(out.Earliest) {
+				out.Earliest = e
+			}
+			if out.At.Before(out.Earliest) {
+				out.At = out.Earliest
+			}
+		}
 		out.Latest = time.Time{}
 		f.note(fmt.Sprintf("%.1f °C lies within the uncertainty of the fitted settling temperature %.1f ± %.1f °C: some settling temperatures the readings allow never reach it, so its interval has no late end.",
 			out.Celsius, f.fit.ambient(), u))
@@ -634,7 +644,13 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // lumped or h(T) fit only: a measured ambient has no such range, and a conduction
 // fit judges a handling target at the core. With no usable fit (f.fit nil: no model
 // resolves the readings yet, but their direction is known), the far end is the room
-// prior's. Insufficient (out unchanged) when even the far end does not reach the
+// prior's. When the readings head toward the target and slow steadily, the bound is
+// raised to the soonest they can get there at their present speed (speedFloor: a body
+// settling toward a fixed temperature only slows), the later of two lower bounds; on
+// the generated benchmark without descriptions this lifted coverage at 25 % elapsed
+// from 80 to 86 % (answers opening at the last reading 6 → 4), none after the truth.
+// Insufficient (out
+// unchanged) when even the far end does not reach the
 // target, the refit fails (fewer than LumpedSettings' MinPoints readings), or the
 // bound would be the last reading itself with no central estimate beside it ("not
 // before now" says nothing).
@@ -654,6 +670,9 @@ func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) Ta
 		return out
 	}
 	lo, ok := f.profileBound(out.Celsius, far)
+	if s, steady := f.speedFloor(out.Celsius); ok && steady {
+		lo = max(lo, s)
+	}
 	last := f.p.Times[len(f.p.Times)-1]
 	if !ok || math.IsNaN(lo) || lo <= last && out.At.IsZero() {
 		return out // no bound, or "not before now" with no central estimate: says nothing
@@ -777,32 +796,50 @@ func awayFromRoom(m []float64) float64 {
 // none came after the true crossing; they lie 25–70 % of the way there
 // (TestSpeedBoundNeverLate holds a door opening and a ramping oven).
 func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
+	c := f.p.Celsius
+	if f.away*(out.Celsius-c[len(c)-1]) <= f.tol {
+		return out
+	}
+	lo, ok := f.speedFloor(out.Celsius)
+	if !ok {
+		return out
+	}
+	out.State = StatePredicted
+	out.Earliest = f.abs(lo).Add(out.Target.Hold)
+	f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate: the readings still move away from the room and slow steadily, and a body settling toward a fixed temperature (an oven left at its setting) never moves faster than it does now; the way left over the present speed is the soonest it can get there.", out.Celsius, seconds(lo).Round(time.Second)))
+	return out
+}
+
+// speedFloor is the soonest the readings can reach level, s from the segment start, if
+// they settle toward a fixed temperature beyond it: the last reading plus the way left
+// over the speed of the readings' last quarter toward level (least squares, taken high
+// by two standard errors). ok is false unless the readings head toward level and slow
+// steadily: each of their four quarters (at least 5 readings each) slower than the one
+// before it beyond the noise, the quarters' speed ratios within a factor of two of each
+// other (see speedBound).
+func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
 	q := n / 4
-	gap := f.away * (out.Celsius - c[n-1])
-	if q < 5 || gap <= f.tol {
-		return out
+	dir := sign(level - c[n-1])
+	if q < 5 || dir == 0 {
+		return 0, false
 	}
 	var v, se [4]float64
 	for k := range 4 {
 		lo, hi := n-(4-k)*q, n-(3-k)*q
 		b, e := slope(t[lo:hi], c[lo:hi])
-		v[k], se[k] = f.away*b, e
+		v[k], se[k] = dir*b, e
 	}
 	var r [3]float64
 	for k := range 3 {
 		if v[k+1] <= 2*se[k+1] || v[k]-v[k+1] <= 2*math.Hypot(se[k], se[k+1]) {
-			return out
+			return 0, false
 		}
 		r[k] = v[k+1] / v[k]
 	}
 	if slices.Max(r[:]) > 2*slices.Min(r[:]) {
-		return out
+		return 0, false
 	}
-	lo := t[n-1] + gap/(v[3]+2*se[3])
-	out.State = StatePredicted
-	out.Earliest = f.abs(lo).Add(out.Target.Hold)
-	f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate: the readings still move away from the room and slow steadily, and a body settling toward a fixed temperature (an oven left at its setting) never moves faster than it does now; the way left over the present speed is the soonest it can get there.", out.Celsius, seconds(lo).Round(time.Second)))
-	return out
+	return t[n-1] + dir*(level-c[n-1])/(v[3]+2*se[3]), true
 }
