@@ -349,7 +349,11 @@ func TestSpeedBoundNeverLate(t *testing.T) {
 					}
 				}
 			}
-			if open < c.minOpen {
+			want := c.minOpen
+			if want > 0 {
+				want = max(1, want*40/int(step)) // fewer cutoffs under -race
+			}
+			if open < want {
 				t.Errorf("only %d of the cutoffs got a not-before: the rules no longer apply here", open)
 			}
 			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", open, cross)
