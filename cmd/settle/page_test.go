@@ -499,7 +499,7 @@ const boardToken = "bench-token-3"
 // with a hand-made channel list: 15 positions in every state the board knows and two
 // ambient sensors, as the daemon's API describes them (role, due and the empty state
 // included). Data time is now, so ages and "today" are real.
-func boardFixture(t *testing.T, now time.Time) (string, *fixtureAcks) {
+func boardFixture(t *testing.T, now time.Time, extra ...map[string]any) (string, *fixtureAcks) {
 	t.Helper()
 	j, err := journal.Open(t.TempDir(), journal.Options{})
 	if err != nil {
@@ -520,7 +520,7 @@ func boardFixture(t *testing.T, now time.Time) (string, *fixtureAcks) {
 	if err := j.Flush(); err != nil {
 		t.Fatal(err)
 	}
-	channels := boardChannels(now)
+	channels := append(boardChannels(now), extra...)
 	mux := http.NewServeMux()
 	runs := runs.API(j, runs.APIOptions{Token: boardToken})
 	mux.Handle("/api/v1/runs", runs)
@@ -813,6 +813,48 @@ func TestBoardStates(t *testing.T) {
 		}
 	}
 	saveScreenshot(t, tab, dir, "board-1920x1080-acknowledged")
+}
+
+// TestBoardNotBeforeOnly: a position whose only forecast is an early bound for a
+// non-handling target (an oven warm-up without its set point: the readings still move
+// away from the room, so settle gives "not before" and no time, and nothing for the
+// handling target) says that bound on its card, not "learning the curve" nor "no target
+// ahead", and plans nothing with it.
+func TestBoardNotBeforeOnly(t *testing.T) {
+	now := time.Now().UTC().Truncate(time.Second)
+	at := func(d time.Duration) string { return now.Add(d).UTC().Format(time.RFC3339) }
+	oven := func(name string, handling bool) map[string]any {
+		targets := []map[string]any{{"name": "test", "kind": "temperature", "celsius": 180.0, "state": "predicted", "at": nil, "earliest": at(40 * time.Minute), "latest": nil, "due": nil}}
+		if handling {
+			targets = append(targets, map[string]any{"name": "handling", "kind": "handling", "celsius": 50.0, "state": "insufficient"})
+		}
+		return map[string]any{"name": name, "role": "position", "latest": map[string]any{"time": at(-2 * time.Second), "celsius": 140.0, "status": "ok"},
+			"forecast": map[string]any{"model": "lumped", "points": 400, "notes": []string{}, "out_of_range": false}, "targets": targets, "fault": nil}
+	}
+	base, _ := boardFixture(t, now, oven("p16-oven", true), oven("p17-oven", false))
+	tab := browser(t, 1400, 1000)
+	if err := chromedp.Do(tab, chromedp.Navigate(base+"/")); err != nil {
+		t.Fatal(err)
+	}
+	waitPage(t, tab, `document.querySelectorAll('.card[data-channel]').length === 17`, 30*time.Second, "the board never loaded")
+	cards, _ := readPage(t, tab)
+	hm := fmt.Sprintf("%d:%02d", now.Add(40*time.Minute).Hour(), now.Add(40*time.Minute).Minute())
+	seen := 0
+	for _, c := range cards {
+		if c.Name != "p16-oven" && c.Name != "p17-oven" {
+			continue
+		}
+		seen++
+		checkCommon(t, c)
+		want, state := "test · 180.0 °C not before "+hm+"no time yet", map[string]string{"p16-oven": "hot", "p17-oven": "track"}[c.Name]
+		if c.State != state || !strings.Contains(c.Next, want) || strings.Contains(c.Next, "Learning") {
+			t.Errorf("%s is %s %q, want %s with %q", c.Name, c.State, c.Next, state, want)
+		}
+	}
+	if seen != 2 {
+		t.Errorf("saw %d of the two oven cards", seen)
+	}
+	saveScreenshot(t, tab, shotDir(t), "board-not-before-only")
 }
 
 // fixtureAcks keeps the board fixture's acknowledgements, as the daemon's API shows them.

@@ -252,6 +252,16 @@
       add("interval", "no late end yet: it may settle above " + fmtT(h.celsius) + " " + deg);
       return;
     }
+    // A target with only an early bound (readings still moving away from an unmeasured
+    // room, or settling where the fit cannot say): no time to plan with, but not
+    // "learning" nor "no target ahead" either.
+    const nb = !t && (ch.targets || []).find((x) => x.kind !== "handling" && openEnded(x) && !due(x));
+    if (nb) {
+      add("", nb.name + (nb.celsius != null ? " · " + fmtT(nb.celsius) + " " + deg : "") + " not before ");
+      add("due", when(Date.parse(nb.earliest), now));
+      add("interval", "no time yet: the readings give only the soonest it can be");
+      return;
+    }
     if (!t) {
       if (h && h.state === "unreachable") add("", "Will not get below " + fmtT(h.celsius) + " " + deg + " on this curve (settles above it).");
       else if (!ch.forecast || (h && h.state === "insufficient")) add("", "Learning the curve: no forecast yet.");
