@@ -360,3 +360,23 @@ func TestReadingsBoundsInTicks(t *testing.T) {
 		t.Errorf("readings left after retention %v, want %v", left, want)
 	}
 }
+
+// FuzzTicks checks the tick arithmetic on any time: the truncated time is on a whole
+// tick at most one tick before t, ticks and tickTime invert each other, and ticksUp is
+// the first tick at or after t.
+func FuzzTicks(f *testing.F) {
+	for _, s := range [][2]int64{{0, 0}, {-1, 999_999_999}, {1773478801, 123_456_789}, {32503680000, 50}, {-62135596800, 0}} {
+		f.Add(s[0], s[1])
+	}
+	f.Fuzz(func(t *testing.T, sec, nsec int64) {
+		sec %= 1 << 40 // ±35,000 years: far beyond any reading, inside int64 ticks
+		at := time.Unix(sec, nsec%int64(time.Second))
+		n, up, tr := ticks(at), ticksUp(at), Truncate(at)
+		if !tickTime(n).Equal(tr) || tr.After(at) || at.Sub(tr) >= Tick || ticks(tr) != n {
+			t.Fatalf("%v: ticks %d → %v, Truncate %v", at, n, tickTime(n), tr)
+		}
+		if up != n && !(up == n+1 && tr.Before(at)) || up == n && !tr.Equal(at) {
+			t.Fatalf("%v: ticksUp %d, ticks %d", at, up, n)
+		}
+	})
+}
