@@ -24,13 +24,13 @@ const readingFrom = " FROM readings r JOIN channels c ON c.id = r.channel_id" +
 func scanReading(rows interface{ Scan(...any) error }) (daq.Reading, error) {
 	var (
 		r  daq.Reading
-		ns int64 // ticks
+		tk int64 // ticks since the Unix epoch
 		v  any
 	)
-	if err := rows.Scan(&r.Logger, &r.Channel, &ns, &v, &r.Raw); err != nil {
+	if err := rows.Scan(&r.Logger, &r.Channel, &tk, &v, &r.Raw); err != nil {
 		return r, err
 	}
-	r.Time = tickTime(ns)
+	r.Time = tickTime(tk)
 	c, s, err := decodeValue(v)
 	if err != nil {
 		return r, fmt.Errorf("reading of %s at %s: %w", r.Channel, r.Time.UTC().Format(time.RFC3339Nano), err)
@@ -51,10 +51,9 @@ func (j *Journal) Readings(channel string, from, to time.Time) iter.Seq2[daq.Rea
 }
 
 // Replay calls fn with every committed reading with Time >= since (Time as in
-// Readings), of all channels, in
-// time order (readings with the same time by channel, in the order the channels were
-// first journaled, which for one logger's line is its column order), so a restarted
-// daemon can rebuild its trackers.
+// Readings), of all channels, in time order (readings with the same time by channel,
+// in the order the channels were first journaled, which for one logger's line is its
+// column order), so a restarted daemon can rebuild its trackers.
 func (j *Journal) Replay(since time.Time, fn func(daq.Reading)) error {
 	return j.ReplayBefore(since, math.MaxInt64, func(r daq.Reading) bool { fn(r); return true })
 }
@@ -141,16 +140,16 @@ func (j *Journal) ReplayStarts(since time.Time, seq int64, perChannel int) (map[
 	rows.Close()
 	out := map[string]time.Time{}
 	for id, name := range ids {
-		var ns int64
+		var tk int64
 		err := db.QueryRow("SELECT t FROM readings WHERE channel_id = ? AND t >= ? AND (k & 4294967295) <= ? ORDER BY t DESC LIMIT 1 OFFSET ?",
-			id, loTick(since), seq, perChannel-1).Scan(&ns)
+			id, loTick(since), seq, perChannel-1).Scan(&tk)
 		switch {
 		case errors.Is(err, sql.ErrNoRows):
 			out[name] = since
 		case err != nil:
 			return nil, fmt.Errorf("journal %s: replay start of %s: %w", j.path, name, err)
 		default:
-			if t := tickTime(ns); t.After(out[name]) {
+			if t := tickTime(tk); t.After(out[name]) {
 				out[name] = t
 			}
 		}

@@ -92,9 +92,9 @@ const ddlV3 = `CREATE TABLE acknowledgements (
 		PRIMARY KEY (channel, segment)
 	);`
 
-// ddlV4 (its statements are kept as written then: tests build a version-4 file from
-// ddlV1..ddlV4): readings take about a third of the room (70 bytes a reading before, about 23
-// after). One b-tree keyed by channel and time serves every query (no rowid, no second
+// ddlV4 (kept as written then: tests build a version-4 file from ddlV1..ddlV4):
+// readings take about a third of the room (70 bytes a reading before, about 23 after).
+// One b-tree keyed by channel and time serves every query (no rowid, no second
 // index on time); the value and status share one column (see encodeValue); the text of
 // a fault goes to raw_texts, so an ok reading carries no empty text; the mark that
 // tells readings committed before a restart from later ones is a small generation
