@@ -14,6 +14,7 @@ import (
 	"github.com/settle-lab/settle/config"
 	"github.com/settle-lab/settle/daq"
 	"github.com/settle-lab/settle/daq/clean"
+	"github.com/settle-lab/settle/daq/journal"
 	"github.com/settle-lab/settle/exporter"
 	"github.com/settle-lab/settle/predict"
 	"github.com/settle-lab/settle/runs"
@@ -175,9 +176,12 @@ func (d *daemon) Run(ctx context.Context) error {
 
 // acquire screens each reading, journals it and passes it on to analysis without
 // ever waiting for it: a full analysis queue drops the reading from the forecasts
-// only (it is in the journal) and counts it.
+// only (it is in the journal) and counts it. Each reading's time is first truncated to
+// the journal's resolution (journal.Tick), so that the fits, segment starts, forecasts
+// and acknowledgements made live are those a restart rebuilds from the journal.
 func (d *daemon) acquire(readings <-chan daq.Reading, queue chan<- daq.Reading) {
 	for r := range readings {
+		r.Time = journal.Truncate(r.Time)
 		r = d.clock.Check(d.cleaner.Screen(r), time.Now())
 		d.rec.j.Append(r)
 		select {

@@ -23,6 +23,8 @@ type Ack struct {
 
 // Acknowledge stores a; a second acknowledgement of the same specimen keeps the first.
 // It writes at once (acknowledgements are rare and a person waits for the answer).
+// The segment start, a reading's time, is stored truncated to a Tick as the reading's
+// time is, so that it matches the segment a restart replays.
 func (j *Journal) Acknowledge(a Ack) error {
 	db, err := j.writeDB()
 	if err != nil {
@@ -30,7 +32,7 @@ func (j *Journal) Acknowledge(a Ack) error {
 	}
 	_, err = db.ExecContext(context.Background(),
 		"INSERT OR IGNORE INTO acknowledgements (channel, segment, at, by, run_id) VALUES (?, ?, ?, ?, ?)",
-		a.Channel, a.Segment.UnixNano(), a.At.UnixNano(), a.By, a.RunID)
+		a.Channel, Truncate(a.Segment).UnixNano(), a.At.UnixNano(), a.By, a.RunID)
 	if err != nil {
 		return fmt.Errorf("journal %s: acknowledge %s: %w", j.path, a.Channel, err)
 	}

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"testing"
 	"time"
+
+	"github.com/settle-lab/settle/daq"
 )
 
 // An acknowledgement is kept across a restart; the first of two for the same specimen
@@ -51,5 +53,29 @@ func TestAcknowledgementsSurviveRestart(t *testing.T) {
 	defer ro.Close()
 	if err := ro.Acknowledge(Ack{Channel: "p3", Segment: seg, At: t0}); !errors.Is(err, ErrReadOnly) {
 		t.Errorf("read-only Acknowledge: %v, want ErrReadOnly", err)
+	}
+}
+
+// An acknowledgement's segment start is a reading's time: it is stored truncated to the
+// Tick as the reading is, so it equals the segment start a restart replays (the
+// readings' times come back truncated), and a second press on the same specimen, its
+// segment start within that tick, keeps the first.
+func TestAcknowledgementSegmentOnTicks(t *testing.T) {
+	j, _ := open(t, Options{CommitInterval: time.Hour})
+	seg := t0.Add(-30*time.Minute + 123_456_789) // a host receive time in nanoseconds
+	j.Append(daq.Reading{Logger: "rack", Channel: "p1", Time: seg, Celsius: 80, Status: daq.StatusOK})
+	mustFlush(t, j)
+	for _, a := range []Ack{{Channel: "p1", Segment: seg, At: t0, By: "AK"}, {Channel: "p1", Segment: seg.Add(-23_456), At: t0.Add(time.Second), By: "ZZ"}} {
+		if err := j.Acknowledge(a); err != nil {
+			t.Fatal(err)
+		}
+	}
+	got, err := j.Acknowledgements(t0.Add(-time.Hour))
+	if err != nil {
+		t.Fatal(err)
+	}
+	replayed := collect(t, j, "p1", time.Time{}, time.Time{})
+	if len(got) != 1 || got[0].By != "AK" || !got[0].Segment.Equal(t0.Add(-30*time.Minute+123_400_000)) || len(replayed) != 1 || !replayed[0].Time.Equal(got[0].Segment) {
+		t.Errorf("acknowledgements %+v, replayed %+v: want AK's alone, its segment at the replayed reading's time 08:30:00.1234", got, replayed)
 	}
 }

@@ -15,11 +15,14 @@
 // through Health, and retries every commit interval; writing resumes when the disk
 // recovers.
 //
-// A reading takes about 23 bytes on disk (schema version 4, see schema.go): one
-// b-tree keyed by channel, time and a small generation number serves every query, the
-// value and status share one column (a logger's decimal figure as a small integer when
-// that decodes to the same float64 bit for bit, else the exact 8 bytes), and fault
-// texts sit apart. Opening an older journal migrates it, every reading kept.
+// A reading takes about 21 bytes on disk (schema version 5, see schema.go and
+// migrate_v5.go): one b-tree keyed by channel, time and a small generation number
+// serves every query, the time is in ticks of 100 µs (Tick: 6 bytes, where nanoseconds
+// took 8), the value and status share one column (a logger's decimal figure as a small
+// integer when that decodes to the same float64 bit for bit, else the exact 8 bytes),
+// and fault texts sit apart. A reading written at time t comes back at Truncate(t);
+// queries compare their bounds with that time. Opening an older journal migrates it,
+// every reading kept.
 //
 // Readers (Readings, Latest, Replay, Runs) use a separate read-only connection pool, so
 // a report can read a journal while the daemon writes it; another process may open the

@@ -24,35 +24,36 @@ const readingFrom = " FROM readings r JOIN channels c ON c.id = r.channel_id" +
 func scanReading(rows interface{ Scan(...any) error }) (daq.Reading, error) {
 	var (
 		r  daq.Reading
-		ns int64
+		tk int64 // ticks since the Unix epoch
 		v  any
 	)
-	if err := rows.Scan(&r.Logger, &r.Channel, &ns, &v, &r.Raw); err != nil {
+	if err := rows.Scan(&r.Logger, &r.Channel, &tk, &v, &r.Raw); err != nil {
 		return r, err
 	}
-	r.Time = time.Unix(0, ns)
+	r.Time = tickTime(tk)
 	c, s, err := decodeValue(v)
 	if err != nil {
-		return r, fmt.Errorf("reading of %s at %d: %w", r.Channel, ns, err)
+		return r, fmt.Errorf("reading of %s at %s: %w", r.Channel, r.Time.UTC().Format(time.RFC3339Nano), err)
 	}
 	r.Celsius, r.Status = c, s
 	return r, nil
 }
 
 // Readings yields the committed readings of channel with from <= Time < to, oldest
-// first (readings with the same time in the order they were written).
-// A zero from or to leaves that end open. The error, if any, comes with a zero
+// first (readings with the same time in the order they were written). Time is as the
+// journal gives it back, the time written truncated to a Tick (see loTick); a zero
+// from or to leaves that end open. The error, if any, comes with a zero
 // reading as the last pair.
 func (j *Journal) Readings(channel string, from, to time.Time) iter.Seq2[daq.Reading, error] {
 	q := "SELECT " + readingCols + readingFrom +
 		" WHERE r.channel_id IN (SELECT id FROM channels WHERE name = ?) AND r.t >= ? AND r.t < ? ORDER BY r.t, r.k"
-	return j.query(fmt.Sprintf("readings of %s", channel), q, channel, lo(from), hi(to))
+	return j.query(fmt.Sprintf("readings of %s", channel), q, channel, loTick(from), hiTick(to))
 }
 
-// Replay calls fn with every committed reading with Time >= since, of all channels, in
-// time order (readings with the same time by channel, in the order the channels were
-// first journaled, which for one logger's line is its column order), so a restarted
-// daemon can rebuild its trackers.
+// Replay calls fn with every committed reading with Time >= since (Time as in
+// Readings), of all channels, in time order (readings with the same time by channel,
+// in the order the channels were first journaled, which for one logger's line is its
+// column order), so a restarted daemon can rebuild its trackers.
 func (j *Journal) Replay(since time.Time, fn func(daq.Reading)) error {
 	return j.ReplayBefore(since, math.MaxInt64, func(r daq.Reading) bool { fn(r); return true })
 }
@@ -101,7 +102,7 @@ func (j *Journal) ReplayBefore(since time.Time, seq int64, fn func(daq.Reading) 
 	q := "SELECT " + readingCols + readingFrom +
 		" WHERE r.channel_id IN (SELECT id FROM channels) AND r.t >= ? AND (r.k & 4294967295) <= ?" +
 		" ORDER BY r.t, r.channel_id, r.k"
-	for r, err := range j.query("replay", q, lo(since), seq) {
+	for r, err := range j.query("replay", q, loTick(since), seq) {
 		if err != nil {
 			return err
 		}
@@ -139,16 +140,16 @@ func (j *Journal) ReplayStarts(since time.Time, seq int64, perChannel int) (map[
 	rows.Close()
 	out := map[string]time.Time{}
 	for id, name := range ids {
-		var ns int64
+		var tk int64
 		err := db.QueryRow("SELECT t FROM readings WHERE channel_id = ? AND t >= ? AND (k & 4294967295) <= ? ORDER BY t DESC LIMIT 1 OFFSET ?",
-			id, lo(since), seq, perChannel-1).Scan(&ns)
+			id, loTick(since), seq, perChannel-1).Scan(&tk)
 		switch {
 		case errors.Is(err, sql.ErrNoRows):
 			out[name] = since
 		case err != nil:
 			return nil, fmt.Errorf("journal %s: replay start of %s: %w", j.path, name, err)
 		default:
-			if t := time.Unix(0, ns); t.After(out[name]) {
+			if t := tickTime(tk); t.After(out[name]) {
 				out[name] = t
 			}
 		}
@@ -223,7 +224,8 @@ func (j *Journal) query(what, q string, args ...any) iter.Seq2[daq.Reading, erro
 	}
 }
 
-// lo and hi turn an optional time bound into Unix nanoseconds.
+// lo and hi turn an optional time bound into Unix nanoseconds (for runs; the bounds
+// on readings' times are loTick and hiTick).
 func lo(t time.Time) int64 {
 	if t.IsZero() {
 		return math.MinInt64

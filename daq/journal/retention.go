@@ -108,14 +108,17 @@ func (j *Journal) pruneRun(ctx context.Context, run Run, keep time.Duration) (in
 		return 0, err
 	}
 	defer tx.Rollback()
+	// The run's readings are those Readings gives for it: Started <= Time <= Stopped,
+	// in ticks (see loTick).
 	span := "channel_id IN (SELECT id FROM channels WHERE name = ?1) AND t >= ?2 AND t <= ?3"
 	q, mark := "DELETE FROM readings WHERE "+span, "dropped"
-	args := []any{run.Channel, run.Started.UnixNano(), run.Stopped.UnixNano()}
+	args := []any{run.Channel, loTick(run.Started), lastTick(run.Stopped)}
 	if keep > 0 {
-		// The first reading (by time, then as written) of each keep-long slot stays.
+		// The first reading (by time, then as written) of each keep-long slot stays
+		// (slots of whole ticks, at least one).
 		q += " AND (channel_id, t, k) NOT IN (SELECT channel_id, t, k FROM (SELECT channel_id, t, k," +
 			" row_number() OVER (PARTITION BY (t - ?2) / ?4 ORDER BY t, k) AS n FROM readings WHERE " + span + ") WHERE n = 1)"
-		args, mark = append(args, keep.Nanoseconds()), "thinned"
+		args, mark = append(args, max(keep.Nanoseconds()/tickNs, 1)), "thinned"
 	}
 	res, err := tx.ExecContext(ctx, q, args...)
 	if err != nil {

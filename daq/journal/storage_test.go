@@ -54,15 +54,16 @@ func storageReadings(channels, seconds int, fn func([]daq.Reading), half func())
 }
 
 // BenchmarkStoragePerReading measures the journal's bytes per reading under
-// storageLoad, for this package's schema and, side by side, for schema version 3 (its
-// statements and its insert, one transaction a second): the file after the last commit
+// storageLoad, for this package's schema (v5, times in ticks of 100 µs) and, side by
+// side, for schema versions 4 (nanoseconds) and 3 (their statements and inserts, one
+// transaction a second): the file after the last commit
 // and a checkpoint (bytes/reading), and the growth over the second half of the load
 // (growth-bytes/reading, and from it MB/channel-day at 1 Hz): a day's record grows at
 // that rate, while a short load also counts each channel's last, part-filled pages.
 // Run it once: go test ./daq/journal -run X -bench StoragePerReading -benchtime 1x
 func BenchmarkStoragePerReading(b *testing.B) {
 	channels, seconds := storageLoad(b)
-	b.Run("v4", func(b *testing.B) {
+	b.Run("v5", func(b *testing.B) {
 		for range b.N {
 			dir := b.TempDir()
 			j, err := Open(dir, Options{Logger: quiet, CommitInterval: time.Hour})
@@ -81,6 +82,20 @@ func BenchmarkStoragePerReading(b *testing.B) {
 				b.Fatal(err)
 			}
 			reportStorage(b, filepath.Join(dir, FileName), channels*seconds, end-mid, channels*(seconds-seconds/2))
+		}
+	})
+	b.Run("v4", func(b *testing.B) {
+		for range b.N {
+			path := filepath.Join(b.TempDir(), FileName)
+			db := openV4(b, path)
+			var mid int64
+			storageReadings(channels, seconds, func(rs []daq.Reading) { insertV4(b, db, 0, rs) },
+				func() { mid = dbBytes(b, db) })
+			end := dbBytes(b, db)
+			if err := db.Close(); err != nil {
+				b.Fatal(err)
+			}
+			reportStorage(b, path, channels*seconds, end-mid, channels*(seconds-seconds/2))
 		}
 	})
 	b.Run("v3", func(b *testing.B) {
@@ -216,5 +231,57 @@ func BenchmarkMigrateV3(b *testing.B) {
 		}
 		j.Close()
 		b.ReportMetric(float64(channels*seconds)/took.Seconds(), "readings/s")
+	}
+}
+
+// BenchmarkMigrateV4 opens a version-4 journal of channels × seconds readings
+// (storageLoad's, SETTLE_STORAGE_* to change it; times in nanoseconds), which migrates
+// it to ticks, and reports the readings migrated per second of wall time and the
+// seconds a million readings take.
+// Run it once: go test ./daq/journal -run X -bench MigrateV4 -benchtime 1x
+func BenchmarkMigrateV4(b *testing.B) {
+	channels, seconds := storageLoad(b)
+	for range b.N {
+		b.StopTimer()
+		dir := b.TempDir()
+		db := openV4(b, filepath.Join(dir, FileName))
+		tx, err := db.Begin()
+		if err != nil {
+			b.Fatal(err)
+		}
+		storageReadings(channels, seconds, func(rs []daq.Reading) {
+			for i, r := range rs {
+				if _, err := tx.Exec("INSERT OR IGNORE INTO channels (id, logger, name) VALUES (?, ?, ?)", i+1, r.Logger, r.Channel); err != nil {
+					b.Fatal(err)
+				}
+				if _, err := tx.Exec("INSERT INTO readings (channel_id, t, k, v) VALUES (?, ?, 0, ?)",
+					i+1, r.Time.UnixNano(), encodeValue(r.Celsius, r.Status)); err != nil {
+					b.Fatal(err)
+				}
+			}
+		}, func() {})
+		if err := tx.Commit(); err != nil {
+			b.Fatal(err)
+		}
+		if err := db.Close(); err != nil {
+			b.Fatal(err)
+		}
+		b.StartTimer()
+		start := time.Now()
+		j, err := Open(dir, Options{Logger: quiet})
+		if err != nil {
+			b.Fatal(err)
+		}
+		took := time.Since(start)
+		b.StopTimer()
+		if h := j.Health(); h.LastError != "" {
+			b.Fatalf("migration failed: %s", h.LastError)
+		}
+		if n, err := j.Count(""); err != nil || n != int64(channels*seconds) {
+			b.Fatalf("%d readings after migration (%v), want %d", n, err, channels*seconds)
+		}
+		j.Close()
+		b.ReportMetric(float64(channels*seconds)/took.Seconds(), "readings/s")
+		b.ReportMetric(took.Seconds()*1e6/float64(channels*seconds), "s/Mreadings")
 	}
 }

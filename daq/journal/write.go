@@ -61,8 +61,10 @@ func (w *writes) close() {
 // channel with the same time (a logger repeating a line) is kept too, after the first.
 // newest caches each channel's newest time written (at least the newest in the file),
 // so that a reading later than it, the usual case, is written without a lookup.
+//
+// The time is stored in ticks (see Tick): readings less than a tick apart share one.
 func (w *writes) insert(ctx context.Context, newest map[int64]int64, id, gen int64, r daq.Reading) error {
-	t := r.Time.UnixNano()
+	t := ticks(r.Time)
 	last, ok := newest[id]
 	if !ok {
 		var v sql.NullInt64
@@ -89,10 +91,10 @@ func (w *writes) insert(ctx context.Context, newest map[int64]int64, id, gen int
 	return err
 }
 
-// restatus sets the status and raw text of every reading of channel id at r's time,
-// keeping its value.
+// restatus sets the status and raw text of every reading of channel id at r's time
+// (its tick), keeping its value.
 func (w *writes) restatus(ctx context.Context, id int64, r daq.Reading) error {
-	t := r.Time.UnixNano()
+	t := ticks(r.Time)
 	rows, err := w.find.QueryContext(ctx, id, t)
 	if err != nil {
 		return err
