@@ -367,9 +367,6 @@ func (lm *levmar) penalty(amb float64) float64 {
 	return lm.priorW2 * (amb - lm.priorAmb) * (amb - lm.priorAmb)
 }
 
-// ambDelta is the finite-difference step of the ambient column, K.
-const ambDelta = 0.01
-
 // jacobian evaluates residuals and the Jacobian at lm.x.
 func (lm *levmar) jacobian() {
 	n := len(lm.m.ts)
@@ -389,22 +386,18 @@ func (lm *levmar) jacobian() {
 	if lm.free < 3 {
 		return
 	}
-	// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ moves w
-	// by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ taken as a finite difference over
-	// a table at T∞ + ambDelta (Φ(w; T∞) at a reading is Φ(w0) − q·t, the value
-	// inverted); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)). Table look-ups at known w, no
-	// second inversion of the readings.
-	tb := lm.table(lm.x[2] + ambDelta)
-	phi0 := lm.tb.at(lm.x[0])
-	da0 := (tb.at(lm.x[0]) - phi0) / ambDelta
+	// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ at a fixed
+	// excess moves w by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ tabulated beside Φ
+	// (phiTable.atA); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)). Table look-ups at known
+	// w, no second inversion of the readings.
+	da0 := lm.tb.atA(lm.x[0])
 	raw := lm.jac.RawMatrix()
-	for i, t := range lm.m.ts {
-		da := (tb.at(lm.m.w[i]) - (phi0 - lm.x[1]*t)) / ambDelta
+	for i := range lm.m.ts {
 		wt := 1.0
 		if lm.m.wt != nil {
 			wt = lm.m.wt[i]
 		}
-		raw.Data[i*raw.Stride+2] = wt + lm.m.th[i]*(da0-da)
+		raw.Data[i*raw.Stride+2] = wt + lm.m.th[i]*(da0-lm.tb.atA(lm.m.w[i]))
 	}
 }
 
@@ -428,8 +421,8 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 // lmTables is how many recent Φ tables a fit keeps for reuse.
 const lmTables = 4
 
-// table returns the Φ table at ambient amb, reusing one built before at the same
-// ambient. The tables are kept least recently used first; a new table takes over the
+// table returns the Φ table at ambient amb (with the derivative Φa when the ambient
+// is fitted), reusing one built before at the same ambient. The tables are kept least recently used first; a new table takes over the
 // storage of the least recently used one when lmTables are kept, so a fit allocates
 // lmTables tables however long it runs. A table returned stays valid through the
 // next call (it is then the most recently used), and jacobian looks lm.tb up afresh
@@ -445,9 +438,9 @@ func (lm *levmar) table(amb float64) *phiTable {
 	if len(lm.tables) == lmTables {
 		tb = lm.tables[0]
 		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
-		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, lo: 1, hi: 0}
+		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, phiA: tb.phiA, invA: tb.invA, lo: 1, hi: 0}
 	} else {
-		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
+		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax, lm.free == 3)
 	}
 	lm.tables = append(lm.tables, tb)
 	return tb
@@ -546,12 +539,37 @@ func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
 	k := raw.Cols
 	var a [3][3]float64
 	var b [3]float64
-	for i, ri := range r[:raw.Rows] {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+k]
-		for p, jp := range row {
-			b[p] += jp * ri
-			for q := p; q < k; q++ {
-				a[p][q] += jp * row[q]
+	switch k {
+	case 2, 3:
+		// Written out for the h(T) fit's two and three columns; each sum runs over
+		// the rows in order, as in the general loop, so the sums are the same.
+		var a00, a01, a02, a11, a12, a22, b0, b1, b2 float64
+		for i, ri := range r[:raw.Rows] {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+k]
+			j0, j1 := row[0], row[1]
+			b0 += j0 * ri
+			a00 += j0 * j0
+			a01 += j0 * j1
+			b1 += j1 * ri
+			a11 += j1 * j1
+			if k == 3 {
+				j2 := row[2]
+				a02 += j0 * j2
+				a12 += j1 * j2
+				b2 += j2 * ri
+				a22 += j2 * j2
+			}
+		}
+		a = [3][3]float64{{a00, a01, a02}, {0, a11, a12}, {0, 0, a22}}
+		b = [3]float64{b0, b1, b2}
+	default:
+		for i, ri := range r[:raw.Rows] {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+k]
+			for p, jp := range row {
+				b[p] += jp * ri
+				for q := p; q < k; q++ {
+					a[p][q] += jp * row[q]
+				}
 			}
 		}
 	}
