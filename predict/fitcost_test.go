@@ -262,3 +262,75 @@ func TestNormalEquationsMatch(t *testing.T) {
 		}
 	}
 }
+
+// solveSPD must solve as gonum's Cholesky does (mat.Cholesky, the reference): the
+// same solution to 1e-9 relative (scaled by the condition number), on random
+// symmetric positive definite matrices of one to three rows with unit diagonals plus
+// a damping from 1e-24 to 1 (the Levenberg–Marquardt step's from 1e-12), whose
+// condition numbers span 1 to beyond mat.ConditionTolerance; the same refusal where
+// gonum's condition estimate is clearly past the tolerance (beyond a factor of 10,
+// the estimate's slack) or the matrix is not positive definite.
+func TestSolveSPDMatchesGonum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	var refused int
+	for trial := range 3000 {
+		k := 1 + trial%3
+		// Columns of a random Jacobian, nearly collinear for some trials.
+		near := math.Pow(10, -rng.Float64()*12)
+		j := mat.NewDense(k+3, k, nil)
+		for r := range k + 3 {
+			base := rng.NormFloat64()
+			for c := range k {
+				j.Set(r, c, base+near*float64(c)*rng.NormFloat64())
+			}
+		}
+		var n mat.SymDense
+		n.SymOuterK(1, j.T())
+		// The step's damping stays at or above 1e-12, which bounds the condition
+		// number near 3e12; smaller ones here reach the tolerance too.
+		lambda := math.Pow(10, -24*rng.Float64())
+		var a [3][3]float64
+		var b [3]float64
+		sym := mat.NewSymDense(k, nil)
+		for r := range k {
+			for c := range k {
+				a[r][c] = n.At(r, c) / math.Sqrt(n.At(r, r)*n.At(c, c))
+			}
+			a[r][r] = 1 + lambda
+			b[r] = rng.NormFloat64()
+			for c := r; c < k; c++ {
+				sym.SetSym(r, c, a[r][c])
+			}
+		}
+		x, ok := solveSPD(a, b, k)
+		var ch mat.Cholesky
+		if !ch.Factorize(sym) {
+			if ok {
+				t.Fatalf("trial %d: gonum refused the matrix, solveSPD accepted", trial)
+			}
+			continue
+		}
+		var want mat.VecDense
+		err := ch.SolveVecTo(&want, mat.NewVecDense(k, b[:k]))
+		cond := ch.Cond()
+		switch {
+		case cond > 10*mat.ConditionTolerance && ok, cond < mat.ConditionTolerance/10 && !ok:
+			t.Fatalf("trial %d: condition %.3g (gonum error %v), solveSPD ok %v", trial, cond, err, ok)
+		case !ok:
+			refused++
+			continue
+		}
+		scale := mat.Norm(&want, math.Inf(1))
+		for r := range k {
+			if math.Abs(x[r]-want.AtVec(r)) > 1e-9*cond*scale/1e6+1e-12*scale {
+				t.Fatalf("trial %d (condition %.3g): x[%d] = %.15g, gonum %.15g", trial, cond, r, x[r], want.AtVec(r))
+			}
+		}
+	}
+	if refused == 0 {
+		t.Error("no matrix was refused: the condition check went untested")
+	}
+	if _, ok := solveSPD([3][3]float64{{1, 2}, {2, 1}}, [3]float64{1, 1}, 2); ok {
+		t.Error("an indefinite matrix was accepted")
+	}
+}

@@ -418,8 +418,12 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 	return lm.tssr
 }
 
-// lmTables is how many recent Φ tables a fit keeps for reuse.
-const lmTables = 4
+// lmTables is how many recent Φ tables a fit keeps for reuse: the current point's and
+// a trial step's (which becomes the current one when the step is taken). A refused
+// trial's successor takes over the current point's table, which is then rebuilt if
+// no trial is taken, a rare case; more tables cost memory (each 4 columns of a few
+// hundred nodes) in every fit.
+const lmTables = 2
 
 // table returns the Φ table at ambient amb (with the derivative Φa when the ambient
 // is fitted), reusing one built before at the same ambient. The tables are kept least recently used first; a new table takes over the
@@ -478,33 +482,27 @@ func (lm *levmar) iterate() (done, ok bool) {
 		// Solve in variables scaled by sqrt(diag JᵀJ) (Marquardt's scaling): the
 		// parameters differ by many orders of magnitude, and unscaled normal
 		// equations would be too ill-conditioned to factorise at small λ.
-		a := mat.NewSymDense(k, nil)
-		gs := mat.NewVecDense(k, nil)
+		var a [3][3]float64
+		var gs [3]float64
 		for i := range k {
 			for j := i; j < k; j++ {
-				a.SetSym(i, j, jtj.At(i, j)/(dscale[i]*dscale[j]))
+				a[i][j] = jtj.At(i, j) / (dscale[i] * dscale[j])
+				a[j][i] = a[i][j]
 			}
-			a.SetSym(i, i, 1+lm.lambda)
-			gs.SetVec(i, g.AtVec(i)/dscale[i])
+			a[i][i] = 1 + lm.lambda
+			gs[i] = g.AtVec(i) / dscale[i]
 		}
-		var ch mat.Cholesky
-		if !ch.Factorize(a) {
+		dx, ok := solveSPD(a, gs, k)
+		if !ok {
 			lm.lambda *= 10
 			continue
-		}
-		var dx mat.VecDense
-		if err := ch.SolveVecTo(&dx, gs); err != nil {
-			lm.lambda *= 10
-			continue
-		}
-		for i := range k {
-			dx.SetVec(i, dx.AtVec(i)/dscale[i])
 		}
 		next := append([]float64(nil), lm.x...)
 		small := true
 		for i := range k {
-			next[i] += dx.AtVec(i)
-			small = small && math.Abs(dx.AtVec(i)) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
+			dx[i] /= dscale[i]
+			next[i] += dx[i]
+			small = small && math.Abs(dx[i]) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
 		}
 		pen := lm.penalty(next[2])
 		limit := math.Inf(1)
@@ -530,6 +528,73 @@ func (lm *levmar) iterate() (done, ok bool) {
 		return true, true // no step reduces the sum: at the optimum to rounding
 	}
 	return false, false
+}
+
+// solveSPD solves a·x = b for a symmetric positive definite a of k ≤ 3 rows by
+// Cholesky, as gonum's mat.Cholesky did here before (it fails where gonum's
+// Factorize fails, a pivot not above zero, or where its solve reports a condition
+// number above mat.ConditionTolerance, taken here exactly in the 1-norm from the
+// inverse instead of estimated). Written out: gonum's condition estimate cost more
+// than the rest of the step.
+func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
+	var l, li [3][3]float64
+	for j := range k {
+		for i := j; i < k; i++ {
+			s := a[i][j]
+			for m := range j {
+				s -= l[i][m] * l[j][m]
+			}
+			if i == j {
+				if !(s > 0) {
+					return x, false
+				}
+				l[j][j] = math.Sqrt(s)
+			} else {
+				l[i][j] = s / l[j][j]
+			}
+		}
+	}
+	// Forward and back substitution: L·y = b, Lᵀ·x = y.
+	var y [3]float64
+	for i := range k {
+		s := b[i]
+		for m := range i {
+			s -= l[i][m] * y[m]
+		}
+		y[i] = s / l[i][i]
+	}
+	for i := k - 1; i >= 0; i-- {
+		s := y[i]
+		for m := i + 1; m < k; m++ {
+			s -= l[m][i] * x[m]
+		}
+		x[i] = s / l[i][i]
+	}
+	// ‖a‖₁·‖a⁻¹‖₁ with a⁻¹ = L⁻ᵀ·L⁻¹.
+	for j := range k {
+		li[j][j] = 1 / l[j][j]
+		for i := j + 1; i < k; i++ {
+			var s float64
+			for m := j; m < i; m++ {
+				s += l[i][m] * li[m][j]
+			}
+			li[i][j] = -s / l[i][i]
+		}
+	}
+	var norm, normInv float64
+	for j := range k {
+		var c, ci float64
+		for i := range k {
+			c += math.Abs(a[i][j])
+			var s float64
+			for m := max(i, j); m < k; m++ {
+				s += li[m][i] * li[m][j]
+			}
+			ci += math.Abs(s)
+		}
+		norm, normInv = max(norm, c), max(normInv, ci)
+	}
+	return x, norm*normInv <= mat.ConditionTolerance
 }
 
 // normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 3 columns, summed
@@ -596,7 +661,8 @@ func (lm *levmar) finish(res *HResult) {
 	res.Capacity = 1 / res.q
 	theta0 := lm.m.side * math.Exp(res.w0)
 	res.Initial = res.Ambient + theta0
-	cov, ok := scaledInverse(lm.jac, res.Sigma)
+	jtj, _ := normalEquations(lm.jac, lm.r)
+	cov, ok := normalInverse(jtj, res.Sigma)
 	if !ok {
 		res.Status = FitSingular
 		return
@@ -632,13 +698,6 @@ func statsOf(r []float64) residualStats {
 		st.vonNeumann = diff / float64(2*(len(r)-1))
 	}
 	return st
-}
-
-// scaledInverse returns σ²·(JᵀJ)⁻¹ for a Jacobian j.
-func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
-	var jtj mat.SymDense
-	jtj.SymOuterK(1, j.T())
-	return normalInverse(&jtj, sigma)
 }
 
 // normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ of at most 3×3, inverting

@@ -298,8 +298,7 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	// left is of order 1e-16, so it stops there (at most 4 steps).
 	df, e := tb.phi[i+1]-tb.phi[i], f-tb.phi[i]
 	m0, m1 := phiStep*tb.inv[i], phiStep*tb.inv[i+1]
-	s := hermiteAt(e/df, 0, 1, 0, 1, df/m0, df/m1)
-	s = max(0, min(1, s))
+	s := unit(hermiteAt(e/df, 0, 1, 0, 1, df/m0, df/m1))
 	// The cell's cubic in powers of s, Φ(s) − Φ_i = s·(m0 + s·(c2 + s·c3)) (the
 	// Hermite interpolant with end slopes m0, m1 per cell), evaluated against
 	// e = f − Φ_i so that Φ's offset from its origin does not enter the rounding.
@@ -312,7 +311,7 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	for range 4 {
 		d := s*(m0+s*(c2+s*c3)) - e
 		ds := m0 + s*(2*c2+3*s*c3)
-		next := max(0, min(1, s-d/ds))
+		next := unit(s - d/ds)
 		step := math.Abs(next - s)
 		s = next
 		if step < 1e-8 || curv*step*step < 2e-14*ds {
@@ -323,6 +322,18 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	// h = 1/(dΦ/dw) of the interpolant itself, so the Jacobian is the derivative of
 	// the curve as computed.
 	return w, phiStep / (m0 + s*(2*c2+3*s*c3))
+}
+
+// unit clamps s to [0, 1] (NaN stays NaN): max(0, min(1, s)) without the builtins'
+// ordering of signed zeros, which costs more and which no caller needs.
+func unit(s float64) float64 {
+	if s < 0 {
+		return 0
+	}
+	if s > 1 {
+		return 1
+	}
+	return s
 }
 
 // slope returns dΦ/ds of cell i's cubic (s the cell fraction).
