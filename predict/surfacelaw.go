@@ -223,7 +223,9 @@ func (tb *phiTable) interpolate(v, d []float64, w float64) float64 {
 		return v[n-1] + (w-phiLow-float64(n-1)*phiStep)*d[n-1]
 	}
 	i := int(x)
-	tb.ensure(i, i+1)
+	if i < tb.lo || i >= tb.hi { // ensure is not inlined: skip the call when computed
+		tb.ensure(i, i+1)
+	}
 	return cellHermite(v, d, i, x-float64(i))
 }
 
@@ -273,11 +275,13 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	if tb.lo > tb.hi {
 		tb.ensure(n/2, n/2)
 	}
-	tb.cover(f)
-	if f <= tb.phi[0] && tb.lo == 0 {
+	if f < tb.phi[tb.lo] || f > tb.phi[tb.hi] { // cover is not inlined
+		tb.cover(f)
+	}
+	if tb.lo == 0 && f <= tb.phi[0] {
 		return phiLow + (f-tb.phi[0])/tb.inv[0], 1 / tb.inv[0]
 	}
-	if f >= tb.phi[n-1] && tb.hi == n-1 {
+	if tb.hi == n-1 && f >= tb.phi[n-1] {
 		return phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1], 1 / tb.inv[n-1]
 	}
 	i := *hint
