@@ -604,29 +604,39 @@ func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
 	k := raw.Cols
 	var a [3][3]float64
 	var b [3]float64
+	// Written out for the h(T) fit's two and three columns; each sum runs over the
+	// rows in order, as in the general loop, so the sums are the same.
 	switch k {
-	case 2, 3:
-		// Written out for the h(T) fit's two and three columns; each sum runs over
-		// the rows in order, as in the general loop, so the sums are the same.
+	case 3:
 		var a00, a01, a02, a11, a12, a22, b0, b1, b2 float64
 		for i, ri := range r[:raw.Rows] {
-			row := raw.Data[i*raw.Stride : i*raw.Stride+k]
+			row := raw.Data[i*raw.Stride : i*raw.Stride+3 : i*raw.Stride+3]
+			j0, j1, j2 := row[0], row[1], row[2]
+			b0 += j0 * ri
+			a00 += j0 * j0
+			a01 += j0 * j1
+			a02 += j0 * j2
+			b1 += j1 * ri
+			a11 += j1 * j1
+			a12 += j1 * j2
+			b2 += j2 * ri
+			a22 += j2 * j2
+		}
+		a = [3][3]float64{{a00, a01, a02}, {0, a11, a12}, {0, 0, a22}}
+		b = [3]float64{b0, b1, b2}
+	case 2:
+		var a00, a01, a11, b0, b1 float64
+		for i, ri := range r[:raw.Rows] {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+2 : i*raw.Stride+2]
 			j0, j1 := row[0], row[1]
 			b0 += j0 * ri
 			a00 += j0 * j0
 			a01 += j0 * j1
 			b1 += j1 * ri
 			a11 += j1 * j1
-			if k == 3 {
-				j2 := row[2]
-				a02 += j0 * j2
-				a12 += j1 * j2
-				b2 += j2 * ri
-				a22 += j2 * j2
-			}
 		}
-		a = [3][3]float64{{a00, a01, a02}, {0, a11, a12}, {0, 0, a22}}
-		b = [3]float64{b0, b1, b2}
+		a[0][0], a[0][1], a[1][1] = a00, a01, a11
+		b[0], b[1] = b0, b1
 	default:
 		for i, ri := range r[:raw.Rows] {
 			row := raw.Data[i*raw.Stride : i*raw.Stride+k]
