@@ -334,3 +334,24 @@ func TestSolveSPDMatchesGonum(t *testing.T) {
 		t.Error("an indefinite matrix was accepted")
 	}
 }
+
+// gridExp must be math.Exp of the grid's nodes and midpoints exactly (the table's
+// values do not change), on and off the stored grid; expCell must agree with math.Exp
+// of the same w to 1e-14 relative (the rounding of w itself, up to 2e-15 at w = 18,
+// moves e^w by as much) across every cell and off the grid.
+func TestGridExp(t *testing.T) {
+	for i := -3; i < expGridNodes+3; i++ {
+		for half := range 2 {
+			if got, want := gridExp(i, half), math.Exp(phiLow+(float64(i)+0.5*float64(half))*phiStep); got != want {
+				t.Fatalf("gridExp(%d, %d) = %.17g, math.Exp %.17g", i, half, got, want)
+			}
+		}
+		for k := range 41 {
+			s := float64(k) / 40
+			want := math.Exp(phiLow + (float64(i)+s)*phiStep)
+			if got := expCell(i, s); math.Abs(got/want-1) > 1e-14 {
+				t.Fatalf("expCell(%d, %g) = %.17g, math.Exp %.17g", i, s, got, want)
+			}
+		}
+	}
+}

@@ -127,9 +127,10 @@ func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64, deriv bool) *phiTa
 	return tb
 }
 
-// invH returns 1/h at w and, for a table with the derivative, ∂(1/h)/∂T∞ (else 0).
-func (tb *phiTable) invH(w float64) (inv, invA float64) {
-	ts := tb.amb + tb.side*math.Exp(w)
+// invH returns 1/h at an excess ew = e^w and, for a table with the derivative,
+// ∂(1/h)/∂T∞ (else 0).
+func (tb *phiTable) invH(ew float64) (inv, invA float64) {
+	ts := tb.amb + tb.side*ew
 	if tb.phiA == nil {
 		return 1 / tb.law.H(ts, tb.amb), 0
 	}
@@ -140,7 +141,7 @@ func (tb *phiTable) invH(w float64) (inv, invA float64) {
 
 // node computes node k's 1/h (and its derivative).
 func (tb *phiTable) node(k int) {
-	inv, invA := tb.invH(phiLow + float64(k)*phiStep)
+	inv, invA := tb.invH(gridExp(k, 0))
 	tb.inv[k] = inv
 	if tb.phiA != nil {
 		tb.invA[k] = invA
@@ -151,7 +152,7 @@ func (tb *phiTable) node(k int) {
 // with the nodes' values and the midpoint's, and that of ∂(1/h)/∂T∞ (0 without the
 // derivative).
 func (tb *phiTable) cell(i int) (c, cA float64) {
-	mid, midA := tb.invH(phiLow + (float64(i)+0.5)*phiStep)
+	mid, midA := tb.invH(gridExp(i, 1))
 	c = phiStep * (tb.inv[i] + 4*mid + tb.inv[i+1]) / 6
 	if tb.phiA != nil {
 		cA = phiStep * (tb.invA[i] + 4*midA + tb.invA[i+1]) / 6
@@ -271,6 +272,13 @@ func (tb *phiTable) cover(f float64) {
 // invert returns the w with Φ(w) = f and h there (from the interpolant's slope); hint is a cell index to start
 // from (the previous answer when walking a time series), updated in place.
 func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
+	w, h, _ = tb.solve(f, hint)
+	return w, h
+}
+
+// solve is invert also returning e^w (the excess |θ|), from the cell's node and
+// fraction (expCell) instead of math.Exp where the table holds w.
+func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64) {
 	n := len(tb.phi)
 	if tb.lo > tb.hi {
 		tb.ensure(n/2, n/2)
@@ -279,10 +287,12 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 		tb.cover(f)
 	}
 	if tb.lo == 0 && f <= tb.phi[0] {
-		return phiLow + (f-tb.phi[0])/tb.inv[0], 1 / tb.inv[0]
+		w = phiLow + (f-tb.phi[0])/tb.inv[0]
+		return w, 1 / tb.inv[0], math.Exp(w)
 	}
 	if tb.hi == n-1 && f >= tb.phi[n-1] {
-		return phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1], 1 / tb.inv[n-1]
+		w = phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1]
+		return w, 1 / tb.inv[n-1], math.Exp(w)
 	}
 	i := *hint
 	if i < tb.lo || i >= tb.hi || !(tb.phi[i] <= f && f <= tb.phi[i+1]) {
@@ -325,7 +335,55 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	w = phiLow + (float64(i)+s)*phiStep
 	// h = 1/(dΦ/dw) of the interpolant itself, so the Jacobian is the derivative of
 	// the curve as computed.
-	return w, phiStep / (m0 + s*(2*c2+3*s*c3))
+	return w, phiStep / (m0 + s*(2*c2+3*s*c3)), expCell(i, s)
+}
+
+// expGridNodes is how many of the Φ grid's nodes expGrid holds: w up to 18.6, an
+// excess of 1.2e8 K, far beyond any table.
+const expGridNodes = 640
+
+// expGrid holds e^w at the Φ grid's nodes w = phiLow + i·phiStep.
+var expGrid = func() (g [expGridNodes]float64) {
+	for i := range g {
+		g[i] = math.Exp(phiLow + float64(i)*phiStep)
+	}
+	return g
+}()
+
+// expMid holds e^w at the midpoints of the Φ grid's cells, w = phiLow + (i + ½)·phiStep.
+var expMid = func() (g [expGridNodes]float64) {
+	for i := range g {
+		g[i] = math.Exp(phiLow + (float64(i)+0.5)*phiStep)
+	}
+	return g
+}()
+
+// gridExp returns math.Exp(phiLow + (i + half/2)·phiStep) for half 0 (node i) or 1
+// (cell i's midpoint), the same number, from expGrid and expMid.
+func gridExp(i, half int) float64 {
+	if uint(i) >= expGridNodes {
+		return math.Exp(phiLow + (float64(i)+0.5*float64(half))*phiStep)
+	}
+	if half == 0 {
+		return expGrid[i]
+	}
+	return expMid[i]
+}
+
+// expCell returns e^w at w = phiLow + (i + s)·phiStep, 0 ≤ s ≤ 1: the node's e^w times
+// e^x, x = s·phiStep ≤ 0.04, by its Taylor series to x⁸ (the rest is below 1e-18
+// relative; the powers paired, Estrin's scheme, for a short dependency chain), within
+// a few ulps of math.Exp at less cost; math.Exp off the grid.
+func expCell(i int, s float64) float64 {
+	if uint(i) >= expGridNodes {
+		return math.Exp(phiLow + (float64(i)+s)*phiStep)
+	}
+	x := s * phiStep
+	x2 := x * x
+	x4 := x2 * x2
+	lo := (1 + x) + x2*(1.0/2+x*(1.0/6))
+	hi := (1.0/24 + x*(1.0/120)) + x2*(1.0/720+x*(1.0/5040))
+	return expGrid[i] * (lo + x4*(hi+x4*(1.0/40320)))
 }
 
 // unit clamps s to [0, 1] (NaN stays NaN): max(0, min(1, s)) without the builtins'
@@ -382,9 +440,9 @@ type HResult struct {
 // Value evaluates the fitted curve at t seconds from the segment start.
 func (r *HResult) Value(t float64) float64 {
 	hint := int(atomic.LoadInt32(&r.hint))
-	w, _ := r.table.invert(r.phi0-r.q*t, &hint)
+	_, _, ew := r.table.solve(r.phi0-r.q*t, &hint)
 	atomic.StoreInt32(&r.hint, int32(hint))
-	return r.Ambient + r.table.side*math.Exp(w)
+	return r.Ambient + r.table.side*ew
 }
 
 // HAt returns the fitted model's surface coefficient h(T)/scale at a temperature: the
@@ -431,8 +489,8 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 		jd, js = raw.Data, raw.Stride
 	}
 	for i, t := range m.ts {
-		w, h := tb.invert(phi0-q*t, &hint)
-		theta := m.side * math.Exp(w)
+		w, h, ew := tb.solve(phi0-q*t, &hint)
+		theta := m.side * ew
 		wt := 1.0
 		if m.wt != nil {
 			wt = m.wt[i]
