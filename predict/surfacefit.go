@@ -132,7 +132,7 @@ func (m *hModel) withLaw(law SurfaceLaw) *hModel {
 		return nil
 	}
 	c := *m
-	c.law, c.w, c.th = law, nil, nil
+	c.law, c.th = law, nil
 	return &c
 }
 
@@ -308,7 +308,7 @@ func binned(m *hModel, start *LumpedResult, maxPts int) *hModel {
 	kmax := (n + maxPts - 1) / maxPts
 	tol := max(binBias*noise(m.y), binBiasMin)
 	b := *m
-	b.ts, b.y, b.wt, b.w, b.th = nil, nil, nil, nil, nil
+	b.ts, b.y, b.wt, b.th = nil, nil, nil, nil
 	for i := 0; i < n; {
 		curv := math.Abs(start.Excess) * math.Exp(-m.ts[i]/start.Tau) / (start.Tau * start.Tau)
 		var st, sy, stt float64
@@ -383,22 +383,6 @@ func (lm *levmar) jacobian() {
 		lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac, math.Inf(1))
 	}
 	lm.tfull = false
-	if lm.free < 3 {
-		return
-	}
-	// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ at a fixed
-	// excess moves w by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ tabulated beside Φ
-	// (phiTable.atA); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)). Table look-ups at known
-	// w, no second inversion of the readings.
-	da0 := lm.tb.atA(lm.x[0])
-	raw := lm.jac.RawMatrix()
-	for i := range lm.m.ts {
-		wt := 1.0
-		if lm.m.wt != nil {
-			wt = lm.m.wt[i]
-		}
-		raw.Data[i*raw.Stride+2] = wt + lm.m.th[i]*(da0-lm.tb.atA(lm.m.w[i]))
-	}
 }
 
 // ssrAt returns the residual sum of squares at x, or a partial sum above limit as

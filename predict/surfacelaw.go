@@ -272,13 +272,14 @@ func (tb *phiTable) cover(f float64) {
 // invert returns the w with Φ(w) = f and h there (from the interpolant's slope); hint is a cell index to start
 // from (the previous answer when walking a time series), updated in place.
 func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
-	w, h, _ = tb.solve(f, hint)
+	w, h, _, _, _ = tb.solve(f, hint)
 	return w, h
 }
 
 // solve is invert also returning e^w (the excess |θ|), from the cell's node and
-// fraction (expCell) instead of math.Exp where the table holds w.
-func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64) {
+// fraction (expCell) instead of math.Exp where the table holds w, and the cell and
+// its fraction s (cell −1 beyond the table's ends, where w is extrapolated).
+func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64, cell int, s float64) {
 	n := len(tb.phi)
 	if tb.lo > tb.hi {
 		tb.ensure(n/2, n/2)
@@ -288,11 +289,11 @@ func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64) {
 	}
 	if tb.lo == 0 && f <= tb.phi[0] {
 		w = phiLow + (f-tb.phi[0])/tb.inv[0]
-		return w, 1 / tb.inv[0], math.Exp(w)
+		return w, 1 / tb.inv[0], math.Exp(w), -1, 0
 	}
 	if tb.hi == n-1 && f >= tb.phi[n-1] {
 		w = phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1]
-		return w, 1 / tb.inv[n-1], math.Exp(w)
+		return w, 1 / tb.inv[n-1], math.Exp(w), -1, 0
 	}
 	i := *hint
 	if i < tb.lo || i >= tb.hi || !(tb.phi[i] <= f && f <= tb.phi[i+1]) {
@@ -312,7 +313,7 @@ func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64) {
 	// left is of order 1e-16, so it stops there (at most 4 steps).
 	df, e := tb.phi[i+1]-tb.phi[i], f-tb.phi[i]
 	m0, m1 := phiStep*tb.inv[i], phiStep*tb.inv[i+1]
-	s := unit(hermiteAt(e/df, 0, 1, 0, 1, df/m0, df/m1))
+	s = unit(hermiteAt(e/df, 0, 1, 0, 1, df/m0, df/m1))
 	// The cell's cubic in powers of s, Φ(s) − Φ_i = s·(m0 + s·(c2 + s·c3)) (the
 	// Hermite interpolant with end slopes m0, m1 per cell), evaluated against
 	// e = f − Φ_i so that Φ's offset from its origin does not enter the rounding.
@@ -335,7 +336,15 @@ func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64) {
 	w = phiLow + (float64(i)+s)*phiStep
 	// h = 1/(dΦ/dw) of the interpolant itself, so the Jacobian is the derivative of
 	// the curve as computed.
-	return w, phiStep / (m0 + s*(2*c2+3*s*c3)), expCell(i, s)
+	return w, phiStep / (m0 + s*(2*c2+3*s*c3)), expCell(i, s), i, s
+}
+
+// cellA returns Φa at fraction s of computed cell i (the Hermite cubic of atA, in
+// powers of s).
+func (tb *phiTable) cellA(i int, s float64) float64 {
+	v, d := tb.phiA[i:i+2:i+2], tb.invA[i:i+2:i+2]
+	df, m0, m1 := v[1]-v[0], phiStep*d[0], phiStep*d[1]
+	return v[0] + s*(m0+s*((3*df-2*m0-m1)+s*(m0+m1-2*df)))
 }
 
 // expGridNodes is how many of the Φ grid's nodes expGrid holds: w up to 18.6, an
@@ -440,7 +449,7 @@ type HResult struct {
 // Value evaluates the fitted curve at t seconds from the segment start.
 func (r *HResult) Value(t float64) float64 {
 	hint := int(atomic.LoadInt32(&r.hint))
-	_, _, ew := r.table.solve(r.phi0-r.q*t, &hint)
+	_, _, ew, _, _ := r.table.solve(r.phi0-r.q*t, &hint)
 	atomic.StoreInt32(&r.hint, int32(hint))
 	return r.Ambient + r.table.side*ew
 }
@@ -466,14 +475,19 @@ type hModel struct {
 	measured bool
 	amb      float64 // the measured reference ambient
 
-	w, th []float64 // each reading's w and θ·h at the last Jacobian
-	wt    []float64 // each point's weight (the square root of a bin's count), nil for 1
+	th []float64 // each reading's θ·h at the last Jacobian
+	wt []float64 // each point's weight (the square root of a bin's count), nil for 1
 }
 
 // residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
-// rows with ∂model/∂(w0, q) and m.w, m.th with each reading's w and θ·h (for the
-// ambient column, which the caller fills). It returns the sum of squares, or stops
-// at the first partial sum above limit and returns that.
+// rows with ∂model/∂(w0, q) and, for a table with the ambient derivative (a fitted
+// ambient), ∂model/∂T∞, and m.th with each reading's θ·h. It returns the sum of
+// squares, or stops at the first partial sum above limit and returns that.
+//
+// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ at a fixed
+// excess moves w by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ tabulated beside Φ
+// (phiTable.atA); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)), read in the cell the
+// reading's inversion found.
 func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense, limit float64) float64 {
 	var ssr float64
 	phi0 := tb.at(w0)
@@ -481,15 +495,20 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 	hint := -1
 	var jd []float64 // jac's rows, written directly (Dense.Set checks every index)
 	var js int
+	var da0 float64
+	deriv := false
 	if jac != nil {
-		if m.w == nil {
-			m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+		if m.th == nil {
+			m.th = make([]float64, len(m.ts))
 		}
 		raw := jac.RawMatrix()
 		jd, js = raw.Data, raw.Stride
+		if deriv = raw.Cols == 3 && tb.phiA != nil; deriv {
+			da0 = tb.atA(w0)
+		}
 	}
 	for i, t := range m.ts {
-		w, h, ew := tb.solve(phi0-q*t, &hint)
+		w, h, ew, cell, s := tb.solve(phi0-q*t, &hint)
 		theta := m.side * ew
 		wt := 1.0
 		if m.wt != nil {
@@ -503,7 +522,16 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
 			jd[i*js], jd[i*js+1] = wt*theta*h/h0, -wt*theta*h*t
-			m.w[i], m.th[i] = w, wt*theta*h
+			m.th[i] = wt * theta * h
+			if deriv {
+				var fa float64
+				if cell >= 0 {
+					fa = tb.cellA(cell, s)
+				} else {
+					fa = tb.atA(w)
+				}
+				jd[i*js+2] = wt + m.th[i]*(da0-fa)
+			}
 		}
 	}
 	return ssr
