@@ -165,12 +165,32 @@ func airConvAt(filmK float64, g Geometry, slopes bool) airConv {
 		}
 	}
 	if slopes {
-		span := hi.t - lo.t
-		a.dk, a.dnu = (hi.p.K-lo.p.K)/span, (hi.p.Nu-lo.p.Nu)/span
-		a.dalpha, a.dfac = (hi.p.Alpha-lo.p.Alpha)/span, (prFactors[i][g]-prFactors[i-1][g])/span
+		sl := &airSlopes[i]
+		a.dk, a.dnu, a.dalpha, a.dfac = sl.k, sl.nu, sl.alpha, sl.fac[g]
 	}
 	return a
 }
+
+// airSlope holds the slopes per kelvin of k, ν, α and the Prandtl factors over the
+// air table's interval ending at a row.
+type airSlope struct {
+	k, nu, alpha float64
+	fac          [3]float64
+}
+
+// airSlopes holds, at index i, the slopes over the interval from row i−1 to row i
+// (index 0 unused).
+var airSlopes = func() (s [len(airTable)]airSlope) {
+	for i := 1; i < len(airTable); i++ {
+		lo, hi := &airTable[i-1], &airTable[i]
+		span := hi.t - lo.t
+		s[i] = airSlope{k: (hi.p.K - lo.p.K) / span, nu: (hi.p.Nu - lo.p.Nu) / span, alpha: (hi.p.Alpha - lo.p.Alpha) / span}
+		for g := range s[i].fac {
+			s[i].fac[g] = (prFactors[i][g] - prFactors[i-1][g]) / span
+		}
+	}
+	return s
+}()
 
 // prFactors holds prFactor(g, Pr) for each table row and geometry. Interpolating the
 // factor instead of recomputing it from the interpolated Pr changes h by under 1e-5

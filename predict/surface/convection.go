@@ -130,12 +130,14 @@ func convection(g Geometry, lengthM, surfaceC, ambientC float64, shift bool) (h,
 	if !(lengthM > 0) {
 		return math.NaN(), math.NaN()
 	}
-	Ra := StandardGravity * deltaK * lengthM * lengthM * lengthM / (filmK * a.nu * a.alpha)
+	den := filmK * a.nu * a.alpha
+	Ra := StandardGravity * deltaK * lengthM * lengthM * lengthM / den
 	if !shift {
 		return nusseltFrom(g, Ra, a.fac) * a.k / lengthM, 0
 	}
-	// Ra ∝ 1/(Tf·ν·α) at a fixed ΔT; Nu = (c + b·Ra^(1/6)/F)² or 2 + b·Ra^(1/4)/F.
-	dlnRa := -(1/filmK + a.dnu/a.nu + a.dalpha/a.alpha)
+	// Ra ∝ 1/(Tf·ν·α) at a fixed ΔT, so d ln Ra = −(1/Tf + ν′/ν + α′/α), over one
+	// denominator; Nu = (c + b·Ra^(1/6)/F)² or 2 + b·Ra^(1/4)/F.
+	dlnRa := -(a.nu*a.alpha + filmK*(a.dnu*a.alpha+a.nu*a.dalpha)) / den
 	var nu, dnu float64
 	switch g {
 	case VerticalPlate, HorizontalCylinder:
