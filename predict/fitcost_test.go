@@ -118,7 +118,8 @@ func invertBasis(tb *phiTable, f float64) (w, h float64) {
 
 // invert (powers of s, stopped by the curvature bound) must agree with the Hermite
 // basis form iterated until its step is below 1e-13 of a cell: w to 1e-12 and h to
-// 1e-10 relative, across a table's range, for every law.
+// 1e-10 relative, and solve's excess with math.Exp of that w to 1e-11 (w's 1e-12),
+// across a table's range, for every law.
 func TestInvertMatchesBasisForm(t *testing.T) {
 	for _, law := range checkLaws {
 		tb := newPhiTable(law, 22, 1, 900, false)
@@ -130,6 +131,9 @@ func TestInvertMatchesBasisForm(t *testing.T) {
 			ww, hh := invertBasis(tb, f)
 			if math.Abs(w-ww) > 1e-12 || math.Abs(h-hh) > 1e-10*hh {
 				t.Fatalf("%+v: invert(%.15g) = %.15g, %.12g; basis form %.15g, %.12g", law, f, w, h, ww, hh)
+			}
+			if _, _, ew, _, _ := tb.solve(f, &hint); math.Abs(ew/math.Exp(ww)-1) > 1e-11 {
+				t.Fatalf("%+v: solve(%.15g) excess %.15g, e^w %.15g", law, f, ew, math.Exp(ww))
 			}
 		}
 	}
@@ -353,5 +357,17 @@ func TestGridExp(t *testing.T) {
 				t.Fatalf("expCell(%d, %g) = %.17g, math.Exp %.17g", i, s, got, want)
 			}
 		}
+	}
+}
+
+// unit must clamp as max(0, min(1, s)) does, NaN included (signed zeros aside).
+func TestUnitClamps(t *testing.T) {
+	for _, s := range []float64{-3, -1e-300, 0, 1e-17, 0.3, 1, 1 + 1e-15, 7, math.Inf(1), math.Inf(-1)} {
+		if got, want := unit(s), max(0, min(1, s)); got != want {
+			t.Errorf("unit(%g) = %g, want %g", s, got, want)
+		}
+	}
+	if !math.IsNaN(unit(math.NaN())) {
+		t.Error("unit(NaN) is not NaN")
 	}
 }
