@@ -132,7 +132,7 @@ func (m *hModel) withLaw(law SurfaceLaw) *hModel {
 		return nil
 	}
 	c := *m
-	c.law, c.w, c.th = law, nil, nil
+	c.law, c.th = law, nil
 	return &c
 }
 
@@ -308,7 +308,7 @@ func binned(m *hModel, start *LumpedResult, maxPts int) *hModel {
 	kmax := (n + maxPts - 1) / maxPts
 	tol := max(binBias*noise(m.y), binBiasMin)
 	b := *m
-	b.ts, b.y, b.wt, b.w, b.th = nil, nil, nil, nil, nil
+	b.ts, b.y, b.wt, b.th = nil, nil, nil, nil
 	for i := 0; i < n; {
 		curv := math.Abs(start.Excess) * math.Exp(-m.ts[i]/start.Tau) / (start.Tau * start.Tau)
 		var st, sy, stt float64
@@ -367,9 +367,6 @@ func (lm *levmar) penalty(amb float64) float64 {
 	return lm.priorW2 * (amb - lm.priorAmb) * (amb - lm.priorAmb)
 }
 
-// ambDelta is the finite-difference step of the ambient column, K.
-const ambDelta = 0.01
-
 // jacobian evaluates residuals and the Jacobian at lm.x.
 func (lm *levmar) jacobian() {
 	n := len(lm.m.ts)
@@ -386,26 +383,6 @@ func (lm *levmar) jacobian() {
 		lm.ssr = lm.m.residuals(lm.tb, lm.x[0], lm.x[1], lm.r, lm.jac, math.Inf(1))
 	}
 	lm.tfull = false
-	if lm.free < 3 {
-		return
-	}
-	// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ moves w
-	// by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ taken as a finite difference over
-	// a table at T∞ + ambDelta (Φ(w; T∞) at a reading is Φ(w0) − q·t, the value
-	// inverted); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)). Table look-ups at known w, no
-	// second inversion of the readings.
-	tb := lm.table(lm.x[2] + ambDelta)
-	phi0 := lm.tb.at(lm.x[0])
-	da0 := (tb.at(lm.x[0]) - phi0) / ambDelta
-	raw := lm.jac.RawMatrix()
-	for i, t := range lm.m.ts {
-		da := (tb.at(lm.m.w[i]) - (phi0 - lm.x[1]*t)) / ambDelta
-		wt := 1.0
-		if lm.m.wt != nil {
-			wt = lm.m.wt[i]
-		}
-		raw.Data[i*raw.Stride+2] = wt + lm.m.th[i]*(da0-da)
-	}
 }
 
 // ssrAt returns the residual sum of squares at x, or a partial sum above limit as
@@ -425,11 +402,15 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 	return lm.tssr
 }
 
-// lmTables is how many recent Φ tables a fit keeps for reuse.
-const lmTables = 4
+// lmTables is how many recent Φ tables a fit keeps for reuse: the current point's and
+// a trial step's (which becomes the current one when the step is taken). A refused
+// trial's successor takes over the current point's table, which is then rebuilt if
+// no trial is taken, a rare case; more tables cost memory (each 4 columns of a few
+// hundred nodes) in every fit.
+const lmTables = 2
 
-// table returns the Φ table at ambient amb, reusing one built before at the same
-// ambient. The tables are kept least recently used first; a new table takes over the
+// table returns the Φ table at ambient amb (with the derivative Φa when the ambient
+// is fitted), reusing one built before at the same ambient. The tables are kept least recently used first; a new table takes over the
 // storage of the least recently used one when lmTables are kept, so a fit allocates
 // lmTables tables however long it runs. A table returned stays valid through the
 // next call (it is then the most recently used), and jacobian looks lm.tb up afresh
@@ -445,9 +426,9 @@ func (lm *levmar) table(amb float64) *phiTable {
 	if len(lm.tables) == lmTables {
 		tb = lm.tables[0]
 		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
-		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, lo: 1, hi: 0}
+		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, phiA: tb.phiA, invA: tb.invA, lo: 1, hi: 0}
 	} else {
-		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax)
+		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax, lm.free == 3)
 	}
 	lm.tables = append(lm.tables, tb)
 	return tb
@@ -485,33 +466,27 @@ func (lm *levmar) iterate() (done, ok bool) {
 		// Solve in variables scaled by sqrt(diag JᵀJ) (Marquardt's scaling): the
 		// parameters differ by many orders of magnitude, and unscaled normal
 		// equations would be too ill-conditioned to factorise at small λ.
-		a := mat.NewSymDense(k, nil)
-		gs := mat.NewVecDense(k, nil)
+		var a [3][3]float64
+		var gs [3]float64
 		for i := range k {
 			for j := i; j < k; j++ {
-				a.SetSym(i, j, jtj.At(i, j)/(dscale[i]*dscale[j]))
+				a[i][j] = jtj.At(i, j) / (dscale[i] * dscale[j])
+				a[j][i] = a[i][j]
 			}
-			a.SetSym(i, i, 1+lm.lambda)
-			gs.SetVec(i, g.AtVec(i)/dscale[i])
+			a[i][i] = 1 + lm.lambda
+			gs[i] = g.AtVec(i) / dscale[i]
 		}
-		var ch mat.Cholesky
-		if !ch.Factorize(a) {
+		dx, ok := solveSPD(a, gs, k)
+		if !ok {
 			lm.lambda *= 10
 			continue
-		}
-		var dx mat.VecDense
-		if err := ch.SolveVecTo(&dx, gs); err != nil {
-			lm.lambda *= 10
-			continue
-		}
-		for i := range k {
-			dx.SetVec(i, dx.AtVec(i)/dscale[i])
 		}
 		next := append([]float64(nil), lm.x...)
 		small := true
 		for i := range k {
-			next[i] += dx.AtVec(i)
-			small = small && math.Abs(dx.AtVec(i)) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
+			dx[i] /= dscale[i]
+			next[i] += dx[i]
+			small = small && math.Abs(dx[i]) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
 		}
 		pen := lm.penalty(next[2])
 		limit := math.Inf(1)
@@ -539,6 +514,73 @@ func (lm *levmar) iterate() (done, ok bool) {
 	return false, false
 }
 
+// solveSPD solves a·x = b for a symmetric positive definite a of k ≤ 3 rows by
+// Cholesky, as gonum's mat.Cholesky did here before (it fails where gonum's
+// Factorize fails, a pivot not above zero, or where its solve reports a condition
+// number above mat.ConditionTolerance, taken here exactly in the 1-norm from the
+// inverse instead of estimated). Written out: gonum's condition estimate cost more
+// than the rest of the step.
+func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
+	var l, li [3][3]float64
+	for j := range k {
+		for i := j; i < k; i++ {
+			s := a[i][j]
+			for m := range j {
+				s -= l[i][m] * l[j][m]
+			}
+			if i == j {
+				if !(s > 0) {
+					return x, false
+				}
+				l[j][j] = math.Sqrt(s)
+			} else {
+				l[i][j] = s / l[j][j]
+			}
+		}
+	}
+	// Forward and back substitution: L·y = b, Lᵀ·x = y.
+	var y [3]float64
+	for i := range k {
+		s := b[i]
+		for m := range i {
+			s -= l[i][m] * y[m]
+		}
+		y[i] = s / l[i][i]
+	}
+	for i := k - 1; i >= 0; i-- {
+		s := y[i]
+		for m := i + 1; m < k; m++ {
+			s -= l[m][i] * x[m]
+		}
+		x[i] = s / l[i][i]
+	}
+	// ‖a‖₁·‖a⁻¹‖₁ with a⁻¹ = L⁻ᵀ·L⁻¹.
+	for j := range k {
+		li[j][j] = 1 / l[j][j]
+		for i := j + 1; i < k; i++ {
+			var s float64
+			for m := j; m < i; m++ {
+				s += l[i][m] * li[m][j]
+			}
+			li[i][j] = -s / l[i][i]
+		}
+	}
+	var norm, normInv float64
+	for j := range k {
+		var c, ci float64
+		for i := range k {
+			c += math.Abs(a[i][j])
+			var s float64
+			for m := max(i, j); m < k; m++ {
+				s += li[m][i] * li[m][j]
+			}
+			ci += math.Abs(s)
+		}
+		norm, normInv = max(norm, c), max(normInv, ci)
+	}
+	return x, norm*normInv <= mat.ConditionTolerance
+}
+
 // normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 3 columns, summed
 // row by row (gonum's general routines cost more than the sums for so few columns).
 func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
@@ -546,12 +588,47 @@ func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
 	k := raw.Cols
 	var a [3][3]float64
 	var b [3]float64
-	for i, ri := range r[:raw.Rows] {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+k]
-		for p, jp := range row {
-			b[p] += jp * ri
-			for q := p; q < k; q++ {
-				a[p][q] += jp * row[q]
+	// Written out for the h(T) fit's two and three columns; each sum runs over the
+	// rows in order, as in the general loop, so the sums are the same.
+	switch k {
+	case 3:
+		var a00, a01, a02, a11, a12, a22, b0, b1, b2 float64
+		for i, ri := range r[:raw.Rows] {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+3 : i*raw.Stride+3]
+			j0, j1, j2 := row[0], row[1], row[2]
+			b0 += j0 * ri
+			a00 += j0 * j0
+			a01 += j0 * j1
+			a02 += j0 * j2
+			b1 += j1 * ri
+			a11 += j1 * j1
+			a12 += j1 * j2
+			b2 += j2 * ri
+			a22 += j2 * j2
+		}
+		a = [3][3]float64{{a00, a01, a02}, {0, a11, a12}, {0, 0, a22}}
+		b = [3]float64{b0, b1, b2}
+	case 2:
+		var a00, a01, a11, b0, b1 float64
+		for i, ri := range r[:raw.Rows] {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+2 : i*raw.Stride+2]
+			j0, j1 := row[0], row[1]
+			b0 += j0 * ri
+			a00 += j0 * j0
+			a01 += j0 * j1
+			b1 += j1 * ri
+			a11 += j1 * j1
+		}
+		a[0][0], a[0][1], a[1][1] = a00, a01, a11
+		b[0], b[1] = b0, b1
+	default:
+		for i, ri := range r[:raw.Rows] {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+k]
+			for p, jp := range row {
+				b[p] += jp * ri
+				for q := p; q < k; q++ {
+					a[p][q] += jp * row[q]
+				}
 			}
 		}
 	}
@@ -578,7 +655,8 @@ func (lm *levmar) finish(res *HResult) {
 	res.Capacity = 1 / res.q
 	theta0 := lm.m.side * math.Exp(res.w0)
 	res.Initial = res.Ambient + theta0
-	cov, ok := scaledInverse(lm.jac, res.Sigma)
+	jtj, _ := normalEquations(lm.jac, lm.r)
+	cov, ok := normalInverse(jtj, res.Sigma)
 	if !ok {
 		res.Status = FitSingular
 		return
@@ -614,13 +692,6 @@ func statsOf(r []float64) residualStats {
 		st.vonNeumann = diff / float64(2*(len(r)-1))
 	}
 	return st
-}
-
-// scaledInverse returns σ²·(JᵀJ)⁻¹ for a Jacobian j.
-func scaledInverse(j *mat.Dense, sigma float64) (*mat.SymDense, bool) {
-	var jtj mat.SymDense
-	jtj.SymOuterK(1, j.T())
-	return normalInverse(&jtj, sigma)
 }
 
 // normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ of at most 3×3, inverting

@@ -71,7 +71,7 @@ func TestFitHRecoversODE(t *testing.T) {
 
 // The Φ table must invert itself: Φ⁻¹(Φ(w)) = w across and beyond the table.
 func TestPhiTableInverts(t *testing.T) {
-	tb := newPhiTable(DefaultSurfaceLaw, 20, 1, 900)
+	tb := newPhiTable(DefaultSurfaceLaw, 20, 1, 900, false)
 	hint := -1
 	for w := -9.0; w < 8; w += 0.0137 {
 		got, _ := tb.invert(tb.at(w), &hint)
@@ -174,8 +174,8 @@ func TestFitHBinnedMatchesFull(t *testing.T) {
 // only differences enter the model. And an early-stopped residual sum must stop only
 // above its limit.
 func TestPhiTableLazyMatchesComplete(t *testing.T) {
-	lazy := newPhiTable(DefaultSurfaceLaw, 20, 1, 900)
-	full := newPhiTable(DefaultSurfaceLaw, 20, 1, 900)
+	lazy := newPhiTable(DefaultSurfaceLaw, 20, 1, 900, false)
+	full := newPhiTable(DefaultSurfaceLaw, 20, 1, 900, false)
 	full.complete()
 	// Ask the lazy table in the middle first, then below and above it.
 	for _, pair := range [][2]float64{{4, 5}, {1, 4.5}, {-5, 6.5}, {-8, 7.9}} {

@@ -11,7 +11,9 @@ func (h hFitted) residuals() (rho, misfit float64) { return h.r.Rho, h.r.Misfit 
 func (h hFitted) value(t float64) float64          { return h.r.Value(t) }
 
 // crossing is t* = (Φ(w0) − Φ(ln|θL|))/q with the delta-method variance in
-// (w0, q, T∞); the ambient derivative is a finite difference over a shifted table.
+// (w0, q, T∞). The ambient derivative is (Φa(w0) − Φa(wL))/q at a fixed excess θL
+// (a "within" target: a band around the ambient), plus Φ′(wL)/(q·θL) for a fixed
+// level, whose excess θL = level − T∞ shrinks as the ambient rises.
 func (h hFitted) crossing(level float64, within bool) (t, variance, rate float64, ok bool) {
 	r := h.r
 	side := r.table.side
@@ -23,13 +25,14 @@ func (h hFitted) crossing(level float64, within bool) (t, variance, rate float64
 	h0 := r.Law.H(r.Initial, r.Ambient)
 	g := [3]float64{1 / (h0 * r.q), -t / r.q, 0}
 	if r.AmbientErr > 0 {
-		tb := newPhiTable(r.Law, r.Ambient+ambDelta, side, r.tmax)
-		shifted := thetaL - ambDelta
-		if within {
-			shifted = thetaL
+		tb := r.table
+		if tb.phiA == nil { // a fit's table has Φa when its ambient is fitted
+			tb = newPhiTable(r.Law, r.Ambient, side, r.tmax, true)
 		}
-		if sign(shifted) == side {
-			g[2] = (crossingH(tb, tb.at(r.w0), r.q, shifted) - t) / ambDelta
+		wL := math.Log(math.Abs(thetaL))
+		g[2] = (tb.atA(r.w0) - tb.atA(wL)) / r.q
+		if !within {
+			g[2] += tb.slopeAt(wL) / (r.q * thetaL)
 		}
 	}
 	for a := range 3 {

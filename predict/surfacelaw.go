@@ -49,6 +49,22 @@ func (l SurfaceLaw) H(surfaceC, ambientC float64) float64 {
 	return h
 }
 
+// hShift returns H(surfaceC, ambientC) (the same number) and its derivative with
+// respect to a common shift of both temperatures, dh/dT∞ with the excess held: the
+// ambient column of the h(T) fit's Jacobian needs it (see phiTable.atA).
+func (l SurfaceLaw) hShift(surfaceC, ambientC float64) (h, dh float64) {
+	if l.ForcedH > 0 {
+		r, dr := surface.RadiationShift(l.Emissivity, surfaceC, ambientC)
+		h, dh = l.ForcedH+r, dr
+	} else {
+		h, dh = surface.CoefficientShift(l.Geometry, l.LengthM, l.Emissivity, surfaceC, ambientC)
+	}
+	if !(h > minH) {
+		return minH, 0
+	}
+	return h, dh
+}
+
 // The h(T) model: C·dT/dt = −h(T)·(T − T∞), C = ρcV/A the heat capacity per unit area.
 // With w = ln|T − T∞| the ODE separates: dw/dt = −h/C. So with
 //
@@ -73,11 +89,19 @@ const (
 // relative to that first node, which changes no difference of Φ (all the model uses:
 // Φ's origin is arbitrary). A table that leaves the package (an HResult's) is
 // completed first (complete), so concurrent readers never extend it.
+//
+// A table made with the ambient derivative (newPhiTable's deriv) also tabulates
+// Φa(w) = ∂Φ/∂T∞ at a fixed excess, the same quadrature and interpolation applied to
+// ∂(1/h)/∂T∞ = −(dh/dT∞)/h² (SurfaceLaw.hShift), so Φa is the exact derivative of the
+// tabulated Φ: the h(T) fit's ambient column and a crossing's ambient sensitivity
+// read it instead of a second table at a shifted ambient.
 type phiTable struct {
 	amb, side float64
 	law       SurfaceLaw
 	phi       []float64 // Φ at w = phiLow + i·phiStep, valid for lo <= i <= hi
 	inv       []float64 // 1/h at the nodes (dΦ/dw), valid for lo <= i <= hi
+	phiA      []float64 // Φa at the nodes, nil without the derivative
+	invA      []float64 // ∂(1/h)/∂T∞ at the nodes (dΦa/dw), nil without the derivative
 	lo, hi    int       // the computed nodes; lo > hi before the first
 }
 
@@ -87,21 +111,53 @@ type phiTable struct {
 // plus one cell).
 const phiGrowth = 2
 
-func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64) *phiTable {
+// newPhiTable returns an empty table for law at ambient amb on side, reaching an
+// excess of thetaMax; with deriv it also tabulates Φa.
+func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64, deriv bool) *phiTable {
 	n := int(math.Ceil((math.Log(max(thetaMax, 1))-phiLow)/phiStep)) + 2
-	return &phiTable{amb: amb, side: side, law: law, phi: make([]float64, n), inv: make([]float64, n), lo: 1, hi: 0}
+	k := 2
+	if deriv {
+		k = 4
+	}
+	buf := make([]float64, k*n)
+	tb := &phiTable{amb: amb, side: side, law: law, phi: buf[:n:n], inv: buf[n : 2*n : 2*n], lo: 1, hi: 0}
+	if deriv {
+		tb.phiA, tb.invA = buf[2*n:3*n:3*n], buf[3*n:]
+	}
+	return tb
 }
 
-// invH returns 1/h at w.
-func (tb *phiTable) invH(w float64) float64 {
-	return 1 / tb.law.H(tb.amb+tb.side*math.Exp(w), tb.amb)
+// invH returns 1/h at an excess ew = e^w and, for a table with the derivative,
+// ∂(1/h)/∂T∞ (else 0).
+func (tb *phiTable) invH(ew float64) (inv, invA float64) {
+	ts := tb.amb + tb.side*ew
+	if tb.phiA == nil {
+		return 1 / tb.law.H(ts, tb.amb), 0
+	}
+	h, dh := tb.law.hShift(ts, tb.amb)
+	inv = 1 / h
+	return inv, -dh * inv * inv
+}
+
+// node computes node k's 1/h (and its derivative).
+func (tb *phiTable) node(k int) {
+	inv, invA := tb.invH(gridExp(k, 0))
+	tb.inv[k] = inv
+	if tb.phiA != nil {
+		tb.invA[k] = invA
+	}
 }
 
 // cell returns the integral of 1/h over cell i (nodes i and i+1), by Simpson's rule
-// with the nodes' values and the midpoint's.
-func (tb *phiTable) cell(i int) float64 {
-	mid := tb.invH(phiLow + (float64(i)+0.5)*phiStep)
-	return phiStep * (tb.inv[i] + 4*mid + tb.inv[i+1]) / 6
+// with the nodes' values and the midpoint's, and that of ∂(1/h)/∂T∞ (0 without the
+// derivative).
+func (tb *phiTable) cell(i int) (c, cA float64) {
+	mid, midA := tb.invH(gridExp(i, 1))
+	c = phiStep * (tb.inv[i] + 4*mid + tb.inv[i+1]) / 6
+	if tb.phiA != nil {
+		cA = phiStep * (tb.invA[i] + 4*midA + tb.invA[i+1]) / 6
+	}
+	return c, cA
 }
 
 // ensure computes the nodes from i to j (clamped to the table), extending the
@@ -109,24 +165,36 @@ func (tb *phiTable) cell(i int) float64 {
 func (tb *phiTable) ensure(i, j int) {
 	n := len(tb.phi)
 	i, j = max(i, 0), min(j, n-1)
+	deriv := tb.phiA != nil
 	if tb.lo > tb.hi {
 		tb.lo, tb.hi = i, i
-		tb.inv[i] = tb.invH(phiLow + float64(i)*phiStep)
+		tb.node(i)
 		tb.phi[i] = 0
+		if deriv {
+			tb.phiA[i] = 0
+		}
 	}
 	if i < tb.lo {
 		to := max(0, min(i, tb.lo-phiGrowth))
 		for k := tb.lo - 1; k >= to; k-- {
-			tb.inv[k] = tb.invH(phiLow + float64(k)*phiStep)
-			tb.phi[k] = tb.phi[k+1] - tb.cell(k)
+			tb.node(k)
+			c, cA := tb.cell(k)
+			tb.phi[k] = tb.phi[k+1] - c
+			if deriv {
+				tb.phiA[k] = tb.phiA[k+1] - cA
+			}
 		}
 		tb.lo = to
 	}
 	if j > tb.hi {
 		to := min(n-1, max(j, tb.hi+phiGrowth))
 		for k := tb.hi + 1; k <= to; k++ {
-			tb.inv[k] = tb.invH(phiLow + float64(k)*phiStep)
-			tb.phi[k] = tb.phi[k-1] + tb.cell(k-1)
+			tb.node(k)
+			c, cA := tb.cell(k - 1)
+			tb.phi[k] = tb.phi[k-1] + c
+			if deriv {
+				tb.phiA[k] = tb.phiA[k-1] + cA
+			}
 		}
 		tb.hi = to
 	}
@@ -136,27 +204,58 @@ func (tb *phiTable) ensure(i, j int) {
 func (tb *phiTable) complete() { tb.ensure(0, len(tb.phi)-1) }
 
 // at returns Φ(w), with the end slopes continued beyond the table.
-func (tb *phiTable) at(w float64) float64 {
+func (tb *phiTable) at(w float64) float64 { return tb.interpolate(tb.phi, tb.inv, w) }
+
+// atA returns Φa(w) = ∂Φ/∂T∞ at a fixed excess, continued beyond the table as at
+// continues Φ (so it is the derivative of at); the table must have the derivative.
+func (tb *phiTable) atA(w float64) float64 { return tb.interpolate(tb.phiA, tb.invA, w) }
+
+// interpolate evaluates the interpolant of node values v with node slopes d (Φ and
+// 1/h, or Φa and its slope) at w, computing the nodes it needs.
+func (tb *phiTable) interpolate(v, d []float64, w float64) float64 {
 	x := (w - phiLow) / phiStep
 	n := len(tb.phi)
 	switch {
 	case x <= 0:
 		tb.ensure(0, 0)
-		return tb.phi[0] + (w-phiLow)*tb.inv[0]
+		return v[0] + (w-phiLow)*d[0]
 	case x >= float64(n-1):
 		tb.ensure(n-1, n-1)
-		return tb.phi[n-1] + (w-phiLow-float64(n-1)*phiStep)*tb.inv[n-1]
+		return v[n-1] + (w-phiLow-float64(n-1)*phiStep)*d[n-1]
+	}
+	i := int(x)
+	if i < tb.lo || i >= tb.hi { // ensure is not inlined: skip the call when computed
+		tb.ensure(i, i+1)
+	}
+	return cellHermite(v, d, i, x-float64(i))
+}
+
+// slopeAt returns dΦ/dw of the interpolant at w (the end slopes beyond the table).
+func (tb *phiTable) slopeAt(w float64) float64 {
+	x := (w - phiLow) / phiStep
+	n := len(tb.phi)
+	switch {
+	case x <= 0:
+		tb.ensure(0, 0)
+		return tb.inv[0]
+	case x >= float64(n-1):
+		tb.ensure(n-1, n-1)
+		return tb.inv[n-1]
 	}
 	i := int(x)
 	tb.ensure(i, i+1)
-	return tb.hermite(i, x-float64(i))
+	return tb.slope(i, x-float64(i)) / phiStep
 }
 
 // hermite evaluates the cubic Hermite interpolant of cell i at fraction s.
-func (tb *phiTable) hermite(i int, s float64) float64 {
+func (tb *phiTable) hermite(i int, s float64) float64 { return cellHermite(tb.phi, tb.inv, i, s) }
+
+// cellHermite evaluates at fraction s of cell i the cubic Hermite interpolant of node
+// values v with slopes d per unit w.
+func cellHermite(v, d []float64, i int, s float64) float64 {
 	s2, s3 := s*s, s*s*s
-	return (2*s3-3*s2+1)*tb.phi[i] + (s3-2*s2+s)*phiStep*tb.inv[i] +
-		(-2*s3+3*s2)*tb.phi[i+1] + (s3-s2)*phiStep*tb.inv[i+1]
+	return (2*s3-3*s2+1)*v[i] + (s3-2*s2+s)*phiStep*d[i] +
+		(-2*s3+3*s2)*v[i+1] + (s3-s2)*phiStep*d[i+1]
 }
 
 // cover extends the computed nodes until they bracket f (or reach an end of the
@@ -173,16 +272,28 @@ func (tb *phiTable) cover(f float64) {
 // invert returns the w with Φ(w) = f and h there (from the interpolant's slope); hint is a cell index to start
 // from (the previous answer when walking a time series), updated in place.
 func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
+	w, h, _, _, _ = tb.solve(f, hint)
+	return w, h
+}
+
+// solve is invert also returning e^w (the excess |θ|), from the cell's node and
+// fraction (expCell) instead of math.Exp where the table holds w, and the cell and
+// its fraction s (cell −1 beyond the table's ends, where w is extrapolated).
+func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64, cell int, s float64) {
 	n := len(tb.phi)
 	if tb.lo > tb.hi {
 		tb.ensure(n/2, n/2)
 	}
-	tb.cover(f)
-	if f <= tb.phi[0] && tb.lo == 0 {
-		return phiLow + (f-tb.phi[0])/tb.inv[0], 1 / tb.inv[0]
+	if f < tb.phi[tb.lo] || f > tb.phi[tb.hi] { // cover is not inlined
+		tb.cover(f)
 	}
-	if f >= tb.phi[n-1] && tb.hi == n-1 {
-		return phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1], 1 / tb.inv[n-1]
+	if tb.lo == 0 && f <= tb.phi[0] {
+		w = phiLow + (f-tb.phi[0])/tb.inv[0]
+		return w, 1 / tb.inv[0], math.Exp(w), -1, 0
+	}
+	if tb.hi == n-1 && f >= tb.phi[n-1] {
+		w = phiLow + float64(n-1)*phiStep + (f-tb.phi[n-1])/tb.inv[n-1]
+		return w, 1 / tb.inv[n-1], math.Exp(w), -1, 0
 	}
 	i := *hint
 	if i < tb.lo || i >= tb.hi || !(tb.phi[i] <= f && f <= tb.phi[i+1]) {
@@ -200,21 +311,22 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	// about 1e-7 of the root, so that one step brings it to rounding; Φ' = 1/h > 0.
 	// Newton converges quadratically: after a step under 1e-8 of a cell the error
 	// left is of order 1e-16, so it stops there (at most 4 steps).
-	df := tb.phi[i+1] - tb.phi[i]
-	u := (f - tb.phi[i]) / df
-	s := hermiteAt(u, 0, 1, 0, 1, df/(phiStep*tb.inv[i]), df/(phiStep*tb.inv[i+1]))
-	s = max(0, min(1, s))
+	df, e := tb.phi[i+1]-tb.phi[i], f-tb.phi[i]
+	m0, m1 := phiStep*tb.inv[i], phiStep*tb.inv[i+1]
+	s = unit(hermiteAt(e/df, 0, 1, 0, 1, df/m0, df/m1))
+	// The cell's cubic in powers of s, Φ(s) − Φ_i = s·(m0 + s·(c2 + s·c3)) (the
+	// Hermite interpolant with end slopes m0, m1 per cell), evaluated against
+	// e = f − Φ_i so that Φ's offset from its origin does not enter the rounding.
 	// Newton's next correction would be about Φ''/(2Φ')·step²; the cubic's |Φ''| is
 	// largest at an end of the cell (it is linear in s). Once that correction is
 	// under 1e-14 of a cell (w within 4e-16, about an ulp of θ) the iteration stops
 	// without the evaluation that would confirm it.
-	m0, m1 := phiStep*tb.inv[i], phiStep*tb.inv[i+1]
 	c2, c3 := 3*df-2*m0-m1, m0+m1-2*df
 	curv := max(math.Abs(2*c2), math.Abs(2*c2+6*c3))
 	for range 4 {
-		d := tb.hermite(i, s) - f
-		ds := tb.slope(i, s)
-		next := max(0, min(1, s-d/ds))
+		d := s*(m0+s*(c2+s*c3)) - e
+		ds := m0 + s*(2*c2+3*s*c3)
+		next := unit(s - d/ds)
 		step := math.Abs(next - s)
 		s = next
 		if step < 1e-8 || curv*step*step < 2e-14*ds {
@@ -224,7 +336,75 @@ func (tb *phiTable) invert(f float64, hint *int) (w, h float64) {
 	w = phiLow + (float64(i)+s)*phiStep
 	// h = 1/(dΦ/dw) of the interpolant itself, so the Jacobian is the derivative of
 	// the curve as computed.
-	return w, phiStep / tb.slope(i, s)
+	return w, phiStep / (m0 + s*(2*c2+3*s*c3)), expCell(i, s), i, s
+}
+
+// cellA returns Φa at fraction s of computed cell i (the Hermite cubic of atA, in
+// powers of s).
+func (tb *phiTable) cellA(i int, s float64) float64 {
+	v, d := tb.phiA[i:i+2:i+2], tb.invA[i:i+2:i+2]
+	df, m0, m1 := v[1]-v[0], phiStep*d[0], phiStep*d[1]
+	return v[0] + s*(m0+s*((3*df-2*m0-m1)+s*(m0+m1-2*df)))
+}
+
+// expGridNodes is how many of the Φ grid's nodes expGrid holds: w up to 18.6, an
+// excess of 1.2e8 K, far beyond any table.
+const expGridNodes = 640
+
+// expGrid holds e^w at the Φ grid's nodes w = phiLow + i·phiStep.
+var expGrid = func() (g [expGridNodes]float64) {
+	for i := range g {
+		g[i] = math.Exp(phiLow + float64(i)*phiStep)
+	}
+	return g
+}()
+
+// expMid holds e^w at the midpoints of the Φ grid's cells, w = phiLow + (i + ½)·phiStep.
+var expMid = func() (g [expGridNodes]float64) {
+	for i := range g {
+		g[i] = math.Exp(phiLow + (float64(i)+0.5)*phiStep)
+	}
+	return g
+}()
+
+// gridExp returns math.Exp(phiLow + (i + half/2)·phiStep) for half 0 (node i) or 1
+// (cell i's midpoint), the same number, from expGrid and expMid.
+func gridExp(i, half int) float64 {
+	if uint(i) >= expGridNodes {
+		return math.Exp(phiLow + (float64(i)+0.5*float64(half))*phiStep)
+	}
+	if half == 0 {
+		return expGrid[i]
+	}
+	return expMid[i]
+}
+
+// expCell returns e^w at w = phiLow + (i + s)·phiStep, 0 ≤ s ≤ 1: the node's e^w times
+// e^x, x = s·phiStep ≤ 0.04, by its Taylor series to x⁸ (the rest is below 1e-18
+// relative; the powers paired, Estrin's scheme, for a short dependency chain), within
+// a few ulps of math.Exp at less cost; math.Exp off the grid.
+func expCell(i int, s float64) float64 {
+	if uint(i) >= expGridNodes {
+		return math.Exp(phiLow + (float64(i)+s)*phiStep)
+	}
+	x := s * phiStep
+	x2 := x * x
+	x4 := x2 * x2
+	lo := (1 + x) + x2*(1.0/2+x*(1.0/6))
+	hi := (1.0/24 + x*(1.0/120)) + x2*(1.0/720+x*(1.0/5040))
+	return expGrid[i] * (lo + x4*(hi+x4*(1.0/40320)))
+}
+
+// unit clamps s to [0, 1] (NaN stays NaN): max(0, min(1, s)) without the builtins'
+// ordering of signed zeros, which costs more and which no caller needs.
+func unit(s float64) float64 {
+	if s < 0 {
+		return 0
+	}
+	if s > 1 {
+		return 1
+	}
+	return s
 }
 
 // slope returns dΦ/ds of cell i's cubic (s the cell fraction).
@@ -269,9 +449,9 @@ type HResult struct {
 // Value evaluates the fitted curve at t seconds from the segment start.
 func (r *HResult) Value(t float64) float64 {
 	hint := int(atomic.LoadInt32(&r.hint))
-	w, _ := r.table.invert(r.phi0-r.q*t, &hint)
+	_, _, ew, _, _ := r.table.solve(r.phi0-r.q*t, &hint)
 	atomic.StoreInt32(&r.hint, int32(hint))
-	return r.Ambient + r.table.side*math.Exp(w)
+	return r.Ambient + r.table.side*ew
 }
 
 // HAt returns the fitted model's surface coefficient h(T)/scale at a temperature: the
@@ -295,14 +475,19 @@ type hModel struct {
 	measured bool
 	amb      float64 // the measured reference ambient
 
-	w, th []float64 // each reading's w and θ·h at the last Jacobian
-	wt    []float64 // each point's weight (the square root of a bin's count), nil for 1
+	th []float64 // each reading's θ·h at the last Jacobian
+	wt []float64 // each point's weight (the square root of a bin's count), nil for 1
 }
 
 // residuals fills r with y − model at (w0, q, amb) and, when jac is non-nil, its
-// rows with ∂model/∂(w0, q) and m.w, m.th with each reading's w and θ·h (for the
-// ambient column, which the caller fills). It returns the sum of squares, or stops
-// at the first partial sum above limit and returns that.
+// rows with ∂model/∂(w0, q) and, for a table with the ambient derivative (a fitted
+// ambient), ∂model/∂T∞, and m.th with each reading's θ·h. It returns the sum of
+// squares, or stops at the first partial sum above limit and returns that.
+//
+// The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ at a fixed
+// excess moves w by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ tabulated beside Φ
+// (phiTable.atA); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)), read in the cell the
+// reading's inversion found.
 func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense, limit float64) float64 {
 	var ssr float64
 	phi0 := tb.at(w0)
@@ -310,16 +495,21 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 	hint := -1
 	var jd []float64 // jac's rows, written directly (Dense.Set checks every index)
 	var js int
+	var da0 float64
+	deriv := false
 	if jac != nil {
-		if m.w == nil {
-			m.w, m.th = make([]float64, len(m.ts)), make([]float64, len(m.ts))
+		if m.th == nil {
+			m.th = make([]float64, len(m.ts))
 		}
 		raw := jac.RawMatrix()
 		jd, js = raw.Data, raw.Stride
+		if deriv = raw.Cols == 3 && tb.phiA != nil; deriv {
+			da0 = tb.atA(w0)
+		}
 	}
 	for i, t := range m.ts {
-		w, h := tb.invert(phi0-q*t, &hint)
-		theta := m.side * math.Exp(w)
+		w, h, ew, cell, s := tb.solve(phi0-q*t, &hint)
+		theta := m.side * ew
 		wt := 1.0
 		if m.wt != nil {
 			wt = m.wt[i]
@@ -332,7 +522,16 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 		if jac != nil {
 			// dT/dw = θ, dw/dΦ = h, dΦ0/dw0 = 1/h0.
 			jd[i*js], jd[i*js+1] = wt*theta*h/h0, -wt*theta*h*t
-			m.w[i], m.th[i] = w, wt*theta*h
+			m.th[i] = wt * theta * h
+			if deriv {
+				var fa float64
+				if cell >= 0 {
+					fa = tb.cellA(cell, s)
+				} else {
+					fa = tb.atA(w)
+				}
+				jd[i*js+2] = wt + m.th[i]*(da0-fa)
+			}
 		}
 	}
 	return ssr

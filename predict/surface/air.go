@@ -118,6 +118,80 @@ func airAt(filmK float64) (AirProps, [3]float64) {
 	return p, [3]float64{lerp(flo[0], fhi[0], f), lerp(flo[1], fhi[1], f), lerp(flo[2], fhi[2], f)}
 }
 
+// airConv is what Convection needs of the air table at one film temperature: the
+// conductivity k, kinematic viscosity ν, diffusivity α and one geometry's Prandtl
+// factor, and (when asked) their slopes per kelvin in the table interval.
+type airConv struct {
+	k, nu, alpha, fac     float64
+	dk, dnu, dalpha, dfac float64
+}
+
+// airConvAt returns the airConv of geometry g at filmK kelvin, interpolated exactly as
+// airAt interpolates (the same values to the last bit), without the properties
+// Convection does not use; with slopes when slopes is set (0 outside the table, NaN
+// for a NaN temperature).
+func airConvAt(filmK float64, g Geometry, slopes bool) airConv {
+	if filmK != filmK {
+		n := filmK
+		return airConv{n, n, n, n, n, n, n, n}
+	}
+	if filmK <= airTable[0].t {
+		r := &airTable[0].p
+		return airConv{k: r.K, nu: r.Nu, alpha: r.Alpha, fac: prFactors[0][g]}
+	}
+	last := len(airTable) - 1
+	if filmK >= airTable[last].t {
+		r := &airTable[last].p
+		return airConv{k: r.K, nu: r.Nu, alpha: r.Alpha, fac: prFactors[last][g]}
+	}
+	i := max(1, min(int((filmK-airTable[0].t)/50), last))
+	for airTable[i].t < filmK {
+		i++
+	}
+	for i > 1 && airTable[i-1].t >= filmK {
+		i--
+	}
+	lo, hi := &airTable[i-1], &airTable[i]
+	var a airConv
+	if filmK == hi.t {
+		a = airConv{k: hi.p.K, nu: hi.p.Nu, alpha: hi.p.Alpha, fac: prFactors[i][g]}
+	} else {
+		f := (filmK - lo.t) / (hi.t - lo.t)
+		a = airConv{
+			k:     lerp(lo.p.K, hi.p.K, f),
+			nu:    lerp(lo.p.Nu, hi.p.Nu, f),
+			alpha: lerp(lo.p.Alpha, hi.p.Alpha, f),
+			fac:   lerp(prFactors[i-1][g], prFactors[i][g], f),
+		}
+	}
+	if slopes {
+		sl := &airSlopes[i]
+		a.dk, a.dnu, a.dalpha, a.dfac = sl.k, sl.nu, sl.alpha, sl.fac[g]
+	}
+	return a
+}
+
+// airSlope holds the slopes per kelvin of k, ν, α and the Prandtl factors over the
+// air table's interval ending at a row.
+type airSlope struct {
+	k, nu, alpha float64
+	fac          [3]float64
+}
+
+// airSlopes holds, at index i, the slopes over the interval from row i−1 to row i
+// (index 0 unused).
+var airSlopes = func() (s [len(airTable)]airSlope) {
+	for i := 1; i < len(airTable); i++ {
+		lo, hi := &airTable[i-1], &airTable[i]
+		span := hi.t - lo.t
+		s[i] = airSlope{k: (hi.p.K - lo.p.K) / span, nu: (hi.p.Nu - lo.p.Nu) / span, alpha: (hi.p.Alpha - lo.p.Alpha) / span}
+		for g := range s[i].fac {
+			s[i].fac[g] = (prFactors[i][g] - prFactors[i-1][g]) / span
+		}
+	}
+	return s
+}()
+
 // prFactors holds prFactor(g, Pr) for each table row and geometry. Interpolating the
 // factor instead of recomputing it from the interpolated Pr changes h by under 1e-5
 // relative (TestConvectionMatchesNusselt) and saves two math.Pow calls per Convection.

@@ -100,15 +100,57 @@ func nusseltFrom(g Geometry, Ra, prFac float64) float64 {
 // beyond that, for Ra above about 1e6, the film-temperature properties make it level
 // off and fall slowly (about 1 % per 100 K), while Radiation keeps growing.
 func Convection(g Geometry, lengthM, surfaceC, ambientC float64) float64 {
+	h, _ := convection(g, lengthM, surfaceC, ambientC, false)
+	return h
+}
+
+// ConvectionShift returns Convection(g, lengthM, surfaceC, ambientC) and its derivative
+// with respect to a common shift x of both temperatures, d/dx Convection(surfaceC + x,
+// ambientC + x) at x = 0, in W/(m²·K²): the change of h when the ambient moves and the
+// surface keeps its excess over it, as the h(T) model needs when it fits the ambient.
+// Only the film temperature moves; the air properties' slopes are those of the table
+// interval it lies in (0 outside the table), so at a table row the derivative is the
+// lower interval's. The derivative is 0 where h is 0 (ΔT = 0) and NaN where h is.
+func ConvectionShift(g Geometry, lengthM, surfaceC, ambientC float64) (h, dh float64) {
+	return convection(g, lengthM, surfaceC, ambientC, true)
+}
+
+// convection is Convection and, when shift is set, ConvectionShift's derivative (else
+// 0). The value is computed by the same operations either way.
+func convection(g Geometry, lengthM, surfaceC, ambientC float64, shift bool) (h, dh float64) {
 	deltaK := math.Abs(surfaceC - ambientC)
 	if deltaK == 0 && g.valid() && lengthM > 0 {
-		return 0
+		return 0, 0
 	}
 	if !g.valid() {
-		return math.NaN()
+		return math.NaN(), math.NaN()
 	}
 	filmK := filmKelvin(surfaceC, ambientC)
-	p, fac := airAt(filmK)
-	Ra := rayleigh(p, filmK, lengthM, deltaK)
-	return nusseltFrom(g, Ra, fac[g]) * p.K / lengthM
+	a := airConvAt(filmK, g, shift)
+	if !(lengthM > 0) {
+		return math.NaN(), math.NaN()
+	}
+	den := filmK * a.nu * a.alpha
+	Ra := StandardGravity * deltaK * lengthM * lengthM * lengthM / den
+	if !shift {
+		return nusseltFrom(g, Ra, a.fac) * a.k / lengthM, 0
+	}
+	// Ra ∝ 1/(Tf·ν·α) at a fixed ΔT, so d ln Ra = −(1/Tf + ν′/ν + α′/α), over one
+	// denominator; Nu = (c + b·Ra^(1/6)/F)² or 2 + b·Ra^(1/4)/F.
+	dlnRa := -(a.nu*a.alpha + filmK*(a.dnu*a.alpha+a.nu*a.dalpha)) / den
+	var nu, dnu float64
+	switch g {
+	case VerticalPlate, HorizontalCylinder:
+		c := 0.825
+		if g == HorizontalCylinder {
+			c = 0.60
+		}
+		r := 0.387 * math.Cbrt(math.Sqrt(Ra)) / a.fac
+		root := c + r
+		nu, dnu = root*root, 2*root*r*(dlnRa/6-a.dfac/a.fac)
+	case Sphere:
+		r := 0.589 * math.Sqrt(math.Sqrt(Ra)) / a.fac
+		nu, dnu = 2+r, r*(dlnRa/4-a.dfac/a.fac)
+	}
+	return nu * a.k / lengthM, (dnu*a.k + nu*a.dk) / lengthM
 }

@@ -15,6 +15,26 @@ func Radiation(emissivity, surfaceC, ambientC float64) float64 {
 	return emissivity * StefanBoltzmann * (ts*ts + ta*ta) * (ts + ta)
 }
 
+// RadiationShift returns Radiation(emissivity, surfaceC, ambientC) and its derivative
+// with respect to a common shift x of both temperatures (see ConvectionShift),
+// ε·σ·[2(Ts + T∞)² + 2(Ts² + T∞²)] in W/(m²·K²), temperatures in kelvin.
+func RadiationShift(emissivity, surfaceC, ambientC float64) (h, dh float64) {
+	ts := surfaceC + ZeroCelsius
+	ta := ambientC + ZeroCelsius
+	sum := ts + ta
+	return emissivity * StefanBoltzmann * (ts*ts + ta*ta) * sum,
+		emissivity * StefanBoltzmann * 2 * (sum*sum + ts*ts + ta*ta)
+}
+
+// CoefficientShift returns Coefficient(g, lengthM, emissivity, surfaceC, ambientC)
+// and its derivative with respect to a common shift of both temperatures
+// (ConvectionShift plus RadiationShift).
+func CoefficientShift(g Geometry, lengthM, emissivity, surfaceC, ambientC float64) (h, dh float64) {
+	c, dc := ConvectionShift(g, lengthM, surfaceC, ambientC)
+	r, dr := RadiationShift(emissivity, surfaceC, ambientC)
+	return c + r, dc + dr
+}
+
 // Coefficient returns the total surface coefficient Convection + Radiation in
 // W/(m²·K) of a body of the given geometry, characteristic length (metres) and
 // emissivity at surfaceC in still air and surroundings at ambientC (both °C).
