@@ -596,13 +596,17 @@
     const run = runs.get(name);
     if (!run) return;
     // Two presses within five seconds: a stray tap on a wall screen must not end a run.
+    // Each arming has its own five seconds: an earlier arming's timer, still pending
+    // after a confirmed press, must not disarm a new one.
     const btn = cards.get(name).el.querySelector(".stop");
+    const disarm = () => { clearTimeout(btn.disarmTimer); delete btn.dataset.armed; btn.textContent = "stop run"; };
     if (!btn.dataset.armed) {
       btn.dataset.armed = "1"; btn.textContent = "press again to stop " + run.specimen;
-      setTimeout(() => { delete btn.dataset.armed; btn.textContent = "stop run"; }, 5000);
+      clearTimeout(btn.disarmTimer);
+      btn.disarmTimer = setTimeout(disarm, 5000);
       return;
     }
-    delete btn.dataset.armed; btn.textContent = "stop run";
+    disarm();
     const done = await post("/api/v1/runs/" + encodeURIComponent(run.id) + "/stop", {});
     if (done) { say("Run " + done.id + " stopped."); await fetchRuns(); }
   }
