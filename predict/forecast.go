@@ -5,6 +5,8 @@ import (
 	"math"
 	"slices"
 	"time"
+
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // IntervalSettings tunes the forecast intervals. The zero value is ready to use; each
@@ -646,14 +648,11 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // resolves the readings yet, but their direction is known), the far end is the room
 // prior's. When the readings head toward the target and slow steadily, the bound is
 // raised to the soonest they can get there at their present speed (speedFloor: a body
-// settling toward a fixed temperature only slows), the later of two lower bounds; on
-// the generated benchmark without descriptions this lifted coverage at 25 % elapsed
-// from 80 to 86 % (answers opening at the last reading 6 → 4), none after the truth.
-// Insufficient (out
-// unchanged) when even the far end does not reach the
-// target, the refit fails (fewer than LumpedSettings' MinPoints readings), or the
-// bound would be the last reading itself with no central estimate beside it ("not
-// before now" says nothing).
+// settling toward a fixed temperature only slows), the later of two lower bounds.
+// Insufficient (out unchanged) when even the far end does not reach the target, the
+// refit fails (fewer than LumpedSettings' MinPoints readings), or the bound would be
+// the last reading itself with no central estimate beside it ("not before now" says
+// nothing).
 func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) TargetForecast {
 	if !f.profiled(out) {
 		return out
@@ -781,27 +780,23 @@ func awayFromRoom(m []float64) float64 {
 // temperature nor that temperature known. A body settling toward any fixed temperature
 // (a lumped body under convection and radiation from surroundings at that temperature)
 // approaches it ever more slowly, so it cannot cover the way left to the target faster
-// than at its present speed: the crossing comes no sooner than the last reading plus
-// the way left over the speed of the readings' last quarter, taken high by two
-// standard errors. The bound holds only while the readings slow steadily, so it is
-// given only when each of their four quarters is slower than the one before it beyond
-// the noise, and the quarters' speed ratios agree within a factor of two (an exponential
-// slows by the same ratio per quarter; a door opened or a heater switched during the
-// record breaks that, and the recovery after it would outrun the bound). The
-// surroundings are assumed to stay as they are, as for every forecast: an oven whose
-// setting is raised later outruns the bound. No central estimate, no late end, and
-// never for a handling target (the caller), so no state and no handling signal
-// changes. On the generated benchmark's oven cases, with and without their measured
-// ambient, swept every 5 % of the time to the crossing, 117 such bounds were given and
-// none came after the true crossing; they lie 25–70 % of the way there
-// (TestSpeedBoundNeverLate holds a door opening and a ramping oven).
+// than at its present speed: the crossing comes no sooner than speedFloor says, given
+// only while the readings slow steadily (an exponential slows by the same ratio per
+// quarter; a door opened or a heater switched during the record breaks that, and the
+// recovery after it would outrun the bound). The surroundings are assumed to stay as
+// they are, as for every forecast, so the bound is given only for a target the
+// readings' own trend still reaches (trendReaches): a multi-stage oven program whose
+// next stage lies beyond where the readings are visibly settling would outrun it. No
+// central estimate, no late end, and never for a handling target (the caller), so no
+// state and no handling signal changes. TestSpeedBoundNeverLate holds a door opening,
+// a ramping oven and a two-stage oven.
 func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 	c := f.p.Celsius
 	if f.away*(out.Celsius-c[len(c)-1]) <= f.tol {
 		return out
 	}
 	lo, ok := f.speedFloor(out.Celsius)
-	if !ok {
+	if !ok || !f.trendReaches(out.Celsius) {
 		return out
 	}
 	out.State = StatePredicted
@@ -811,25 +806,37 @@ func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 }
 
 // speedFloor is the soonest the readings can reach level, s from the segment start, if
-// they settle toward a fixed temperature beyond it: the last reading plus the way left
-// over the speed of the readings' last quarter toward level (least squares, taken high
-// by two standard errors). ok is false unless the readings head toward level and slow
-// steadily: each of their four quarters (at least 5 readings each) slower than the one
-// before it beyond the noise, the quarters' speed ratios within a factor of two of each
-// other (see speedBound).
+// they settle toward a fixed temperature beyond it: the last reading's time plus the
+// way left over the speed of the readings' last quarter toward level. Both come from
+// the last quarter's least-squares line, so that a noisy or quantised last reading
+// neither stretches nor shrinks the way left (on a slowing curve the line ends beyond
+// the curve, so the way is short: the early side). The speed is taken high by a
+// one-sided 97.7 % Student-t quantile of its standard error, inflated for the
+// residuals' lag-1 autocorrelation (Inflation): few readings or slowly wandering noise
+// make the bound earlier, not later. ok is false unless the readings head toward level
+// and slow steadily: each of their four quarters (at least 5 readings each) slower
+// than the one before it beyond the noise, the quarters' speed ratios within a factor
+// of two of each other (see speedBound).
 func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
 	q := n / 4
-	dir := sign(level - c[n-1])
-	if q < 5 || dir == 0 {
+	if q < 5 {
+		return 0, false
+	}
+	var quarters [4]quarterLine
+	for k := range quarters {
+		lo, hi := n-(4-k)*q, n-(3-k)*q
+		quarters[k] = fitQuarter(t[lo:hi], c[lo:hi])
+	}
+	last := quarters[3]
+	dir := sign(level - last.end)
+	if dir == 0 {
 		return 0, false
 	}
 	var v, se [4]float64
-	for k := range 4 {
-		lo, hi := n-(4-k)*q, n-(3-k)*q
-		b, e := slope(t[lo:hi], c[lo:hi])
-		v[k], se[k] = dir*b, e
+	for k, l := range quarters {
+		v[k], se[k] = dir*l.slope, l.se
 	}
 	var r [3]float64
 	for k := range 3 {
@@ -841,5 +848,58 @@ func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	if slices.Max(r[:]) > 2*slices.Min(r[:]) {
 		return 0, false
 	}
-	return t[n-1] + dir*(level-c[n-1])/(v[3]+2*se[3]), true
+	z := speedQuantile(q - 2)
+	return t[n-1] + dir*(level-last.end)/(v[3]+z*se[3]*Inflation(last.rho, maxSpeedInflation)), true
+}
+
+// maxSpeedInflation caps the autocorrelation's inflation of the speed's standard error
+// (ρ = 0.98 reaches it).
+const maxSpeedInflation = 10.0
+
+// speedQuantile is the one-sided 97.7 % point of Student's t with dof degrees of
+// freedom (two standard errors for a large sample), 1 degree below 1.
+func speedQuantile(dof int) float64 {
+	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(max(dof, 1))}.Quantile(0.97725)
+}
+
+// quarterLine is the least-squares line through a quarter of the readings: its slope
+// (°C/s) and standard error, its value at the quarter's last reading, and the lag-1
+// autocorrelation of its residuals (0 with fewer than 3 readings).
+type quarterLine struct{ slope, se, end, rho float64 }
+
+// fitQuarter fits a quarterLine to readings c at times t.
+func fitQuarter(t, c []float64) quarterLine {
+	b, se := slope(t, c)
+	n := float64(len(t))
+	var mt, mc float64
+	for i := range t {
+		mt += t[i]
+		mc += c[i]
+	}
+	mt /= n
+	mc /= n
+	res := make([]float64, len(t))
+	for i := range t {
+		res[i] = c[i] - mc - b*(t[i]-mt)
+	}
+	return quarterLine{slope: b, se: se, end: mc + b*(t[len(t)-1]-mt), rho: lag1(res)}
+}
+
+// lag1 is the lag-1 autocorrelation of residuals r (0 when they do not vary or are
+// fewer than 3).
+func lag1(r []float64) float64 {
+	if len(r) < 3 {
+		return 0
+	}
+	var num, den float64
+	for i, x := range r {
+		den += x * x
+		if i > 0 {
+			num += x * r[i-1]
+		}
+	}
+	if den == 0 {
+		return 0
+	}
+	return num / den
 }

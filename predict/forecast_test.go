@@ -1,6 +1,7 @@
 package predict
 
 import (
+	"cmp"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -290,35 +291,57 @@ func lumpedWarmUp(rng *rand.Rand, air func(float64) float64, t0c, tau, dt, end, 
 // letting in air 5 K colder for three minutes (it then cools faster than its readings
 // said), gets open-ended answers for a target 4 K above the room (some settling
 // temperatures the readings allow never reach it), whose early bound the readings'
-// own speed may raise (speedFloor). Our own invented records: 180 °C oven or 22 °C room,
-// read every 5 s, 0.1 °C noise.
+// own speed may raise (speedFloor). A two-stage oven program (150 °C, then 200 °C from
+// 2,400 s) with a target between the stages: the first stage's readings settle short
+// of it, so no bound may be given from them. And the bound's enemies in the readings
+// themselves: a logger that rounds to whole degrees (targets between its steps, so the
+// last reading's rounding matters), and one reading a minute with 0.3 °C of noise.
+// Our own invented records: 180 °C oven or 22 °C room, read every 5 s, 0.1 °C noise,
+// unless the case says otherwise. Swept once over 30 noise seeds (not kept: 80 s): no
+// bound after the truth in any case; before the bound required the readings' own
+// trend to reach the target, the two-stage oven had late bounds in all 30.
 func TestSpeedBoundNeverLate(t *testing.T) {
 	for _, c := range []struct {
-		name         string
-		from, target float64 // °C
-		tau          float64
-		minOpen      int // cutoffs that must get a not-before (the rules still apply)
-		air          func(float64) float64
+		name          string
+		from, target  float64 // °C
+		tau           float64
+		minOpen       int // cutoffs that must get a not-before (the rules still apply)
+		air           func(float64) float64
+		dt, sd, quant float64 // reading spacing s, noise °C, rounding step °C (0: 5 s, 0.1 °C, none)
 	}{
 		{"oven, door at 900 s", 21, 175, 600, 10, func(s float64) float64 {
 			if s >= 900 && s < 1020 {
 				return 120
 			}
 			return 180
-		}},
+		}, 0, 0, 0},
 		// While the air ramps the readings speed up, so no quarter-by-quarter slowing is
 		// seen before the crossing: no answer, which is right.
-		{"oven ramping for 15 min", 21, 175, 300, 0, func(s float64) float64 { return min(21+159*s/900, 180) }},
+		{"oven ramping for 15 min", 21, 175, 300, 0, func(s float64) float64 { return min(21+159*s/900, 180) }, 0, 0, 0},
 		{"cooling, door at 2000 s", 200, 26, 900, 3, func(s float64) float64 {
 			if s >= 2000 && s < 2180 {
 				return 17
 			}
 			return 22
-		}},
+		}, 0, 0, 0},
+		{"two-stage oven, target between the stages", 21, 175, 600, 0, func(s float64) float64 {
+			if s < 2400 {
+				return 150
+			}
+			return 200
+		}, 0, 0, 0},
+		{"oven, whole-degree logger, target between steps", 21, 170.5, 600, 3, func(float64) float64 { return 180 }, 5, 0.1, 1},
+		{"oven, a reading a minute, 0.3 °C noise", 21, 170, 600, 0, func(float64) float64 { return 180 }, 60, 0.3, 0},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(51, 52))
-			ts, cs, truth := lumpedWarmUp(rng, c.air, c.from, c.tau, 5, 6000, 0.1)
+			dt, sd := cmp.Or(c.dt, 5), cmp.Or(c.sd, 0.1)
+			ts, cs, truth := lumpedWarmUp(rng, c.air, c.from, c.tau, dt, 6000, sd)
+			if c.quant > 0 {
+				for i := range cs {
+					cs[i] = c.quant * math.Round(cs[i]/c.quant)
+				}
+			}
 			side := sign(c.from - c.target)
 			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return side*(v-c.target) <= 0 })]
 			step := 40.0
@@ -358,5 +381,40 @@ func TestSpeedBoundNeverLate(t *testing.T) {
 			}
 			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", open, cross)
 		})
+	}
+}
+
+// TestSpeedFloorFromTheLine: the speed bound measures the way left from the last
+// quarter's line, not from the last reading, so one reading knocked away from the target
+// (noise, a logger's rounding) cannot push the bound later; on an exact exponential the
+// bound lies before the true crossing, and the quantile for a quarter of 5 readings is
+// Student's t with 3 degrees of freedom at 97.7 % one-sided, which lies between the
+// tabled t(0.975, 3) = 3.182 and t(0.99, 3) = 4.541 (any table of Student's t, e.g. the
+// NIST/SEMATECH e-Handbook's; from memory), against 2.00 for a large sample (the
+// normal's 97.725 % point).
+func TestSpeedFloorFromTheLine(t *testing.T) {
+	const amb, from, tau, level = 180.0, 21.0, 600.0, 170.0
+	var ts, cs []float64
+	for s := 0.0; s <= 1200; s += 10 {
+		ts, cs = append(ts, s), append(cs, amb+(from-amb)*math.Exp(-s/tau))
+	}
+	cross := -tau * math.Log((amb-level)/(amb-from))
+	f := &forecaster{p: &LumpedProblem{Times: ts, Celsius: cs}}
+	clean, ok := f.speedFloor(level)
+	if !ok || clean >= cross || clean <= ts[len(ts)-1] {
+		t.Fatalf("exact exponential: bound %.0f s (ok %v); want between the last reading %.0f s and the crossing %.0f s", clean, ok, ts[len(ts)-1], cross)
+	}
+	knocked := slices.Clone(cs)
+	knocked[len(knocked)-1] -= 3 // 3 °C away from the target
+	f.p = &LumpedProblem{Times: ts, Celsius: knocked}
+	moved, ok := f.speedFloor(level)
+	if !ok || moved-clean > 0.1*(clean-ts[len(ts)-1]) {
+		t.Errorf("last reading 3 °C off: bound %.0f s against %.0f s clean (ok %v); the last reading moved it by more than a tenth of the way", moved, clean, ok)
+	}
+	if q := speedQuantile(3); q <= 3.182 || q >= 4.541 {
+		t.Errorf("speedQuantile(3) = %.3f, want between t(0.975, 3) = 3.182 and t(0.99, 3) = 4.541", q)
+	}
+	if q := speedQuantile(10000); math.Abs(q-2.0) > 0.01 {
+		t.Errorf("speedQuantile(10000) = %.3f, want about 2.00", q)
 	}
 }

@@ -92,7 +92,8 @@ func solveLevel(at func(float64) float64, level, maxLead float64) (float64, bool
 // anchored returns f (a copy the caller owns) moved along its curve by lead seconds
 // as of the reading at updated: every predicted target's crossing and interval come
 // lead earlier, never before updated (plus the target's hold, as at a fit), and the
-// curves run lead ahead; an open-ended interval stays open (its zero times stay zero).
+// curves run lead ahead; an open-ended interval stays open (its zero times stay zero)
+// and its early bound never moves later.
 // Other states and their times are left as fitted.
 func (f *Forecast) anchored(lead float64, updated time.Time) *Forecast {
 	f.UpdatedAt = updated
@@ -107,8 +108,15 @@ func (f *Forecast) anchored(lead float64, updated time.Time) *Forecast {
 			continue
 		}
 		floor := updated.Add(tf.Target.Hold)
+		open := tf.Latest.IsZero()
 		move := func(t time.Time) time.Time {
 			if t.IsZero() { // an open-ended interval: no central estimate or late end
+				return t
+			}
+			if open && d < 0 && t.Equal(tf.Earliest) {
+				// A "not before" is a lower bound from the readings at the fit, not a
+				// point on the curve: readings lagging the curve (a sensor's lag, sparse
+				// noisy readings) must not carry it later.
 				return t
 			}
 			if t = t.Add(-d); t.Before(floor) {

@@ -278,3 +278,25 @@ func TestReanchorKeepsStates(t *testing.T) {
 		t.Errorf("the next fit finds the handling target %s, want reached from the readings", f.Targets[0].State)
 	}
 }
+
+// TestReanchorNeverDelaysANotBefore: an open-ended "not before" is a lower bound from
+// the readings at the fit, so readings that lag the fitted curve (a negative lead) must
+// not carry it later; readings ahead of the curve may bring it earlier (the safe side),
+// and a central estimate beside it moves with the curve either way.
+func TestReanchorNeverDelaysANotBefore(t *testing.T) {
+	fitted := t0.Add(10 * time.Minute)
+	at, early := t0.Add(40*time.Minute), t0.Add(30*time.Minute)
+	for _, c := range []struct {
+		lead            float64
+		wantAt, wantEar time.Time
+	}{
+		{-20, at.Add(20 * time.Second), early},
+		{20, at.Add(-20 * time.Second), early.Add(-20 * time.Second)},
+	} {
+		f := &Forecast{Targets: []TargetForecast{{Target: Target{Name: "t", Celsius: 100}, State: StatePredicted, At: at, Earliest: early}}}
+		got := f.anchored(c.lead, fitted).Targets[0]
+		if !got.At.Equal(c.wantAt) || !got.Earliest.Equal(c.wantEar) || !got.Latest.IsZero() {
+			t.Errorf("lead %+.0f s: at %v, earliest %v, latest %v; want %v, %v, open", c.lead, got.At, got.Earliest, got.Latest, c.wantAt, c.wantEar)
+		}
+	}
+}

@@ -310,7 +310,7 @@ func secondsText(v float64) string { return strconv.FormatFloat(math.Round(v*10)
 // no late one (and, for a handling target, no time to plan with).
 func (res *fitResult) notBefore(tg predict.TargetForecast) string {
 	s := "predicted: not before t_s " + secondsText(math.Round(res.fileTime(tg.Earliest))) +
-		", with no late end yet (some settling temperatures the readings allow never reach it)"
+		", with no late end yet (the readings do not yet bound how late it may be: the notes say why)"
 	if !tg.At.IsZero() {
 		s += "; central estimate t_s " + secondsText(math.Round(res.fileTime(tg.At)))
 	}
