@@ -110,7 +110,12 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 			still, moving := hCandidates(opt.Specimen)
 			hr, airNote = chooseAir(fitHBest(p, start, still), fitHBest(p, start, moving), opt.Specimen)
 			var emisNote string
-			if hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen); emisNote != "" {
+			if opt.Specimen == nil {
+				hr, emisNote = refineUnknownEmissivity(p, start, hr)
+			} else {
+				hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen)
+			}
+			if emisNote != "" {
 				airNote += " " + emisNote
 			}
 		}
@@ -307,7 +312,8 @@ const (
 	roomPriorSD = 8.0
 )
 
-// unknownEmissivities are tried when the specimen is unknown; the best fit is kept.
+// unknownEmissivities are tried when the specimen is unknown; the best fit is kept,
+// and refined between its neighbours (refineUnknownEmissivity).
 var unknownEmissivities = []float64{0.1, 0.4, 0.8}
 
 // movingH are the constant convective coefficients tried for moving air, W/(m²·K): a
@@ -507,8 +513,8 @@ func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 	} else {
 		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
 		f.Notes = append(f.Notes, fmt.Sprintf(
-			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g (best of 0.1, 0.4, 0.8), and the heat capacity per unit area ρcV/A is fitted instead of a scale on h; the fitted ambient leans on a room prior of 22 ± 8 °C.",
-			r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity))
+			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g (of 0.1, 0.4 and 0.8 the best fit, refined over a span of %.0f K or more or with a measured ambient), and the heat capacity per unit area ρcV/A is fitted instead of a scale on h; the fitted ambient leans on a room prior of 22 ± 8 °C.",
+			r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity, float64(wideSpanK)))
 		noteNoSpecimen(f)
 	}
 	f.Curve = func(t time.Time) float64 { return r.Value(t.Sub(start).Seconds()) }
