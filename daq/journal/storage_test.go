@@ -189,49 +189,8 @@ func insertV3(t testing.TB, db *sql.DB, rs []daq.Reading) {
 // schema, and reports the readings migrated per second of wall time.
 // Run it once: go test ./daq/journal -run X -bench MigrateV3 -benchtime 1x
 func BenchmarkMigrateV3(b *testing.B) {
-	channels, seconds := storageLoad(b)
-	for range b.N {
-		b.StopTimer()
-		dir := b.TempDir()
-		db := openV3(b, filepath.Join(dir, FileName))
-		tx, err := db.Begin()
-		if err != nil {
-			b.Fatal(err)
-		}
-		storageReadings(channels, seconds, func(rs []daq.Reading) {
-			for i, r := range rs {
-				if _, err := tx.Exec("INSERT OR IGNORE INTO channels (id, logger, name) VALUES (?, ?, ?)", i+1, r.Logger, r.Channel); err != nil {
-					b.Fatal(err)
-				}
-				if _, err := tx.Exec("INSERT INTO readings (channel_id, t, celsius, status, raw) VALUES (?, ?, ?, 'ok', '')",
-					i+1, r.Time.UnixNano(), r.Celsius); err != nil {
-					b.Fatal(err)
-				}
-			}
-		}, func() {})
-		if err := tx.Commit(); err != nil {
-			b.Fatal(err)
-		}
-		if err := db.Close(); err != nil {
-			b.Fatal(err)
-		}
-		b.StartTimer()
-		start := time.Now()
-		j, err := Open(dir, Options{Logger: quiet})
-		if err != nil {
-			b.Fatal(err)
-		}
-		took := time.Since(start)
-		b.StopTimer()
-		if h := j.Health(); h.LastError != "" {
-			b.Fatalf("migration failed: %s", h.LastError)
-		}
-		if n, err := j.Count(""); err != nil || n != int64(channels*seconds) {
-			b.Fatalf("%d readings after migration (%v), want %d", n, err, channels*seconds)
-		}
-		j.Close()
-		b.ReportMetric(float64(channels*seconds)/took.Seconds(), "readings/s")
-	}
+	benchmarkMigrate(b, openV3, "INSERT INTO readings (channel_id, t, celsius, status, raw) VALUES (?, ?, ?, 'ok', '')",
+		func(id int, r daq.Reading) []any { return []any{id, r.Time.UnixNano(), r.Celsius} })
 }
 
 // BenchmarkMigrateV4 opens a version-4 journal of channels × seconds readings
@@ -240,11 +199,21 @@ func BenchmarkMigrateV3(b *testing.B) {
 // seconds a million readings take.
 // Run it once: go test ./daq/journal -run X -bench MigrateV4 -benchtime 1x
 func BenchmarkMigrateV4(b *testing.B) {
+	benchmarkMigrate(b, openV4, "INSERT INTO readings (channel_id, t, k, v) VALUES (?, ?, 0, ?)",
+		func(id int, r daq.Reading) []any {
+			return []any{id, r.Time.UnixNano(), encodeValue(r.Celsius, r.Status)}
+		})
+}
+
+// benchmarkMigrate writes storageLoad's readings into an older journal made by open,
+// each with insert and args (the channel's id and the reading), then times the Open
+// that migrates it and checks that every reading is there after.
+func benchmarkMigrate(b *testing.B, open func(testing.TB, string) *sql.DB, insert string, args func(int, daq.Reading) []any) {
 	channels, seconds := storageLoad(b)
 	for range b.N {
 		b.StopTimer()
 		dir := b.TempDir()
-		db := openV4(b, filepath.Join(dir, FileName))
+		db := open(b, filepath.Join(dir, FileName))
 		tx, err := db.Begin()
 		if err != nil {
 			b.Fatal(err)
@@ -254,8 +223,7 @@ func BenchmarkMigrateV4(b *testing.B) {
 				if _, err := tx.Exec("INSERT OR IGNORE INTO channels (id, logger, name) VALUES (?, ?, ?)", i+1, r.Logger, r.Channel); err != nil {
 					b.Fatal(err)
 				}
-				if _, err := tx.Exec("INSERT INTO readings (channel_id, t, k, v) VALUES (?, ?, 0, ?)",
-					i+1, r.Time.UnixNano(), encodeValue(r.Celsius, r.Status)); err != nil {
+				if _, err := tx.Exec(insert, args(i+1, r)...); err != nil {
 					b.Fatal(err)
 				}
 			}
