@@ -92,14 +92,7 @@ func airAt(filmK float64) (AirProps, [3]float64) {
 	if filmK >= airTable[last].t {
 		return airTable[last].p, prFactors[last]
 	}
-	// Rows are 50 K apart up to 1000 K: start the search there, a row or two away.
-	i := max(1, min(int((filmK-airTable[0].t)/50), last))
-	for airTable[i].t < filmK {
-		i++
-	}
-	for i > 1 && airTable[i-1].t >= filmK {
-		i--
-	}
+	i := airInterval(filmK)
 	lo, hi := &airTable[i-1], &airTable[i]
 	if filmK == hi.t {
 		return hi.p, prFactors[i]
@@ -116,6 +109,20 @@ func airAt(filmK float64) (AirProps, [3]float64) {
 	}
 	flo, fhi := &prFactors[i-1], &prFactors[i]
 	return p, [3]float64{lerp(flo[0], fhi[0], f), lerp(flo[1], fhi[1], f), lerp(flo[2], fhi[2], f)}
+}
+
+// airInterval returns the row i of the air table whose interval (row i−1, row i] holds
+// filmK, which lies strictly inside the table. Rows are 50 K apart up to 1000 K: the
+// search starts there, a row or two away.
+func airInterval(filmK float64) int {
+	i := max(1, min(int((filmK-airTable[0].t)/50), len(airTable)-1))
+	for airTable[i].t < filmK {
+		i++
+	}
+	for i > 1 && airTable[i-1].t >= filmK {
+		i--
+	}
+	return i
 }
 
 // airConv is what Convection needs of the air table at one film temperature: the
@@ -144,13 +151,7 @@ func airConvAt(filmK float64, g Geometry, slopes bool) airConv {
 		r := &airTable[last].p
 		return airConv{k: r.K, nu: r.Nu, alpha: r.Alpha, fac: prFactors[last][g]}
 	}
-	i := max(1, min(int((filmK-airTable[0].t)/50), last))
-	for airTable[i].t < filmK {
-		i++
-	}
-	for i > 1 && airTable[i-1].t >= filmK {
-		i--
-	}
+	i := airInterval(filmK)
 	lo, hi := &airTable[i-1], &airTable[i]
 	var a airConv
 	if filmK == hi.t {
