@@ -521,22 +521,9 @@ func (lm *levmar) iterate() (done, ok bool) {
 // inverse instead of estimated). Written out: gonum's condition estimate cost more
 // than the rest of the step.
 func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
-	var l, li [3][3]float64
-	for j := range k {
-		for i := j; i < k; i++ {
-			s := a[i][j]
-			for m := range j {
-				s -= l[i][m] * l[j][m]
-			}
-			if i == j {
-				if !(s > 0) {
-					return x, false
-				}
-				l[j][j] = math.Sqrt(s)
-			} else {
-				l[i][j] = s / l[j][j]
-			}
-		}
+	l, ok := cholesky3(a, k)
+	if !ok {
+		return x, false
 	}
 	// Forward and back substitution: L·y = b, Lᵀ·x = y.
 	var y [3]float64
@@ -555,16 +542,7 @@ func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
 		x[i] = s / l[i][i]
 	}
 	// ‖a‖₁·‖a⁻¹‖₁ with a⁻¹ = L⁻ᵀ·L⁻¹.
-	for j := range k {
-		li[j][j] = 1 / l[j][j]
-		for i := j + 1; i < k; i++ {
-			var s float64
-			for m := j; m < i; m++ {
-				s += l[i][m] * li[m][j]
-			}
-			li[i][j] = -s / l[i][i]
-		}
-	}
+	li := lowerInverse3(l, k)
 	var norm, normInv float64
 	for j := range k {
 		var c, ci float64
@@ -579,6 +557,44 @@ func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
 		norm, normInv = max(norm, c), max(normInv, ci)
 	}
 	return x, norm*normInv <= mat.ConditionTolerance
+}
+
+// cholesky3 returns the lower Cholesky factor L of the symmetric a (its lower
+// triangle read) of k ≤ 3 rows, a = L·Lᵀ; ok is false at a pivot not above zero.
+func cholesky3(a [3][3]float64, k int) (l [3][3]float64, ok bool) {
+	for j := range k {
+		for i := j; i < k; i++ {
+			s := a[i][j]
+			for m := range j {
+				s -= l[i][m] * l[j][m]
+			}
+			if i == j {
+				if !(s > 0) {
+					return l, false
+				}
+				l[j][j] = math.Sqrt(s)
+			} else {
+				l[i][j] = s / l[j][j]
+			}
+		}
+	}
+	return l, true
+}
+
+// lowerInverse3 returns L⁻¹ for a lower triangular l of k ≤ 3 rows with a nonzero
+// diagonal (a Cholesky factor).
+func lowerInverse3(l [3][3]float64, k int) (li [3][3]float64) {
+	for j := range k {
+		li[j][j] = 1 / l[j][j]
+		for i := j + 1; i < k; i++ {
+			var s float64
+			for m := j; m < i; m++ {
+				s += l[i][m] * li[m][j]
+			}
+			li[i][j] = -s / l[i][i]
+		}
+	}
+	return li
 }
 
 // normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 3 columns, summed
@@ -714,33 +730,17 @@ func normalInverse(n *mat.SymDense, sigma float64) (*mat.SymDense, bool) {
 		}
 	}
 	// A = L·Lᵀ for the scaled matrix, then A⁻¹ = L⁻ᵀ·L⁻¹.
-	var l, li [3][3]float64
+	var a [3][3]float64
 	for j := range k {
 		for i := j; i < k; i++ {
-			s := n.At(i, j) / (scale[i] * scale[j])
-			for m := range j {
-				s -= l[i][m] * l[j][m]
-			}
-			if i == j {
-				if !(s > 0) {
-					return nil, false
-				}
-				l[j][j] = math.Sqrt(s)
-			} else {
-				l[i][j] = s / l[j][j]
-			}
+			a[i][j] = n.At(i, j) / (scale[i] * scale[j])
 		}
 	}
-	for j := range k {
-		li[j][j] = 1 / l[j][j]
-		for i := j + 1; i < k; i++ {
-			var s float64
-			for m := j; m < i; m++ {
-				s += l[i][m] * li[m][j]
-			}
-			li[i][j] = -s / l[i][i]
-		}
+	l, ok := cholesky3(a, k)
+	if !ok {
+		return nil, false
 	}
+	li := lowerInverse3(l, k)
 	out := mat.NewSymDense(k, nil)
 	for i := range k {
 		for j := i; j < k; j++ {
