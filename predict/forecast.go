@@ -499,8 +499,15 @@ func readingsSettled(t, c []float64) bool {
 // slope is the least-squares slope of c against t and its standard error (0, +Inf
 // when t does not vary).
 func slope(t, c []float64) (b, se float64) {
+	_, _, b, se = leastSquares(t, c)
+	return b, se
+}
+
+// leastSquares is the least-squares line of c against t: the means of t and c it
+// passes through, its slope and the slope's standard error (0, +Inf when t does not
+// vary or there are fewer than 3 readings).
+func leastSquares(t, c []float64) (mt, mc, b, se float64) {
 	n := float64(len(t))
-	var mt, mc float64
 	for i := range t {
 		mt += t[i]
 		mc += c[i]
@@ -513,7 +520,7 @@ func slope(t, c []float64) (b, se float64) {
 		stt += (t[i] - mt) * (t[i] - mt)
 	}
 	if stt == 0 || n < 3 {
-		return 0, math.Inf(1)
+		return mt, mc, 0, math.Inf(1)
 	}
 	b = stc / stt
 	var ss float64
@@ -521,7 +528,7 @@ func slope(t, c []float64) (b, se float64) {
 		r := c[i] - mc - b*(t[i]-mt)
 		ss += r * r
 	}
-	return b, math.Sqrt(ss / (n - 2) / stt)
+	return mt, mc, b, math.Sqrt(ss / (n - 2) / stt)
 }
 
 // plausibleRoom reports whether the settling temperature is measured, or fitted within
@@ -848,8 +855,8 @@ func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	if slices.Max(r[:]) > 2*slices.Min(r[:]) {
 		return 0, false
 	}
-	z := speedQuantile(q - 2)
-	return t[n-1] + dir*(level-last.end)/(v[3]+z*se[3]*Inflation(last.rho, maxSpeedInflation)), true
+	z := speedQuantile(q-2) * Inflation(last.rho(t[n-q:], c[n-q:]), maxSpeedInflation)
+	return t[n-1] + dir*(level-last.end)/(v[3]+z*se[3]), true
 }
 
 // maxSpeedInflation caps the autocorrelation's inflation of the speed's standard error
@@ -862,41 +869,31 @@ func speedQuantile(dof int) float64 {
 	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(max(dof, 1))}.Quantile(0.97725)
 }
 
-// quarterLine is the least-squares line through a quarter of the readings: its slope
-// (°C/s) and standard error, its value at the quarter's last reading, and the lag-1
-// autocorrelation of its residuals (0 with fewer than 3 readings).
-type quarterLine struct{ slope, se, end, rho float64 }
+// quarterLine is the least-squares line through a quarter of the readings: the means
+// it passes through, its slope (°C/s) and standard error, and its value at the
+// quarter's last reading.
+type quarterLine struct{ mt, mc, slope, se, end float64 }
 
 // fitQuarter fits a quarterLine to readings c at times t.
 func fitQuarter(t, c []float64) quarterLine {
-	b, se := slope(t, c)
-	n := float64(len(t))
-	var mt, mc float64
-	for i := range t {
-		mt += t[i]
-		mc += c[i]
-	}
-	mt /= n
-	mc /= n
-	res := make([]float64, len(t))
-	for i := range t {
-		res[i] = c[i] - mc - b*(t[i]-mt)
-	}
-	return quarterLine{slope: b, se: se, end: mc + b*(t[len(t)-1]-mt), rho: lag1(res)}
+	mt, mc, b, se := leastSquares(t, c)
+	return quarterLine{mt: mt, mc: mc, slope: b, se: se, end: mc + b*(t[len(t)-1]-mt)}
 }
 
-// lag1 is the lag-1 autocorrelation of residuals r (0 when they do not vary or are
-// fewer than 3).
-func lag1(r []float64) float64 {
-	if len(r) < 3 {
+// rho is the lag-1 autocorrelation of the residuals of readings c at times t about the
+// line (0 when they do not vary or are fewer than 3).
+func (l quarterLine) rho(t, c []float64) float64 {
+	if len(t) < 3 {
 		return 0
 	}
-	var num, den float64
-	for i, x := range r {
-		den += x * x
+	var num, den, prev float64
+	for i := range t {
+		r := c[i] - l.mc - l.slope*(t[i]-l.mt)
+		den += r * r
 		if i > 0 {
-			num += x * r[i-1]
+			num += r * prev
 		}
+		prev = r
 	}
 	if den == 0 {
 		return 0
