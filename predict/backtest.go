@@ -50,6 +50,58 @@ const backtestWindows = 4
 // move along the width-coverage trade, tuned on the benchmark, not a better interval.
 // The backtest's own miss sign agreed with the final error's in only 58 % of the
 // cases, so it cannot shift an interval either.
+//
+// Diagnosis (issue 12, the width goal: 85–95 % coverage with a median width ≤ 0.3 of
+// the remaining time at 25 % elapsed; go test ./predict -run TestIntervalDiagnosis
+// -intervaldiag -diagfrac 0.25 -v, add -dense for the denser simulation). Without a
+// description the 56 forecasts at 25 % are 86 % held, median width 0.45:
+//
+//   - The clean curves are wide because of the default, not their own backtest: 39 of
+//     the 56 take more than half of k² from it (hot 16 of 19, warm 9 of 13, warming 6 of
+//     8, fan 6 of 10). Their own backtest gives a raw k of 0.002–0.04 (median 0.013);
+//     pooled with 0.14 at 4 windows against 12 it is 0.070, which at h ≈ 3 spans and
+//     Z ≈ 1.66 is a width of about 0.40. Their misses are up to 0.12 of the remaining
+//     time (run22, run24), once 0.24 (run40, a fan taken for still air), and the default
+//     is what holds them: nothing in the backtest flags those curves.
+//   - The median counts the 14 answers without a closed interval (11 open-ended, 3
+//     ovens unanswered) as infinitely wide, so it is the 28th of the 42 finite widths,
+//     two thirds of the way up: the goal needs two thirds of all closed intervals ≤ 0.3.
+//   - Coverage has no room: of the 8 misses, 7 have no closed interval (the fans and
+//     warm specimens answered "not before now", which the score counts as a miss, and
+//     the 3 ovens without an answer; the 8th, run55, is a closed interval 0.34 off).
+//     85 % of 56 is 48 held, so the other 49 answers must hold the truth 48 times, 98 %:
+//     an interval calibrated to hold 90 % of them would hold about 44, 79 % overall.
+//     The same count at 10 % elapsed: 12 misses, 11 without a closed interval; at 50 %:
+//     10, 4; dense at 25 %: 8, 7.
+//
+// So the width goal is not reachable by sizing alone; it needs the "not before now"
+// answers or the unanswered ovens to get real answers first (notBefore, the ovens
+// without a description), not a narrower interval. Measured on the way (benchmark
+// coverage at 10 / 25 / 50 % elapsed and median width at 25 %; before: 79 / 86 / 82 %,
+// 0.45; dense 77 / 86 / 86 %, 0.42):
+//
+//   - A lighter default alone: at 2 windows 77 / 84 / 79 %, 0.36; at 1 window 75 / 84 /
+//     75 %, 0.28 (dense 70 / 82 / 80 %, 0.25). The width goal is reached only past the
+//     coverage range.
+//   - A conditional term for the model choice: the spread between the still-air and
+//     the moving-air fit's crossings, sqrt(w·(1 − w))·|Δt| with w the Akaike weight of
+//     the one chooseAir passed over (Burnham and Anderson, Model Selection and
+//     Multimodel Inference, 2002, §4.3, from memory), added on the rival's side of the
+//     interval. It catches run40 (the fan taken for still air) but widens clean hot
+//     curves whose moving-air rival is close in AIC and far in time (run09, run19,
+//     run41): at 4 windows 79 / 86 / 84 %, 0.49. With the default at 1.75 windows: 77 /
+//     86 / 80 %, 0.37, but dense 73 / 86 / 82 % and the cell rests at 50 % elapsed 67 →
+//     62 % (TestAccuracyReal); at 2.5 windows 77 / 86 / 82 %, 0.42, dense 77 / 86 /
+//     82 %. Each is a step along the same trade (dense at 50 % loses the warm measured
+//     run11 and run16, misses of 0.1 at width 0.19), so none was taken.
+//   - Neither the emissivity refinement's move (the grid's best against the refined
+//     emissivity) nor the forecast's sensitivity to the unknown specimen's length (×¼,
+//     ×4) tracks the clean curves' misses (run23 moves 0.18 and misses by 0.02; run24
+//     moves 0.07 and misses by 0.09).
+//
+// With a description the median width at 25 % is 0.3003, set by the 28th of 52 finite
+// widths (run47, a thick oven specimen, miss 0.09); the clean curves sit at 0.21–0.24
+// with the default at 1 window, and 93 % are held.
 const (
 	defaultModelError    = 0.14
 	priorWindows         = 4.0
