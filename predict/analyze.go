@@ -112,6 +112,9 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 			var emisNote string
 			if opt.Specimen == nil {
 				hr, emisNote = refineUnknownEmissivity(p, start, hr)
+				if wr, note := fitOpenWater(p, start, hr); wr != hr {
+					hr, emisNote = wr, note
+				}
 			} else {
 				hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen)
 			}
@@ -460,6 +463,9 @@ func aic(n, k int, rmse float64) float64 {
 // chooseH reports whether the h(T) model is kept, with a note saying why.
 func chooseH(lr *LumpedResult, hr *HResult, f *Forecast) bool {
 	al, ah := aic(lr.N, lr.Free, lr.RMSE), aic(hr.N, hr.Free, hr.RMSE)
+	if hr.Law.OpenWater > 0 {
+		al, ah = al+roomPenalty(lr.Ambient), ah+roomPenalty(hr.Ambient)
+	}
 	if al < ah-2 {
 		f.Notes = append(f.Notes, fmt.Sprintf(
 			"Model: lumped exponential (constant h); it fits better than the h(T) model (AIC lower by %.1f; rms %.3g vs %.3g K), as in a liquid bath or forced air.",
@@ -510,6 +516,11 @@ func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 		f.Params = append(f.Params, Param{Name: "h_scale", Value: scale, StdErr: scale * r.CapacityErr / r.Capacity},
 			Param{Name: "emissivity", Value: r.Law.Emissivity, StdErr: math.NaN()})
 		noteBiot(f, sp, scale*r.HAt(r.Initial), "h at the segment's start temperature")
+	} else if r.Law.OpenWater > 0 {
+		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"},
+			Param{Name: "open_water_share", Value: r.Law.OpenWater, StdErr: math.NaN()})
+		f.Notes = append(f.Notes, openWaterNote(r))
+		noteNoSpecimen(f)
 	} else {
 		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
 		f.Notes = append(f.Notes, fmt.Sprintf(
