@@ -122,6 +122,8 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 				airNote += " " + emisNote
 			}
 		}
+	} else if opt.Specimen == nil {
+		hr, airNote = fitFewWater(p, &lr, err)
 	}
 	if err != nil && hr == nil {
 		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))

@@ -207,3 +207,38 @@ func openWaterNote(r *HResult) string {
 		"Specimen unknown, taken as water with an open surface: h(T) assumes a %v %.2g m with emissivity %.2g, and evaporation (Buck's vapour pressure, the Chilton–Colburn analogy) from %.0f %% of the surface; the heat capacity per unit area ρcV/A is fitted, and the fitted settling temperature (on a room prior of 22 ± 8 °C) includes evaporation's cooling below the room's.",
 		r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity, 100*r.Law.OpenWater)
 }
+
+// minPointsWater is the fewest readings for which fitFewWater tries the open-water
+// laws, below minPointsH: with the room prior holding the settling temperature, a few
+// readings of a mug's first minutes already show evaporation's bend.
+const minPointsWater = 4
+
+// fitFewWater is the h(T) fit of an unknown specimen with fewer than minPointsH
+// readings (from minPointsWater), tried only as open water: for a cooling curve that
+// starts between waterMinC and waterMaxC with a fitted ambient, the still-air laws
+// and then the open-water laws are fitted (fitOpenWater), and an open-water fit that
+// wins is returned with its note; else nil, and such a curve gets the lumped
+// exponential alone, as every curve with few readings does.
+func fitFewWater(p LumpedProblem, lr *LumpedResult, lumpedErr error) (*HResult, string) {
+	n := len(p.Times)
+	if n < minPointsWater || p.Ambient != nil || p.Celsius[n-1] >= p.Celsius[0] {
+		return nil, ""
+	}
+	if first := p.Celsius[0]; first < waterMinC || first > waterMaxC {
+		return nil, ""
+	}
+	start := lr
+	if lumpedErr != nil {
+		start = roughStart(p)
+	}
+	if start == nil {
+		return nil, ""
+	}
+	still, _ := hCandidates(nil)
+	dry := fitHBest(p, start, still)
+	wet, note := fitOpenWater(p, start, dry)
+	if wet == dry {
+		return nil, ""
+	}
+	return wet, note
+}
