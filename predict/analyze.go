@@ -112,8 +112,10 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 			var emisNote string
 			if opt.Specimen == nil {
 				hr, emisNote = refineUnknownEmissivity(p, start, hr)
-				if wr, note := fitOpenWater(p, start, hr); wr != hr {
-					hr, emisNote = wr, note
+				if waterSuspect(hr) {
+					if wr, note := fitOpenWater(p, start, hr); wr != hr {
+						hr, emisNote = wr, note
+					}
 				}
 			} else {
 				hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen)
