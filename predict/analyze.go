@@ -160,6 +160,9 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	var notes []string
 	f.Targets, notes = forecastTargets(m, &p, start, targets, &is)
 	f.Notes = append(f.Notes, notes...)
+	if note := guessedWaterHandling(f.Targets, m, opt.Specimen); note != "" {
+		f.Notes = append(f.Notes, note)
+	}
 	return f, m
 }
 

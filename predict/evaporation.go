@@ -3,6 +3,7 @@ package predict
 import (
 	"fmt"
 	"math"
+	"time"
 
 	"github.com/settle-lab/settle/predict/surface"
 )
@@ -196,7 +197,7 @@ func fitOpenWater(p LumpedProblem, start *LumpedResult, r *HResult) (*HResult, s
 		return r, ""
 	}
 	return best, fmt.Sprintf(
-		"Open water? The curve bends more steeply when hot than convection and radiation explain (their fit settles at %.0f °C); with evaporation from an open water surface over %.0f %% of the surface it settles at %.0f °C (rms %.3g vs %.3g K). Say what the specimen is to confirm it.",
+		"Open water? Convection and radiation alone settle this curve at %.0f °C, far above a room; with evaporation from an open water surface over %.0f %% of the surface it settles at %.0f °C (rms %.3g vs %.3g K). Say what the specimen is to confirm it (a warm surrounding above the room bends a solid specimen's curve the same way at first).",
 		r.Ambient, 100*best.Law.OpenWater, best.Ambient, best.RMSE, r.RMSE)
 }
 
@@ -261,4 +262,31 @@ func fitFewWater(p LumpedProblem, lr *LumpedResult, lumpedErr error) (*HResult, 
 		return nil, ""
 	}
 	return wet, note
+}
+
+// guessedWaterHandling leaves every predicted handling target of an unknown specimen
+// fitted as open water open-ended — "not before" its early bound, with no central
+// estimate and no late end (so no time to plan with, TargetForecast.Due) — and returns
+// a note saying why ("" when it changed nothing). In a mug's first minutes the
+// open-water law cannot be told from a solid specimen settling toward a warm
+// cabinet or hot plate above the handling limit (which the curve never reaches): the
+// law's bend and the room prior put the settling temperature at the room's, and the
+// limit would get a time that never comes (TestGuessedWaterHandling). Only the
+// readings crossing the limit make it reached. A specimen described is not guessed.
+func guessedWaterHandling(tfs []TargetForecast, m fitted, sp *Specimen) string {
+	h, ok := m.(hFitted)
+	if !ok || sp != nil || h.r.Law.OpenWater == 0 {
+		return ""
+	}
+	changed := false
+	for i, tf := range tfs {
+		if tf.Target.Handling && tf.State == StatePredicted && !(tf.Latest.IsZero() && tf.At.IsZero()) {
+			tfs[i].At, tfs[i].Latest = time.Time{}, time.Time{}
+			changed = true
+		}
+	}
+	if !changed {
+		return ""
+	}
+	return "Handling limits: \"not before\" only, with no time to plan with, while the specimen is only guessed to be open water: a solid specimen settling toward a warm surrounding above the limit bends the same way at first. Describe the specimen, or measure the ambient, for a handling time."
 }

@@ -128,3 +128,39 @@ func TestFitOpenWater(t *testing.T) {
 		}
 	}
 }
+
+// A solid specimen (still air, emissivity 0.9, ρcV/A 4e4 J/(m²·K); our own case) from
+// 95 °C in a warm cabinet at 50 °C, read every 20 s for 10 and 20 minutes: early on,
+// its curve fits the open-water law settling near the room (measured: taken as open
+// water at both cutoffs), so the 45 °C handling limit, which it never reaches, would
+// get a time. It must get none — no late end (Due zero) and no central estimate — while
+// the 60 °C level, which it does reach, keeps its forecast; after 40 minutes the dry fit
+// finds the cabinet and the guess is dropped.
+func TestGuessedWaterHandling(t *testing.T) {
+	law := DefaultSurfaceLaw
+	law.Emissivity = waterEmissivity
+	for _, c := range []struct {
+		end   float64
+		water bool
+	}{{600, true}, {1200, true}, {2400, false}} {
+		p := simulateH(law, 4e4, 50, 95, 20, c.end)
+		for i := range p.Celsius {
+			p.Celsius[i] += 0.05 * math.Sin(1.7*float64(i))
+		}
+		f := Analyze(p, t0, []Target{{Name: "handle", Celsius: 45, Handling: true}, {Name: "level", Celsius: 60}}, AnalyzeOptions{})
+		notes := strings.Join(f.Notes, " ")
+		if got := strings.Contains(notes, "taken as water with an open surface"); got != c.water {
+			t.Errorf("%.0f s: taken as open water %v, want %v", c.end, got, c.water)
+		}
+		h, l := f.Targets[0], f.Targets[1]
+		if !h.Due().IsZero() || !h.At.IsZero() {
+			t.Errorf("%.0f s: the 45 °C limit, never reached, is %s at %v, due %v", c.end, h.State, h.At, h.Due())
+		}
+		if c.water && (l.State != StatePredicted || l.At.IsZero()) {
+			t.Errorf("%.0f s: the 60 °C level is %s at %v; want a forecast", c.end, l.State, l.At)
+		}
+		if c.water && !strings.Contains(notes, "only guessed to be open water") {
+			t.Errorf("%.0f s: no note on the handling limit (%q)", c.end, f.Notes)
+		}
+	}
+}
