@@ -112,6 +112,11 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 			var emisNote string
 			if opt.Specimen == nil {
 				hr, emisNote = refineUnknownEmissivity(p, start, hr)
+				if waterSuspect(hr) {
+					if wr, note := fitOpenWater(p, start, hr); wr != hr {
+						hr, emisNote = wr, note
+					}
+				}
 			} else {
 				hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen)
 			}
@@ -119,6 +124,8 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 				airNote += " " + emisNote
 			}
 		}
+	} else if opt.Specimen == nil {
+		hr, airNote = fitFewWater(p, &lr, err)
 	}
 	if err != nil && hr == nil {
 		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
@@ -153,6 +160,9 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	var notes []string
 	f.Targets, notes = forecastTargets(m, &p, start, targets, &is)
 	f.Notes = append(f.Notes, notes...)
+	if note := guessedWaterHandling(f.Targets, m, opt.Specimen); note != "" {
+		f.Notes = append(f.Notes, note)
+	}
 	return f, m
 }
 
@@ -460,6 +470,9 @@ func aic(n, k int, rmse float64) float64 {
 // chooseH reports whether the h(T) model is kept, with a note saying why.
 func chooseH(lr *LumpedResult, hr *HResult, f *Forecast) bool {
 	al, ah := aic(lr.N, lr.Free, lr.RMSE), aic(hr.N, hr.Free, hr.RMSE)
+	if hr.Law.OpenWater > 0 {
+		al, ah = al+roomPenalty(lr.Ambient), ah+roomPenalty(hr.Ambient)
+	}
 	if al < ah-2 {
 		f.Notes = append(f.Notes, fmt.Sprintf(
 			"Model: lumped exponential (constant h); it fits better than the h(T) model (AIC lower by %.1f; rms %.3g vs %.3g K), as in a liquid bath or forced air.",
@@ -510,6 +523,11 @@ func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 		f.Params = append(f.Params, Param{Name: "h_scale", Value: scale, StdErr: scale * r.CapacityErr / r.Capacity},
 			Param{Name: "emissivity", Value: r.Law.Emissivity, StdErr: math.NaN()})
 		noteBiot(f, sp, scale*r.HAt(r.Initial), "h at the segment's start temperature")
+	} else if r.Law.OpenWater > 0 {
+		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"},
+			Param{Name: "open_water_share", Value: r.Law.OpenWater, StdErr: math.NaN()})
+		f.Notes = append(f.Notes, openWaterNote(r))
+		noteNoSpecimen(f)
 	} else {
 		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
 		f.Notes = append(f.Notes, fmt.Sprintf(

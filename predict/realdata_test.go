@@ -366,8 +366,9 @@ func TestAccuracyReal(t *testing.T) {
 }
 
 // realFloors holds the engine to what it reaches on the measured curves today (the
-// floors, not the goals): on the cell rests (measured chamber ambient) and the
-// oil-film mugs (water without evaporation), a median relative error no worse than
+// floors, not the goals): on the cell rests (measured chamber ambient), the
+// oil-film mugs (water without evaporation) and the open mugs (water evaporating),
+// a median relative error no worse than
 // the linear trend's or the free exponential's, and below the figures measured when
 // the floors were set; no
 // open-ended answer whose early bound came after the truth; coverage at 25 % elapsed
@@ -382,7 +383,13 @@ func realFloors(t *testing.T, sc map[string]*score) {
 	}{
 		{"18650 cell", 0.25, 0.18},    // 15.3 % measured (21.6 % before smoothAmbient took the first span's mean)
 		{"18650 cell", 0.50, 0.14},    // 11.7 % (18.3 %; the free exponential 17.5 %)
-		{"mug, oil film", 0.50, 0.15}, // 12.9 %
+		{"mug, oil film", 0.50, 0.15}, // 11.7 % (12.9 % before the open-water law)
+		// The mugs of water with an open surface (evaporation.go): 11.6 / 20.0 / 7.3 %
+		// measured (no point at 10 and 25 %, 42 % where answered at 50 %, before it;
+		// the linear trend 73.7 / 62.4 / 42.9 %).
+		{"mug", 0.10, 0.15},
+		{"mug", 0.25, 0.25},
+		{"mug", 0.50, 0.10},
 	} {
 		key := fmt.Sprintf("engine/%.2f/%s", c.frac, c.family)
 		if m := med(key); m > c.max {

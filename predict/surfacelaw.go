@@ -23,6 +23,10 @@ type SurfaceLaw struct {
 	// instead of the natural-convection correlation: moving air (a fan, a draught, an
 	// oven's circulation). Radiation is kept.
 	ForcedH float64
+	// OpenWater, when positive, is the share of the surface that is open water
+	// (hot water in a mug or a beaker): that share also loses heat by evaporation
+	// (evaporationH), with the convective coefficient of the rest.
+	OpenWater float64
 }
 
 // DefaultSurfaceLaw is assumed when the specimen is unknown: a vertical plate 0.1 m
@@ -38,7 +42,9 @@ const minH = 1e-3
 // H returns the surface coefficient, W/(m²·K), at surfaceC in an ambient at ambientC.
 func (l SurfaceLaw) H(surfaceC, ambientC float64) float64 {
 	var h float64
-	if l.ForcedH > 0 {
+	if l.OpenWater > 0 {
+		h = l.waterH(surfaceC, ambientC)
+	} else if l.ForcedH > 0 {
 		h = l.ForcedH + surface.Radiation(l.Emissivity, surfaceC, ambientC)
 	} else {
 		h = surface.Coefficient(l.Geometry, l.LengthM, l.Emissivity, surfaceC, ambientC)
@@ -53,7 +59,9 @@ func (l SurfaceLaw) H(surfaceC, ambientC float64) float64 {
 // respect to a common shift of both temperatures, dh/dT∞ with the excess held: the
 // ambient column of the h(T) fit's Jacobian needs it (see phiTable.atA).
 func (l SurfaceLaw) hShift(surfaceC, ambientC float64) (h, dh float64) {
-	if l.ForcedH > 0 {
+	if l.OpenWater > 0 {
+		h, dh = l.waterShift(surfaceC, ambientC)
+	} else if l.ForcedH > 0 {
 		r, dr := surface.RadiationShift(l.Emissivity, surfaceC, ambientC)
 		h, dh = l.ForcedH+r, dr
 	} else {

@@ -168,10 +168,15 @@ func TestTrackerThinning(t *testing.T) {
 
 // Mug of hot water (mosaicData CoolingWater via shared/realdata/README.md): not a single
 // exponential. The README's independent quick fit of the exponential leaves about
-// 1.5 K rms and a time constant of about 48 minutes; the exponential fit must agree,
-// and the tracker, forecasting 40 °C from the first hour, must flag the mismatch and
-// give a wide interval rather than a confident wrong answer (the readings reach 40 °C
-// at 80 minutes).
+// 1.5 K rms and a time constant of about 48 minutes; the exponential fit must agree.
+// The README asks a forecaster to notice the mismatch — wider intervals, a change of
+// model or a warning — rather than report a confident wrong answer. The tracker,
+// forecasting 40 °C from the first hour, changes model: convection and radiation alone
+// settle far above the room (38 °C), evaporation from an open water surface explains
+// the bend (evaporation.go), and the note says so and asks what the specimen is. Its
+// interval must hold the measured crossing (the readings reach 40 °C at 80 minutes,
+// mug-water-cooling.csv row 81) and open after the last reading. Before the open-water
+// law, the dry fit's mismatch was flagged and the interval was wide instead.
 func TestTrackerMugMisfit(t *testing.T) {
 	minutes, temp := readMug(t)
 	lr, err := FitLumped(LumpedProblem{Times: minutes, Celsius: temp}, nil)
@@ -192,18 +197,16 @@ func TestTrackerMugMisfit(t *testing.T) {
 	}
 	f := tr.Fit()
 	notes := strings.Join(f.Notes, " ")
-	if !strings.Contains(notes, "correlated") || !strings.Contains(notes, "mismatch") {
-		t.Errorf("notes %q do not flag correlated residuals and a model mismatch", f.Notes)
+	if !strings.Contains(notes, "Open water?") || !strings.Contains(notes, "taken as water with an open surface") {
+		t.Errorf("notes %q do not say the curve was taken as open water", f.Notes)
 	}
-	// The mug's readings cross 40 °C at 80 min (mug-water-cooling.csv, row 81). An
-	// open-ended interval ("not before", Latest zero) is as wide as can be.
 	tg := f.Targets[0]
 	lo, hi := tg.Earliest.Sub(t0).Minutes(), tg.Latest.Sub(t0).Minutes()
 	if tg.Latest.IsZero() {
 		hi = math.Inf(1)
 	}
-	if tg.State != StatePredicted || hi-lo < 0.5*(tg.At.Sub(t0).Minutes()-60) || lo > 80 {
-		t.Errorf("40 °C: %s in [%.0f, %.0f] min: want an interval at least half as wide as the horizon, from before the measured 80 min", tg.State, lo, hi)
+	if tg.State != StatePredicted || lo > 80 || hi < 80 || lo <= 60 {
+		t.Errorf("40 °C: %s in [%.0f, %.0f] min: want an interval after the last reading (60 min) holding the measured 80 min", tg.State, lo, hi)
 	}
 }
 
