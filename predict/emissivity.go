@@ -41,12 +41,13 @@ func (s *Specimen) emissivityPrior() (mean, sd, lo, hi float64) {
 }
 
 // fitEmissivity refits the h(T) model r (the specimen's still-air or moving-air law)
-// with the emissivity free within the prior's bounds, keeping the emissivity that
+// with the emissivity free within the prior's bounds (the fits sharing like's models
+// of the readings when like is not nil: sharedModels), keeping the emissivity that
 // minimises the criterion n_eff·ln(RMSE²) + ((ε − mean)/sd)² (readings counted by
 // their effective number, as correlated residuals carry less evidence). It returns
 // the refit and a note, or r and "" when the curve is not wide enough or no refit
 // does better.
-func fitEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, sp *Specimen) (*HResult, string) {
+func fitEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, sp *Specimen, like *hFit) (*HResult, string) {
 	if sp == nil || r == nil || math.Abs(r.Initial-r.Ambient) < wideSpanK {
 		return r, ""
 	}
@@ -61,7 +62,7 @@ func fitEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, sp *Specime
 	for i := range emissivityGrid {
 		law := r.Law
 		law.Emissivity = lo + (hi-lo)*float64(i)/float64(emissivityGrid-1)
-		h := fitHBest(p, start, []SurfaceLaw{law})
+		h := fitHBest(p, start, []SurfaceLaw{law}, like)
 		if h != nil && score(h) < bestScore {
 			best, bestScore = h, score(h)
 		}
@@ -122,8 +123,9 @@ const refineMargin = 2.0
 // result its usual three parameters and statistics. It returns that fit and a note
 // when it beats r by more than refineMargin; r and "" when it does not, when r is nil
 // or a moving-air fit, or when the ambient is fitted and the curve spans less than
-// wideSpanK.
-func refineUnknownEmissivity(p LumpedProblem, start *LumpedResult, r *HResult) (*HResult, string) {
+// wideSpanK. The fits share like's models of the readings (sharedModels; made here
+// when like is nil).
+func refineUnknownEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, like *hFit) (*HResult, string) {
 	if r == nil || r.Law.ForcedH > 0 || p.Ambient == nil && math.Abs(r.Initial-r.Ambient) < wideSpanK {
 		return r, ""
 	}
@@ -141,8 +143,9 @@ func refineUnknownEmissivity(p LumpedProblem, start *LumpedResult, r *HResult) (
 		d := (h.Law.Emissivity - unknownEmisMean) / unknownEmisSD
 		return nEff*math.Log(max(h.RMSE*h.RMSE, 1e-300)) + d*d
 	}
-	hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: r.Law}
-	like := newHFit(hp, start, maxFitPoints) // the readings' models, shared by the fits
+	if like == nil {
+		like = sharedModels(p, start)
+	}
 	x, ok := fitEmissivityLM(p, start, like, r, nEff, lo, hi)
 	if !ok {
 		return r, ""

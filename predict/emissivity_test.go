@@ -49,7 +49,7 @@ func TestAnalyzeFitsEmissivity(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	held := fitHBest(part, &lr, []SurfaceLaw{bright.law()})
+	held := fitHBest(part, &lr, []SurfaceLaw{bright.law()}, nil)
 	tHeld, _, _, ok := hFitted{held}.crossing(50, false)
 	if !ok || !(tHeld-cross < -0.05*horizon) {
 		t.Errorf("with ε held at 0.3 the crossing misses by %.0f s (ok %v); want early by more than 5 %% of %.0f s", tHeld-cross, ok, horizon)
@@ -96,11 +96,11 @@ func TestRefineUnknownEmissivity(t *testing.T) {
 				start = roughStart(p)
 			}
 			still, _ := hCandidates(nil)
-			grid := fitHBest(p, start, still)
+			grid := fitHBest(p, start, still, nil)
 			if grid == nil {
 				t.Fatal("no grid fit")
 			}
-			got, note := refineUnknownEmissivity(p, start, grid)
+			got, note := refineUnknownEmissivity(p, start, grid, nil)
 			if !c.refine {
 				if got != grid || note != "" {
 					t.Errorf("refined a narrow span: emissivity %.3g, note %q", got.Law.Emissivity, note)
@@ -151,7 +151,7 @@ func TestRefineMatchesSearch(t *testing.T) {
 				t.Fatal(err)
 			}
 			still, _ := hCandidates(nil)
-			grid := fitHBest(c.p, &lr, still)
+			grid := fitHBest(c.p, &lr, still, nil)
 			if grid == nil {
 				t.Fatal("no grid fit")
 			}
@@ -173,11 +173,11 @@ func TestRefineMatchesSearch(t *testing.T) {
 			for e := lo; e <= hi+1e-9; e += 0.005 {
 				l := grid.Law
 				l.Emissivity = e
-				if h := fitHBest(c.p, &lr, []SurfaceLaw{l}); h != nil && (best == nil || score(h) < score(best)) {
+				if h := fitHBest(c.p, &lr, []SurfaceLaw{l}, nil); h != nil && (best == nil || score(h) < score(best)) {
 					best = h
 				}
 			}
-			got, note := refineUnknownEmissivity(c.p, &lr, grid)
+			got, note := refineUnknownEmissivity(c.p, &lr, grid, nil)
 			t.Logf("grid %.2f (criterion %.1f), search %.3f (%.1f), refined %.4f (%.1f)",
 				grid.Law.Emissivity, score(grid), best.Law.Emissivity, score(best), got.Law.Emissivity, score(got))
 			if note == "" || math.Abs(got.Law.Emissivity-best.Law.Emissivity) > 0.01 || score(got) > score(best)+0.5 {

@@ -186,15 +186,14 @@ const (
 )
 
 // fitHRace fits the h(T) model to each of ps (one curve under several surface laws:
-// the same readings, ambient and prior, so they share their models) from the lumped
-// fit start, advancing the fits an iteration at a time and dropping those that
-// clearly lose (pruneFactor). It returns the successful fit with the lowest
-// residual, or nil when none succeeds, and how many laws it dropped.
-func fitHRace(ps []HProblem, start *LumpedResult) (best *HResult, dropped int) {
+// the same readings, ambient and prior, so they share their models, like's when like
+// is not nil) from the lumped fit start, advancing the fits an iteration at a time and
+// dropping those that clearly lose (pruneFactor). It returns the successful fit with
+// the lowest residual, or nil when none succeeds, and how many laws it dropped.
+func fitHRace(ps []HProblem, start *LumpedResult, like *hFit) (best *HResult, dropped int) {
 	fits := make([]*hFit, len(ps))
 	for i, p := range ps {
-		var like *hFit
-		if i > 0 {
+		if i > 0 && like == nil {
 			like = fits[0]
 		}
 		fits[i] = newHFitLike(p, start, like, maxFitPoints)

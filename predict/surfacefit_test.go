@@ -308,7 +308,7 @@ func TestFitHRaceMatchesAll(t *testing.T) {
 					want = &r
 				}
 			}
-			got, d := fitHRace(hps, start)
+			got, d := fitHRace(hps, start, nil)
 			races, dropped = races+1, dropped+d
 			switch {
 			case (got == nil) != (want == nil):
