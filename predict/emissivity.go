@@ -113,7 +113,7 @@ const refineMargin = 2.0
 // the final three-parameter fit costs about 12 % of the benchmark (CPU profile). It
 // finds the criterion's optimum, where the probes stopped within about a seventh of
 // the bracket (TestRefineMatchesSearch: 0.25 on a plate where they stopped at 0.285);
-// the accuracy tables moved by at most 0.1 point at 25 % elapsed.
+// on the accuracy tables no cell at 25 % elapsed got worse by more than 0.1 point.
 
 // refineUnknownEmissivity refits the still-air h(T) fit r of an unknown specimen with
 // the emissivity free between the grid neighbours of r's (0.02 and 0.98 at the ends),
