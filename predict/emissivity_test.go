@@ -187,3 +187,33 @@ func TestRefineMatchesSearch(t *testing.T) {
 		})
 	}
 }
+
+// Held within its bounds: on the steel bar (criterion's optimum 0.705) with the
+// emissivity bounded to 0.75–0.8, the fit ends at the bound 0.75, and the refit there
+// has a lower RMSE than the grid's fit at 0.8 (it falls toward the optimum). Our own
+// curve, no outside source.
+func TestFitEmissivityLMBound(t *testing.T) {
+	p := hotBar()
+	lr, err := FitLumped(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	still, _ := hCandidates(nil)
+	grid := fitHBest(p, &lr, still, nil)
+	if grid == nil || grid.Law.Emissivity != 0.8 {
+		t.Fatalf("grid fit %+v, want emissivity 0.8", grid)
+	}
+	rho := max(grid.Rho, 0)
+	nEff := float64(grid.N) * (1 - rho) / (1 + rho)
+	like := sharedModels(p, &lr)
+	x, ok := fitEmissivityLM(p, &lr, like, grid, nEff, 0.75, 0.8)
+	if !ok || x[3] != 0.75 {
+		t.Fatalf("fit ok %v, emissivity %v; want 0.75, the bound", ok, x)
+	}
+	law := grid.Law
+	law.Emissivity = x[3]
+	h := refitH(p, &lr, like, law, x[0], x[1], x[2])
+	if h == nil || !(h.RMSE < grid.RMSE) {
+		t.Errorf("refit at the bound %+v: RMSE not below the grid's %.4g", h, grid.RMSE)
+	}
+}
