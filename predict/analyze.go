@@ -108,17 +108,18 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		}
 		if start != nil {
 			still, moving := hCandidates(opt.Specimen)
-			hr, airNote = chooseAir(fitHBest(p, start, still), fitHBest(p, start, moving), opt.Specimen)
+			like := sharedModels(p, start)
+			hr, airNote = chooseAir(fitHBest(p, start, still, like), fitHBest(p, start, moving, like), opt.Specimen)
 			var emisNote string
 			if opt.Specimen == nil {
-				hr, emisNote = refineUnknownEmissivity(p, start, hr)
+				hr, emisNote = refineUnknownEmissivity(p, start, hr, like)
 				if waterSuspect(hr) {
 					if wr, note := fitOpenWater(p, start, hr); wr != hr {
 						hr, emisNote = wr, note
 					}
 				}
 			} else {
-				hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen)
+				hr, emisNote = fitEmissivity(p, start, hr, opt.Specimen, like)
 			}
 			if emisNote != "" {
 				airNote += " " + emisNote
@@ -379,8 +380,9 @@ func hCandidates(sp *Specimen) (still, moving []SurfaceLaw) {
 
 // fitHBest fits the h(T) model with each of laws and returns the fit with the lowest
 // residual, or nil when no fit succeeds; laws that clearly lose are dropped early
-// (fitHRace).
-func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw) *HResult {
+// (fitHRace). The fits take their readings' models from like when it is not nil
+// (sharedModels).
+func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw, like *hFit) *HResult {
 	hps := make([]HProblem, len(laws))
 	for i, law := range laws {
 		hps[i] = HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: law}
@@ -388,8 +390,20 @@ func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw) *HResult {
 			hps[i].AmbientPrior, hps[i].AmbientPriorSD = roomPrior, roomPriorSD
 		}
 	}
-	best, _ := fitHRace(hps, lr)
+	best, _ := fitHRace(hps, lr, like)
 	return best
+}
+
+// sharedModels returns an h(T) fit of p from the lumped fit start whose readings'
+// models (every reading and the bins) the fits of every surface law share
+// (newHFitLike): the still-air and moving-air races and the emissivity's refits, which
+// would each build the same ones. Nil when start is not usable.
+func sharedModels(p LumpedProblem, start *LumpedResult) *hFit {
+	f := newHFit(HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: DefaultSurfaceLaw}, start, maxFitPoints)
+	if f.full == nil {
+		return nil
+	}
+	return f
 }
 
 // airMargin is how much lower moving air's AIC (on the effective number of readings)

@@ -185,7 +185,7 @@ func fitOpenWater(p LumpedProblem, start *LumpedResult, r *HResult) (*HResult, s
 	for _, s := range openWaterShares {
 		law := DefaultSurfaceLaw
 		law.Emissivity, law.OpenWater = waterEmissivity, s
-		h := refitH(p, start, like, prev, law)
+		h := refitFrom(p, start, like, prev, law)
 		if h != nil {
 			prev = h
 		}
@@ -199,6 +199,14 @@ func fitOpenWater(p LumpedProblem, start *LumpedResult, r *HResult) (*HResult, s
 	return best, fmt.Sprintf(
 		"Open water? Convection and radiation alone settle this curve at %.0f °C, far above a room; with evaporation from an open water surface over %.0f %% of the surface it settles at %.0f °C (rms %.3g vs %.3g K). Say what the specimen is to confirm it (a warm surrounding above the room bends a solid specimen's curve the same way at first).",
 		r.Ambient, 100*best.Law.OpenWater, best.Ambient, best.RMSE, r.RMSE)
+}
+
+// refitFrom refits p under law (refitH) from the fit prev under another law: the
+// same ambient and w0, and the rate scaled so that the mid-curve loss is the same.
+func refitFrom(p LumpedProblem, start *LumpedResult, like *hFit, prev *HResult, law SurfaceLaw) *HResult {
+	mid := prev.Ambient + (prev.Initial-prev.Ambient)/2
+	q := prev.q * prev.Law.H(mid, prev.Ambient) / law.H(mid, prev.Ambient)
+	return refitH(p, start, like, law, prev.w0, q, prev.Ambient)
 }
 
 // roomPenalty is the room prior's term ((T∞ − 22)/8)² on a fitted settling
@@ -256,7 +264,7 @@ func fitFewWater(p LumpedProblem, lr *LumpedResult, lumpedErr error) (*HResult, 
 		return nil, ""
 	}
 	still, _ := hCandidates(nil)
-	dry := fitHBest(p, start, still)
+	dry := fitHBest(p, start, still, sharedModels(p, start))
 	wet, note := fitOpenWater(p, start, dry)
 	if wet == dry {
 		return nil, ""

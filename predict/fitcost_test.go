@@ -226,11 +226,12 @@ func TestCrossingAmbientSensitivity(t *testing.T) {
 
 // normalEquations' written-out two- and three-column sums must equal the general
 // loop's (kept here as the reference) exactly, and gonum's JᵀJ and Jᵀr to 1e-12
-// relative, on random Jacobians of one to three columns.
+// relative, on random Jacobians of one to four columns (four: the h(T) fit with the
+// emissivity free).
 func TestNormalEquationsMatch(t *testing.T) {
 	rng := rand.New(rand.NewPCG(31, 32))
 	for trial := range 60 {
-		k, n := 1+trial%3, 5+trial*7
+		k, n := 1+trial%4, 5+trial*7
 		j := mat.NewDense(n, k, nil)
 		r := make([]float64, n)
 		for i := range n {
@@ -240,8 +241,8 @@ func TestNormalEquationsMatch(t *testing.T) {
 			}
 		}
 		jtj, g := normalEquations(j, r)
-		var a [3][3]float64
-		var b [3]float64
+		var a [4][4]float64
+		var b [4]float64
 		for i := range n {
 			for p := range k {
 				b[p] += j.At(i, p) * r[i]
@@ -269,7 +270,7 @@ func TestNormalEquationsMatch(t *testing.T) {
 
 // solveSPD must solve as gonum's Cholesky does (mat.Cholesky, the reference): the
 // same solution to 1e-9 relative (scaled by the condition number), on random
-// symmetric positive definite matrices of one to three rows with unit diagonals plus
+// symmetric positive definite matrices of one to four rows with unit diagonals plus
 // a damping from 1e-24 to 1 (the Levenberg–Marquardt step's from 1e-12), whose
 // condition numbers span 1 to beyond mat.ConditionTolerance; the same refusal where
 // gonum's condition estimate is clearly past the tolerance (beyond a factor of 10,
@@ -278,7 +279,7 @@ func TestSolveSPDMatchesGonum(t *testing.T) {
 	rng := rand.New(rand.NewPCG(41, 42))
 	var refused int
 	for trial := range 3000 {
-		k := 1 + trial%3
+		k := 1 + trial%4
 		// Columns of a random Jacobian, nearly collinear for some trials.
 		near := math.Pow(10, -rng.Float64()*12)
 		j := mat.NewDense(k+3, k, nil)
@@ -293,8 +294,8 @@ func TestSolveSPDMatchesGonum(t *testing.T) {
 		// The step's damping stays at or above 1e-12, which bounds the condition
 		// number near 3e12; smaller ones here reach the tolerance too.
 		lambda := math.Pow(10, -24*rng.Float64())
-		var a [3][3]float64
-		var b [3]float64
+		var a [4][4]float64
+		var b [4]float64
 		sym := mat.NewSymDense(k, nil)
 		for r := range k {
 			for c := range k {
@@ -334,7 +335,7 @@ func TestSolveSPDMatchesGonum(t *testing.T) {
 	if refused == 0 {
 		t.Error("no matrix was refused: the condition check went untested")
 	}
-	if _, ok := solveSPD([3][3]float64{{1, 2}, {2, 1}}, [3]float64{1, 1}, 2); ok {
+	if _, ok := solveSPD([4][4]float64{{1, 2}, {2, 1}}, [4]float64{1, 1}, 2); ok {
 		t.Error("an indefinite matrix was accepted")
 	}
 }
@@ -369,5 +370,101 @@ func TestUnitClamps(t *testing.T) {
 	}
 	if !math.IsNaN(unit(math.NaN())) {
 		t.Error("unit(NaN) is not NaN")
+	}
+}
+
+// Φe = ∂Φ/∂ε (newPhiTableE's emis) must match the central difference of two tables
+// at ε ± 1e-4 to 1e-6 relative on differences of Φe (all the model uses), inside
+// and beyond the table, on both sides of the ambient, with and without the ambient
+// derivative; and the extra columns must leave Φ, 1/h and Φa the same to the last bit.
+func TestPhiTableEmissivityDerivative(t *testing.T) {
+	const d = 1e-4
+	for _, law := range checkLaws {
+		for _, side := range []float64{1, -1} {
+			amb := 22.0
+			if side < 0 {
+				amb = 60
+			}
+			for _, deriv := range []bool{false, true} {
+				tb := newPhiTableE(law, amb, side, 900, deriv, true)
+				up, down := law, law
+				up.Emissivity += d
+				down.Emissivity -= d
+				tu, td := newPhiTable(up, amb, side, 900, false), newPhiTable(down, amb, side, 900, false)
+				const ref = 1.3
+				for _, w := range []float64{-9, -2, 0.5, 2.2, 3.9, 5.5, 6.9, 8} {
+					if side < 0 && w > 4 {
+						continue // the excess below the ambient stays above absolute zero
+					}
+					got := tb.atE(w) - tb.atE(ref)
+					want := ((tu.at(w) - tu.at(ref)) - (td.at(w) - td.at(ref))) / (2 * d)
+					if math.Abs(got-want) > 1e-6*math.Abs(want)+1e-12 {
+						t.Errorf("%+v side %g: Φe(%g) − Φe(%g) = %.10g, central difference %.10g", law, side, w, ref, got, want)
+					}
+				}
+				plain := newPhiTable(law, amb, side, 900, deriv)
+				plain.complete()
+				tb.complete()
+				if !slices.Equal(plain.phi, tb.phi) || !slices.Equal(plain.inv, tb.inv) || !slices.Equal(plain.phiA, tb.phiA) {
+					t.Errorf("%+v side %g: Φ, 1/h or Φa differ with the emissivity derivative", law, side)
+				}
+			}
+		}
+	}
+}
+
+// The emissivity column of the h(T) fit's Jacobian (the last, with the emissivity
+// fitted) must match the residuals at ε ± 1e-4 with w0, q and T∞ held, differenced
+// (central), to 1e-5 of the column's scale; the other columns must be those of the
+// fit without it; on the steel bar's binned readings, the ambient fitted and
+// measured.
+func TestJacobianEmissivityColumn(t *testing.T) {
+	p := hotBar()
+	lr, err := FitLumped(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, law := range checkLaws[:3] {
+		for _, measured := range []bool{false, true} {
+			hp := HProblem{Times: p.Times, Celsius: p.Celsius, Law: law, AmbientPrior: roomPrior, AmbientPriorSD: roomPriorSD}
+			if measured {
+				hp.Ambient = constant(len(p.Times), 22)
+			}
+			plain := newHFit(hp, &lr, maxFitPoints)
+			f := newHFit(hp, &lr, maxFitPoints)
+			lm := &f.lm
+			lm.x = append(lm.x, law.Emissivity)
+			lm.free++
+			lm.emis = &emisParam{lo: 0, hi: 1, crit: 1}
+			lm.x[0] += 0.01 // off the start, where nothing is special
+			plain.lm.x[0] = lm.x[0]
+			lm.jacobian()
+			plain.lm.jacobian()
+			n, k := len(lm.m.ts), lm.free
+			var scale float64
+			for i := range n {
+				scale = max(scale, math.Abs(lm.jac.At(i, k-1)))
+				for c := range k - 1 {
+					if lm.jac.At(i, c) != plain.lm.jac.At(i, c) {
+						t.Fatalf("%+v measured %v row %d column %d: %.17g, without the emissivity %.17g", law, measured, i, c, lm.jac.At(i, c), plain.lm.jac.At(i, c))
+					}
+				}
+			}
+			const d = 1e-4
+			rUp, rDown := make([]float64, n), make([]float64, n)
+			at := func(e float64, r []float64) {
+				l := law
+				l.Emissivity = e
+				lm.m.residuals(newPhiTable(l, lm.x[2], lm.m.side, lm.m.tmax, false), lm.x[0], lm.x[1], r, nil, math.Inf(1))
+			}
+			at(law.Emissivity+d, rUp)
+			at(law.Emissivity-d, rDown)
+			for i := range n {
+				fd := -(rUp[i] - rDown[i]) / (2 * d)
+				if math.Abs(lm.jac.At(i, k-1)-fd) > 1e-5*scale {
+					t.Fatalf("%+v measured %v row %d: emissivity column %.10g, central difference %.10g (scale %.3g)", law, measured, i, lm.jac.At(i, k-1), fd, scale)
+				}
+			}
+		}
 	}
 }

@@ -186,15 +186,14 @@ const (
 )
 
 // fitHRace fits the h(T) model to each of ps (one curve under several surface laws:
-// the same readings, ambient and prior, so they share their models) from the lumped
-// fit start, advancing the fits an iteration at a time and dropping those that
-// clearly lose (pruneFactor). It returns the successful fit with the lowest
-// residual, or nil when none succeeds, and how many laws it dropped.
-func fitHRace(ps []HProblem, start *LumpedResult) (best *HResult, dropped int) {
+// the same readings, ambient and prior, so they share their models, like's when like
+// is not nil) from the lumped fit start, advancing the fits an iteration at a time and
+// dropping those that clearly lose (pruneFactor). It returns the successful fit with
+// the lowest residual, or nil when none succeeds, and how many laws it dropped.
+func fitHRace(ps []HProblem, start *LumpedResult, like *hFit) (best *HResult, dropped int) {
 	fits := make([]*hFit, len(ps))
 	for i, p := range ps {
-		var like *hFit
-		if i > 0 {
+		if i > 0 && like == nil {
 			like = fits[0]
 		}
 		fits[i] = newHFitLike(p, start, like, maxFitPoints)
@@ -355,6 +354,9 @@ type levmar struct {
 
 	priorAmb, priorW2 float64 // the ambient prior's mean and weight (0: none)
 
+	// emis, when not nil, makes the emissivity a parameter, x[3], in the last column.
+	emis *emisParam
+
 	lambda float64 // Marquardt's damping
 	// cur is the objective (sum of squares and prior) at the start of the latest
 	// iteration, floor the least the Gauss–Newton model reaches from there (0 when
@@ -362,9 +364,43 @@ type levmar struct {
 	cur, floor float64
 }
 
-// penalty is the ambient prior's term of the objective at ambient amb.
-func (lm *levmar) penalty(amb float64) float64 {
-	return lm.priorW2 * (amb - lm.priorAmb) * (amb - lm.priorAmb)
+// emisParam is the emissivity as a parameter of an h(T) fit (fitEmissivityLM): a
+// Gaussian prior on it, held within lo–hi.
+type emisParam struct {
+	mean, lo, hi float64
+	// The prior's weight w is (full − bins + ssr)/crit, ssr the bins' sum of squares
+	// at the iteration's start: crit = n_eff·sd², full and bins the sums of squares
+	// of every reading and of the bins at the start (bins taken at the first
+	// iteration, binsSet). The sum of squares of every reading is the bins' plus
+	// about a constant (the spread within the bins), so the fit ends where the
+	// criterion n_eff·ln(SSR) + ((ε − mean)/sd)² is stationary in ε.
+	full, bins, crit, w float64
+	binsSet             bool
+	// tMid is a middle surface temperature of the curve: the steps are taken in
+	// k = q·h(tMid) instead of q (toRate).
+	tMid float64
+}
+
+// penalty is the priors' term of the objective at x: the ambient's, and the
+// emissivity's when it is fitted.
+func (lm *levmar) penalty(x []float64) float64 {
+	p := lm.priorW2 * (x[2] - lm.priorAmb) * (x[2] - lm.priorAmb)
+	if e := lm.emis; e != nil {
+		p += e.w * (x[3] - e.mean) * (x[3] - e.mean)
+	}
+	return p
+}
+
+// ambFree reports whether the ambient is fitted (column 2).
+func (lm *levmar) ambFree() bool { return lm.free == 3 && lm.emis == nil || lm.free == 4 }
+
+// param returns the index in x of column c's parameter: the emissivity's column is
+// the last, its parameter x[3].
+func (lm *levmar) param(c int) int {
+	if lm.emis != nil && c == lm.free-1 {
+		return 3
+	}
+	return c
 }
 
 // jacobian evaluates residuals and the Jacobian at lm.x.
@@ -374,7 +410,7 @@ func (lm *levmar) jacobian() {
 		lm.r = make([]float64, n)
 		lm.jac = mat.NewDense(n, lm.free, nil)
 	}
-	lm.tb = lm.table(lm.x[2])
+	lm.tb = lm.table(lm.x)
 	if lm.tfull && slices.Equal(lm.tx, lm.x) {
 		lm.r, lm.tr = lm.tr, lm.r
 		lm.jac, lm.tjac = lm.tjac, lm.jac
@@ -396,7 +432,7 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 		lm.tr = make([]float64, len(lm.m.ts))
 		lm.tjac = mat.NewDense(len(lm.m.ts), lm.free, nil)
 	}
-	lm.tssr = lm.m.residuals(lm.table(x[2]), x[0], x[1], lm.tr, lm.tjac, limit)
+	lm.tssr = lm.m.residuals(lm.table(x), x[0], x[1], lm.tr, lm.tjac, limit)
 	lm.tx = append(lm.tx[:0], x...)
 	lm.tfull = !(lm.tssr > limit)
 	return lm.tssr
@@ -409,15 +445,20 @@ func (lm *levmar) ssrAt(x []float64, limit float64) float64 {
 // hundred nodes) in every fit.
 const lmTables = 2
 
-// table returns the Φ table at ambient amb (with the derivative Φa when the ambient
-// is fitted), reusing one built before at the same ambient. The tables are kept least recently used first; a new table takes over the
+// table returns the Φ table at x's ambient (with the derivative Φa when the ambient
+// is fitted) and, when the emissivity is fitted, at x's emissivity (with Φe),
+// reusing one built before at the same point. The tables are kept least recently used first; a new table takes over the
 // storage of the least recently used one when lmTables are kept, so a fit allocates
 // lmTables tables however long it runs. A table returned stays valid through the
 // next call (it is then the most recently used), and jacobian looks lm.tb up afresh
 // each time, so a trial step's table never overwrites one still in use.
-func (lm *levmar) table(amb float64) *phiTable {
+func (lm *levmar) table(x []float64) *phiTable {
+	amb, law := x[2], lm.m.law
+	if lm.emis != nil {
+		law.Emissivity = x[3]
+	}
 	for i, tb := range lm.tables {
-		if tb.amb == amb {
+		if tb.amb == amb && tb.law.Emissivity == law.Emissivity {
 			lm.tables = append(append(lm.tables[:i], lm.tables[i+1:]...), tb)
 			return tb
 		}
@@ -426,9 +467,9 @@ func (lm *levmar) table(amb float64) *phiTable {
 	if len(lm.tables) == lmTables {
 		tb = lm.tables[0]
 		lm.tables = append(lm.tables[:0], lm.tables[1:]...)
-		*tb = phiTable{amb: amb, side: lm.m.side, law: lm.m.law, phi: tb.phi, inv: tb.inv, phiA: tb.phiA, invA: tb.invA, lo: 1, hi: 0}
+		*tb = phiTable{amb: amb, side: lm.m.side, law: law, phi: tb.phi, inv: tb.inv, phiA: tb.phiA, invA: tb.invA, phiE: tb.phiE, invE: tb.invE, lo: 1, hi: 0}
 	} else {
-		tb = newPhiTable(lm.m.law, amb, lm.m.side, lm.m.tmax, lm.free == 3)
+		tb = newPhiTableE(law, amb, lm.m.side, lm.m.tmax, lm.ambFree(), lm.emis != nil)
 	}
 	lm.tables = append(lm.tables, tb)
 	return tb
@@ -444,7 +485,16 @@ func (lm *levmar) iterate() (done, ok bool) {
 		jtj.SetSym(2, 2, jtj.At(2, 2)+lm.priorW2)
 		g.SetVec(2, g.AtVec(2)+lm.priorW2*(lm.priorAmb-lm.x[2]))
 	}
-	cur := lm.ssr + lm.penalty(lm.x[2])
+	if e := lm.emis; e != nil {
+		if !e.binsSet {
+			e.bins, e.binsSet = lm.ssr, true
+		}
+		e.w = (e.full - e.bins + lm.ssr) / e.crit
+		jtj.SetSym(k-1, k-1, jtj.At(k-1, k-1)+e.w)
+		g.SetVec(k-1, g.AtVec(k-1)+e.w*(e.mean-lm.x[3]))
+		jtj, g = lm.toRate(jtj, g)
+	}
+	cur := lm.ssr + lm.penalty(lm.x)
 	lm.cur, lm.floor = cur, 0
 	if inv, ok := normalInverse(jtj, 1); ok {
 		lm.floor = cur - mat.Inner(g, inv, g)
@@ -466,8 +516,8 @@ func (lm *levmar) iterate() (done, ok bool) {
 		// Solve in variables scaled by sqrt(diag JᵀJ) (Marquardt's scaling): the
 		// parameters differ by many orders of magnitude, and unscaled normal
 		// equations would be too ill-conditioned to factorise at small λ.
-		var a [3][3]float64
-		var gs [3]float64
+		var a [4][4]float64
+		var gs [4]float64
 		for i := range k {
 			for j := i; j < k; j++ {
 				a[i][j] = jtj.At(i, j) / (dscale[i] * dscale[j])
@@ -485,10 +535,20 @@ func (lm *levmar) iterate() (done, ok bool) {
 		small := true
 		for i := range k {
 			dx[i] /= dscale[i]
-			next[i] += dx[i]
-			small = small && math.Abs(dx[i]) <= 1e-9*(math.Abs(lm.x[i])+1e-3)
+			j := lm.param(i)
+			next[j] += dx[i]
+			small = small && math.Abs(dx[i]) <= 1e-9*(math.Abs(lm.x[j])+1e-3)
 		}
-		pen := lm.penalty(next[2])
+		if e := lm.emis; e != nil {
+			next[3] = max(e.lo, min(e.hi, next[3]))
+			if next[3] == lm.x[3] && (next[3] == e.lo || next[3] == e.hi) {
+				// At a bound and pushed beyond it: the caller refits there.
+				return true, true
+			}
+			// dx[1] is the step in k = q·h(tMid); q follows k, T∞ and ε.
+			next[1] = (lm.x[1]*lm.hMid(lm.x) + dx[1]) / lm.hMid(next)
+		}
+		pen := lm.penalty(next)
 		limit := math.Inf(1)
 		if !small {
 			limit = cur - pen // a larger sum refuses the step
@@ -514,19 +574,71 @@ func (lm *levmar) iterate() (done, ok bool) {
 	return false, false
 }
 
-// solveSPD solves a·x = b for a symmetric positive definite a of k ≤ 3 rows by
+// hMid returns h at tMid for x's ambient and emissivity.
+func (lm *levmar) hMid(x []float64) float64 {
+	law := lm.m.law
+	law.Emissivity = x[3]
+	return law.H(lm.emis.tMid, x[2])
+}
+
+// toRate returns the normal equations jtj, g of an emissivity fit in the
+// parameters (w0, k, [T∞,] ε), k = q·h(tMid) with tMid a middle surface temperature,
+// instead of (w0, q, [T∞,] ε): a change of emissivity or ambient scales h, and with
+// k held the fitted rate at the middle of the curve stays put, so the
+// Levenberg–Marquardt steps follow the valley of the sum of squares instead of
+// crossing it (with q the fits took two to three times the iterations).
+func (lm *levmar) toRate(jtj *mat.SymDense, g *mat.VecDense) (*mat.SymDense, *mat.VecDense) {
+	k, e := lm.free, lm.free-1
+	hm := lm.hMid(lm.x)
+	// dq = a·dk + b·dε + c·dT∞, the slopes of h(tMid) from differences.
+	const d = 1e-4
+	a := 1 / hm
+	hi, lo := append([]float64(nil), lm.x...), append([]float64(nil), lm.x...)
+	hi[3], lo[3] = lm.x[3]+d, lm.x[3]-d
+	b := -lm.x[1] * (lm.hMid(hi) - lm.hMid(lo)) / (2 * d) / hm
+	var t [4][4]float64
+	for i := range k {
+		t[i][i] = 1
+	}
+	t[1][1], t[1][e] = a, b
+	if lm.ambFree() {
+		hi[3], lo[3] = lm.x[3], lm.x[3]
+		hi[2], lo[2] = lm.x[2]+d, lm.x[2]-d
+		t[1][2] = -lm.x[1] * (lm.hMid(hi) - lm.hMid(lo)) / (2 * d) / hm
+	}
+	out, og := mat.NewSymDense(k, nil), mat.NewVecDense(k, nil)
+	for i := range k {
+		var gi float64
+		for m := range k {
+			gi += t[m][i] * g.AtVec(m)
+		}
+		og.SetVec(i, gi)
+		for j := i; j < k; j++ {
+			var s float64
+			for m := range k {
+				for n := range k {
+					s += t[m][i] * jtj.At(m, n) * t[n][j]
+				}
+			}
+			out.SetSym(i, j, s)
+		}
+	}
+	return out, og
+}
+
+// solveSPD solves a·x = b for a symmetric positive definite a of k ≤ 4 rows by
 // Cholesky, as gonum's mat.Cholesky did here before (it fails where gonum's
 // Factorize fails, a pivot not above zero, or where its solve reports a condition
 // number above mat.ConditionTolerance, taken here exactly in the 1-norm from the
 // inverse instead of estimated). Written out: gonum's condition estimate cost more
 // than the rest of the step.
-func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
-	l, ok := cholesky3(a, k)
+func solveSPD(a [4][4]float64, b [4]float64, k int) (x [4]float64, ok bool) {
+	l, ok := cholesky4(a, k)
 	if !ok {
 		return x, false
 	}
 	// Forward and back substitution: L·y = b, Lᵀ·x = y.
-	var y [3]float64
+	var y [4]float64
 	for i := range k {
 		s := b[i]
 		for m := range i {
@@ -542,7 +654,7 @@ func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
 		x[i] = s / l[i][i]
 	}
 	// ‖a‖₁·‖a⁻¹‖₁ with a⁻¹ = L⁻ᵀ·L⁻¹.
-	li := lowerInverse3(l, k)
+	li := lowerInverse4(l, k)
 	var norm, normInv float64
 	for j := range k {
 		var c, ci float64
@@ -559,9 +671,9 @@ func solveSPD(a [3][3]float64, b [3]float64, k int) (x [3]float64, ok bool) {
 	return x, norm*normInv <= mat.ConditionTolerance
 }
 
-// cholesky3 returns the lower Cholesky factor L of the symmetric a (its lower
-// triangle read) of k ≤ 3 rows, a = L·Lᵀ; ok is false at a pivot not above zero.
-func cholesky3(a [3][3]float64, k int) (l [3][3]float64, ok bool) {
+// cholesky4 returns the lower Cholesky factor L of the symmetric a (its lower
+// triangle read) of k ≤ 4 rows, a = L·Lᵀ; ok is false at a pivot not above zero.
+func cholesky4(a [4][4]float64, k int) (l [4][4]float64, ok bool) {
 	for j := range k {
 		for i := j; i < k; i++ {
 			s := a[i][j]
@@ -581,9 +693,9 @@ func cholesky3(a [3][3]float64, k int) (l [3][3]float64, ok bool) {
 	return l, true
 }
 
-// lowerInverse3 returns L⁻¹ for a lower triangular l of k ≤ 3 rows with a nonzero
+// lowerInverse4 returns L⁻¹ for a lower triangular l of k ≤ 4 rows with a nonzero
 // diagonal (a Cholesky factor).
-func lowerInverse3(l [3][3]float64, k int) (li [3][3]float64) {
+func lowerInverse4(l [4][4]float64, k int) (li [4][4]float64) {
 	for j := range k {
 		li[j][j] = 1 / l[j][j]
 		for i := j + 1; i < k; i++ {
@@ -597,13 +709,13 @@ func lowerInverse3(l [3][3]float64, k int) (li [3][3]float64) {
 	return li
 }
 
-// normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 3 columns, summed
+// normalEquations returns JᵀJ and Jᵀr for a Jacobian j of at most 4 columns, summed
 // row by row (gonum's general routines cost more than the sums for so few columns).
 func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
 	raw := j.RawMatrix()
 	k := raw.Cols
-	var a [3][3]float64
-	var b [3]float64
+	var a [4][4]float64
+	var b [4]float64
 	// Written out for the h(T) fit's two and three columns; each sum runs over the
 	// rows in order, as in the general loop, so the sums are the same.
 	switch k {
@@ -622,8 +734,8 @@ func normalEquations(j *mat.Dense, r []float64) (*mat.SymDense, *mat.VecDense) {
 			b2 += j2 * ri
 			a22 += j2 * j2
 		}
-		a = [3][3]float64{{a00, a01, a02}, {0, a11, a12}, {0, 0, a22}}
-		b = [3]float64{b0, b1, b2}
+		a = [4][4]float64{{a00, a01, a02}, {0, a11, a12}, {0, 0, a22}}
+		b = [4]float64{b0, b1, b2}
 	case 2:
 		var a00, a01, a11, b0, b1 float64
 		for i, ri := range r[:raw.Rows] {
@@ -710,7 +822,7 @@ func statsOf(r []float64) residualStats {
 	return st
 }
 
-// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ of at most 3×3, inverting
+// normalInverse returns σ²·N⁻¹ for a normal matrix N = JᵀJ of at most 4×4, inverting
 // it with its rows and columns scaled to a unit diagonal so that parameters of very
 // different size (kelvin, seconds, J/(m²·K)) do not make it look singular. It fails
 // only when the scaled matrix is not positive definite (a Cholesky pivot not above
@@ -719,10 +831,10 @@ func statsOf(r []float64) residualStats {
 // a lumped fit's covariance.
 func normalInverse(n *mat.SymDense, sigma float64) (*mat.SymDense, bool) {
 	k := n.SymmetricDim()
-	if k > 3 {
-		panic("predict: normalInverse of more than 3 parameters")
+	if k > 4 {
+		panic("predict: normalInverse of more than 4 parameters")
 	}
-	var scale [3]float64
+	var scale [4]float64
 	for i := range k {
 		scale[i] = math.Sqrt(n.At(i, i))
 		if !(scale[i] > 0) {
@@ -730,17 +842,17 @@ func normalInverse(n *mat.SymDense, sigma float64) (*mat.SymDense, bool) {
 		}
 	}
 	// A = L·Lᵀ for the scaled matrix, then A⁻¹ = L⁻ᵀ·L⁻¹.
-	var a [3][3]float64
+	var a [4][4]float64
 	for j := range k {
 		for i := j; i < k; i++ {
 			a[i][j] = n.At(i, j) / (scale[i] * scale[j])
 		}
 	}
-	l, ok := cholesky3(a, k)
+	l, ok := cholesky4(a, k)
 	if !ok {
 		return nil, false
 	}
-	li := lowerInverse3(l, k)
+	li := lowerInverse4(l, k)
 	out := mat.NewSymDense(k, nil)
 	for i := range k {
 		for j := i; j < k; j++ {

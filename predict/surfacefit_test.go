@@ -203,7 +203,7 @@ func TestPhiTableLazyMatchesComplete(t *testing.T) {
 func TestNormalInverseMatchesGonum(t *testing.T) {
 	rng := rand.New(rand.NewPCG(21, 22))
 	for trial := range 300 {
-		k := 1 + trial%3
+		k := 1 + trial%4
 		j := mat.NewDense(k+4, k, nil)
 		for r := range k + 4 {
 			for c := range k {
@@ -308,7 +308,7 @@ func TestFitHRaceMatchesAll(t *testing.T) {
 					want = &r
 				}
 			}
-			got, d := fitHRace(hps, start)
+			got, d := fitHRace(hps, start, nil)
 			races, dropped = races+1, dropped+d
 			switch {
 			case (got == nil) != (want == nil):

@@ -110,6 +110,8 @@ type phiTable struct {
 	inv       []float64 // 1/h at the nodes (dΦ/dw), valid for lo <= i <= hi
 	phiA      []float64 // Φa at the nodes, nil without the derivative
 	invA      []float64 // ∂(1/h)/∂T∞ at the nodes (dΦa/dw), nil without the derivative
+	phiE      []float64 // Φe = ∂Φ/∂ε at the nodes, nil without the emissivity derivative
+	invE      []float64 // ∂(1/h)/∂ε at the nodes (dΦe/dw), nil without it
 	lo, hi    int       // the computed nodes; lo > hi before the first
 }
 
@@ -122,50 +124,77 @@ const phiGrowth = 2
 // newPhiTable returns an empty table for law at ambient amb on side, reaching an
 // excess of thetaMax; with deriv it also tabulates Φa.
 func newPhiTable(law SurfaceLaw, amb, side, thetaMax float64, deriv bool) *phiTable {
+	return newPhiTableE(law, amb, side, thetaMax, deriv, false)
+}
+
+// newPhiTableE is newPhiTable also tabulating, with emis, Φe(w) = ∂Φ/∂ε: the
+// emissivity's column of the h(T) fit that fits it (refineUnknownEmissivity), built
+// as Φa is, from ∂(1/h)/∂ε = −(∂h/∂ε)/h² with h affine in ε (∂h/∂ε is radiation's
+// coefficient at unit emissivity), so Φe is the exact derivative of the tabulated Φ.
+func newPhiTableE(law SurfaceLaw, amb, side, thetaMax float64, deriv, emis bool) *phiTable {
 	n := int(math.Ceil((math.Log(max(thetaMax, 1))-phiLow)/phiStep)) + 2
 	k := 2
 	if deriv {
-		k = 4
+		k += 2
+	}
+	if emis {
+		k += 2
 	}
 	buf := make([]float64, k*n)
 	tb := &phiTable{amb: amb, side: side, law: law, phi: buf[:n:n], inv: buf[n : 2*n : 2*n], lo: 1, hi: 0}
+	j := 2 * n
 	if deriv {
-		tb.phiA, tb.invA = buf[2*n:3*n:3*n], buf[3*n:]
+		tb.phiA, tb.invA = buf[j:j+n:j+n], buf[j+n:j+2*n:j+2*n]
+		j += 2 * n
+	}
+	if emis {
+		tb.phiE, tb.invE = buf[j:j+n:j+n], buf[j+n:j+2*n:j+2*n]
 	}
 	return tb
 }
 
-// invH returns 1/h at an excess ew = e^w and, for a table with the derivative,
-// ∂(1/h)/∂T∞ (else 0).
-func (tb *phiTable) invH(ew float64) (inv, invA float64) {
+// invH returns 1/h at an excess ew = e^w and, for a table with the derivatives,
+// ∂(1/h)/∂T∞ and ∂(1/h)/∂ε (else 0; ∂(1/h)/∂ε is 0 where h is held at minH).
+func (tb *phiTable) invH(ew float64) (inv, invA, invE float64) {
 	ts := tb.amb + tb.side*ew
+	var h, dh float64
 	if tb.phiA == nil {
-		return 1 / tb.law.H(ts, tb.amb), 0
+		h = tb.law.H(ts, tb.amb)
+	} else {
+		h, dh = tb.law.hShift(ts, tb.amb)
 	}
-	h, dh := tb.law.hShift(ts, tb.amb)
 	inv = 1 / h
-	return inv, -dh * inv * inv
+	if tb.phiE != nil && h > minH {
+		invE = -surface.Radiation(1, ts, tb.amb) * inv * inv
+	}
+	return inv, -dh * inv * inv, invE
 }
 
-// node computes node k's 1/h (and its derivative).
+// node computes node k's 1/h (and its derivatives).
 func (tb *phiTable) node(k int) {
-	inv, invA := tb.invH(gridExp(k, 0))
+	inv, invA, invE := tb.invH(gridExp(k, 0))
 	tb.inv[k] = inv
 	if tb.phiA != nil {
 		tb.invA[k] = invA
 	}
+	if tb.phiE != nil {
+		tb.invE[k] = invE
+	}
 }
 
 // cell returns the integral of 1/h over cell i (nodes i and i+1), by Simpson's rule
-// with the nodes' values and the midpoint's, and that of ∂(1/h)/∂T∞ (0 without the
-// derivative).
-func (tb *phiTable) cell(i int) (c, cA float64) {
-	mid, midA := tb.invH(gridExp(i, 1))
+// with the nodes' values and the midpoint's, and those of ∂(1/h)/∂T∞ and ∂(1/h)/∂ε
+// (0 without the derivative).
+func (tb *phiTable) cell(i int) (c, cA, cE float64) {
+	mid, midA, midE := tb.invH(gridExp(i, 1))
 	c = phiStep * (tb.inv[i] + 4*mid + tb.inv[i+1]) / 6
 	if tb.phiA != nil {
 		cA = phiStep * (tb.invA[i] + 4*midA + tb.invA[i+1]) / 6
 	}
-	return c, cA
+	if tb.phiE != nil {
+		cE = phiStep * (tb.invE[i] + 4*midE + tb.invE[i+1]) / 6
+	}
+	return c, cA, cE
 }
 
 // ensure computes the nodes from i to j (clamped to the table), extending the
@@ -173,7 +202,7 @@ func (tb *phiTable) cell(i int) (c, cA float64) {
 func (tb *phiTable) ensure(i, j int) {
 	n := len(tb.phi)
 	i, j = max(i, 0), min(j, n-1)
-	deriv := tb.phiA != nil
+	deriv, emis := tb.phiA != nil, tb.phiE != nil
 	if tb.lo > tb.hi {
 		tb.lo, tb.hi = i, i
 		tb.node(i)
@@ -181,15 +210,21 @@ func (tb *phiTable) ensure(i, j int) {
 		if deriv {
 			tb.phiA[i] = 0
 		}
+		if emis {
+			tb.phiE[i] = 0
+		}
 	}
 	if i < tb.lo {
 		to := max(0, min(i, tb.lo-phiGrowth))
 		for k := tb.lo - 1; k >= to; k-- {
 			tb.node(k)
-			c, cA := tb.cell(k)
+			c, cA, cE := tb.cell(k)
 			tb.phi[k] = tb.phi[k+1] - c
 			if deriv {
 				tb.phiA[k] = tb.phiA[k+1] - cA
+			}
+			if emis {
+				tb.phiE[k] = tb.phiE[k+1] - cE
 			}
 		}
 		tb.lo = to
@@ -198,10 +233,13 @@ func (tb *phiTable) ensure(i, j int) {
 		to := min(n-1, max(j, tb.hi+phiGrowth))
 		for k := tb.hi + 1; k <= to; k++ {
 			tb.node(k)
-			c, cA := tb.cell(k - 1)
+			c, cA, cE := tb.cell(k - 1)
 			tb.phi[k] = tb.phi[k-1] + c
 			if deriv {
 				tb.phiA[k] = tb.phiA[k-1] + cA
+			}
+			if emis {
+				tb.phiE[k] = tb.phiE[k-1] + cE
 			}
 		}
 		tb.hi = to
@@ -217,6 +255,10 @@ func (tb *phiTable) at(w float64) float64 { return tb.interpolate(tb.phi, tb.inv
 // atA returns Φa(w) = ∂Φ/∂T∞ at a fixed excess, continued beyond the table as at
 // continues Φ (so it is the derivative of at); the table must have the derivative.
 func (tb *phiTable) atA(w float64) float64 { return tb.interpolate(tb.phiA, tb.invA, w) }
+
+// atE returns Φe(w) = ∂Φ/∂ε, continued beyond the table as at continues Φ; the table
+// must have the emissivity derivative.
+func (tb *phiTable) atE(w float64) float64 { return tb.interpolate(tb.phiE, tb.invE, w) }
 
 // interpolate evaluates the interpolant of node values v with node slopes d (Φ and
 // 1/h, or Φa and its slope) at w, computing the nodes it needs.
@@ -349,8 +391,15 @@ func (tb *phiTable) solve(f float64, hint *int) (w, h, ew float64, cell int, s f
 
 // cellA returns Φa at fraction s of computed cell i (the Hermite cubic of atA, in
 // powers of s).
-func (tb *phiTable) cellA(i int, s float64) float64 {
-	v, d := tb.phiA[i:i+2:i+2], tb.invA[i:i+2:i+2]
+func (tb *phiTable) cellA(i int, s float64) float64 { return cellCubic(tb.phiA, tb.invA, i, s) }
+
+// cellE returns Φe at fraction s of computed cell i, as cellA does Φa.
+func (tb *phiTable) cellE(i int, s float64) float64 { return cellCubic(tb.phiE, tb.invE, i, s) }
+
+// cellCubic evaluates at fraction s of cell i the Hermite cubic of node values v with
+// slopes d per unit w, in powers of s.
+func cellCubic(v, d []float64, i int, s float64) float64 {
+	v, d = v[i:i+2:i+2], d[i:i+2:i+2]
 	df, m0, m1 := v[1]-v[0], phiStep*d[0], phiStep*d[1]
 	return v[0] + s*(m0+s*((3*df-2*m0-m1)+s*(m0+m1-2*df)))
 }
@@ -495,7 +544,9 @@ type hModel struct {
 // The ambient column: with Φ(w; T∞) − Φ(w0; T∞) = −q·t, a change of T∞ at a fixed
 // excess moves w by ∂w/∂T∞ = h·(Φa(w0) − Φa(w)), Φa = ∂Φ/∂T∞ tabulated beside Φ
 // (phiTable.atA); so ∂T/∂T∞ = 1 + θ·h·(Φa(w0) − Φa(w)), read in the cell the
-// reading's inversion found.
+// reading's inversion found. A table with the emissivity derivative and a Jacobian
+// with a column more than the ambient needs fill its last column with ∂model/∂ε, the
+// same way from Φe (phiTable.atE).
 func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.Dense, limit float64) float64 {
 	var ssr float64
 	phi0 := tb.at(w0)
@@ -503,16 +554,21 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 	hint := -1
 	var jd []float64 // jac's rows, written directly (Dense.Set checks every index)
 	var js int
-	var da0 float64
+	var da0, de0 float64
 	deriv := false
+	ec := 0 // the emissivity's column, 0 for none
 	if jac != nil {
 		if m.th == nil {
 			m.th = make([]float64, len(m.ts))
 		}
 		raw := jac.RawMatrix()
 		jd, js = raw.Data, raw.Stride
-		if deriv = raw.Cols == 3 && tb.phiA != nil; deriv {
+		if deriv = raw.Cols >= 3 && tb.phiA != nil; deriv {
 			da0 = tb.atA(w0)
+		}
+		if tb.phiE != nil && raw.Cols > 2 && (raw.Cols > 3 || !deriv) {
+			ec = raw.Cols - 1
+			de0 = tb.atE(w0)
 		}
 	}
 	for i, t := range m.ts {
@@ -539,6 +595,16 @@ func (m *hModel) residuals(tb *phiTable, w0, q float64, r []float64, jac *mat.De
 					fa = tb.atA(w)
 				}
 				jd[i*js+2] = wt + m.th[i]*(da0-fa)
+			}
+			if ec > 0 {
+				// As for T∞: ∂w/∂ε = h·(Φe(w0) − Φe(w)) at a fixed initial excess.
+				var fe float64
+				if cell >= 0 {
+					fe = tb.cellE(cell, s)
+				} else {
+					fe = tb.atE(w)
+				}
+				jd[i*js+ec] = m.th[i] * (de0 - fe)
 			}
 		}
 	}
