@@ -399,7 +399,11 @@ func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw, like *hFit) 
 // (newHFitLike): the still-air and moving-air races and the emissivity's refits, which
 // would each build the same ones. Nil when start is not usable.
 func sharedModels(p LumpedProblem, start *LumpedResult) *hFit {
-	f := newHFit(HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: DefaultSurfaceLaw}, start, maxFitPoints)
+	hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: DefaultSurfaceLaw}
+	if p.Ambient == nil {
+		hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD // the table's extent
+	}
+	f := newHFit(hp, start, maxFitPoints)
 	if f.full == nil {
 		return nil
 	}

@@ -107,7 +107,12 @@ func newHFitLike(p HProblem, start *LumpedResult, like *hFit, maxPts int) *hFit 
 }
 
 // newHModel returns the model of p's readings from the lumped fit start: the
-// readings shifted to the last ambient when it is measured, the table's extent.
+// readings shifted to the last ambient when it is measured, the table's extent. The
+// extent covers the readings' excess over the start's ambient and, with an ambient
+// prior, over the prior's mean: the steps cannot take the initial excess past the
+// extent (ssrAt), and a start whose ambient lies near the readings (a lumped fit of a
+// short head, its ambient barely determined) would otherwise fence the fit off from
+// the room-temperature ambients the prior favours, where it stalled at the fence.
 func newHModel(p HProblem, start *LumpedResult) *hModel {
 	m := &hModel{ts: p.Times, law: p.Law, side: sign(start.Excess), measured: p.Ambient != nil}
 	m.y = append([]float64(nil), p.Celsius...)
@@ -121,6 +126,9 @@ func newHModel(p HProblem, start *LumpedResult) *hModel {
 	m.amb = amb
 	for _, y := range m.y {
 		m.tmax = max(m.tmax, math.Abs(y-amb))
+		if !m.measured && p.AmbientPriorSD > 0 {
+			m.tmax = max(m.tmax, math.Abs(y-p.AmbientPrior))
+		}
 	}
 	m.tmax = 2*max(m.tmax, math.Abs(start.Excess)) + 50
 	return m
