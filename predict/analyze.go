@@ -391,7 +391,15 @@ func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw, like *hFit) 
 		}
 	}
 	best, _ := fitHRace(hps, lr, like)
-	return best
+	if best == nil {
+		return nil
+	}
+	hp := hps[0]
+	hp.Law = best.Law // the second start tries the winning law alone
+	return retryFromPrior(best, []HProblem{hp}, func(hps []HProblem, s *LumpedResult) *HResult {
+		r, _ := fitHRace(hps, s, like)
+		return r
+	})
 }
 
 // sharedModels returns an h(T) fit of p from the lumped fit start whose readings'
