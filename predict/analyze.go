@@ -391,7 +391,15 @@ func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw, like *hFit) 
 		}
 	}
 	best, _ := fitHRace(hps, lr, like)
-	return best
+	if best == nil {
+		return nil
+	}
+	hp := hps[0]
+	hp.Law = best.Law // the second start tries the winning law alone
+	return retryFromPrior(best, []HProblem{hp}, func(hps []HProblem, s *LumpedResult) *HResult {
+		r, _ := fitHRace(hps, s, like)
+		return r
+	})
 }
 
 // sharedModels returns an h(T) fit of p from the lumped fit start whose readings'
@@ -399,7 +407,11 @@ func fitHBest(p LumpedProblem, lr *LumpedResult, laws []SurfaceLaw, like *hFit) 
 // (newHFitLike): the still-air and moving-air races and the emissivity's refits, which
 // would each build the same ones. Nil when start is not usable.
 func sharedModels(p LumpedProblem, start *LumpedResult) *hFit {
-	f := newHFit(HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: DefaultSurfaceLaw}, start, maxFitPoints)
+	hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: DefaultSurfaceLaw}
+	if p.Ambient == nil {
+		hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD // the table's extent
+	}
+	f := newHFit(hp, start, maxFitPoints)
 	if f.full == nil {
 		return nil
 	}

@@ -223,7 +223,13 @@ func refit(head LumpedProblem, m fitted, opt AnalyzeOptions) fitted {
 		if err != nil {
 			return nil
 		}
-		return hFitted{&r}
+		return hFitted{retryFromPrior(&r, []HProblem{hp}, func(hps []HProblem, s *LumpedResult) *HResult {
+			a, err := fitH(hps[0], s)
+			if err != nil {
+				return nil
+			}
+			return &a
+		})}
 	case *condFitted:
 		if opt.Specimen == nil {
 			return nil

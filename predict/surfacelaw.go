@@ -497,6 +497,11 @@ type HResult struct {
 	w0, phi0, q float64
 	table       *phiTable
 	tmax        float64
+	// objective is the fit's objective, the sum of squares of every reading plus the
+	// ambient prior's penalty at weight priorW2; capped says the iterations ran out
+	// before converging (retryFromPrior).
+	objective, priorW2 float64
+	capped             bool
 	// hint is the table cell of the latest Value, where the next one usually lies
 	// (callers walk a curve in time); read and written atomically, since Value may
 	// run on several goroutines, and only a starting guess for invert.
