@@ -242,7 +242,8 @@ func TestFitSpecimenChamber(t *testing.T) {
 }
 
 // Mug of hot water (mosaicData CoolingWater via shared/realdata/README.md): not a single
-// exponential; from the first hour `settle fit` must flag the mismatch.
+// exponential nor dry convection and radiation; from the first hour `settle fit` must
+// say it took the curve as open water and hold the measured crossing.
 func TestFitMugCurve(t *testing.T) {
 	const src = "../../../shared/realdata/mug-water-cooling.csv"
 	b, err := os.ReadFile(src)
@@ -269,17 +270,21 @@ func TestFitMugCurve(t *testing.T) {
 		t.Fatalf("fit: %v\n%s", err, out)
 	}
 	got, _ := decodeFit(t, out)
-	if !strings.Contains(strings.Join(got.Notes, " "), "mismatch") {
-		t.Errorf("notes %q do not flag a model mismatch on the mug curve", got.Notes)
+	// Convection and radiation alone settle the water far above the room; with
+	// evaporation from an open surface (predict/evaporation.go) the curve fits, and
+	// the note says the specimen was only guessed to be water.
+	if notes := strings.Join(got.Notes, " "); !strings.Contains(notes, "Open water?") || !strings.Contains(notes, "taken as water with an open surface") {
+		t.Errorf("notes %q do not say the mug was taken as open water", got.Notes)
 	}
-	// An open-ended interval ("not before", latest_s null) is as wide as can be.
+	// Fitted to 60 minutes, the interval lies after the last reading and holds the
+	// observed crossing at 80 minutes (4800 s); an open end counts as infinite.
 	tg := got.Targets[0]
 	latest := math.Inf(1)
 	if tg.LatestS != nil {
 		latest = *tg.LatestS
 	}
-	if tg.State != "predicted" || tg.EarliestS == nil || latest-*tg.EarliestS < 1800 || *tg.EarliestS > 4800 || latest < 4800 {
-		t.Errorf("40 °C: %s [%v, %v]: want a wide interval (at least 30 min) holding the observed 4800 s", tg.State, tg.EarliestS, tg.LatestS)
+	if tg.State != "predicted" || tg.EarliestS == nil || *tg.EarliestS <= 3600 || *tg.EarliestS > 4800 || latest < 4800 {
+		t.Errorf("40 °C: %s [%v, %v]: want an interval after the last reading (3600 s) holding the observed 4800 s", tg.State, tg.EarliestS, tg.LatestS)
 	}
 	// Early on (20 minutes in) the free ambient lands above 40 °C; the water does reach
 	// 40 °C at 80 minutes, so "unreachable" would be a confident wrong answer.
