@@ -612,7 +612,14 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
 	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
 	if u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit; f.profiled(out) && math.Abs(out.Celsius-f.fit.ambient()) <= u {
-		if nb := f.notBefore(out, u, false); nb.State == StatePredicted && nb.Earliest.Before(out.Earliest) {
+		// The early end is the sooner of the closed interval's and the profile's
+		// (notBefore), unless the closed one's is the last reading itself: "not
+		// before now" says nothing, and the profile's bound, taken over the settling
+		// temperatures the readings allow, stands on its own (the late end, which
+		// Due plans a handling target with, stays open either way).
+		nb := f.notBefore(out, u, false)
+		vacuous := !out.Earliest.After(f.abs(last).Add(hold))
+		if nb.State == StatePredicted && (nb.Earliest.Before(out.Earliest) || vacuous) {
 			out.Earliest = nb.Earliest
 		}
 		// The readings' own speed may bound the crossing later still (speedFloor); a
