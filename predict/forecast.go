@@ -830,7 +830,12 @@ func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 // make the bound earlier, not later. ok is false unless the readings head toward level
 // and slow steadily: each of their four quarters (at least 5 readings each) slower
 // than the one before it beyond the noise, the quarters' speed ratios within a factor
-// of two of each other (see speedBound).
+// of two of each other (see speedBound) — or, when the first quarter is slower than
+// the second beyond the noise (a thermocouple inside the specimen lagging its
+// surface: the curve's one inflection), the last three. Past the inflection a body
+// with a fixed surroundings only slows (its first mode dominates; common practice of
+// transient conduction, from memory), so the bound stands; a door or a program step
+// inside the last three quarters still breaks their steady slowing.
 func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
@@ -852,14 +857,22 @@ func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	for k, l := range quarters {
 		v[k], se[k] = dir*l.slope, l.se
 	}
-	var r [3]float64
-	for k := range 3 {
+	// A sensor inside the specimen lags its surface: the readings first speed up,
+	// then slow as the body settles. A first quarter slower than the second beyond
+	// the noise is that lag, and the steady slowing is asked of the last three.
+	from := 0
+	if v[1]-v[0] > 2*math.Hypot(se[0], se[1]) {
+		from = 1
+	}
+	var ratio [3]float64
+	r := ratio[from:]
+	for k := from; k < 3; k++ {
 		if v[k+1] <= 2*se[k+1] || v[k]-v[k+1] <= 2*math.Hypot(se[k], se[k+1]) {
 			return 0, false
 		}
-		r[k] = v[k+1] / v[k]
+		r[k-from] = v[k+1] / v[k]
 	}
-	if slices.Max(r[:]) > 2*slices.Min(r[:]) {
+	if slices.Max(r) > 2*slices.Min(r) {
 		return 0, false
 	}
 	z := speedQuantile(q-2) * Inflation(last.rho(t[n-q:], c[n-q:]), maxSpeedInflation)
