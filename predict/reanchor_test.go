@@ -108,7 +108,7 @@ func refitNow(tr *Tracker) *Forecast {
 // those Δ seconds (what the tracker shows between fits), and refitted on them. It
 // holds re-anchoring to what justifies it: at every Δ its median relative error is no
 // worse than the stale fit's, and its 90 % intervals cover no less than 80 % (the
-// engine's own floor over the whole benchmark is 78 %, TestAccuracyTable). Minutes:
+// engine's own floor over the whole benchmark is 84 %, TestAccuracyTable). Minutes:
 // skipped with -short.
 func TestReanchorAccuracy(t *testing.T) {
 	if testing.Short() {
