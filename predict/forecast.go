@@ -835,7 +835,10 @@ func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 // surface: the curve's one inflection), the last three. Past the inflection a body
 // with a fixed surroundings only slows (its first mode dominates; common practice of
 // transient conduction, from memory), so the bound stands; a door or a program step
-// inside the last three quarters still breaks their steady slowing.
+// inside the last three quarters still breaks their steady slowing. One that came so
+// late that only the last readings show it (the sensor just speeding up again) is
+// caught by the last quarter's two halves: the later faster than the earlier beyond
+// the noise (halves of at least 5 readings), no bound.
 func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
@@ -874,6 +877,12 @@ func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	}
 	if slices.Max(r) > 2*slices.Min(r) {
 		return 0, false
+	}
+	if h := q / 2; h >= 5 {
+		a, b := fitQuarter(t[n-2*h:n-h], c[n-2*h:n-h]), fitQuarter(t[n-h:], c[n-h:])
+		if dir*b.slope-dir*a.slope > 2*math.Hypot(a.se, b.se) {
+			return 0, false
+		}
 	}
 	z := speedQuantile(q-2) * Inflation(last.rho(t[n-q:], c[n-q:]), maxSpeedInflation)
 	return t[n-1] + dir*(level-last.end)/(v[3]+z*se[3]), true
