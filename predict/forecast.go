@@ -612,7 +612,14 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
 	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
 	if u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit; f.profiled(out) && math.Abs(out.Celsius-f.fit.ambient()) <= u {
-		if nb := f.notBefore(out, u, false); nb.State == StatePredicted && nb.Earliest.Before(out.Earliest) {
+		// The early end is the sooner of the closed interval's and the profile's
+		// (notBefore), unless the closed one's is the last reading itself: "not
+		// before now" says nothing, and the profile's bound, taken over the settling
+		// temperatures the readings allow, stands on its own (the late end, which
+		// Due plans a handling target with, stays open either way).
+		nb := f.notBefore(out, u, false)
+		vacuous := !out.Earliest.After(f.abs(last).Add(hold))
+		if nb.State == StatePredicted && (nb.Earliest.Before(out.Earliest) || vacuous) {
 			out.Earliest = nb.Earliest
 		}
 		// The readings' own speed may bound the crossing later still (speedFloor); a
@@ -823,7 +830,15 @@ func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 // make the bound earlier, not later. ok is false unless the readings head toward level
 // and slow steadily: each of their four quarters (at least 5 readings each) slower
 // than the one before it beyond the noise, the quarters' speed ratios within a factor
-// of two of each other (see speedBound).
+// of two of each other (see speedBound) — or, when the first quarter is slower than
+// the second beyond the noise (a thermocouple inside the specimen lagging its
+// surface: the curve's one inflection), the last three. Past the inflection a body
+// with a fixed surroundings only slows (its first mode dominates; common practice of
+// transient conduction, from memory), so the bound stands; a door or a program step
+// inside the last three quarters still breaks their steady slowing. One that came so
+// late that only the last readings show it (the sensor just speeding up again) is
+// caught by the last quarter's two halves: the later faster than the earlier beyond
+// the noise (halves of at least 5 readings), no bound.
 func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
@@ -845,15 +860,29 @@ func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	for k, l := range quarters {
 		v[k], se[k] = dir*l.slope, l.se
 	}
-	var r [3]float64
-	for k := range 3 {
+	// A sensor inside the specimen lags its surface: the readings first speed up,
+	// then slow as the body settles. A first quarter slower than the second beyond
+	// the noise is that lag, and the steady slowing is asked of the last three.
+	from := 0
+	if v[1]-v[0] > 2*math.Hypot(se[0], se[1]) {
+		from = 1
+	}
+	var ratio [3]float64
+	r := ratio[from:]
+	for k := from; k < 3; k++ {
 		if v[k+1] <= 2*se[k+1] || v[k]-v[k+1] <= 2*math.Hypot(se[k], se[k+1]) {
 			return 0, false
 		}
-		r[k] = v[k+1] / v[k]
+		r[k-from] = v[k+1] / v[k]
 	}
-	if slices.Max(r[:]) > 2*slices.Min(r[:]) {
+	if slices.Max(r) > 2*slices.Min(r) {
 		return 0, false
+	}
+	if h := q / 2; h >= 5 {
+		a, b := fitQuarter(t[n-2*h:n-h], c[n-2*h:n-h]), fitQuarter(t[n-h:], c[n-h:])
+		if dir*b.slope-dir*a.slope > 2*math.Hypot(a.se, b.se) {
+			return 0, false
+		}
 	}
 	z := speedQuantile(q-2) * Inflation(last.rho(t[n-q:], c[n-q:]), maxSpeedInflation)
 	return t[n-1] + dir*(level-last.end)/(v[3]+z*se[3]), true

@@ -122,7 +122,7 @@ const reanchorMedianSlack = 0.002
 // worse than the stale fit's by more than reanchorMedianSlack, its 90th percentile no
 // worse at all, it moves at least half the forecasts closer to the truth, and its 90 %
 // intervals cover no less than 80 % (the engine's own floor over the whole benchmark is
-// 78 %, TestAccuracyTable). Minutes: skipped with -short.
+// 84 %, TestAccuracyTable). Minutes: skipped with -short.
 func TestReanchorAccuracy(t *testing.T) {
 	if testing.Short() {
 		t.Skip("re-anchoring benchmark skipped with -short")
