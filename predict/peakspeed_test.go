@@ -13,11 +13,18 @@ import (
 // and the sensor). Read every dt s until end with Gaussian noise of sd °C; small Euler
 // steps.
 func chainStep(rng *rand.Rand, taus []float64, from, to, dt, end, sd float64) (ts, cs, truth []float64) {
-	const h = 0.02
 	x := make([]float64, len(taus))
 	for i := range x {
 		x[i] = from
 	}
+	return chainFrom(rng, taus, x, to, dt, end, sd)
+}
+
+// chainFrom is chainStep with the stages starting at x (not at rest: a step during an
+// earlier transient).
+func chainFrom(rng *rand.Rand, taus, x []float64, to, dt, end, sd float64) (ts, cs, truth []float64) {
+	const h = 0.02
+	x = slices.Clone(x)
 	next := 0.0
 	for s := 0.0; s <= end; s += h {
 		if s >= next {
@@ -40,40 +47,61 @@ func chainStep(rng *rand.Rand, taus []float64, from, to, dt, end, sd float64) (t
 // the cutoffs reach, as on the heater board (../shared/realdata) — gets "not before" a
 // time after its last reading for a target ahead of it once its speed has stopped
 // rising, never after the true crossing, never a central estimate or a late end, and
-// never for a handling target. Swept over cutoffs every 5 s from 20 s. Without
+// never for a handling target. Swept over cutoffs every 5 s from 20 s (20 s under -race). Without
 // peakBound every one of these cutoffs is insufficient (no model resolves a level,
 // and the readings do not slow quarter by quarter). Our own invented chains:
 // heater and sink (300 s and 40 s), and heater, sink and sensor (400, 60 and 15 s),
 // from a 22 °C room toward 62 °C, read every second with 0.05 °C of noise; targets
-// near the room (direction unknown) and far from it (still at their extreme).
+// near the room (direction unknown) and far from it (still at their extreme). And steps
+// against an earlier transient, where the speed is not log-concave (the argument does
+// not cover them; peakspeed.go): the heater turned up to head for 62 °C while the sink
+// (30 °C) is still colder than the sensor (40 °C), so the readings first fall; and a
+// part switched off at 50/40 °C toward a 22 °C room — measured, not proven: swept once
+// over 5 noise seeds and two more such starts (not kept: 40 s), no bound after the
+// truth.
 func TestPeakBoundNeverLate(t *testing.T) {
 	for _, c := range []struct {
-		name    string
-		taus    []float64
-		target  float64
-		minOpen int
+		name        string
+		taus, start []float64 // start: the stages' temperatures (nil: all at 22 °C)
+		to, target  float64
+		minOpen     int
 	}{
-		{"heater and sink, near the room", []float64{300, 40}, 29, 3},
-		{"heater and sink, far from the room", []float64{300, 40}, 45, 10},
-		{"three lags, far from the room", []float64{400, 60, 15}, 42, 8},
+		{"heater and sink, near the room", []float64{300, 40}, nil, 62, 29, 3},
+		{"heater and sink, far from the room", []float64{300, 40}, nil, 62, 45, 10},
+		{"three lags, far from the room", []float64{400, 60, 15}, nil, 62, 42, 8},
+		{"turned up while the sink is colder", []float64{300, 40}, []float64{30, 40}, 62, 45, 10},
+		{"switched off, warmer sink", []float64{300, 40}, []float64{50, 40}, 22, 35, 10},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(7, 8))
-			ts, cs, truth := chainStep(rng, c.taus, 22, 62, 1, 1500, 0.05)
-			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return v >= c.target })]
+			start := c.start
+			if start == nil {
+				start = slices.Repeat([]float64{22}, len(c.taus))
+			}
+			ts, cs, truth := chainFrom(rng, c.taus, start, c.to, 1, 1500, 0.05)
+			side := sign(c.target - start[len(start)-1])
+			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return side*(v-c.target) >= 0 })]
 			open := 0
-			for upTo := 20.0; upTo < cross; upTo += 5 {
+			step := 5.0
+			if raceEnabled {
+				step = 20
+			}
+			for upTo := 20.0; upTo < cross; upTo += step {
 				n := slices.IndexFunc(ts, func(s float64) bool { return s > upTo })
 				p, onset, _ := Prepare(ts[:n], cs[:n], nil)
 				f := Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: c.target}, {Name: "handle", Celsius: c.target, Handling: true}}, AnalyzeOptions{})
-				if h := f.Targets[1]; h.State != StateInsufficient {
+				h := f.Targets[1]
+				if side > 0 && h.State != StateInsufficient {
 					t.Fatalf("%.0f s: handling target %s on a warming part", upTo, h.State)
 				}
-				tf := f.Targets[0]
-				if tf.State == StateInsufficient {
-					continue
+				if due := h.Due(); h.State == StateReached || !due.IsZero() && due.Sub(t0).Seconds() < cross {
+					t.Fatalf("%.0f s: handling target %s, due %v, before the true crossing at %.0f s", upTo, h.State, due, cross)
 				}
-				if tf.State != StatePredicted || !tf.At.IsZero() || !tf.Latest.IsZero() {
+				tf := f.Targets[0]
+				if tf.State == StateInsufficient || side < 0 && !tf.Latest.IsZero() {
+					continue // a cool-down's fit may close the interval: not this bound's
+				}
+				if tf.State != StatePredicted || side > 0 && !tf.At.IsZero() || !tf.Latest.IsZero() {
 					t.Fatalf("%.0f s: %s at %v [%v, %v]; want insufficient or only a not-before", upTo, tf.State, tf.At, tf.Earliest, tf.Latest)
 				}
 				open++
@@ -81,12 +109,12 @@ func TestPeakBoundNeverLate(t *testing.T) {
 				if lo > cross {
 					t.Errorf("%.0f s: not before %.0f s, after the true crossing at %.0f s", upTo, lo, cross)
 				}
-				if lo <= ts[n-1] {
+				if lo <= ts[n-1] && tf.At.IsZero() {
 					t.Errorf("%.0f s: not before %.0f s, not after the last reading", upTo, lo)
 				}
 			}
-			if open < c.minOpen {
-				t.Errorf("only %d cutoffs got a not-before, want at least %d", open, c.minOpen)
+			if want := max(1, c.minOpen*5/int(step)); open < want { // fewer cutoffs under -race
+				t.Errorf("only %d cutoffs got a not-before, want at least %d", open, want)
 			}
 			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", open, cross)
 		})
