@@ -91,10 +91,9 @@ func (f *forecaster) peakFloor(level float64) (float64, bool) {
 }
 
 // peakBound is the open-ended forecast "not before" of a fixed, non-handling target
-// ahead of readings that move toward it (peakFloor), for
-// readings whose direction against the settling temperature is not known (no measured
-// ambient; near the room or still at their extreme) and which slow too little for
-// speedFloor. No central estimate and no late end: the settling temperature of a
+// ahead of readings that move toward it (peakFloor), for readings whose direction
+// against the settling temperature is not known (no measured ambient; near the room or
+// still at their extreme) and which slow too little for speedFloor. No central estimate and no late end: the settling temperature of a
 // powered part or an unmeasured oven is not known, and a chain of lags slows later
 // than its present curvature says (its speed's decay rate rises toward the slowest
 // stage's), so no late end follows from the readings. out unchanged (insufficient)
