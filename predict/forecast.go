@@ -234,7 +234,7 @@ func directionUnknown(m []float64) string {
 	if up, down := slices.Max(m)-roomPrior, roomPrior-slices.Min(m); max(up, down) >= priorFar {
 		return fmt.Sprintf("The readings are still at their extreme, %.0f °C from the assumed room of %.0f °C, so settle cannot tell a specimen settling toward an unmeasured oven or chamber from one whose thermocouple is still catching up with it, and forecasts no time from the readings alone (at most \"not before\" for a target ahead of them, never for a handling target); for an oven give the specimen convection: chamber with chamber_c (its set point), or %s.", max(up, down), roomPrior, measure)
 	}
-	return "The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts nothing; " + measure + "."
+	return "The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts no time (at most \"not before\" for a target ahead of readings still moving toward it, never for a handling target); " + measure + "."
 }
 
 // note adds a note once.
@@ -297,9 +297,11 @@ func (f *forecaster) target(tg Target) TargetForecast {
 	if f.side == 0 || math.IsNaN(out.Celsius) {
 		out.Celsius = tg.Celsius
 		if f.away != 0 && !tg.IsWithin() && !tg.Handling {
-			return f.speedBound(out)
+			if sb := f.speedBound(out); sb.State == StatePredicted {
+				return sb
+			}
 		}
-		return out
+		return f.peakBound(out) // the readings' own speed after a step (peakspeed.go)
 	}
 	if tg.Handling && f.side < 0 {
 		f.note("The specimen is warming: a handling target is judged only while a specimen cools, so it is not forecast.")

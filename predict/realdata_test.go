@@ -190,6 +190,42 @@ func cellSegments(t *testing.T) []realSegment {
 // heaterMinRows is the fewest rows of a heater step kept as a segment.
 const heaterMinRows = 60
 
+// The heater board's six steps, measured (issue 12; a throwaway diagnostic printed the
+// readings' speed per 10 s and the engine's answer at every cutoff):
+//
+//   - Shape: every step starts with the sensor catching up — the speed rises for
+//     10–50 s (heater 1 at 100 %: 0.06 → 0.26 K/s in 30 s; at 5 % it still rises for
+//     10 s after the power fell) — then holds almost constant (0.26, 0.13, 0.09, 0.08
+//     K/s) until 80–160 s, and slows only after that (to 0.11, 0.05, 0.06, 0.02 K/s by
+//     the step's end). A second-order response: heater and sink, then the sensor.
+//   - Cutoffs: at 10 % of the time to a target there are 5–18 readings, the lag phase
+//     alone; at 25 %, 12–44; at 50 %, 23–87, all inside the constant-speed stretch. So
+//     the readings "never slow" where they are scored: speedFloor (quarter by quarter
+//     slowing) never applies, and trendReaches always does.
+//   - Why the rules withheld: heater 1's first step below 30 °C and all of heater 2's
+//     50 % step lie within 8 °C of the room prior (direction unknown); heater 1 at 70 %
+//     and heater 2 at 80 % are still at their extreme (speedBound, which needs the
+//     slowing); the cool-downs (heater 1 at 5 %, heater 2 at 10 %) get a direction from
+//     their fit but, once they turn, settling temperatures of −3 to 22 °C with
+//     uncertainties up to ±610 °C, so at most the profile's "not before".
+//   - What the models fit: the exponential finds no resolvable decay (constant speed is
+//     no curvature); h(T) puts the level at 23–84 °C and rising with every cutoff,
+//     residuals lag-1 0.63–0.90, its own backtest's model-form term 0.7–1.5 of the
+//     remaining time.
+//   - Central estimates tried in a prototype and not kept: the last quarter's speed
+//     held (no curvature) misses by a median 24 % at 25 % and 19 % at 50 % (the linear
+//     trend 38 % and 13 %) — it is the early bound itself, early by construction, and
+//     loses at 50 %; an exponential with the curvature of the last half (a quadratic's
+//     speed and acceleration) 50 % and 26 % — early too, since a chain of lags slows
+//     later than its present curvature says (the speed's decay rate rises toward the
+//     slowest stage's). For the same reason no late end follows from the readings: the
+//     level of a powered part is its power times its thermal resistance, neither known.
+//   - Kept: peakBound (peakspeed.go), "not before" from the readings' own speed, whose
+//     logarithm is concave after a step through a chain of lags: 9 of 18 covered at
+//     25 %, 11 of 18 at 50 %, none after the truth. The rest: the lag phase at 10 %,
+//     quarters of fewer than 5 readings, and heater 2's steps disturbed by heater 1's
+//     (a speed that turns within the readings is not bounded).
+//
 // heaterSegments reads transistor-heater-steps.csv: for each of the two heaters, one
 // segment from each change of its power to the next (the other heater's steps
 // disturb it a little, as a neighbour on a rack would).
@@ -410,21 +446,27 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		}
 	}
 	// Coverage at 25 % elapsed, an unanswered forecast or a "not before now" counted as
-	// a miss: 55 % over all families measured (54 % before a closed early end at the
-	// last reading gave way to the profile's bound; 46 % before open-ended answers; 38 % by
+	// a miss: 71 % over all families measured (54 % before the heater board's power
+	// steps got "not before" from the readings' own speed after a step, peakBound, and
+	// a closed early end at the last reading gave way to the profile's bound; 46 % before open-ended answers; 38 % by
 	// closed intervals alone; 59 % before smoothAmbient took the first span's mean,
 	// which narrowed the cell rests' intervals from 1.61 to 1.38 of the remaining time
 	// at 25 % and 0.71 to 0.38 at 50 %: now the 90 % targets of the three rests whose
 	// cell settles 0.3–0.4 K above the chamber's reading are missed, early — the
 	// measured ambient is taken as exact), 10 of 14 on the two mug families (2 of 14 before, all of
-	// the gain open-ended); the heater board's power steps stay unanswered (the
-	// direction rules; see README). At 50 %, 13 of 15 on the mugs (11 before the
-	// readings' own speed raised "not before now" answers: speedFloor).
+	// the gain open-ended); the heater board's power steps, 9 of 18 at 25 % and 11 of
+	// 18 at 50 %, all by "not before" alone (none before peakBound: the direction rules
+	// leave them insufficient, and the readings do not slow quarter by quarter for
+	// speedFloor). At 50 %, 13 of 15 on the mugs (11 before the readings' own speed
+	// raised "not before now" answers: speedFloor).
 	for _, c := range []struct {
 		families []string
 		frac     float64
 		min      float64
-	}{{[]string{"all"}, 0.25, 0.50}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.80}} {
+	}{
+		{[]string{"all"}, 0.25, 0.65}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.80},
+		{[]string{"heater board"}, 0.25, 0.45}, {[]string{"heater board"}, 0.50, 0.55},
+	} {
 		var covered, judged int
 		for _, fam := range c.families {
 			s := sc[fmt.Sprintf("engine/%.2f/%s", c.frac, fam)]
