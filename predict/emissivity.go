@@ -139,6 +139,9 @@ func refineUnknownEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, l
 	}
 	rho := max(r.Rho, 0)
 	nEff := float64(r.N) * (1 - rho) / (1 + rho)
+	if nEff <= 0 { // residuals wholly correlated: the readings say nothing of ε
+		return r, ""
+	}
 	score := func(h *HResult) float64 {
 		d := (h.Law.Emissivity - unknownEmisMean) / unknownEmisSD
 		return nEff*math.Log(max(h.RMSE*h.RMSE, 1e-300)) + d*d
