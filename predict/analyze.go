@@ -164,7 +164,23 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	if note := guessedWaterHandling(f.Targets, m, opt.Specimen); note != "" {
 		f.Notes = append(f.Notes, note)
 	}
+	openHandlingNoPoint(f.Targets)
 	return f, m
+}
+
+// openHandlingNoPoint drops the central estimate of every predicted handling target
+// whose interval has no late end ("not before" only): when some settling temperatures
+// the readings allow never reach the limit, a time in the middle is no time to plan
+// with, and a central estimate printed or charted beside "ready to handle" would read
+// as one. Found by a read-only review: a cube cooling toward 38 °C surroundings,
+// fitted early near the room, showed a central estimate for a 35 °C limit it never
+// reaches (TestOpenHandlingHasNoPoint). Other targets keep theirs.
+func openHandlingNoPoint(tfs []TargetForecast) {
+	for i, tf := range tfs {
+		if tf.Target.Handling && tf.State == StatePredicted && tf.Latest.IsZero() {
+			tfs[i].At = time.Time{}
+		}
+	}
 }
 
 // conductionChoice fits the conduction models when the specimen is known and, when

@@ -233,3 +233,37 @@ func TestWaterGuessNearWarmSurroundings(t *testing.T) {
 	}
 	t.Logf("taken as open water at %v min; true crossing at %.0f s", guessed, cross)
 }
+
+// TestOpenHandlingHasNoPoint: a handling limit answered "not before" alone carries no
+// central estimate (openHandlingNoPoint), so nothing printed or charted beside it reads
+// as a time to plan with. Our own case, from a read-only review: a 50 mm steel cube
+// (emissivity 0.3) cooling from 90 °C toward 38 °C surroundings, read every 10 s for 5
+// minutes with ±0.05 K of wobble; the early fit settles near the room, so the 43 °C
+// limit and the 35 °C one, which the cube never reaches, are open-ended (both carried a
+// central estimate before the rule). The 60 °C level target (not a handling limit)
+// keeps its central estimate.
+func TestOpenHandlingHasNoPoint(t *testing.T) {
+	law := DefaultSurfaceLaw
+	law.Emissivity = 0.3
+	p := simulateH(law, 7800*470*0.05/6, 38, 90, 10, 300)
+	for i := range p.Celsius {
+		p.Celsius[i] += 0.05 * math.Sin(1.7*float64(i))
+	}
+	f := Analyze(p, t0, []Target{{Name: "h43", Celsius: 43, Handling: true}, {Name: "h35", Celsius: 35, Handling: true}, {Name: "level", Celsius: 60}}, AnalyzeOptions{})
+	var open int
+	for _, tf := range f.Targets {
+		if tf.State != StatePredicted || !tf.Latest.IsZero() {
+			continue
+		}
+		open++
+		if tf.Target.Handling && !tf.At.IsZero() {
+			t.Errorf("handling limit open-ended with a central estimate %v", tf.At.Sub(t0))
+		}
+	}
+	if open < 2 {
+		t.Fatalf("%d open-ended answers: the case no longer exercises the rule (%+v)", open, f.Targets)
+	}
+	if lv := f.Targets[2]; lv.State == StatePredicted && lv.At.IsZero() {
+		t.Errorf("level target lost its central estimate: %+v", lv)
+	}
+}
