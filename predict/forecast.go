@@ -821,6 +821,25 @@ func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 	return out
 }
 
+// quarterLines fits a least-squares line to each quarter of the readings (speedFloor,
+// peakFloor) and returns them with q, the readings in a quarter, and dir, the sign of
+// the way from the last quarter's line to level; ok is false with fewer than 5
+// readings a quarter or no way left.
+func (f *forecaster) quarterLines(level float64) (quarters [4]quarterLine, q int, dir float64, ok bool) {
+	t, c := f.p.Times, f.p.Celsius
+	n := len(c)
+	q = n / 4
+	if q < 5 {
+		return quarters, q, 0, false
+	}
+	for k := range quarters {
+		a, b := n-(4-k)*q, n-(3-k)*q
+		quarters[k] = fitQuarter(t[a:b], c[a:b])
+	}
+	dir = sign(level - quarters[3].end)
+	return quarters, q, dir, dir != 0
+}
+
 // speedFloor is the soonest the readings can reach level, s from the segment start, if
 // they settle toward a fixed temperature beyond it: the last reading's time plus the
 // way left over the speed of the readings' last quarter toward level. Both come from
@@ -844,20 +863,11 @@ func (f *forecaster) speedBound(out TargetForecast) TargetForecast {
 func (f *forecaster) speedFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
-	q := n / 4
-	if q < 5 {
+	quarters, q, dir, ok := f.quarterLines(level)
+	if !ok {
 		return 0, false
-	}
-	var quarters [4]quarterLine
-	for k := range quarters {
-		lo, hi := n-(4-k)*q, n-(3-k)*q
-		quarters[k] = fitQuarter(t[lo:hi], c[lo:hi])
 	}
 	last := quarters[3]
-	dir := sign(level - last.end)
-	if dir == 0 {
-		return 0, false
-	}
 	var v, se [4]float64
 	for k, l := range quarters {
 		v[k], se[k] = dir*l.slope, l.se

@@ -56,21 +56,12 @@ import (
 func (f *forecaster) peakFloor(level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
-	q := n / 4
-	if q < 5 {
+	quarters, q, dir, ok := f.quarterLines(level)
+	if !ok {
 		return 0, false
-	}
-	var hi, lo [4]float64 // each quarter's speed toward level, high and low
-	var quarters [4]quarterLine
-	for k := range quarters {
-		a, b := n-(4-k)*q, n-(3-k)*q
-		quarters[k] = fitQuarter(t[a:b], c[a:b])
 	}
 	last := quarters[3]
-	dir := sign(level - last.end)
-	if dir == 0 {
-		return 0, false
-	}
+	var hi, lo [4]float64 // each quarter's speed toward level, high and low
 	z := speedQuantile(q - 2)
 	for k, l := range quarters {
 		a, b := n-(4-k)*q, n-(3-k)*q
