@@ -1,6 +1,7 @@
 package predict
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -67,16 +68,8 @@ func TestPhiTableAmbientDerivative(t *testing.T) {
 			tb := newPhiTable(law, amb, side, 900, true)
 			up := newPhiTable(law, amb+d, side, 900, false)
 			down := newPhiTable(law, amb-d, side, 900, false)
-			const ref = 1.3
-			for _, w := range []float64{-9, -2, 0.5, 2.2, 3.9, 5.5, 6.9, 8} {
-				if side < 0 && w > 4 {
-					continue // the excess below the ambient stays above absolute zero
-				}
-				got := tb.atA(w) - tb.atA(ref)
-				want := ((up.at(w) - up.at(ref)) - (down.at(w) - down.at(ref))) / (2 * d)
-				if math.Abs(got-want) > 1e-6*math.Abs(want)+1e-12 {
-					t.Errorf("%+v side %g: Φa(%g) − Φa(%g) = %.10g, central difference %.10g", law, side, w, ref, got, want)
-				}
+			checkPhiColumn(t, fmt.Sprintf("%+v side %g", law, side), "Φa", side, tb.atA, up, down, d)
+			for _, w := range phiCheckExcesses(side) {
 				const dw = 1e-6
 				if fd := (tb.at(w+dw) - tb.at(w-dw)) / (2 * dw); math.Abs(tb.slopeAt(w)-fd) > 1e-6*math.Abs(fd) {
 					t.Errorf("%+v side %g: slopeAt(%g) = %.10g, difference of at %.10g", law, side, w, tb.slopeAt(w), fd)
@@ -391,17 +384,7 @@ func TestPhiTableEmissivityDerivative(t *testing.T) {
 				up.Emissivity += d
 				down.Emissivity -= d
 				tu, td := newPhiTable(up, amb, side, 900, false), newPhiTable(down, amb, side, 900, false)
-				const ref = 1.3
-				for _, w := range []float64{-9, -2, 0.5, 2.2, 3.9, 5.5, 6.9, 8} {
-					if side < 0 && w > 4 {
-						continue // the excess below the ambient stays above absolute zero
-					}
-					got := tb.atE(w) - tb.atE(ref)
-					want := ((tu.at(w) - tu.at(ref)) - (td.at(w) - td.at(ref))) / (2 * d)
-					if math.Abs(got-want) > 1e-6*math.Abs(want)+1e-12 {
-						t.Errorf("%+v side %g: Φe(%g) − Φe(%g) = %.10g, central difference %.10g", law, side, w, ref, got, want)
-					}
-				}
+				checkPhiColumn(t, fmt.Sprintf("%+v side %g", law, side), "Φe", side, tb.atE, tu, td, d)
 				plain := newPhiTable(law, amb, side, 900, deriv)
 				plain.complete()
 				tb.complete()
@@ -465,6 +448,34 @@ func TestJacobianEmissivityColumn(t *testing.T) {
 					t.Fatalf("%+v measured %v row %d: emissivity column %.10g, central difference %.10g (scale %.3g)", law, measured, i, lm.jac.At(i, k-1), fd, scale)
 				}
 			}
+		}
+	}
+}
+
+// phiCheckExcesses are the log-excesses w at which a table's derivative columns are
+// checked: inside and beyond the table, and below the ambient only while the excess
+// stays above absolute zero.
+func phiCheckExcesses(side float64) []float64 {
+	var out []float64
+	for _, w := range []float64{-9, -2, 0.5, 2.2, 3.9, 5.5, 6.9, 8} {
+		if side > 0 || w <= 4 {
+			out = append(out, w)
+		}
+	}
+	return out
+}
+
+// checkPhiColumn compares differences of a table's derivative column col (Φa or Φe)
+// with the central difference of the tables up and down, built at the parameter ± d,
+// to 1e-6 relative: the model uses only such differences.
+func checkPhiColumn(t *testing.T, label, sym string, side float64, col func(float64) float64, up, down *phiTable, d float64) {
+	t.Helper()
+	const ref = 1.3
+	for _, w := range phiCheckExcesses(side) {
+		got := col(w) - col(ref)
+		want := ((up.at(w) - up.at(ref)) - (down.at(w) - down.at(ref))) / (2 * d)
+		if math.Abs(got-want) > 1e-6*math.Abs(want)+1e-12 {
+			t.Errorf("%s: %s(%g) − %s(%g) = %.10g, central difference %.10g", label, sym, w, sym, ref, got, want)
 		}
 	}
 }
