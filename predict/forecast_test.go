@@ -344,15 +344,9 @@ func TestSpeedBoundNeverLate(t *testing.T) {
 			}
 			side := sign(c.from - c.target)
 			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return side*(v-c.target) <= 0 })]
-			step := 40.0
-			if raceEnabled {
-				step = 160
-			}
+			step := cutoffStep()
 			open := 0
-			for upTo := 100.0; upTo < cross; upTo += step {
-				n := slices.IndexFunc(ts, func(s float64) bool { return s > upTo })
-				p, onset, _ := Prepare(ts[:n], cs[:n], nil)
-				f := Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: c.target}, {Name: "handle", Celsius: c.target, Handling: true}}, AnalyzeOptions{})
+			sweepCutoffs(ts, cs, cross, c.target, func(upTo float64, f *Forecast) {
 				if h := f.Targets[1]; side < 0 && h.State != StateInsufficient {
 					t.Fatalf("%.0f s: handling target %s on a warming specimen", upTo, h.State)
 				}
@@ -371,7 +365,7 @@ func TestSpeedBoundNeverLate(t *testing.T) {
 						t.Errorf("%.0f s: %s not before %.0f s, after the true crossing at %.0f s", upTo, tf.Target.Name, lo, cross)
 					}
 				}
-			}
+			})
 			want := c.minOpen
 			if want > 0 {
 				want = max(1, want*40/int(step)) // fewer cutoffs under -race
@@ -525,21 +519,15 @@ func TestSpeedBoundThroughCoreLag(t *testing.T) {
 			rng := rand.New(rand.NewPCG(51, 52))
 			ts, cs, truth := laggedWarmUp(rng, c.air, 21, 600, 300, 5, 6000, 0.1)
 			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return v >= target })]
-			step := 40.0
-			if raceEnabled {
-				step = 160
-			}
+			step := cutoffStep()
 			open := 0
-			for upTo := 100.0; upTo < cross; upTo += step {
-				n := slices.IndexFunc(ts, func(s float64) bool { return s > upTo })
-				p, onset, _ := Prepare(ts[:n], cs[:n], nil)
-				f := Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: target}, {Name: "handle", Celsius: target, Handling: true}}, AnalyzeOptions{})
+			sweepCutoffs(ts, cs, cross, target, func(upTo float64, f *Forecast) {
 				if h := f.Targets[1]; h.State != StateInsufficient {
 					t.Fatalf("%.0f s: handling target %s on a warming specimen", upTo, h.State)
 				}
 				tf := f.Targets[0]
 				if tf.State == StateInsufficient {
-					continue
+					return
 				}
 				if tf.State != StatePredicted || !tf.At.IsZero() || !tf.Latest.IsZero() {
 					t.Fatalf("%.0f s: %s at %v [%v, %v]; want insufficient or only a not-before", upTo, tf.State, tf.At, tf.Earliest, tf.Latest)
@@ -548,7 +536,7 @@ func TestSpeedBoundThroughCoreLag(t *testing.T) {
 				if lo := tf.Earliest.Sub(t0).Seconds(); lo > cross {
 					t.Errorf("%.0f s: not before %.0f s, after the true crossing at %.0f s", upTo, lo, cross)
 				}
-			}
+			})
 			want := c.minOpen * 40 / int(step)
 			if c.minOpen > 0 {
 				want = max(1, want)
@@ -558,5 +546,25 @@ func TestSpeedBoundThroughCoreLag(t *testing.T) {
 			}
 			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", open, cross)
 		})
+	}
+}
+
+// cutoffStep is the spacing, in seconds, of the cutoffs the "not before" sweeps fit at:
+// four times wider under -race, which is that much slower.
+func cutoffStep() float64 {
+	if raceEnabled {
+		return 160
+	}
+	return 40
+}
+
+// sweepCutoffs analyses the readings up to every cutoffStep from 100 s until cross,
+// with level as a plain target ("t") and as a handling limit ("handle"), and hands each
+// cutoff's forecast to check.
+func sweepCutoffs(ts, cs []float64, cross, level float64, check func(upTo float64, f *Forecast)) {
+	for upTo := 100.0; upTo < cross; upTo += cutoffStep() {
+		n := slices.IndexFunc(ts, func(s float64) bool { return s > upTo })
+		p, onset, _ := Prepare(ts[:n], cs[:n], nil)
+		check(upTo, Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}, {Name: "handle", Celsius: level, Handling: true}}, AnalyzeOptions{}))
 	}
 }
