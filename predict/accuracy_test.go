@@ -345,13 +345,7 @@ func TestAccuracyTable(t *testing.T) {
 	}
 	sc := accuracy(t)
 	t.Log(accuracyTable(sc))
-	for _, m := range []string{"engine", "engine+spec"} {
-		for _, fr := range fractions {
-			if s := sc[fmt.Sprintf("%s/%.2f/all", m, fr)]; s.open > 0 {
-				t.Logf("%s at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing, %d opening at the last reading", m, 100*fr, s.open, s.openLate, s.openVacuous)
-			}
-		}
-	}
+	checkOpenEnded(t, sc)
 	for _, c := range []struct {
 		key string
 		max float64
@@ -389,6 +383,24 @@ func TestAccuracyTable(t *testing.T) {
 		}
 		if cov := float64(covered) / float64(judged); cov < c.lo || cov > c.hi {
 			t.Errorf("%s: 90 %% interval coverage %.1f %% over %d forecasts, floor %.0f–%.0f %%", c.method, 100*cov, judged, 100*c.lo, 100*c.hi)
+		}
+	}
+}
+
+// checkOpenEnded logs the engine's open-ended answers at each fraction, with and
+// without the description, and fails on any whose early bound lies after the true
+// crossing: "not before" must never be late.
+func checkOpenEnded(t *testing.T, sc map[string]*score) {
+	t.Helper()
+	for _, m := range []string{"engine", "engine+spec"} {
+		for _, fr := range fractions {
+			s := sc[fmt.Sprintf("%s/%.2f/all", m, fr)]
+			if s.open > 0 {
+				t.Logf("%s at %.0f %%: %d open-ended answers, %d of them with the early bound after the true crossing, %d opening at the last reading", m, 100*fr, s.open, s.openLate, s.openVacuous)
+			}
+			if s.openLate > 0 {
+				t.Errorf("%s at %.0f %%: %d open-ended answers with the early bound after the true crossing", m, 100*fr, s.openLate)
+			}
 		}
 	}
 }

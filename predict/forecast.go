@@ -618,8 +618,16 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		// (notBefore), unless the closed one's is the last reading itself: "not
 		// before now" says nothing, and the profile's bound, taken over the settling
 		// temperatures the readings allow, stands on its own (the late end, which
-		// Due plans a handling target with, stays open either way).
-		nb := f.notBefore(out, u, false)
+		// Due plans a handling target with, stays open either way). The profile
+		// reaches to the room prior's far end (untrusted), as for every target a fit
+		// leaves open: a settling temperature whose own uncertainty holds the target
+		// is no firmer as an end than the fit is a model of the curve. Held only u
+		// beyond the fitted one, the bound came late in the dense benchmark (go test
+		// ./predict -run TestAccuracyDense -dense -v): run50, a sphere warming from
+		// −7 °C in a 23 °C room, described, at 50 % elapsed, fitted to settle at
+		// 22.08 ± 0.02 °C with the 22 °C target inside u = 0.10 K, got "not before
+		// 10,364 s" for a crossing at 10,155 s; now not before 6,879 s (speedFloor).
+		nb := f.notBefore(out, u, true)
 		vacuous := !out.Earliest.After(f.abs(last).Add(hold))
 		if nb.State == StatePredicted && (nb.Earliest.Before(out.Earliest) || vacuous) {
 			out.Earliest = nb.Earliest
@@ -648,10 +656,10 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 // toward the target (u: its interval, widened for correlated residuals, plus the
 // misfit) and, when untrusted, on to the room prior's far end roomPrior ∓
 // 2·roomPriorSD. predictedFrom passes untrusted for every target its fit left
-// insufficient: the fitted one is not credibly the end (a mismatched model, readings
-// not yet bent toward it, not a plausible room) or the target lies within its
-// uncertainty — in the last case the room's far end only loosens the bound (earlier),
-// the safe side. The earliest crossing is
+// insufficient or open-ended: the fitted one is not credibly the end (a mismatched
+// model, readings not yet bent toward it, not a plausible room) or the target lies
+// within its uncertainty — in the last case the room's far end only loosens the bound
+// (earlier), the safe side. The earliest crossing is
 // that of the lumped exponential refitted with its settling temperature held at the
 // far end (a profile over the settling temperature: the farther a settling
 // temperature lies beyond the target, the sooner the curve through the readings
@@ -696,7 +704,7 @@ func (f *forecaster) notBefore(out TargetForecast, u float64, untrusted bool) Ta
 	out.State = StatePredicted
 	out.Earliest = f.abs(lo).Add(out.Target.Hold)
 	out.Latest = time.Time{}
-	if untrusted {
+	if untrusted && out.At.IsZero() { // beside a central estimate the caller explains
 		f.noteNotBefore(out.Celsius, lo, far)
 	}
 	return out
