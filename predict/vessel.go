@@ -76,6 +76,9 @@ func fitAfterVessel(p LumpedProblem, lr *LumpedResult, lrErr error, whole *HResu
 	if k == 0 || n-k < minPointsWater {
 		return nil, LumpedProblem{}, ""
 	}
+	if !vesselMayWin(ref, n, k) {
+		return nil, LumpedProblem{}, ""
+	}
 	off := p.Times[k]
 	tail := LumpedProblem{Times: make([]float64, n-k), Celsius: p.Celsius[k:]}
 	for i, t := range p.Times[k:] {
@@ -105,6 +108,21 @@ func fitAfterVessel(p LumpedProblem, lr *LumpedResult, lrErr error, whole *HResu
 		note += " " + wet
 	}
 	return r, tail, note
+}
+
+// vesselMayWin reports whether a fit of the readings after the first k of n could
+// lower Akaike's criterion enough (fitAfterVessel) against ref, the fit of every
+// reading: at best it removes ref's smooth misfit and leaves the noise alone,
+// (n − k − 3)·σ² with σ² = RMSE² − misfit² (the noise ref's residuals show). A curve
+// the whole fit follows within its noise (a solid specimen in the water range) is
+// spared the later readings' seven fits: BenchmarkAnalyzeWarm2000 would cost about
+// twice the CPU without the check.
+func vesselMayWin(ref fitted, n, k int) bool {
+	rmse := ref.rmse()
+	_, misfit := ref.residuals()
+	noise2 := max(rmse*rmse-misfit*misfit, 1e-12)
+	best := float64(n-k-3) * noise2
+	return float64(n)*math.Log(max(float64(n)*rmse*rmse, 1e-300)/best)-2*float64(k) > vesselMargin
 }
 
 // fitTail fits the still-air h(T) laws of an unknown specimen to the readings tail,
