@@ -128,7 +128,13 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	} else if opt.Specimen == nil {
 		hr, airNote = fitFewWater(p, &lr, err)
 	}
-	if err != nil && hr == nil {
+	var vr *HResult // the fit after a vessel's transient, when it replaces the rest
+	var vtail LumpedProblem
+	var vnote string
+	if opt.Specimen == nil {
+		vr, vtail, vnote = fitAfterVessel(p, &lr, err, hr)
+	}
+	if err != nil && hr == nil && vr == nil {
 		f.Notes = append(f.Notes, fmt.Sprintf("No forecast yet: %v.", err))
 		var notes []string
 		f.Targets, notes = forecastTargets(nil, &p, start, targets, &opt.Interval)
@@ -137,7 +143,15 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	}
 	var m fitted = lumpedFitted{&lr}
 	keep := len(f.Notes)
-	if err != nil {
+	// The backtest sizing the interval refits the model to the readings it was
+	// fitted to: after a vessel's transient, those from its end on.
+	backP, backM := p, fitted(nil)
+	if vr != nil {
+		m, backP, backM = hFitted{vr}, vtail, hFitted{vr.unshifted()}
+		f.Notes = append(f.Notes, "Model: lumped with h(T) from the readings after the vessel's first minutes.")
+		describeH(f, vr, start, nil)
+		f.Notes = append(f.Notes, vnote)
+	} else if err != nil {
 		f.Notes = append(f.Notes, fmt.Sprintf(
 			"Model: lumped with h(T) from natural convection and radiation; the exponential alone is not resolved yet (%v).", err))
 		m = hFitted{hr}
@@ -155,8 +169,11 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	}
 	noteResiduals(f, m, opt.Interval)
 	is := opt.Interval
+	if backM == nil {
+		backM = m
+	}
 	if len(targets) > 0 {
-		is = intervalFor(f, p, m, freeOf(m), opt)
+		is = intervalFor(f, backP, backM, freeOf(m), opt)
 	}
 	var notes []string
 	f.Targets, notes = forecastTargets(m, &p, start, targets, &is)

@@ -306,9 +306,12 @@ func fitFewWater(p LumpedProblem, lr *LumpedResult, lumpedErr error) (*HResult, 
 // law's bend and the room prior put the settling temperature at the room's, and the
 // limit would get a time that never comes (TestGuessedWaterHandling). Only the
 // readings crossing the limit make it reached. A specimen described is not guessed.
+// The same holds for a fit that left out a vessel's first minutes (fitAfterVessel,
+// HResult.offset), with either law: leaving them out is itself the guess that the
+// specimen is hot water in a vessel.
 func guessedWaterHandling(tfs []TargetForecast, m fitted, sp *Specimen) string {
 	h, ok := m.(hFitted)
-	if !ok || sp != nil || h.r.Law.OpenWater == 0 {
+	if !ok || sp != nil || h.r.Law.OpenWater == 0 && h.r.offset == 0 {
 		return ""
 	}
 	changed := false
@@ -321,5 +324,9 @@ func guessedWaterHandling(tfs []TargetForecast, m fitted, sp *Specimen) string {
 	if !changed {
 		return ""
 	}
-	return "Handling limits: \"not before\" only, with no time to plan with, while the specimen is only guessed to be open water: a solid specimen settling toward a warm surrounding above the limit bends the same way at first. Describe the specimen, or measure the ambient, for a handling time."
+	what := "to be open water: a solid specimen settling toward a warm surrounding above the limit bends the same way at first"
+	if h.r.offset > 0 {
+		what = "to be hot water in a vessel whose wall took up heat in the first minutes, which the fit leaves out: a solid specimen's first minutes are part of its cooling"
+	}
+	return "Handling limits: \"not before\" only, with no time to plan with, while the specimen is only guessed " + what + ". Describe the specimen, or measure the ambient, for a handling time."
 }

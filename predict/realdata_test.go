@@ -77,6 +77,57 @@ func parseReal(t *testing.T, file string, line int, s string) float64 {
 
 // oilFilmSegments reads mug-water-oil-film.csv: one segment per data set; sets 1–2
 // are in minutes, 3–4 in seconds (the file's README section).
+//
+// The mugs, measured (issue 12; a throwaway diagnostic printed the engine's law,
+// settling temperature and answer at every cutoff; "miss" is the central estimate's
+// error over the remaining time, "late"/"early" its side):
+//
+//   - The two oil-film mugs are not one body at first. CoolingWater2 (Wagon; 56
+//     readings 4 minutes apart, 91.2 → 45.0 °C over 220 minutes) drops 2.2 K in its
+//     first step, 1.7 K in the next and then 1.4 K a step: the mug's wall taking up
+//     heat from the water. From 5 minutes on, convection and radiation alone fit the
+//     whole curve with 0.04 K rms, settling at 22 °C. CoolingWater4 (Portmann & Wagon;
+//     60 readings a minute apart, 86.7 → 42.9 °C over 59 minutes) bends the other way:
+//     its speed rises over the first 4 minutes (0.77 → 1.1 K/min) and then holds, as
+//     a wall warmer than the water (or a probe settling) would make it.
+//   - Before (main 247ba01), CoolingWater2: the first steps' bend was read as
+//     evaporation. 68.1 °C at 25 % (5 readings): open water over 80 % of the surface
+//     settling at 22.0 °C, 7.9 % late with "not before now"; at 50 %: the same law,
+//     18.7 % late. 56.5 °C at 10 % (4 readings): insufficient (too few readings for the
+//     exponential, the dry law within reach of them); at 25 %: open water 80 %, 36.8 %
+//     late; at 50 %: open water 10 %, 11.5 % late. 49.6 °C at 10 %: open water 80 %,
+//     36.7 % late, "not before now"; at 25 %: 40 %, 37.4 % late; at 50 %: the dry law
+//     settling at 29.4 °C (just under the open-water trigger), 11.4 % late.
+//     CoolingWater4: 64.8 °C at 25 % and 53.8 °C at 10 % and 25 %: no answer or "not
+//     before" alone (the exponential finds no decay in readings that speed up, and 12
+//     readings are needed for h(T)); 53.8 °C at 50 %: dry law at 18.4 °C, 11.7 % late;
+//     47.3 °C at 25 %: 21.1 °C, 19.2 % late; at 50 %: the exponential settling at
+//     −21 °C, 24.9 % early, its closed interval ending before the truth.
+//   - Kept: fitAfterVessel (vessel.go). For an unknown specimen taken for hot water,
+//     the readings from 5 minutes on are fitted alone (dry or open-water law, as they
+//     choose) and replace the fit of every reading when Akaike's criterion says so with
+//     the readings left out counted as parameters. CoolingWater2 from 25 % on: the dry
+//     law after 481 s, settling at 21.9–25.0 °C, misses of 0.2 / 3.6 % at 25 % and 0.8 /
+//     0.5 / 0.1 % at 50 %, all closed intervals holding the truth. CoolingWater4 47.3 °C:
+//     5.9 % late at 25 % and 9.9 % early at 50 % (settling at 18.3 and 6.5 °C), closed
+//     intervals holding the truth. Median at 25 / 50 % elapsed 36.8 / 11.7 → 5.9 /
+//     0.8 %, coverage 67 / 83 → 67 / 100 %.
+//   - Left: at 10 % CoolingWater2 has 2–3 readings after 5 minutes (4-minute steps),
+//     fewer than the 4 the water guess needs, and CoolingWater4's 4–5 readings are all
+//     its speeding-up start, which no cooling law fits (the linear trend's 1.5 and 16 %
+//     there are that straight start carried on): still no median. 68.1 °C at 25 % keeps
+//     its open-water answer (3 readings after 5 minutes). CoolingWater4 64.8 °C at 25 and
+//     50 % and 53.8 °C at 25 % have no fit of every reading to weigh the later readings'
+//     against, so no transient is shown; 53.8 °C at 50 %: after 5 minutes the dry law
+//     settles at 0.7 °C, outside the room prior's 22 ± 16 °C, so the whole fit stands.
+//   - The open mugs (no film) gain too, taken as open water after the transient: the
+//     mosaicData mug 60.3 °C at 50 % 5.4 → 0.6 %, 43.1 °C at 25 / 50 % 20.9 / 6.9 →
+//     9.8 / 2.6 %, 32.7 °C at 10 / 25 / 50 % 79 / 20.0 / 7.3 → 13.9 / 11.0 / 4.3 %;
+//     CoolingWater1 43.8 °C at 50 % 11.4 → 6.8 %, 32.9 °C at 25 % 29.3 → 16.4 % (at
+//     50 % it was 16.6 % instead of 13.8 % until vesselMayWin spared curves the whole
+//     fit follows within their noise); CoolingWater3 52.4 °C at 50 % 11.8 → 1.2 %
+//     (a closed interval became "not before" 821 s, truth 1059 s), 43.5 °C at 25 / 50 %
+//     31.0 / 17.9 → 29.8 / 5.2 %. Median at 25 / 50 % 20.0 / 7.3 → 11.0 / 2.6 %.
 func oilFilmSegments(t *testing.T) []realSegment {
 	t.Helper()
 	const name = "mug-water-oil-film.csv"
@@ -403,7 +454,8 @@ func TestAccuracyReal(t *testing.T) {
 
 // realFloors holds the engine to what it reaches on the measured curves today (the
 // floors, not the issue's goals): on the cell rests (measured chamber ambient), the
-// oil-film mugs (water without evaporation) and the open mugs (water evaporating),
+// oil-film mugs (water without evaporation, at 25 and 50 % elapsed) and the open mugs
+// (water evaporating),
 // a median relative error no worse than
 // the linear trend's or the free exponential's, and below the figures measured when
 // the floors were set; no
@@ -417,15 +469,22 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac   float64
 		max    float64
 	}{
-		{"18650 cell", 0.25, 0.18},    // 15.3 % measured (21.6 % before smoothAmbient took the first span's mean)
-		{"18650 cell", 0.50, 0.14},    // 11.7 % (18.3 %; the free exponential 17.5 %)
-		{"mug, oil film", 0.50, 0.15}, // 11.7 % (12.9 % before the open-water law)
-		// The mugs of water with an open surface (evaporation.go): 11.6 / 20.0 / 7.3 %
-		// measured (no point at 10 and 25 %, 42 % where answered at 50 %, before it;
-		// the linear trend 73.7 / 62.4 / 42.9 %).
+		{"18650 cell", 0.25, 0.18}, // 15.3 % measured (21.6 % before smoothAmbient took the first span's mean)
+		{"18650 cell", 0.50, 0.14}, // 11.7 % (18.3 %; the free exponential 17.5 %)
+		// The oil-film mugs (no evaporation; the diagnosis beside oilFilmSegments):
+		// 5.9 / 0.8 % at 25 / 50 % measured since fitAfterVessel left out the mug's
+		// first minutes (36.8 / 11.7 % before it, 12.9 % at 50 % before the open-water
+		// law; the linear trend 20.2 / 17.4 %). At 10 % still no median (linear 16.0 %):
+		// the readings after the first minutes are too few there.
+		{"mug, oil film", 0.25, 0.10},
+		{"mug, oil film", 0.50, 0.05},
+		// The mugs of water with an open surface (evaporation.go): 11.6 / 11.0 / 2.6 %
+		// measured (11.6 / 20.0 / 7.3 % before fitAfterVessel; no point at 10 and 25 %,
+		// 42 % where answered at 50 %, before the open-water law; the linear trend
+		// 73.7 / 62.4 / 42.9 %).
 		{"mug", 0.10, 0.15},
-		{"mug", 0.25, 0.25},
-		{"mug", 0.50, 0.10},
+		{"mug", 0.25, 0.15},
+		{"mug", 0.50, 0.05},
 	} {
 		key := fmt.Sprintf("engine/%.2f/%s", c.frac, c.family)
 		if m := med(key); m > c.max {
@@ -457,14 +516,15 @@ func realFloors(t *testing.T, sc map[string]*score) {
 	// the gain open-ended); the heater board's power steps, 9 of 18 at 25 % and 11 of
 	// 18 at 50 %, all by "not before" alone (none before peakBound: the direction rules
 	// leave them insufficient, and the readings do not slow quarter by quarter for
-	// speedFloor). At 50 %, 13 of 15 on the mugs (11 before the readings' own speed
-	// raised "not before now" answers: speedFloor).
+	// speedFloor). At 50 %, 14 of 15 on the mugs (13 before fitAfterVessel's closed
+	// interval held CoolingWater4 at 47.3 °C; 11 before the readings' own speed raised
+	// "not before now" answers: speedFloor).
 	for _, c := range []struct {
 		families []string
 		frac     float64
 		min      float64
 	}{
-		{[]string{"all"}, 0.25, 0.65}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.80},
+		{[]string{"all"}, 0.25, 0.65}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
 		{[]string{"heater board"}, 0.25, 0.45}, {[]string{"heater board"}, 0.50, 0.55},
 	} {
 		var covered, judged int

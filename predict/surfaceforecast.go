@@ -10,8 +10,8 @@ func (h hFitted) side() float64                    { return h.r.table.side }
 func (h hFitted) residuals() (rho, misfit float64) { return h.r.Rho, h.r.Misfit }
 func (h hFitted) value(t float64) float64          { return h.r.Value(t) }
 
-// crossing is t* = (Φ(w0) − Φ(ln|θL|))/q with the delta-method variance in
-// (w0, q, T∞). The ambient derivative is (Φa(w0) − Φa(wL))/q at a fixed excess θL
+// crossing is r.offset + t*, t* = (Φ(w0) − Φ(ln|θL|))/q from the fit's own origin,
+// with the delta-method variance in (w0, q, T∞). The ambient derivative is (Φa(w0) − Φa(wL))/q at a fixed excess θL
 // (a "within" target: a band around the ambient), plus Φ′(wL)/(q·θL) for a fixed
 // level, whose excess θL = level − T∞ shrinks as the ambient rises.
 func (h hFitted) crossing(level float64, within bool) (t, variance, rate float64, ok bool) {
@@ -41,7 +41,7 @@ func (h hFitted) crossing(level float64, within bool) (t, variance, rate float64
 		}
 	}
 	rate = r.Law.H(level, r.Ambient) * math.Abs(thetaL) * r.q
-	return t, variance, rate, true
+	return t + r.offset, variance, rate, true
 }
 
 func (h hFitted) ambientErr() float64 { return h.r.AmbientErr }

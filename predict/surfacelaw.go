@@ -502,6 +502,10 @@ type HResult struct {
 	// before converging (retryFromPrior).
 	objective, priorW2 float64
 	capped             bool
+	// offset is the time, s from the segment start, of the first reading the fit
+	// used, where its own time origin lies: 0 but for a fit that left out a vessel's
+	// transient (fitAfterVessel). Value and the crossings are in segment time.
+	offset float64
 	// hint is the table cell of the latest Value, where the next one usually lies
 	// (callers walk a curve in time); read and written atomically, since Value may
 	// run on several goroutines, and only a starting guess for invert.
@@ -511,7 +515,7 @@ type HResult struct {
 // Value evaluates the fitted curve at t seconds from the segment start.
 func (r *HResult) Value(t float64) float64 {
 	hint := int(atomic.LoadInt32(&r.hint))
-	_, _, ew, _, _ := r.table.solve(r.phi0-r.q*t, &hint)
+	_, _, ew, _, _ := r.table.solve(r.phi0-r.q*(t-r.offset), &hint)
 	atomic.StoreInt32(&r.hint, int32(hint))
 	return r.Ambient + r.table.side*ew
 }

@@ -176,7 +176,9 @@ func TestTrackerThinning(t *testing.T) {
 // the bend (evaporation.go), and the note says so and asks what the specimen is. Its
 // interval must hold the measured crossing (the readings reach 40 °C at 80 minutes,
 // mug-water-cooling.csv row 81) and open after the last reading. Before the open-water
-// law, the dry fit's mismatch was flagged and the interval was wide instead.
+// law, the dry fit's mismatch was flagged and the interval was wide instead. Since
+// fitAfterVessel the open-water law is fitted to the readings after the mug's first
+// 5 minutes (its wall's uptake), and the note says that too.
 func TestTrackerMugMisfit(t *testing.T) {
 	minutes, temp := readMug(t)
 	lr, err := FitLumped(LumpedProblem{Times: minutes, Celsius: temp}, nil)
