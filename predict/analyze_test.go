@@ -133,13 +133,19 @@ func TestAnalyzeRobustToFaults(t *testing.T) {
 }
 
 // A slowly drifting measured ambient (+1 K/h) is followed, not fitted as curvature.
+// The readings are the lumped body's exact response, dT/dt = −(T − Ta(t))/τ with
+// Ta = 20 °C + r·t: T = Ta(t) − r·τ + (θ0 + r·τ)·exp(−t/τ) (a first-order system's
+// ramp response, worked out here): the body lags the ramp by r·τ, 0.17 K at the end.
+// Until issue 12 the curve here was Ta(t) + θ0·exp(−t/τ), the air followed at once,
+// which is what the engine then assumed (lagAmbient).
 func TestAnalyzeDriftingAmbient(t *testing.T) {
 	rng := rand.New(rand.NewPCG(39, 40))
 	p := LumpedProblem{}
+	const tau, r = 600.0, 1.0 / 3600
 	for s := 0.0; s <= 1800; s += 5 {
-		amb := 20 + s/3600
+		amb := 20 + r*s
 		p.Times = append(p.Times, s)
-		p.Celsius = append(p.Celsius, amb+150*math.Exp(-s/600))
+		p.Celsius = append(p.Celsius, amb-r*tau+(150+r*tau)*math.Exp(-s/tau))
 		p.Ambient = append(p.Ambient, amb)
 	}
 	p.Celsius = noisy(rng, p.Celsius, 0.05)

@@ -177,6 +177,60 @@ func rumfordSegment(t *testing.T) realSegment {
 
 // Cell rests: readings with |current| below cellRestA for at least cellRestRows rows
 // make one cool-down, read every cellStride-th reading (a 4 s logger).
+//
+// The eight rests, measured (issue 12; a throwaway diagnostic printed every forecast's
+// model, fitted parameters and interval at 10, 25 and 50 % elapsed beside the fits to
+// the whole rest, and the logged rows around each rest):
+//
+//   - Shape: each rest follows 361 s of discharge (about 3 A on average) that warms the
+//     cell 1.5–3 K from inside. In rests 1–4 the surface sensor still rises 0.02–0.04 K
+//     for 30–60 s after the current stops, and its speed then grows for some minutes
+//     (rest 3: 0.035 K/min over the first 2.5 min, 0.04 K/min from 5 to 15 min, where
+//     one exponential of the rest's 32 min would start at 0.06 and slow): the core,
+//     heated more than the surface, still feeds it. From memory, a wound cell's radial
+//     conductivity of about 0.2 W/m·K, ρc ≈ 2.8 MJ/m³·K, r = 9 mm and h ≈ 6–7 W/m²·K
+//     (what the rests' τ of about 28 min gives) make Bi = h·r/k ≈ 0.3 — not lumped —
+//     with the second radial mode gone in about a minute; the slow start lasts longer
+//     than that.
+//   - Settling offset: over each rest's last 20 minutes the cell reads 0.45, 0.28,
+//     0.20, 0.17, 0.11, 0.32, 0.41 and 0.43 K above the chamber's logged temperature
+//     (rests 1–8), some still falling by up to 0.06 K per 15 minutes. Not the chamber's
+//     lag: lagging the chamber's log by 5 to 40 minutes moves these by at most 0.06 K.
+//     Not a fixed sensor offset either: it follows the chamber's mean (0.11–0.17 K
+//     where that reads 19.76–19.79 °C, 0.32–0.45 K at 19.95–20.02 °C), so the settled
+//     cell wanders 19.90–20.45 °C while the chamber's sensor wanders 19.76–20.02 °C,
+//     and within one rest it changed by up to 0.18 K (rest 6: 0.14 K before its
+//     discharge, 0.32 at its end). The air or walls the cell sees are not what the
+//     chamber's sensor reads. The 90 % targets lie 0.3–0.7 K above the chamber's
+//     reading, the offset 40–75 % of that.
+//   - Misses at 50 % elapsed (7 of 24 with lagAmbient, 8 before): six are forecasts too
+//     early whose late end came before the truth, all where the offset is 0.3 K or
+//     more: rest 1 at its 75 and 90 % targets (−18 and −42 % of the time left, late
+//     ends −7 and −31 %; h(T), τ 30 and 34 min), rest 6 at 75 and 90 % (−16, −29 %;
+//     h(T), τ 23–25 min; its offset grew during the rest), rest 7 at 90 % (−33 %;
+//     lumped, τ 26 min), rest 8 at 90 % (−23 %; h(T), τ 28 min). Both models settle at
+//     the chamber's reading (lagged) and take it as exact. The seventh is the slow
+//     start: rest 3's target at 50 % forecast 51 % late, its early end 10 % after the
+//     truth (lumped, τ 44 min against 31 over the whole rest). lagAmbient brought in
+//     rest 2 at 90 % (late end −5 → +2 %) and rest 8 at 75 % (−1 → +3 %) and lost rest
+//     6 at 75 % (+3 → −5 %).
+//   - Errors at 25 % elapsed (median 14.3 %; 15.3 % before lagAmbient): the 50 %
+//     targets, crossed 12–23 minutes in, come late where the slow start lengthens the
+//     early fit's τ (rest 2: 48 min, +87 %; rest 3: 44–48 min, +53 to +58 % on all
+//     three of its targets), and the 90 % targets early where the offset is large (rest
+//     1 −33 %, rest 6 −30 %, rest 7 −23 %, rest 8 −19 %; rests 1, 6 and 8 are the three
+//     misses at 25 %). At 10 % (19–90 readings, the first 1.3–6 minutes) the fits see
+//     the slow start alone: τ from 20 to 73 minutes.
+//   - Tried and not kept: fitting from the readings' second quarter when the first is
+//     slower than the second beyond the noise (the slow start; speedFloor's own test):
+//     cells at 25 % 14.3 → 12.1 % but coverage 88 → 83 % and width 1.28 → 0.64, at 50 %
+//     coverage 71 → 67 %; the thick specimens described 9.1 → 13.0 % at 25 % (coverage
+//     79 → 64 %) and the heater board under its floor. Dropping a fixed first 60 s of
+//     each rest (no rule, an upper figure) gave 10.1 % at 25 %. Forecasting toward the
+//     air's last value instead of the lagged one (lagAmbient's doc): 15.1 / 11.2 % at
+//     25 / 50 %. The fitted offset under a prior (trial/ambient-offset, README) was not
+//     repeated: an offset that moves by 0.18 K within a rest is not a constant to fit
+//     from its first half, nor one to learn from the settled readings before it.
 const (
 	cellRestA    = 0.05
 	cellRestRows = 1800
@@ -469,8 +523,8 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac   float64
 		max    float64
 	}{
-		{"18650 cell", 0.25, 0.18}, // 15.3 % measured (21.6 % before smoothAmbient took the first span's mean)
-		{"18650 cell", 0.50, 0.14}, // 11.7 % (18.3 %; the free exponential 17.5 %)
+		{"18650 cell", 0.25, 0.16}, // 14.3 % measured (15.3 % before lagAmbient, 21.6 % before smoothAmbient took the first span's mean)
+		{"18650 cell", 0.50, 0.12}, // 10.1 % (11.7 %, 18.3 %; the free exponential 17.5 %)
 		// The oil-film mugs (no evaporation; the diagnosis beside oilFilmSegments):
 		// 5.9 / 0.8 % at 25 / 50 % measured since fitAfterVessel left out the mug's
 		// first minutes (36.8 / 11.7 % before it, 12.9 % at 50 % before the open-water
@@ -526,6 +580,8 @@ func realFloors(t *testing.T, sc map[string]*score) {
 	}{
 		{[]string{"all"}, 0.25, 0.65}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
 		{[]string{"heater board"}, 0.25, 0.45}, {[]string{"heater board"}, 0.50, 0.55},
+		// The cell rests at 50 %: 17 of 24 (16 before lagAmbient; see cellSegments).
+		{[]string{"18650 cell"}, 0.50, 0.65},
 	} {
 		var covered, judged int
 		for _, fam := range c.families {
@@ -541,7 +597,7 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		s := sc[fmt.Sprintf("engine/%.2f/18650 cell", fr)]
 		covered, judged = covered+s.covered, judged+s.judged
 	}
-	if c := float64(covered) / float64(judged); c < 0.70 {
-		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 70 %% (85 %% measured)", 100*c, judged)
+	if c := float64(covered) / float64(judged); c < 0.80 {
+		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 80 %% (86 %% measured; 85 %% before lagAmbient)", 100*c, judged)
 	}
 }
