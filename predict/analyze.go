@@ -25,7 +25,8 @@ type AnalyzeOptions struct {
 	// Interval tunes the forecast intervals.
 	Interval IntervalSettings
 
-	chamber bool // the ambient is the specimen's chamber set temperature
+	chamber   bool // the ambient is the specimen's chamber set temperature
+	enclosure bool // the ambient is an enclosure's, fitted with no room prior
 }
 
 // minPointsH is the fewest readings for which the h(T) model is tried.
@@ -58,6 +59,9 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		opt.chamber = true
 	}
 	p.Ambient = smoothAmbient(p.Times, p.Ambient)
+	if f := enclosureForecast(p, start, targets, opt); f != nil {
+		return f
+	}
 	f, m := analyze(p, start, targets, opt)
 	if m == nil || !mismatched(m, f.RMSE) {
 		return f

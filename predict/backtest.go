@@ -273,7 +273,7 @@ func refit(head LumpedProblem, m fitted, opt AnalyzeOptions) fitted {
 			return nil
 		}
 		hp := HProblem{Times: head.Times, Celsius: head.Celsius, Ambient: head.Ambient, Law: h.r.Law}
-		if head.Ambient == nil {
+		if head.Ambient == nil && !opt.enclosure {
 			hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
 		}
 		r, err := fitH(hp, start)
