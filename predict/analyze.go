@@ -25,7 +25,8 @@ type AnalyzeOptions struct {
 	// Interval tunes the forecast intervals.
 	Interval IntervalSettings
 
-	chamber bool // the ambient is the specimen's chamber set temperature
+	chamber   bool // the ambient is the specimen's chamber set temperature
+	enclosure bool // the ambient is an enclosure's, fitted with no room prior
 }
 
 // minPointsH is the fewest readings for which the h(T) model is tried.
@@ -62,6 +63,9 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	p.Ambient = smoothAmbient(p.Times, p.Ambient)
 	if p.Ambient != nil && !opt.chamber {
 		p.Ambient = lagAmbient(p, &opt.Fit)
+	}
+	if f := enclosureForecast(p, start, targets, opt); f != nil {
+		return f
 	}
 	f, m := analyze(p, start, targets, opt)
 	if m == nil || !mismatched(m, f.RMSE) {
@@ -532,8 +536,9 @@ const airMargin = 10.0
 
 // chooseAir keeps the still-air or the moving-air h(T) fit (either may be nil) with a
 // note saying which and why: moving air when the specimen says so, or when its
-// Akaike information criterion is lower by more than 2 (still air, the common case on
-// a rack, is kept on a tie).
+// Akaike information criterion (with the room prior's term for a fitted ambient) is
+// lower by more than airMargin (still air, the common case on a rack, is kept on a
+// tie).
 func chooseAir(still, moving *HResult, sp *Specimen) (*HResult, string) {
 	switch {
 	case still == nil && moving == nil:
@@ -555,6 +560,13 @@ func chooseAir(still, moving *HResult, sp *Specimen) (*HResult, string) {
 	rho := max(still.Rho, moving.Rho, 0)
 	nEff := max(int(float64(still.N)*(1-rho)/(1+rho)), 1)
 	as, am := aic(nEff, still.Free, still.RMSE), aic(nEff, moving.Free, moving.RMSE)
+	if still.Free == 3 && moving.Free == 3 {
+		// A fitted ambient leans on the room prior (fitHBest): the criterion carries its
+		// term too (−2 ln of the prior's density, up to a constant), so that of two laws
+		// that fit alike the one settling toward a plausible room wins.
+		as += math.Pow((still.Ambient-roomPrior)/roomPriorSD, 2)
+		am += math.Pow((moving.Ambient-roomPrior)/roomPriorSD, 2)
+	}
 	if am < as-airMargin {
 		return moving, fmt.Sprintf(
 			"Air: moving — constant convection (shape of about %.0f W/(m²·K)) plus radiation fits better than natural convection (AIC lower by %.1f; rms %.3g vs %.3g K): a fan, a draught or an oven's circulation? Set the specimen's convection to say so.",

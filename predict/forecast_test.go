@@ -229,34 +229,49 @@ func TestInflation(t *testing.T) {
 }
 
 // TestDirectionUnknownSaysWhy: with no measured ambient a curve whose direction is not
-// known gets no forecast time — no central estimate, no late end; the oven warm-up,
-// still moving away from the room and slowing steadily, gets at most "not before" a
-// time after its last reading (speedBound) — and the note says why in the terms of the
-// case: a specimen
-// warming in an unmeasured oven (still at its extreme, far from the room) is told to
-// give the oven's set point, not that its readings lie near the room. Our own invented
-// curves: an oven at 180 °C with τ = 600 s seen for 5 minutes, and one near a 22 °C room.
+// known gets no forecast time — no central estimate, no late end; an oven warm-up
+// seen for its first minute, still moving away from the room with its level not yet
+// in the readings, gets at most "not before" a time after its last reading
+// (speedBound) — and the note says why in the terms of the case: a specimen warming
+// in an unmeasured oven (still at its extreme, far from the room) is told to give the
+// oven's set point, not that its readings lie near the room. Seen for 15 minutes
+// (1.5 τ; at 5 and 10 minutes the level is not yet resolved well enough, at 20–30
+// minutes it is, as at 15), the same warm-up has bent toward its level and is
+// forecast from it (enclosureForecast):
+// a central estimate within 2 % of the remaining time of the true crossing
+// (600·ln(159/5) s = 2,075 s), inside its interval. Our own invented curves: an oven
+// at 180 °C with τ = 600 s read every 2 s with 0.1 °C of noise, and one near a 22 °C
+// room.
 func TestDirectionUnknownSaysWhy(t *testing.T) {
 	for _, c := range []struct {
 		name          string
 		from, to, tgt float64
+		upTo          float64
 		want          string
 	}{
-		{"oven warm-up", 21, 180, 175, "for an oven give the specimen convection: chamber with chamber_c"},
-		{"near the room", 24, 22.5, 23, "The readings lie within a few degrees of an unmeasured room"},
+		{"oven warm-up, first minute", 21, 180, 175, 60, "for an oven give the specimen convection: chamber with chamber_c"},
+		{"oven warm-up, bent", 21, 180, 175, 900, "have bent toward a level: taken as the temperature of an oven"},
+		{"near the room", 24, 22.5, 23, 300, "The readings lie within a few degrees of an unmeasured room"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(61, 62))
 			var ts, cs []float64
-			for s := 0.0; s <= 300; s += 2 {
+			for s := 0.0; s <= c.upTo; s += 2 {
 				ts = append(ts, s)
-				cs = append(cs, c.to+(c.from-c.to)*math.Exp(-s/600))
+				cs = append(cs, c.to+(c.from-c.to)*math.Exp(-s/600)+0.1*rng.NormFloat64())
 			}
 			p, onset, _ := Prepare(ts, cs, nil)
 			f := Analyze(p, time.Unix(0, 0).Add(seconds(onset)), []Target{{Name: "t", Celsius: c.tgt}}, AnalyzeOptions{})
 			tf := f.Targets[0]
 			last := time.Unix(0, 0).Add(seconds(onset + p.Times[len(p.Times)-1]))
 			notBefore := tf.State == StatePredicted && tf.At.IsZero() && tf.Latest.IsZero() && tf.Earliest.After(last)
-			if tf.State != StateInsufficient && !notBefore {
+			if strings.HasSuffix(c.name, "bent") {
+				truth := time.Unix(0, 0).Add(seconds(600 * math.Log((c.to-c.from)/(c.to-c.tgt))))
+				if tf.State != StatePredicted || tf.At.IsZero() || tf.Latest.IsZero() ||
+					math.Abs(tf.At.Sub(truth).Seconds()) > 0.02*truth.Sub(last).Seconds() || tf.Earliest.After(truth) || tf.Latest.Before(truth) {
+					t.Errorf("%s at %v [%v, %v], want a central estimate within 2 %% of the remaining time of %v, inside its interval", tf.State, tf.At, tf.Earliest, tf.Latest, truth)
+				}
+			} else if tf.State != StateInsufficient && !notBefore {
 				t.Errorf("%s at %v [%v, %v], want insufficient or only not-before a time after %v", tf.State, tf.At, tf.Earliest, tf.Latest, last)
 			}
 			if !slices.ContainsFunc(f.Notes, func(n string) bool { return strings.Contains(n, c.want) }) {
@@ -286,7 +301,14 @@ func lumpedWarmUp(rng *rand.Rand, air func(float64) float64, t0c, tau, dt, end, 
 // TestSpeedBoundNeverLate: with no ambient measured, a "not before" bound is never
 // after the true crossing — swept over cutoffs every 40 s. Specimens warming in an
 // oven whose air is not measured get "not before" a time for a target ahead of the
-// readings (never a central estimate, never a late end, never for a handling target),
+// readings (never for a handling target) until the readings have bent toward a level
+// they resolve; from then on a central estimate and a closed interval
+// (enclosureForecast), which must hold the crossing at 85 % of the cutoffs or more
+// where the air stays as it is until the crossing (measured: 27 of 28 with the
+// whole-degree logger — the last cutoff, 35 s before the crossing, misses it by 1 s —,
+// 6 of 6 a reading a minute; with the door, closed intervals come only before it
+// opens, not judged: 16 of 19 hold the crossing the door delays, the 3 just before
+// it do not, which no forecast from the readings can see; none after it),
 // through a door opened for two minutes (the air drops by 60 K; the recovery after it
 // is the fastest the readings ever move again) and through an oven still ramping to its
 // set point when the specimen went in. A hot specimen cooling in a room, with a door
@@ -347,14 +369,20 @@ func TestSpeedBoundNeverLate(t *testing.T) {
 			side := sign(c.from - c.target)
 			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return side*(v-c.target) <= 0 })]
 			step := cutoffStep()
-			open := 0
+			open, closed, closedCovered := 0, 0, 0
 			sweepCutoffs(ts, cs, cross, c.target, func(upTo float64, f *Forecast) {
 				if h := f.Targets[1]; side < 0 && h.State != StateInsufficient {
 					t.Fatalf("%.0f s: handling target %s on a warming specimen", upTo, h.State)
 				}
 				tf := f.Targets[0]
-				if side < 0 && tf.State != StateInsufficient && (tf.State != StatePredicted || !tf.At.IsZero() || !tf.Latest.IsZero()) {
-					t.Fatalf("%.0f s: %s at %v [%v, %v]; want insufficient or only a not-before", upTo, tf.State, tf.At, tf.Earliest, tf.Latest)
+				if side < 0 && tf.State != StateInsufficient && tf.State != StatePredicted {
+					t.Fatalf("%.0f s: %s at %v; want insufficient or predicted", upTo, tf.State, tf.At)
+				}
+				if side < 0 && tf.State == StatePredicted && !tf.Latest.IsZero() && steadyAir(c.air, upTo, cross) {
+					closed++
+					if lo, hi := tf.Earliest.Sub(t0).Seconds(), tf.Latest.Sub(t0).Seconds(); lo <= cross && cross <= hi {
+						closedCovered++
+					}
 				}
 				for _, tf := range f.Targets {
 					if tf.State != StatePredicted || !tf.Latest.IsZero() {
@@ -375,9 +403,24 @@ func TestSpeedBoundNeverLate(t *testing.T) {
 			if open < want {
 				t.Errorf("only %d of the cutoffs got a not-before: the rules no longer apply here", open)
 			}
-			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", open, cross)
+			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s; %d of %d closed intervals with the air steady to the crossing hold it", open, cross, closedCovered, closed)
+			if closed > 0 && float64(closedCovered) < 0.85*float64(closed) {
+				t.Errorf("closed intervals hold the crossing at %d of %d cutoffs, floor 85 %%", closedCovered, closed)
+			}
 		})
 	}
+}
+
+// steadyAir reports whether air stays as it is at from through to: a forecast assumes
+// the surroundings stay as they are, so a closed interval before a door opens is not
+// judged on the crossing the door delays.
+func steadyAir(air func(float64) float64, from, to float64) bool {
+	for s := from; s <= to; s += 5 {
+		if air(s) != air(from) {
+			return false
+		}
+	}
+	return true
 }
 
 // TestSpeedFloorFromTheLine: the speed bound measures the way left from the last

@@ -273,7 +273,10 @@ const (
 // the same readings, ambient and prior, so they share their models, like's when like
 // is not nil) from the lumped fit start, advancing the fits an iteration at a time and
 // dropping those that clearly lose (pruneFactor). It returns the successful fit with
-// the lowest residual, or nil when none succeeds, and how many laws it dropped.
+// the lowest objective (the sum of squares and, with a fitted ambient, the room
+// prior's term, which the laws share: of laws that fit alike, the one settling toward
+// a plausible room; by residual alone a fan-cooled specimen's readings took a still-air
+// law toward 1–10 °C), or nil when none succeeds, and how many laws it dropped.
 func fitHRace(ps []HProblem, start *LumpedResult, like *hFit) (best *HResult, dropped int) {
 	fits := make([]*hFit, len(ps))
 	for i, p := range ps {
@@ -304,7 +307,7 @@ func fitHRace(ps []HProblem, start *LumpedResult, like *hFit) (best *HResult, dr
 		}
 	}
 	for _, f := range fits {
-		if r, err := f.result(); err == nil && (best == nil || r.RMSE < best.RMSE) {
+		if r, err := f.result(); err == nil && (best == nil || r.objective < best.objective) {
 			best = &r
 		}
 	}

@@ -258,7 +258,8 @@ func TestNormalInverseMatchesGonum(t *testing.T) {
 }
 
 // fitHRace must return exactly the fit that fitting every law to convergence and
-// keeping the lowest residual returns (the dropped laws would not have won), on the
+// keeping the lowest objective (sum of squares and the room prior's term) returns
+// (the dropped laws would not have won), on the
 // independent benchmark's curves (testdata/bench, every case at 25, 50 and 100 % of
 // the time to its crossing) with the unknown specimen's still- and moving-air laws,
 // and on the steel bar with its ambient fitted and measured; and it must drop some.
@@ -304,7 +305,7 @@ func TestFitHRaceMatchesAll(t *testing.T) {
 					hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
 				}
 				hps = append(hps, hp)
-				if r, err := fitH(hp, start); err == nil && (want == nil || r.RMSE < want.RMSE) {
+				if r, err := fitH(hp, start); err == nil && (want == nil || r.objective < want.objective) {
 					want = &r
 				}
 			}
