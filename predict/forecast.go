@@ -454,9 +454,15 @@ func (f *forecaster) asymptoteSeen() bool {
 // pass a slow curve off as settled; this looks only at the latest readings, and errs
 // toward "insufficient", never toward "unreachable".
 func (f *forecaster) trendReaches(level float64) bool {
+	return f.trendReachesIn(4, level)
+}
+
+// trendReachesIn is trendReaches over the last two of windows windows of the readings
+// (trendReaches: quarters), at least 5 readings each.
+func (f *forecaster) trendReachesIn(windows int, level float64) bool {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
-	q := n / 4
+	q := n / windows
 	if q < 5 {
 		return false
 	}

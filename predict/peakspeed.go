@@ -3,6 +3,7 @@ package predict
 import (
 	"fmt"
 	"math"
+	"slices"
 	"time"
 )
 
@@ -38,42 +39,75 @@ import (
 // it is never given for a handling target.
 
 // peakFloor is the soonest the readings can reach level, s from the segment start,
-// while their speed toward it is log-concave in time (see above): rising or falling,
-// the logarithm of the speed lies below its tangent at the last quarter, and the
-// tangent's slope there is at most the secant's between the third and last quarters
-// (a concave function's slope only falls). So from the last quarter's centre c₄ on the
-// speed is at most v·e^(s(t−c₄)) with v the fastest of the last three quarters' speeds
-// and s = max(0, ln(v₄/v₃))/Δ (Δ between the quarters' centres): a curve still speeding
-// up is allowed to go on speeding up at the rate it last showed, and one past its peak
-// no faster than its fastest quarter (s = 0; its slowing is not relied on). Each speed
-// is taken on the safe side by the one-sided 97.7 % Student-t quantile of its standard
-// error inflated for its residuals' lag-1 autocorrelation — v and v₄ high, v₃ low —
-// and the way left comes from the last quarter's least-squares line (as speedFloor).
-// The crossing then comes no sooner than the last reading plus h with
-// ∫₀ʰ v′e^(su) du = way, v′ the bound at the last reading. ok is false unless the
-// readings head toward level in the third and last quarters beyond their noise (at
-// least 5 readings each).
+// while their speed toward it is log-concave in time (see above), and their own trend
+// still reaches it (trendReachesIn, over the same windows): peakFloorIn over quarters
+// of the readings, or where quarters are too short (fewer than 5 readings) or too
+// noisy to show the speed toward level, over thirds, then halves (peakWindows). Longer
+// windows see the speed through more readings, so the few readings of a cutoff soon
+// after a step, or a noisy sensor (heater 2 of the heater board, ±0.06 °C against
+// 0.05 K/s), still bound it; the secant over them reaches further back, where a speed
+// still rising was lower, so it allows a faster rise (the bound errs early). The first
+// window count that gives a bound is used, quarters first. ok is false when none does.
 func (f *forecaster) peakFloor(level float64) (float64, bool) {
+	for _, k := range peakWindows {
+		if lo, ok := f.peakFloorIn(k, level); ok && f.trendReachesIn(k, level) {
+			return lo, true
+		}
+	}
+	return 0, false
+}
+
+// peakWindows are the numbers of windows peakFloor splits the readings into, in the
+// order tried.
+var peakWindows = []int{4, 3, 2}
+
+// peakFloorIn is peakFloor over k windows of q = n/k readings each (the last k·q
+// readings; at least 5 a window), k ≥ 2: rising or falling, the logarithm of the speed
+// lies below its tangent at the last window, and the tangent's slope there is at most
+// the secant's between the last two windows (a concave function's slope only falls).
+// So from the last window's centre c on, the speed is at most v·e^(s(t−c)) with v the
+// fastest of the windows' speeds after the first (the first may be the lag itself:
+// the quarters' rule) and s = max(0, ln(v_k/v_(k−1)))/Δ (Δ between the last two
+// windows' centres): a curve still speeding up is allowed to go on speeding up at the
+// rate it last showed, and one past its peak no faster than its fastest window (s = 0;
+// its slowing is not relied on). Each speed is a window's least-squares slope, taken on
+// the safe side by the one-sided 97.7 % Student-t quantile of its standard error
+// inflated for its residuals' lag-1 autocorrelation — v and v_k high, v_(k−1) low —
+// and the way left comes from the last window's line (as speedFloor). The crossing
+// then comes no sooner than the last reading plus h with ∫₀ʰ v′e^(su) du = way, v′ the
+// bound at the last reading. ok is false unless the readings head toward level in the
+// last two windows beyond their noise.
+func (f *forecaster) peakFloorIn(k int, level float64) (float64, bool) {
 	t, c := f.p.Times, f.p.Celsius
 	n := len(c)
-	quarters, q, dir, ok := f.quarterLines(level)
-	if !ok {
+	q := n / k
+	if q < 5 {
 		return 0, false
 	}
-	last := quarters[3]
-	var hi, lo [4]float64 // each quarter's speed toward level, high and low
+	bounds := func(j int) (a, b int) { return n - (k-j)*q, n - (k-1-j)*q }
+	lines := make([]quarterLine, k)
+	for j := range lines {
+		a, b := bounds(j)
+		lines[j] = fitQuarter(t[a:b], c[a:b])
+	}
+	last := lines[k-1]
+	dir := sign(level - last.end)
+	if dir == 0 {
+		return 0, false
+	}
+	hi, lo := make([]float64, k), make([]float64, k) // each window's speed toward level, high and low
 	z := speedQuantile(q - 2)
-	for k, l := range quarters {
-		a, b := n-(4-k)*q, n-(3-k)*q
+	for j, l := range lines {
+		a, b := bounds(j)
 		m := z * Inflation(l.rho(t[a:b], c[a:b]), maxSpeedInflation) * l.se
-		hi[k], lo[k] = dir*l.slope+m, dir*l.slope-m
+		hi[j], lo[j] = dir*l.slope+m, dir*l.slope-m
 	}
-	if lo[2] <= 0 || lo[3] <= 0 {
+	if lo[k-2] <= 0 || lo[k-1] <= 0 {
 		return 0, false
 	}
-	centre := func(k int) float64 { return (t[n-(4-k)*q] + t[n-(3-k)*q-1]) / 2 }
-	s := max(0, math.Log(hi[3]/lo[2])/(centre(3)-centre(2)))
-	v := max(hi[1], hi[2], hi[3]) * math.Exp(s*(t[n-1]-centre(3)))
+	centre := func(j int) float64 { a, b := bounds(j); return (t[a] + t[b-1]) / 2 }
+	s := max(0, math.Log(hi[k-1]/lo[k-2])/(centre(k-1)-centre(k-2)))
+	v := slices.Max(hi[1:]) * math.Exp(s*(t[n-1]-centre(k-1)))
 	way := dir * (level - last.end)
 	if s*way/v < 1e-9 {
 		return t[n-1] + way/v, true
@@ -99,7 +133,7 @@ func (f *forecaster) peakBound(out TargetForecast) TargetForecast {
 		return out
 	}
 	lo, ok := f.peakFloor(out.Celsius)
-	if !ok || !f.trendReaches(out.Celsius) || lo <= f.p.Times[n-1] {
+	if !ok || lo <= f.p.Times[n-1] {
 		return out
 	}
 	out.State = StatePredicted

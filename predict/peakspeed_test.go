@@ -152,3 +152,55 @@ func TestPeakFloorWhileSpeedingUp(t *testing.T) {
 		}
 	}
 }
+
+// TestPeakFloorFewReadings: soon after a step there are too few readings for quarters
+// of 5 (the heater board at 10–25 % of the time to its targets: 5–18 readings), and a
+// noisy sensor hides the speed within a short quarter; peakFloor then bounds the
+// crossing over thirds or halves, between the last reading and the true crossing.
+// Our own invented chains: heater and sink (300 s and 40 s) from rest, cut at 15 and
+// 18 s (16 and 19 readings: quarters of 4), no noise; and the same chain started
+// mid-transient (heater 36 °C, sensor 32 °C, heading for 62 °C: the heater board's
+// heater 2 stepped up while still warming), read with 0.15 °C of noise (heater 2's is
+// about 0.06 °C), cut at 20, 25 and 30 s (quarters of 5–7 readings), with 40 noise
+// seeds: no bound after the crossing, and at least 90 % of the cutoffs bounded (all
+// 240 measured; 54 by quarters alone).
+func TestPeakFloorFewReadings(t *testing.T) {
+	ts, _, truth := chainStep(rand.New(rand.NewPCG(1, 2)), []float64{300, 40}, 22, 62, 1, 400, 0)
+	for _, c := range []struct {
+		upTo  int
+		level float64
+	}{{15, 29}, {18, 33}} {
+		cross := ts[slices.IndexFunc(truth, func(v float64) bool { return v >= c.level })]
+		f := &forecaster{p: &LumpedProblem{Times: ts[:c.upTo+1], Celsius: truth[:c.upTo+1]}}
+		if _, ok := f.peakFloorIn(4, c.level); ok {
+			t.Fatalf("first %d s: quarters give a bound; the case does not test fewer readings", c.upTo)
+		}
+		lo, ok := f.peakFloor(c.level)
+		if !ok || lo <= ts[c.upTo] || lo > cross {
+			t.Errorf("first %d s: bound %.1f s (ok %v); want between %.0f s and the crossing at %.0f s", c.upTo, lo, ok, ts[c.upTo], cross)
+		}
+	}
+	bounded, tried := 0, 0
+	for seed := range uint64(40) {
+		ts, cs, truth := chainFrom(rand.New(rand.NewPCG(seed, 3)), []float64{300, 40}, []float64{36, 32}, 62, 1, 400, 0.15)
+		for _, upTo := range []int{20, 25, 30} {
+			for _, level := range []float64{36, 40} {
+				cross := ts[slices.IndexFunc(truth, func(v float64) bool { return v >= level })]
+				f := &forecaster{p: &LumpedProblem{Times: ts[:upTo+1], Celsius: cs[:upTo+1]}}
+				tried++
+				lo, ok := f.peakFloor(level)
+				if !ok {
+					continue
+				}
+				bounded++
+				if lo > cross {
+					t.Errorf("seed %d, first %d s, %.0f °C: bound %.1f s after the crossing at %.0f s", seed, upTo, level, lo, cross)
+				}
+			}
+		}
+	}
+	if bounded < tried*9/10 {
+		t.Errorf("%d of %d noisy cutoffs bounded, want at least 90 %%", bounded, tried)
+	}
+	t.Logf("%d of %d noisy cutoffs bounded, none after the crossing", bounded, tried)
+}
