@@ -648,6 +648,18 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 				out.At = out.Earliest
 			}
 		}
+		// So may their speed while it still rises (peakFloor: a sensor catching up
+		// after a step, a powered part switched down while it still warmed), where
+		// speedFloor, which needs steady slowing, says nothing; never for a handling
+		// target (it changes only a fixed target's "not before").
+		if s, ok := f.peakFloor(out.Celsius); ok && !out.Target.Handling {
+			if e := f.abs(s).Add(hold); e.After(out.Earliest) {
+				out.Earliest = e
+			}
+			if out.At.Before(out.Earliest) {
+				out.At = out.Earliest
+			}
+		}
 		out.Latest = time.Time{}
 		f.note(fmt.Sprintf("%.1f °C lies within the uncertainty of the fitted settling temperature %.1f ± %.1f °C: some settling temperatures the readings allow never reach it, so its interval has no late end.",
 			out.Celsius, f.fit.ambient(), u))
