@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 	"time"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -175,10 +176,13 @@ type forecaster struct {
 	spacing  float64  // the median spacing of the readings, s
 	notes    []string // why states were held back, each once
 	away     float64  // still at its extreme: +1 rising away from the room, −1 falling, 0 neither
+	// deadTime is fitDeadTime of the readings, fitted once on first use (peakBound).
+	deadTime func() (deadTimeCurve, bool)
 }
 
 func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
 	f := &forecaster{p: p, start: start, s: s, ambient: math.NaN()}
+	f.deadTime = sync.OnceValues(func() (deadTimeCurve, bool) { return fitDeadTime(p.Times, p.Celsius) })
 	n := len(p.Celsius)
 	f.tol, f.spacing = readingTolerance(p.Celsius), medianSpacing(p.Times)
 	if n == 0 {

@@ -118,11 +118,15 @@ func (f *forecaster) peakFloorIn(k int, level float64) (float64, bool) {
 // peakBound is the open-ended forecast "not before" of a fixed, non-handling target
 // ahead of readings that move toward it (peakFloor), for readings whose direction
 // against the settling temperature is not known (no measured ambient; near the room or
-// still at their extreme) and which slow too little for speedFloor. No central estimate and no late end: the settling temperature of a
-// powered part or an unmeasured oven is not known, and a chain of lags slows later
-// than its present curvature says (its speed's decay rate rises toward the slowest
-// stage's), so no late end follows from the readings. out unchanged (insufficient)
-// when no bound applies or the bound is the last reading itself.
+// still at their extreme) and which slow too little for speedFloor. No late end: the
+// settling temperature of a powered part or an unmeasured oven is not known, and a
+// chain of lags slows later than its present curvature says (its speed's decay rate
+// rises toward the slowest stage's), so no late end follows from the readings. The
+// central estimate, when there is one, is the readings' first-order-plus-dead-time
+// fit's crossing (deadTimeCrossing), no sooner than the bound: an estimate that beat
+// the linear trend on the heater board (realdata_test.go), never a state and never for
+// a handling target. out unchanged (insufficient) when no bound applies or the bound
+// is the last reading itself.
 func (f *forecaster) peakBound(out TargetForecast) TargetForecast {
 	if out.Target.Handling || out.Target.IsWithin() || f.p.Ambient != nil {
 		return out
@@ -138,6 +142,13 @@ func (f *forecaster) peakBound(out TargetForecast) TargetForecast {
 	}
 	out.State = StatePredicted
 	out.Earliest = f.abs(lo).Add(out.Target.Hold)
-	f.note(fmt.Sprintf("%.1f °C: not before %s into the segment, no late end and no central estimate: the readings head toward it, and a body heated or cooled through a chain of lags (heater, sink, sensor) after a step speeds up ever more slowly and then only slows, so it cannot cover the way left faster than its recent speed, rising at most as it last rose, takes it there.", out.Celsius, seconds(lo).Round(time.Second)))
+	bound := fmt.Sprintf("%.1f °C: not before %s into the segment, no late end: the readings head toward it, and a body heated or cooled through a chain of lags (heater, sink, sensor) after a step speeds up ever more slowly and then only slows, so it cannot cover the way left faster than its recent speed, rising at most as it last rose, takes it there.", out.Celsius, seconds(lo).Round(time.Second))
+	if at, ok := f.deadTimeCrossing(out.Celsius); ok {
+		at = max(at, lo)
+		out.At = f.abs(at).Add(out.Target.Hold)
+		f.note(fmt.Sprintf("%s Central estimate %s into the segment, from a first-order step response after a dead time fitted to the readings (an estimate only: where they show no slowing, it is their straight stretch after the lag carried on).", bound, seconds(at).Round(time.Second)))
+		return out
+	}
+	f.note(bound + " No central estimate: a first-order step response after a dead time fitted to the readings does not reach it.")
 	return out
 }

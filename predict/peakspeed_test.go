@@ -48,7 +48,11 @@ func chainFrom(rng *rand.Rand, taus, x []float64, to, dt, end, sd float64) (ts, 
 // time after its last reading for a target ahead of it, while its speed still rises
 // (bounded by the rate it last rose at) and after, never after the true crossing,
 // never a central estimate or a late end; a warming part's handling target is never
-// forecast, and no handling target is due or reached before the true crossing. Swept
+// forecast, and no handling target is due or reached before the true crossing. A
+// warming part's target may get a central estimate beside the not-before (the
+// dead-time fit's, deadtime.go: measured on the heater board, where it beats the
+// linear trend; before it, no central estimate was allowed here), never sooner than
+// the not-before; its error is logged, not held (it is an estimate). Swept
 // over cutoffs every 5 s from 20 s (20 s under -race). Without peakBound the warm-ups'
 // cutoffs are all insufficient (no model resolves a level, and the readings do not
 // slow quarter by quarter). Our own invented chains: heater and sink (300 s and 40 s),
@@ -82,7 +86,8 @@ func TestPeakBoundNeverLate(t *testing.T) {
 			ts, cs, truth := chainFrom(rng, c.taus, start, c.to, 1, 1500, 0.05)
 			side := sign(c.target - start[len(start)-1])
 			cross := ts[slices.IndexFunc(truth, func(v float64) bool { return side*(v-c.target) >= 0 })]
-			open := 0
+			open, estimated := 0, 0
+			var errs []float64
 			step := 5.0
 			if raceEnabled {
 				step = 20
@@ -102,8 +107,14 @@ func TestPeakBoundNeverLate(t *testing.T) {
 				if tf.State == StateInsufficient || side < 0 && !tf.Latest.IsZero() {
 					continue // a cool-down's fit may close the interval: not this bound's
 				}
-				if tf.State != StatePredicted || side > 0 && !tf.At.IsZero() || !tf.Latest.IsZero() {
-					t.Fatalf("%.0f s: %s at %v [%v, %v]; want insufficient or only a not-before", upTo, tf.State, tf.At, tf.Earliest, tf.Latest)
+				// A central estimate (the dead-time fit's, deadtime.go) may stand beside
+				// the not-before, never before it; there is never a late end.
+				if tf.State != StatePredicted || !tf.At.IsZero() && tf.At.Before(tf.Earliest) || !tf.Latest.IsZero() {
+					t.Fatalf("%.0f s: %s at %v [%v, %v]; want insufficient or a not-before (and a central estimate no sooner)", upTo, tf.State, tf.At, tf.Earliest, tf.Latest)
+				}
+				if side > 0 && !tf.At.IsZero() {
+					estimated++
+					errs = append(errs, math.Abs(tf.At.Sub(t0).Seconds()-cross)/(cross-ts[n-1]))
 				}
 				open++
 				lo := tf.Earliest.Sub(t0).Seconds()
@@ -117,7 +128,10 @@ func TestPeakBoundNeverLate(t *testing.T) {
 			if want := max(1, c.minOpen*5/int(step)); open < want { // fewer cutoffs under -race
 				t.Errorf("only %d cutoffs got a not-before, want at least %d", open, want)
 			}
-			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s", open, cross)
+			t.Logf("%d cutoffs answered with not-before, none after the crossing at %.0f s; %d with a central estimate beside it", open, cross, estimated)
+			if len(errs) > 0 {
+				t.Logf("central estimates' median error %.0f %% of the time left", 100*quantile(errs, 0.5))
+			}
 		})
 	}
 }
