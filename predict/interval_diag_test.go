@@ -42,17 +42,7 @@ func TestIntervalDiagnosis(t *testing.T) {
 		cases = benchgen.Cases() // as TestAccuracyDense
 	}
 	for _, c := range cases {
-		var curve CurveFile
-		if *dense {
-			var text string
-			c, text = benchgen.RunEvery(c, 3200, 1)
-			var err error
-			if curve, err = ReadCurveCSV(strings.NewReader(text), c.File); err != nil {
-				t.Fatalf("%s: %v", c.File, err)
-			}
-		} else {
-			curve = readBenchCase(t, c)
-		}
+		c, curve := diagCurve(t, c)
 		part := curve.Until(c.PlacedS + *intervalDiagFrac*(c.CrossingS-c.PlacedS))
 		tr := judgeAt(engine, part, c.Target, c.CrossingS)
 		at, _, _, _ := engine(part, c.Target)
@@ -137,17 +127,7 @@ func TestIntervalCoverage(t *testing.T) {
 	}
 	out := map[string]*score{}
 	for i, c := range cases {
-		var curve CurveFile
-		if *dense {
-			var text string
-			c, text = benchgen.RunEvery(c, 3200, 1)
-			var err error
-			if curve, err = ReadCurveCSV(strings.NewReader(text), c.File); err != nil {
-				t.Fatalf("%s: %v", c.File, err)
-			}
-		} else {
-			curve = readBenchCase(t, c)
-		}
+		c, curve := diagCurve(t, c)
 		sp, err := caseSpecimen(c)
 		if err != nil {
 			t.Fatalf("%s: %v", c.File, err)
@@ -183,4 +163,20 @@ func TestIntervalCoverage(t *testing.T) {
 			k, 100*float64(s.covered)/float64(s.judged), s.covered, s.judged, quantile(s.widths, 0.5), s.closedCovered, closed)
 	}
 	t.Log("\n" + b.String())
+}
+
+// diagCurve is case c's curve for the diagnostics: the committed file, or with -dense
+// the case simulated again at a logger's 1 s spacing (as TestAccuracyDense), with the
+// case as that run describes it.
+func diagCurve(t *testing.T, c benchgen.Case) (benchgen.Case, CurveFile) {
+	t.Helper()
+	if !*dense {
+		return c, readBenchCase(t, c)
+	}
+	c, text := benchgen.RunEvery(c, 3200, 1)
+	curve, err := ReadCurveCSV(strings.NewReader(text), c.File)
+	if err != nil {
+		t.Fatalf("%s: %v", c.File, err)
+	}
+	return c, curve
 }
