@@ -179,6 +179,7 @@ func TestReanchorAccuracy(t *testing.T) {
 			return s
 		}
 		st, an := pool("stale"), pool("re-anchored")
+		t.Logf("Δ %g s pooled: median %s / %s, 90th percentile %s / %s (stale / re-anchored)", d, pct(quantile(st.errs, 0.5)), pct(quantile(an.errs, 0.5)), pct(quantile(st.errs, 0.9)), pct(quantile(an.errs, 0.9)))
 		for _, q := range []float64{0.5, 0.9} {
 			slack := reanchorP90Slack
 			if q == 0.5 {
