@@ -236,9 +236,9 @@ func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSett
 func directionUnknown(m []float64) string {
 	const measure = "measure the ambient on a channel of its own (role: ambient)"
 	if up, down := slices.Max(m)-roomPrior, roomPrior-slices.Min(m); max(up, down) >= priorFar {
-		return fmt.Sprintf("The readings are still at their extreme, %.0f °C from the assumed room of %.0f °C, so settle cannot tell a specimen settling toward an unmeasured oven or chamber from one whose thermocouple is still catching up with it, and forecasts no time from the readings alone until they have bent toward a level they resolve (at most \"not before\" for a target ahead of them, never for a handling target); for an oven give the specimen convection: chamber with chamber_c (its set point), or %s.", max(up, down), roomPrior, measure)
+		return fmt.Sprintf("The readings are still at their extreme, %.0f °C from the assumed room of %.0f °C, so settle cannot tell a specimen settling toward an unmeasured oven or chamber from one whose thermocouple is still catching up with it, and forecasts no interval from the readings alone until they have bent toward a level they resolve (at most \"not before\" for a target ahead of them, with a rough central estimate beside it after a step, never for a handling target); for an oven give the specimen convection: chamber with chamber_c (its set point), or %s.", max(up, down), roomPrior, measure)
 	}
-	return "The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts no time (at most \"not before\" for a target ahead of readings still moving toward it, never for a handling target); " + measure + "."
+	return "The readings lie within a few degrees of an unmeasured room, so settle cannot tell whether the specimen is cooling or warming and forecasts no interval (at most \"not before\" for a target ahead of readings still moving toward it, with a rough central estimate beside it after a step, never for a handling target); " + measure + "."
 }
 
 // note adds a note once.
