@@ -684,7 +684,15 @@ func TestBoardStates(t *testing.T) {
 	}
 	waitPage(t, tab, `document.querySelectorAll('.card[data-channel]').length === 15 && document.querySelector('.card[data-channel="p01-ready"] .specimen').textContent === 'B7-101' && /s ago/.test(document.querySelector('.card[data-channel="p04-hot"] .age').textContent)`,
 		30*time.Second, "the hand-made board never loaded")
-	hm := func(d time.Duration) string { t := now.Add(d); return fmt.Sprintf("%d:%02d", t.Hour(), t.Minute()) }
+	hm := func(d time.Duration) string { return pageWhen(now.Add(d), now) }
+	// interval is "a–b" as the page writes it: b without its date when on a's day.
+	interval := func(a, b time.Duration) string {
+		ta, tb := now.Add(a), now.Add(b)
+		if ta.YearDay() == tb.YearDay() {
+			return hm(a) + "–" + pageWhen(tb, tb)
+		}
+		return hm(a) + "–" + hm(b)
+	}
 	dir := shotDir(t)
 	fullBottom := 0.0 // where the full board ends at 1920×1080
 	for _, vp := range viewports {
@@ -716,7 +724,7 @@ func TestBoardStates(t *testing.T) {
 			{"p01-ready", "ready", "Below 50.0 °C since " + hm(-5*time.Minute)},
 			{"p02-above", "hot", "readings do not yet"},
 			{"p03-nearly", "nearly", "Below 50.0 °C by " + hm(6*time.Minute)},
-			{"p04-hot", "hot", "by " + hm(45*time.Minute) + " (in 45 min)likely " + hm(30*time.Minute) + " · 90 % interval " + hm(20*time.Minute) + "–" + hm(45*time.Minute)},
+			{"p04-hot", "hot", "by " + hm(45*time.Minute) + " (in 45 min)likely " + hm(30*time.Minute) + " · 90 % interval " + interval(20*time.Minute, 45*time.Minute)},
 			{"p05-rough", "hot", "by " + hm(70*time.Minute)},
 			{"p06-empty", "empty", "Place a specimen"},
 			{"p15-flag", "empty", "Place a specimen"},
@@ -724,7 +732,7 @@ func TestBoardStates(t *testing.T) {
 			{"p08-open", "fault", "open thermocouple"},
 			{"p09-hold", "holding", "held until " + hm(25*time.Minute)},
 			{"p10-nodata", "wait", "Learning the curve"},
-			{"p11-slow", "hot", fmt.Sprintf("by %d %s %s", now.Add(30*time.Hour).Day(), now.Add(30*time.Hour).Format("Jan"), hm(30*time.Hour))},
+			{"p11-slow", "hot", "by " + hm(30*time.Hour)},
 			{"p12-learning", "hot", "Learning the curve"},
 			{"p13-nodue", "hot", "by " + hm(75*time.Minute)},
 			{"p14-oldapi", "nearly", "by " + hm(9*time.Minute)},
@@ -842,7 +850,7 @@ func TestBoardNotBeforeOnly(t *testing.T) {
 	}
 	waitPage(t, tab, `document.querySelectorAll('.card[data-channel]').length === 17`, 30*time.Second, "the board never loaded")
 	cards, _ := readPage(t, tab)
-	hm := fmt.Sprintf("%d:%02d", now.Add(40*time.Minute).Hour(), now.Add(40*time.Minute).Minute())
+	hm := pageWhen(now.Add(40*time.Minute), now)
 	seen := 0
 	for _, c := range cards {
 		if c.Name != "p16-oven" && c.Name != "p17-oven" {
@@ -859,6 +867,18 @@ func TestBoardNotBeforeOnly(t *testing.T) {
 		t.Errorf("saw %d of the two oven cards", seen)
 	}
 	saveScreenshot(t, tab, shotDir(t), "board-not-before-only")
+}
+
+// pageWhen is a clock time as the page writes it (app.js, when): with the date when t
+// falls on another day than ref, the latest reading's. Tests that build their times
+// from the wall clock use it so they hold within hours of midnight; the browser runs in
+// UTC, so both must be UTC.
+func pageWhen(t, ref time.Time) string {
+	s := fmt.Sprintf("%d:%02d", t.Hour(), t.Minute())
+	if t.YearDay() != ref.YearDay() || t.Year() != ref.Year() {
+		s = fmt.Sprintf("%d %s %s", t.Day(), t.Format("Jan"), s)
+	}
+	return s
 }
 
 // fixtureAcks keeps the board fixture's acknowledgements, as the daemon's API shows them.
