@@ -10,6 +10,9 @@ import (
 // curvature, the ramp base + gain·(t − dead) (gain then in °C/s).
 type deadTimeCurve struct{ base, gain, dead, tau float64 }
 
+// deadTimeFits are fitDeadTime's results: the best curve and the best ramp.
+type deadTimeFits struct{ best, ramp deadTimeCurve }
+
 // Grids of fitDeadTime: dead times over the readings' span, and time constants on a
 // logarithmic grid from a fiftieth of the span (deadTimeTauStep decades apart).
 const (
@@ -29,7 +32,7 @@ const (
 // suffix sum of e^(−t/τ), its square and its product with the readings (of t, t² and
 // t·c for the ramp), so each time constant costs one pass over the readings. ok is
 // false with fewer than 10 readings or no span.
-func fitDeadTime(t, c []float64) (deadTimeCurve, bool) {
+func fitDeadTime(t, c []float64) (best, ramp deadTimeCurve, ok bool) {
 	if stride := (len(t) + maxDeadTimePoints - 1) / maxDeadTimePoints; stride > 1 {
 		var ts, cs []float64
 		for i := 0; i < len(t); i += stride {
@@ -39,7 +42,7 @@ func fitDeadTime(t, c []float64) (deadTimeCurve, bool) {
 	}
 	n := len(t)
 	if n < 10 || t[n-1] <= t[0] {
-		return deadTimeCurve{}, false
+		return deadTimeCurve{}, deadTimeCurve{}, false
 	}
 	t0, span := t[0], t[n-1]-t[0]
 	var mc float64
@@ -64,15 +67,20 @@ func fitDeadTime(t, c []float64) (deadTimeCurve, bool) {
 		dead := span * float64(i) / deadTimeDeads
 		from[i] = sort.SearchFloat64s(u, math.Nextafter(dead, math.Inf(1)))
 	}
-	best, bestSSE := deadTimeCurve{}, math.Inf(1)
+	bestSSE := math.Inf(1)
+	rampSSE := math.Inf(1)
 	try := func(d deadTimeCurve, sx, sxx, sxy float64) {
 		den := sxx - sx*sx/float64(n) // the shape's sum of squares about its mean
 		if !(den > 1e-12*sxx) {
 			return
 		}
 		d.gain = sxy / den
-		if sse := syy - d.gain*d.gain*den; sse < bestSSE {
-			d.base = mc - d.gain*sx/float64(n)
+		sse := syy - d.gain*d.gain*den
+		d.base = mc - d.gain*sx/float64(n)
+		if math.IsInf(d.tau, 1) && sse < rampSSE {
+			ramp, rampSSE = d, sse
+		}
+		if sse < bestSSE {
 			best, bestSSE = d, sse
 		}
 	}
@@ -103,7 +111,7 @@ func fitDeadTime(t, c []float64) (deadTimeCurve, bool) {
 			try(deadTimeCurve{dead: t0 + dead, tau: tau}, cnt-a*se[k], cnt-2*a*se[k]+a*a*see[k], sufY[k]-a*sey[k])
 		}
 	}
-	return best, !math.IsInf(bestSSE, 1)
+	return best, ramp, !math.IsInf(bestSSE, 1)
 }
 
 // shape is the curve's unit response at time s: 0 before the dead time, then
@@ -140,15 +148,24 @@ func (d deadTimeCurve) crossing(level float64) (float64, bool) {
 
 // deadTimeCrossing is when the readings' first-order-plus-dead-time fit (f.deadTime)
 // reaches level, s from the segment start: peakBound's central estimate beside its
-// "not before". ok is false without a fit or a crossing after the last reading.
-func (f *forecaster) deadTimeCrossing(level float64) (float64, bool) {
+// "not before". Where the best fit settles short of level, the best ramp's crossing
+// instead (ramp true): peakBound asks for one only where the readings' own trend still
+// reaches level (trendReachesIn, over the windows of its bound), so a level short of it
+// is one the readings have not bent toward, and the family's member with no level, the
+// straight stretch after the lag carried on, is the fit the readings still allow. ok
+// is false without a fit or a crossing after the last reading.
+func (f *forecaster) deadTimeCrossing(level float64) (at float64, ramp, ok bool) {
 	if f.deadTime == nil {
-		return 0, false
+		return 0, false, false
 	}
-	d, ok := f.deadTime()
+	fits, ok := f.deadTime()
 	if !ok {
-		return 0, false
+		return 0, false, false
 	}
-	at, ok := d.crossing(level)
-	return at, ok && at > f.p.Times[len(f.p.Times)-1]
+	at, ok = fits.best.crossing(level)
+	if !ok && !math.IsInf(fits.best.tau, 1) {
+		at, ok = fits.ramp.crossing(level)
+		ramp = true
+	}
+	return at, ramp, ok && at > f.p.Times[len(f.p.Times)-1]
 }

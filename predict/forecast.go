@@ -177,12 +177,15 @@ type forecaster struct {
 	notes    []string // why states were held back, each once
 	away     float64  // still at its extreme: +1 rising away from the room, −1 falling, 0 neither
 	// deadTime is fitDeadTime of the readings, fitted once on first use (peakBound).
-	deadTime func() (deadTimeCurve, bool)
+	deadTime func() (deadTimeFits, bool)
 }
 
 func newForecaster(fit fitted, p *LumpedProblem, start time.Time, s IntervalSettings) *forecaster {
 	f := &forecaster{p: p, start: start, s: s, ambient: math.NaN()}
-	f.deadTime = sync.OnceValues(func() (deadTimeCurve, bool) { return fitDeadTime(p.Times, p.Celsius) })
+	f.deadTime = sync.OnceValues(func() (deadTimeFits, bool) {
+		best, ramp, ok := fitDeadTime(p.Times, p.Celsius)
+		return deadTimeFits{best, ramp}, ok
+	})
 	n := len(p.Celsius)
 	f.tol, f.spacing = readingTolerance(p.Celsius), medianSpacing(p.Times)
 	if n == 0 {

@@ -125,7 +125,9 @@ func (f *forecaster) peakFloorIn(k int, level float64) (float64, bool) {
 // central estimate, when there is one, is the readings' first-order-plus-dead-time
 // fit's crossing (deadTimeCrossing), no sooner than the bound: an estimate that beat
 // the linear trend on the heater board (realdata_test.go), never a state and never for
-// a handling target. out unchanged (insufficient) when no bound applies or the bound
+// a handling target. Where that fit settles short of the level, the best ramp's
+// crossing, given only when it comes no sooner than the bound (a ramp before it would
+// run faster than the readings' speed allows). out unchanged (insufficient) when no bound applies or the bound
 // is the last reading itself.
 func (f *forecaster) peakBound(out TargetForecast) TargetForecast {
 	if out.Target.Handling || out.Target.IsWithin() || f.p.Ambient != nil {
@@ -143,12 +145,18 @@ func (f *forecaster) peakBound(out TargetForecast) TargetForecast {
 	out.State = StatePredicted
 	out.Earliest = f.abs(lo).Add(out.Target.Hold)
 	bound := fmt.Sprintf("%.1f °C: not before %s into the segment, no late end: the readings head toward it, and a body heated or cooled through a chain of lags (heater, sink, sensor) after a step speeds up ever more slowly and then only slows, so it cannot cover the way left faster than its recent speed, rising at most as it last rose, takes it there.", out.Celsius, seconds(lo).Round(time.Second))
-	if at, ok := f.deadTimeCrossing(out.Celsius); ok {
+	at, ramp, ok := f.deadTimeCrossing(out.Celsius)
+	switch {
+	case ok && ramp && at >= lo:
+		out.At = f.abs(at).Add(out.Target.Hold)
+		f.note(fmt.Sprintf("%s Central estimate %s into the segment, from the straight stretch of the readings after the lag carried on (an estimate only: a first-order step response after a dead time fitted to them settles short of it, a level the readings' own trend has not bent toward).", bound, seconds(at).Round(time.Second)))
+	case ok && !ramp:
 		at = max(at, lo)
 		out.At = f.abs(at).Add(out.Target.Hold)
 		f.note(fmt.Sprintf("%s Central estimate %s into the segment, from a first-order step response after a dead time fitted to the readings (an estimate only: where they show no slowing, it is their straight stretch after the lag carried on).", bound, seconds(at).Round(time.Second)))
-		return out
+	default:
+		// A ramp sooner than the bound runs faster than the readings' speed allows.
+		f.note(bound + " No central estimate: a first-order step response after a dead time fitted to the readings does not reach it.")
 	}
-	f.note(bound + " No central estimate: a first-order step response after a dead time fitted to the readings does not reach it.")
 	return out
 }
