@@ -164,7 +164,30 @@ func oilFilmSegments(t *testing.T) []realSegment {
 	return out
 }
 
-// rumfordSegment is Rumford's cannon from testdata/predict/rumford.csv, in °C and s.
+// rumfordAmbientF is the room around Rumford's cannon, °F: the ambient of the model
+// T = 60 + 70·exp(−θ·t) that Bates & Watts (1988) fit to these readings (shared/realdata
+// README; recalled from the book, not re-checked against it). The engine is given it
+// as a measured ambient, held constant: a lab forecasting a cool-down logs its room on
+// a channel of its own, and the source states the room's temperature, so the engine
+// knows no more than a lab would (the baselines are not given it: the free
+// exponential fits its own settling temperature, as a statistician would).
+//
+// Measured (issue 12), it moves nothing: at 50 % elapsed the two scored targets have
+// 5 and 6 readings, under the 8 a lumped fit needs (LumpedSettings.MinPoints) and the
+// 12 of the h(T) model. Tried and not kept: with the minimum at 3 readings beyond the
+// fitted parameters (5 with the ambient given), the exponential toward 60 °F through
+// the first 5–6 readings (4–14 and 4–16 minutes) answers 45.7 and 45.9 % early, its
+// closed intervals ending 23 and 26 % before the truth (the linear trend 50.9 and
+// 41.8 %; h(T) from a rough start, 44.3 and 44.2 % early): the readings fall 1 °F a
+// minute over the first 3 minutes and 0.3 °F a minute over the last 13, at excesses of
+// 65 and 52 °F over the room — the decay rate halves, more than a body cooling toward
+// the room in still air slows (heat near the thermometer spreading into colder metal
+// before the air takes it would do it; our reading, not checked) — so the honest
+// answer at 5–6 readings rounded to 1 °F is none.
+const rumfordAmbientF = 60
+
+// rumfordSegment is Rumford's cannon from testdata/predict/rumford.csv, in °C and s,
+// with the room at rumfordAmbientF as a measured ambient.
 func rumfordSegment(t *testing.T) realSegment {
 	t.Helper()
 	minutes, fahrenheit := readRumford(t)
@@ -172,7 +195,12 @@ func rumfordSegment(t *testing.T) realSegment {
 	for i, f := range fahrenheit {
 		c[i] = fahrenheitToC(f)
 	}
-	return realSegment{"rumford", "Rumford's cannon (1798)", minuteCurve(minutes, c)}
+	curve := minuteCurve(minutes, c)
+	curve.Ambient = make([]float64, len(c))
+	for i := range curve.Ambient {
+		curve.Ambient[i] = fahrenheitToC(rumfordAmbientF)
+	}
+	return realSegment{"rumford", "Rumford's cannon (1798)", curve}
 }
 
 // Cell rests: readings with |current| below cellRestA for at least cellRestRows rows
