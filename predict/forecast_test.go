@@ -658,3 +658,42 @@ func sweepCutoffs(ts, cs []float64, cross, level float64, check func(upTo float6
 		check(upTo, Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}, {Name: "handle", Celsius: level, Handling: true}}, AnalyzeOptions{}))
 	}
 }
+
+// TestSparseRecordNotBefore: a record of only 4–7 readings, fewer than a free fit
+// needs, still gets a "not before" from the profile (profileMinPoints): the
+// exponential through the readings held at the room prior's far end, with Student's t
+// on the few degrees of freedom. Our own invented record: a part at 322 °C cooling
+// toward a 22 °C room with τ = 1,200 s, read once a minute to 0.1 °C; the target,
+// 100 °C, is crossed at 1,200·ln(300/78) = 1,616 s. Before profileMinPoints the
+// profile's refit needed 8 readings and the answer was insufficient. With 4 readings it
+// still is: Student's t at two degrees of freedom (2.92) puts the bound before the last
+// reading, and "not before now" says nothing.
+func TestSparseRecordNotBefore(t *testing.T) {
+	const room, exc, tau, level = 22.0, 300.0, 1200.0, 100.0
+	cross := tau * math.Log(exc/(level-room))
+	for n := 4; n <= 7; n++ {
+		var ts, cs []float64
+		for i := range n {
+			s := 60 * float64(i)
+			ts, cs = append(ts, s), append(cs, math.Round(10*(room+exc*math.Exp(-s/tau)))/10)
+		}
+		p, onset, _ := Prepare(ts, cs, nil)
+		f := Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}, {Name: "handle", Celsius: level, Handling: true}}, AnalyzeOptions{})
+		for _, tf := range f.Targets {
+			lo := tf.Earliest.Sub(t0).Seconds()
+			if n == 4 {
+				if tf.State != StateInsufficient {
+					t.Errorf("4 readings, %s: %s, want insufficient", tf.Target.Name, tf.State)
+				}
+				continue
+			}
+			if tf.State != StatePredicted || !tf.Latest.IsZero() || lo <= ts[n-1] || lo > cross {
+				t.Errorf("%d readings, %s: %s [%v, %v]; want not before a time after the last reading (%.0f s) and no later than the crossing (%.0f s), no late end",
+					n, tf.Target.Name, tf.State, tf.Earliest.Sub(t0), tf.Latest, ts[n-1], cross)
+			}
+			if tf.Target.Handling && !tf.Due().IsZero() {
+				t.Errorf("%d readings, handling: due %v, want none (an open-ended answer plans no handling)", n, tf.Due())
+			}
+		}
+	}
+}

@@ -623,7 +623,8 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		}
 	}
 	// Coverage at 25 % elapsed, an unanswered forecast or a "not before now" counted as
-	// a miss: 82 % over all families measured (80 % before peakFloor raised a "not before now" beside a central estimate, 71 % before it took thirds and halves; 54 % before the heater board's power
+	// a miss: 86 % over all families measured (82 % before profileMinPoints let the
+	// profile's "not before" stand on the mugs' first 4–7 readings; 80 % before peakFloor raised a "not before now" beside a central estimate, 71 % before it took thirds and halves; 54 % before the heater board's power
 	// steps got "not before" from the readings' own speed after a step, peakBound, and
 	// a closed early end at the last reading gave way to the profile's bound; 46 % before open-ended answers; 38 % by
 	// closed intervals alone; 59 % before smoothAmbient took the first span's mean,
@@ -631,7 +632,7 @@ func realFloors(t *testing.T, sc map[string]*score) {
 	// at 25 % and 0.71 to 0.38 at 50 %: now the 90 % targets of the three rests whose
 	// cell settles 0.3–0.4 K above the chamber's reading are missed, early — the
 	// measured ambient is taken as exact), 10 of 14 on the two mug families (2 of 14 before, all of
-	// the gain open-ended); the heater board's power steps, 15 of 18 at 25 % and 18 of
+	// the gain open-ended; 12 of 14 since profileMinPoints); the heater board's power steps, 15 of 18 at 25 % and 18 of
 	// 18 at 50 %, all by "not before" (14 and 14 before peakFloor also raised the "not
 	// before now" beside the cool-downs' h(T) central estimates; 9 and 11 with
 	// peakFloor over quarters only, before it took thirds and halves where quarters
@@ -645,7 +646,7 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac     float64
 		min      float64
 	}{
-		{[]string{"all"}, 0.25, 0.75}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
+		{[]string{"all"}, 0.25, 0.84}, {[]string{"mug", "mug, oil film"}, 0.25, 0.80}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
 		{[]string{"heater board"}, 0.25, 0.80}, {[]string{"heater board"}, 0.50, 0.95},
 		// The cell rests at 50 %: 17 of 24 (16 before lagAmbient; see cellSegments).
 		{[]string{"18650 cell"}, 0.50, 0.65},
