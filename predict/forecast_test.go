@@ -697,3 +697,51 @@ func TestSparseRecordNotBefore(t *testing.T) {
 		}
 	}
 }
+
+// TestAmbientOffsetWidens: with a measured ambient the interval carries the ambient's
+// offset from where the specimen settles (IntervalSettings.AmbientOffset) as a level
+// error through the slope at the crossing, and nothing else moves. Our own noiseless
+// lumped cool-down, 3 K above a measured 20 °C room, τ = 1,800 s, read every 10 s for
+// 900 s; the target 20.5 °C, where the curve falls 0.5/1,800 K/s, so an offset of
+// 0.1 K is 360 s of the crossing (the delta method, common practice): the squared
+// half-widths differ by (1.645·360 s)². A fitted ambient carries its own uncertainty
+// instead, and the setting leaves it alone.
+func TestAmbientOffsetWidens(t *testing.T) {
+	const amb, exc, tau, level = 20.0, 3.0, 1800.0, 20.5
+	var p LumpedProblem
+	for s := 0.0; s <= 900; s += 10 {
+		p.Times = append(p.Times, s)
+		p.Celsius = append(p.Celsius, amb+exc*math.Exp(-s/tau)+1e-4*math.Sin(s))
+		p.Ambient = append(p.Ambient, amb)
+	}
+	r, err := FitLumped(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	half := func(p LumpedProblem, r *LumpedResult, offset float64) (at, h float64) {
+		s := &IntervalSettings{Z: 1.645, ModelError: -1, AmbientOffset: offset}
+		tf := ForecastLumped(r, &p, t0, []Target{{Celsius: level}}, s)[0]
+		if tf.State != StatePredicted || tf.Latest.IsZero() {
+			t.Fatalf("offset %g: %s [%v, %v], want a closed interval", offset, tf.State, tf.Earliest, tf.Latest)
+		}
+		return tf.At.Sub(t0).Seconds(), tf.Latest.Sub(tf.At).Seconds()
+	}
+	at0, h0 := half(p, &r, -1)
+	at1, h1 := half(p, &r, 0.1)
+	want := 1.645 * 0.1 / (level - amb) * tau
+	if got := math.Sqrt(h1*h1 - h0*h0); math.Abs(got-want) > 0.01*want || at0 != at1 {
+		t.Errorf("offset 0.1 K: half-width %.1f s against %.1f s without, the offset's share %.1f s (want %.1f s); central estimate %.1f and %.1f s (want equal)", h1, h0, got, want, at1, at0)
+	}
+	if _, hd := half(p, &r, 0); hd <= h0 {
+		t.Errorf("default offset: half-width %.1f s, want wider than %.1f s without", hd, h0)
+	}
+	free := LumpedProblem{Times: p.Times, Celsius: p.Celsius}
+	rf, err := FitLumped(free, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, a := half(free, &rf, -1)
+	if _, b := half(free, &rf, 0.1); a != b {
+		t.Errorf("fitted ambient: half-width %.1f s with the offset setting, %.1f s without; want equal", b, a)
+	}
+}

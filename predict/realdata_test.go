@@ -242,6 +242,13 @@ func rumfordSegment(t *testing.T) realSegment {
 //     truth (lumped, τ 44 min against 31 over the whole rest). lagAmbient brought in
 //     rest 2 at 90 % (late end −5 → +2 %) and rest 8 at 75 % (−1 → +3 %) and lost rest
 //     6 at 75 % (+3 → −5 %).
+//   - Kept: the interval carries the measured ambient's offset from where the
+//     specimen settles as a level error (IntervalSettings.AmbientOffset, 0.1 K by
+//     default: a room channel checked against the specimen's sensor side by side;
+//     ambientOffsetSD in forecast.go gives the argument and the benchmark's price).
+//     Misses at 25 / 50 % elapsed 3 / 7 → 2 / 2: left are rest 1 at 90 % (25 and 50 %,
+//     late ends −2 and −1 % of the time left), rest 6 at 90 % (25 %, −4 %) and rest 7 at
+//     90 % (50 %, −4 %), offsets of 0.4 K and more; the central estimates do not move.
 //   - Errors at 25 % elapsed (median 14.3 %; 15.3 % before lagAmbient): the 50 %
 //     targets, crossed 12–23 minutes in, come late where the slow start lengthens the
 //     early fit's τ (rest 2: 48 min, +87 %; rest 3: 44–48 min, +53 to +58 % on all
@@ -623,7 +630,8 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		}
 	}
 	// Coverage at 25 % elapsed, an unanswered forecast or a "not before now" counted as
-	// a miss: 86 % over all families measured (82 % before profileMinPoints let the
+	// a miss: 88 % over all families measured (86 % before the measured ambient's offset
+	// entered the intervals, ambientOffsetSD; 82 % before profileMinPoints let the
 	// profile's "not before" stand on the mugs' first 4–7 readings; 80 % before peakFloor raised a "not before now" beside a central estimate, 71 % before it took thirds and halves; 54 % before the heater board's power
 	// steps got "not before" from the readings' own speed after a step, peakBound, and
 	// a closed early end at the last reading gave way to the profile's bound; 46 % before open-ended answers; 38 % by
@@ -646,10 +654,13 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac     float64
 		min      float64
 	}{
-		{[]string{"all"}, 0.25, 0.84}, {[]string{"mug", "mug, oil film"}, 0.25, 0.80}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
+		{[]string{"all"}, 0.25, 0.86}, {[]string{"mug", "mug, oil film"}, 0.25, 0.80}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
 		{[]string{"heater board"}, 0.25, 0.80}, {[]string{"heater board"}, 0.50, 0.95},
-		// The cell rests at 50 %: 17 of 24 (16 before lagAmbient; see cellSegments).
-		{[]string{"18650 cell"}, 0.50, 0.65},
+		// The cell rests at 50 %: 22 of 24 (17 before the ambient offset entered the
+		// intervals, 16 before lagAmbient; see cellSegments).
+		{[]string{"18650 cell"}, 0.50, 0.85},
+		// Every family at 50 %: 92 % (83 % before the ambient offset).
+		{[]string{"all"}, 0.50, 0.88},
 	} {
 		var covered, judged int
 		for _, fam := range c.families {
@@ -665,7 +676,7 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		s := sc[fmt.Sprintf("engine/%.2f/18650 cell", fr)]
 		covered, judged = covered+s.covered, judged+s.judged
 	}
-	if c := float64(covered) / float64(judged); c < 0.80 {
-		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 80 %% (86 %% measured; 85 %% before lagAmbient)", 100*c, judged)
+	if c := float64(covered) / float64(judged); c < 0.90 {
+		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 90 %% (94 %% measured; 86 %% before the ambient offset, 85 %% before lagAmbient)", 100*c, judged)
 	}
 }
