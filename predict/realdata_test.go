@@ -249,6 +249,15 @@ func rumfordSegment(t *testing.T) realSegment {
 //     Misses at 25 / 50 % elapsed 3 / 7 → 2 / 2: left are rest 1 at 90 % (25 and 50 %,
 //     late ends −2 and −1 % of the time left), rest 6 at 90 % (25 %, −4 %) and rest 7 at
 //     90 % (50 %, −4 %), offsets of 0.4 K and more; the central estimates do not move.
+//   - Kept: afterTransient (analyze.go) leaves the first eighth of a segment's span
+//     out of the fit when Akaike's criterion over every reading prefers the fit of the
+//     rest, each reading left out counted as a parameter (its share chosen on the
+//     benchmark, not here). Cells at 10 / 25 / 50 % elapsed 23.7 / 14.3 / 10.1 →
+//     17.8 / 11.2 / 10.5 %, coverage 100 / 92 / 92 → 100 / 92 / 100 %: at 25 % rest 1
+//     at 50 % +15.7 → +8.1 %, rest 2 at 75 % +19.9 → +11.2 %, rest 7 at 50 % +21.4 →
+//     +16.6 %, rest 2 at 90 % −8.6 → −15.0 %; rest 3 stays 53–58 % late (its slow
+//     start lasts about 15 minutes, past the eighth left out) and the offset's 90 %
+//     targets early. Below, the figures before it.
 //   - Errors at 25 % elapsed (median 14.3 %; 15.3 % before lagAmbient): the 50 %
 //     targets, crossed 12–23 minutes in, come late where the slow start lengthens the
 //     early fit's τ (rest 2: 48 min, +87 %; rest 3: 44–48 min, +53 to +58 % on all
@@ -589,8 +598,8 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac   float64
 		max    float64
 	}{
-		{"18650 cell", 0.25, 0.16}, // 14.3 % measured (15.3 % before lagAmbient, 21.6 % before smoothAmbient took the first span's mean)
-		{"18650 cell", 0.50, 0.12}, // 10.1 % (11.7 %, 18.3 %; the free exponential 17.5 %)
+		{"18650 cell", 0.25, 0.13}, // 11.2 % measured (14.3 % before afterTransient, 15.3 % before lagAmbient, 21.6 % before smoothAmbient took the first span's mean)
+		{"18650 cell", 0.50, 0.12}, // 10.5 % (10.1 %, 11.7 %, 18.3 %; the free exponential 17.5 %)
 		// The oil-film mugs (no evaporation; the diagnosis beside oilFilmSegments):
 		// 5.9 / 0.8 % at 25 / 50 % measured since fitAfterVessel left out the mug's
 		// first minutes (36.8 / 11.7 % before it, 12.9 % at 50 % before the open-water
