@@ -785,6 +785,9 @@ func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt Anal
 	if gain <= vesselMargin {
 		return nil
 	}
+	// The segment is the same (a vessel's transient keeps it too); only the fit
+	// leaves its first readings out (Points counts those it used).
+	g.SegmentStart = start
 	g.Notes = append([]string{fmt.Sprintf(
 		"The first %d readings (%.0f s) are left out of the fit: they bend away from the cooling that follows — a sensor catching up, a body not yet uniform, a holder taking up heat — and the readings after them fit alone better (Akaike's criterion lower by %.1f with each reading left out counted as a parameter).",
 		k, off, gain)}, g.Notes...)

@@ -249,6 +249,11 @@ func TestAfterTransient(t *testing.T) {
 	if !strings.Contains(strings.Join(f.Notes, " "), "left out of the fit") {
 		t.Errorf("no note on the readings left out: %q", f.Notes)
 	}
+	// The segment stays where it was; the fit used the readings from 152 s on (the
+	// first at or after an eighth of 1,200 s, every 4 s).
+	if k := int(math.Ceil(1200 * transientShare / 4)); !f.SegmentStart.Equal(t0) || f.Points != len(p.Times)-k {
+		t.Errorf("segment from %v with %d readings fitted, want from %v with %d", f.SegmentStart, f.Points, t0, len(p.Times)-k)
+	}
 	if math.Abs(got) > 0.10 || math.Abs(got) >= math.Abs(was) {
 		t.Errorf("central estimate %+.1f %% of the time left after the transient, %+.1f %% from every reading; want within 10 %% and closer", 100*got, 100*was)
 	}
