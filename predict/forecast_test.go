@@ -658,3 +658,90 @@ func sweepCutoffs(ts, cs []float64, cross, level float64, check func(upTo float6
 		check(upTo, Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}, {Name: "handle", Celsius: level, Handling: true}}, AnalyzeOptions{}))
 	}
 }
+
+// TestSparseRecordNotBefore: a record of only 4–7 readings, fewer than a free fit
+// needs, still gets a "not before" from the profile (profileMinPoints): the
+// exponential through the readings held at the room prior's far end, with Student's t
+// on the few degrees of freedom. Our own invented record: a part at 322 °C cooling
+// toward a 22 °C room with τ = 1,200 s, read once a minute to 0.1 °C; the target,
+// 100 °C, is crossed at 1,200·ln(300/78) = 1,616 s. Before profileMinPoints the
+// profile's refit needed 8 readings and the answer was insufficient. With 4 readings it
+// still is: Student's t at two degrees of freedom (2.92) puts the bound before the last
+// reading, and "not before now" says nothing.
+func TestSparseRecordNotBefore(t *testing.T) {
+	const room, exc, tau, level = 22.0, 300.0, 1200.0, 100.0
+	cross := tau * math.Log(exc/(level-room))
+	for n := 4; n <= 7; n++ {
+		var ts, cs []float64
+		for i := range n {
+			s := 60 * float64(i)
+			ts, cs = append(ts, s), append(cs, math.Round(10*(room+exc*math.Exp(-s/tau)))/10)
+		}
+		p, onset, _ := Prepare(ts, cs, nil)
+		f := Analyze(p, t0.Add(seconds(onset)), []Target{{Name: "t", Celsius: level}, {Name: "handle", Celsius: level, Handling: true}}, AnalyzeOptions{})
+		for _, tf := range f.Targets {
+			lo := tf.Earliest.Sub(t0).Seconds()
+			if n == 4 {
+				if tf.State != StateInsufficient {
+					t.Errorf("4 readings, %s: %s, want insufficient", tf.Target.Name, tf.State)
+				}
+				continue
+			}
+			if tf.State != StatePredicted || !tf.Latest.IsZero() || lo <= ts[n-1] || lo > cross {
+				t.Errorf("%d readings, %s: %s [%v, %v]; want not before a time after the last reading (%.0f s) and no later than the crossing (%.0f s), no late end",
+					n, tf.Target.Name, tf.State, tf.Earliest.Sub(t0), tf.Latest, ts[n-1], cross)
+			}
+			if tf.Target.Handling && !tf.Due().IsZero() {
+				t.Errorf("%d readings, handling: due %v, want none (an open-ended answer plans no handling)", n, tf.Due())
+			}
+		}
+	}
+}
+
+// TestAmbientOffsetWidens: with a measured ambient the interval carries the ambient's
+// offset from where the specimen settles (IntervalSettings.AmbientOffset) as a level
+// error through the slope at the crossing, and nothing else moves. Our own noiseless
+// lumped cool-down, 3 K above a measured 20 °C room, τ = 1,800 s, read every 10 s for
+// 900 s; the target 20.5 °C, where the curve falls 0.5/1,800 K/s, so an offset of
+// 0.1 K is 360 s of the crossing (the delta method, common practice): the squared
+// half-widths differ by (1.645·360 s)². A fitted ambient carries its own uncertainty
+// instead, and the setting leaves it alone.
+func TestAmbientOffsetWidens(t *testing.T) {
+	const amb, exc, tau, level = 20.0, 3.0, 1800.0, 20.5
+	var p LumpedProblem
+	for s := 0.0; s <= 900; s += 10 {
+		p.Times = append(p.Times, s)
+		p.Celsius = append(p.Celsius, amb+exc*math.Exp(-s/tau)+1e-4*math.Sin(s))
+		p.Ambient = append(p.Ambient, amb)
+	}
+	r, err := FitLumped(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	half := func(p LumpedProblem, r *LumpedResult, offset float64) (at, h float64) {
+		s := &IntervalSettings{Z: 1.645, ModelError: -1, AmbientOffset: offset}
+		tf := ForecastLumped(r, &p, t0, []Target{{Celsius: level}}, s)[0]
+		if tf.State != StatePredicted || tf.Latest.IsZero() {
+			t.Fatalf("offset %g: %s [%v, %v], want a closed interval", offset, tf.State, tf.Earliest, tf.Latest)
+		}
+		return tf.At.Sub(t0).Seconds(), tf.Latest.Sub(tf.At).Seconds()
+	}
+	at0, h0 := half(p, &r, -1)
+	at1, h1 := half(p, &r, 0.1)
+	want := 1.645 * 0.1 / (level - amb) * tau
+	if got := math.Sqrt(h1*h1 - h0*h0); math.Abs(got-want) > 0.01*want || at0 != at1 {
+		t.Errorf("offset 0.1 K: half-width %.1f s against %.1f s without, the offset's share %.1f s (want %.1f s); central estimate %.1f and %.1f s (want equal)", h1, h0, got, want, at1, at0)
+	}
+	if _, hd := half(p, &r, 0); hd <= h0 {
+		t.Errorf("default offset: half-width %.1f s, want wider than %.1f s without", hd, h0)
+	}
+	free := LumpedProblem{Times: p.Times, Celsius: p.Celsius}
+	rf, err := FitLumped(free, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, a := half(free, &rf, -1)
+	if _, b := half(free, &rf, 0.1); a != b {
+		t.Errorf("fitted ambient: half-width %.1f s with the offset setting, %.1f s without; want equal", b, a)
+	}
+}

@@ -164,7 +164,30 @@ func oilFilmSegments(t *testing.T) []realSegment {
 	return out
 }
 
-// rumfordSegment is Rumford's cannon from testdata/predict/rumford.csv, in °C and s.
+// rumfordAmbientF is the room around Rumford's cannon, °F: the ambient of the model
+// T = 60 + 70·exp(−θ·t) that Bates & Watts (1988) fit to these readings (shared/realdata
+// README; recalled from the book, not re-checked against it). The engine is given it
+// as a measured ambient, held constant: a lab forecasting a cool-down logs its room on
+// a channel of its own, and the source states the room's temperature, so the engine
+// knows no more than a lab would (the baselines are not given it: the free
+// exponential fits its own settling temperature, as a statistician would).
+//
+// Measured (issue 12), it moves nothing: at 50 % elapsed the two scored targets have
+// 5 and 6 readings, under the 8 a lumped fit needs (LumpedSettings.MinPoints) and the
+// 12 of the h(T) model. Tried and not kept: with the minimum at 3 readings beyond the
+// fitted parameters (5 with the ambient given), the exponential toward 60 °F through
+// the first 5–6 readings (4–14 and 4–16 minutes) answers 45.7 and 45.9 % early, its
+// closed intervals ending 23 and 26 % before the truth (the linear trend 50.9 and
+// 41.8 %; h(T) from a rough start, 44.3 and 44.2 % early): the readings fall 1 °F a
+// minute over the first 3 minutes and 0.3 °F a minute over the last 13, at excesses of
+// 65 and 52 °F over the room — the decay rate halves, more than a body cooling toward
+// the room in still air slows (heat near the thermometer spreading into colder metal
+// before the air takes it would do it; our reading, not checked) — so the honest
+// answer at 5–6 readings rounded to 1 °F is none.
+const rumfordAmbientF = 60
+
+// rumfordSegment is Rumford's cannon from testdata/predict/rumford.csv, in °C and s,
+// with the room at rumfordAmbientF as a measured ambient.
 func rumfordSegment(t *testing.T) realSegment {
 	t.Helper()
 	minutes, fahrenheit := readRumford(t)
@@ -172,7 +195,12 @@ func rumfordSegment(t *testing.T) realSegment {
 	for i, f := range fahrenheit {
 		c[i] = fahrenheitToC(f)
 	}
-	return realSegment{"rumford", "Rumford's cannon (1798)", minuteCurve(minutes, c)}
+	curve := minuteCurve(minutes, c)
+	curve.Ambient = make([]float64, len(c))
+	for i := range curve.Ambient {
+		curve.Ambient[i] = fahrenheitToC(rumfordAmbientF)
+	}
+	return realSegment{"rumford", "Rumford's cannon (1798)", curve}
 }
 
 // Cell rests: readings with |current| below cellRestA for at least cellRestRows rows
@@ -214,6 +242,22 @@ func rumfordSegment(t *testing.T) realSegment {
 //     truth (lumped, τ 44 min against 31 over the whole rest). lagAmbient brought in
 //     rest 2 at 90 % (late end −5 → +2 %) and rest 8 at 75 % (−1 → +3 %) and lost rest
 //     6 at 75 % (+3 → −5 %).
+//   - Kept: the interval carries the measured ambient's offset from where the
+//     specimen settles as a level error (IntervalSettings.AmbientOffset, 0.1 K by
+//     default: a room channel checked against the specimen's sensor side by side;
+//     ambientOffsetSD in forecast.go gives the argument and the benchmark's price).
+//     Misses at 25 / 50 % elapsed 3 / 7 → 2 / 2: left are rest 1 at 90 % (25 and 50 %,
+//     late ends −2 and −1 % of the time left), rest 6 at 90 % (25 %, −4 %) and rest 7 at
+//     90 % (50 %, −4 %), offsets of 0.4 K and more; the central estimates do not move.
+//   - Kept: afterTransient (analyze.go) leaves the first eighth of a segment's span
+//     out of the fit when Akaike's criterion over every reading prefers the fit of the
+//     rest, each reading left out counted as a parameter (its share chosen on the
+//     benchmark, not here). Cells at 10 / 25 / 50 % elapsed 23.7 / 14.3 / 10.1 →
+//     17.8 / 11.2 / 10.5 %, coverage 100 / 92 / 92 → 100 / 92 / 100 %: at 25 % rest 1
+//     at 50 % +15.7 → +8.1 %, rest 2 at 75 % +19.9 → +11.2 %, rest 7 at 50 % +21.4 →
+//     +16.6 %, rest 2 at 90 % −8.6 → −15.0 %; rest 3 stays 53–58 % late (its slow
+//     start lasts about 15 minutes, past the eighth left out) and the offset's 90 %
+//     targets early. Below, the figures before it.
 //   - Errors at 25 % elapsed (median 14.3 %; 15.3 % before lagAmbient): the 50 %
 //     targets, crossed 12–23 minutes in, come late where the slow start lengthens the
 //     early fit's τ (rest 2: 48 min, +87 %; rest 3: 44–48 min, +53 to +58 % on all
@@ -620,8 +664,8 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac   float64
 		max    float64
 	}{
-		{"18650 cell", 0.25, 0.16}, // 14.3 % measured (15.3 % before lagAmbient, 21.6 % before smoothAmbient took the first span's mean)
-		{"18650 cell", 0.50, 0.12}, // 10.1 % (11.7 %, 18.3 %; the free exponential 17.5 %)
+		{"18650 cell", 0.25, 0.13}, // 11.2 % measured (14.3 % before afterTransient, 15.3 % before lagAmbient, 21.6 % before smoothAmbient took the first span's mean)
+		{"18650 cell", 0.50, 0.12}, // 10.5 % (10.1 %, 11.7 %, 18.3 %; the free exponential 17.5 %)
 		// The oil-film mugs (no evaporation; the diagnosis beside oilFilmSegments):
 		// 5.9 / 0.8 % at 25 / 50 % measured since fitAfterVessel left out the mug's
 		// first minutes (36.8 / 11.7 % before it, 12.9 % at 50 % before the open-water
@@ -663,7 +707,9 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		}
 	}
 	// Coverage at 25 % elapsed, an unanswered forecast or a "not before now" counted as
-	// a miss: 82 % over all families measured (80 % before peakFloor raised a "not before now" beside a central estimate, 71 % before it took thirds and halves; 54 % before the heater board's power
+	// a miss: 88 % over all families measured (86 % before the measured ambient's offset
+	// entered the intervals, ambientOffsetSD; 82 % before profileMinPoints let the
+	// profile's "not before" stand on the mugs' first 4–7 readings; 80 % before peakFloor raised a "not before now" beside a central estimate, 71 % before it took thirds and halves; 54 % before the heater board's power
 	// steps got "not before" from the readings' own speed after a step, peakBound, and
 	// a closed early end at the last reading gave way to the profile's bound; 46 % before open-ended answers; 38 % by
 	// closed intervals alone; 59 % before smoothAmbient took the first span's mean,
@@ -671,7 +717,7 @@ func realFloors(t *testing.T, sc map[string]*score) {
 	// at 25 % and 0.71 to 0.38 at 50 %: now the 90 % targets of the three rests whose
 	// cell settles 0.3–0.4 K above the chamber's reading are missed, early — the
 	// measured ambient is taken as exact), 10 of 14 on the two mug families (2 of 14 before, all of
-	// the gain open-ended); the heater board's power steps, 15 of 18 at 25 % and 18 of
+	// the gain open-ended; 12 of 14 since profileMinPoints); the heater board's power steps, 15 of 18 at 25 % and 18 of
 	// 18 at 50 %, all by "not before" (14 and 14 before peakFloor also raised the "not
 	// before now" beside the cool-downs' h(T) central estimates; 9 and 11 with
 	// peakFloor over quarters only, before it took thirds and halves where quarters
@@ -685,10 +731,13 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		frac     float64
 		min      float64
 	}{
-		{[]string{"all"}, 0.25, 0.75}, {[]string{"mug", "mug, oil film"}, 0.25, 0.60}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
+		{[]string{"all"}, 0.25, 0.86}, {[]string{"mug", "mug, oil film"}, 0.25, 0.80}, {[]string{"mug", "mug, oil film"}, 0.50, 0.90},
 		{[]string{"heater board"}, 0.25, 0.80}, {[]string{"heater board"}, 0.50, 0.95},
-		// The cell rests at 50 %: 17 of 24 (16 before lagAmbient; see cellSegments).
-		{[]string{"18650 cell"}, 0.50, 0.65},
+		// The cell rests at 50 %: 22 of 24 (17 before the ambient offset entered the
+		// intervals, 16 before lagAmbient; see cellSegments).
+		{[]string{"18650 cell"}, 0.50, 0.85},
+		// Every family at 50 %: 92 % (83 % before the ambient offset).
+		{[]string{"all"}, 0.50, 0.88},
 	} {
 		var covered, judged int
 		for _, fam := range c.families {
@@ -704,7 +753,7 @@ func realFloors(t *testing.T, sc map[string]*score) {
 		s := sc[fmt.Sprintf("engine/%.2f/18650 cell", fr)]
 		covered, judged = covered+s.covered, judged+s.judged
 	}
-	if c := float64(covered) / float64(judged); c < 0.80 {
-		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 80 %% (86 %% measured; 85 %% before lagAmbient)", 100*c, judged)
+	if c := float64(covered) / float64(judged); c < 0.90 {
+		t.Errorf("cell rests: 90 %% interval coverage %.0f %% over %d forecasts, floor 90 %% (94 %% measured; 86 %% before the ambient offset, 85 %% before lagAmbient)", 100*c, judged)
 	}
 }
