@@ -328,10 +328,11 @@ func group(c benchgen.Case) string {
 // beside the two baselines, by group. It holds the engine to the floors it reached
 // on the independent generator (not the goals, which it does not all meet;
 // see README "Forecast accuracy"): at 25 % elapsed, median relative error at most
-// 5 % without the description (also for the hot and the warming specimens, and at 50 %
-// elapsed) and 4 % with it, fan and oven cases with it at most 7 %, oven cases without
-// it at most 6 % (the ovens whose air is not measured forecast from the level their
-// readings resolve, enclosureForecast);
+// 4.5 % without the description (5 % for the hot and the warming specimens; 4 % at 50 %
+// elapsed, also for the hot and fan specimens) and 4 % with it, fan cases without it
+// at most 6.5 %, fan and oven cases with it at most 7 %, oven cases without it at most
+// 6 % (the ovens whose air is not measured forecast from the level their readings
+// resolve, enclosureForecast);
 // ~90 % interval coverage over all fractions at least 91 % without the description
 // (94.0 % measured, 91.7 % with it; 88.7 % and 90.5 % before peakFloor also raised a
 // "not before now" beside a central estimate, for a fixed target within the fitted
@@ -355,11 +356,14 @@ func TestAccuracyTable(t *testing.T) {
 		key string
 		max float64
 	}{
-		{"engine/0.25/all", 0.045},      // 3.7 % measured since afterTransient (4.1 % with every branch of 2026-12-03 merged (3.7 % on the fans-and-ovens branch alone; 4.7 % before the surface law was chosen with the room prior's term, 6.6 % before the unknown specimen's emissivity was refined))
+		{"engine/0.25/all", 0.045},      // MERGED-TBD: 3.5 % with moving air's radiation share refined (refineMovingShare; 4.1 % with every branch of 2026-12-03 merged, 3.7 % on the fans-and-ovens branch alone; 4.7 % before the surface law was chosen with the room prior's term, 6.6 % before the unknown specimen's emissivity was refined)
+		{"engine/0.25/fan", 0.065},      // 6.02 % (run41: still and moving air fit its first quarter alike; see movingair.go)
+		{"engine/0.50/fan", 0.04},       // 2.8 % (4.7 % before refineMovingShare)
+		{"engine/0.50/hot", 0.04},       // 2.5 % (2.7 %)
 		{"engine/0.25/oven", 0.06},      // 2.6 % (no central estimate for half of them before enclosureForecast)
 		{"engine/0.25/hot", 0.05},       // 3.0 % (8.6 %)
 		{"engine/0.25/warming", 0.05},   // 4.7 % (2.0 % before lagAmbient, by noise: see cellSegments; 10.8 %)
-		{"engine/0.50/all", 0.04},       // 2.8 % (3.2 % before afterTransient, 3.7 %, 4.7 %)
+		{"engine/0.50/all", 0.04},       // MERGED-TBD: 2.6 % (2.8 % with afterTransient alone, 3.2 % before refineMovingShare; 3.7 %, 4.7 %)
 		{"engine+spec/0.25/all", 0.04},  // 2.8 %
 		{"engine+spec/0.25/fan", 0.07},  // 5.5 %
 		{"engine+spec/0.25/oven", 0.07}, // 3.7 %

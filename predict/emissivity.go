@@ -181,6 +181,12 @@ func refineUnknownEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, l
 // updated at every iteration: emisParam). It returns (w0, q, T∞, ε) at the optimum,
 // on like's bins, and false when the fit fails.
 func fitEmissivityLM(p LumpedProblem, start *LumpedResult, like *hFit, r *HResult, nEff, lo, hi float64) ([]float64, bool) {
+	return fitEmissivityPrior(p, start, like, r, nEff, lo, hi, unknownEmisMean, unknownEmisSD)
+}
+
+// fitEmissivityPrior is fitEmissivityLM with the emissivity's prior of mean and sd
+// given.
+func fitEmissivityPrior(p LumpedProblem, start *LumpedResult, like *hFit, r *HResult, nEff, lo, hi, mean, sd float64) ([]float64, bool) {
 	hp := HProblem{Times: p.Times, Celsius: p.Celsius, Ambient: p.Ambient, Law: r.Law}
 	if p.Ambient == nil {
 		hp.AmbientPrior, hp.AmbientPriorSD = roomPrior, roomPriorSD
@@ -191,7 +197,7 @@ func fitEmissivityLM(p LumpedProblem, start *LumpedResult, like *hFit, r *HResul
 	}
 	f.lm.x = []float64{r.w0, r.q, r.Ambient, r.Law.Emissivity}
 	f.lm.free++
-	f.lm.emis = &emisParam{mean: unknownEmisMean, lo: lo, hi: hi, full: float64(r.N) * r.RMSE * r.RMSE, crit: nEff * unknownEmisSD * unknownEmisSD,
+	f.lm.emis = &emisParam{mean: mean, lo: lo, hi: hi, full: float64(r.N) * r.RMSE * r.RMSE, crit: nEff * sd * sd,
 		tMid: r.Ambient + (r.Initial-r.Ambient)/2}
 	f.lm.lambda = 1e-6
 	for !f.step() {

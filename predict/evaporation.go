@@ -314,14 +314,7 @@ func guessedWaterHandling(tfs []TargetForecast, m fitted, sp *Specimen) string {
 	if !ok || sp != nil || h.r.Law.OpenWater == 0 && h.r.offset == 0 {
 		return ""
 	}
-	changed := false
-	for i, tf := range tfs {
-		if tf.Target.Handling && tf.State == StatePredicted && !(tf.Latest.IsZero() && tf.At.IsZero()) {
-			tfs[i].At, tfs[i].Latest = time.Time{}, time.Time{}
-			changed = true
-		}
-	}
-	if !changed {
+	if !leaveHandlingOpen(tfs) {
 		return ""
 	}
 	what := "to be open water: a solid specimen settling toward a warm surrounding above the limit bends the same way at first"
@@ -329,4 +322,18 @@ func guessedWaterHandling(tfs []TargetForecast, m fitted, sp *Specimen) string {
 		what = "to be hot water in a vessel whose wall took up heat in the first minutes, which the fit leaves out: a solid specimen's first minutes are part of its cooling"
 	}
 	return "Handling limits: \"not before\" only, with no time to plan with, while the specimen is only guessed " + what + ". Describe the specimen, or measure the ambient, for a handling time."
+}
+
+// leaveHandlingOpen leaves every predicted handling target open-ended, "not before"
+// its early bound with no central estimate and no late end, and reports whether it
+// changed one.
+func leaveHandlingOpen(tfs []TargetForecast) bool {
+	changed := false
+	for i, tf := range tfs {
+		if tf.Target.Handling && tf.State == StatePredicted && !(tf.Latest.IsZero() && tf.At.IsZero()) {
+			tfs[i].At, tfs[i].Latest = time.Time{}, time.Time{}
+			changed = true
+		}
+	}
+	return changed
 }

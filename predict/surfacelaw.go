@@ -506,6 +506,10 @@ type HResult struct {
 	// used, where its own time origin lies: 0 but for a fit that left out a vessel's
 	// transient (fitAfterVessel). Value and the crossings are in segment time.
 	offset float64
+	// shareFitted says radiation's share of a moving-air law was fitted
+	// (refineMovingShare): a parameter more than Free counts against the lumped
+	// exponential (chooseH).
+	shareFitted bool
 	// hint is the table cell of the latest Value, where the next one usually lies
 	// (callers walk a curve in time); read and written atomically, since Value may
 	// run on several goroutines, and only a starting guess for invert.
