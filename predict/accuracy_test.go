@@ -344,7 +344,8 @@ func group(c benchgen.Case) string {
 // last reading alone, 81.5–82.1 % before either; 74 % before the readings' own speed bounded "not before" answers —
 // speedFloor, speedBound — and 81 % before open-ended answers: "not before now" beside
 // a central estimate, where a closed interval used to be, counts as a miss) and within
-// 88–97 % with it; median width at 25 % elapsed at most 0.5 and 0.31.
+// 88–97 % with it (90.5 % measured since the backtest's term is net of the parameter
+// error, 91.7 % before); median width at 25 % elapsed at most 0.5 and 0.29.
 func TestAccuracyTable(t *testing.T) {
 	if testing.Short() {
 		t.Skip("accuracy benchmark skipped with -short")
@@ -376,8 +377,10 @@ func TestAccuracyTable(t *testing.T) {
 	// 0.3): 0.46 and 0.30 measured with the backtest's cutoffs at 30, 50 and 70 % (0.29
 	// with the description before smoothAmbient took the first span's mean: run29, with
 	// a measured ambient, went from a 16 % miss at width 0.19 to 0.2 % at 0.33, past
-	// the median; the floor has 0.01 of room for such a move).
-	for key, max := range map[string]float64{"engine/0.25/all": 0.5, "engine+spec/0.25/all": 0.31} {
+	// the median; the floor has 0.01 of room for such a move). Since the backtest's term
+	// is net of the heads' parameter error (backtestModelError) 0.43 and 0.279: the
+	// floor with the description is raised 0.31 → 0.29, the same 0.01 of room.
+	for key, max := range map[string]float64{"engine/0.25/all": 0.5, "engine+spec/0.25/all": 0.29} {
 		if w := quantile(sc[key].widths, 0.5); w > max {
 			t.Errorf("%s: median interval width %.2f of the remaining time, floor %.2f", key, w, max)
 		}

@@ -36,9 +36,13 @@ func TestBacktestModelError(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
-		k, n := backtestModelError(c.p, lumpedFitted{&lr}, AnalyzeOptions{})
+		k, gross, n := backtestModelError(c.p, lumpedFitted{&lr}, AnalyzeOptions{})
 		if k < c.lo || k > c.hi || (n == 0) != c.windows0 {
 			t.Errorf("%s: model-form term %.3f from %d windows, want %.3f–%.3f (no windows: %v)", c.name, k, n, c.lo, c.hi, c.windows0)
+		}
+		// The gross term keeps the heads' parameter error, so it is never the smaller.
+		if gross < k || gross > maxModelError {
+			t.Errorf("%s: gross model-form term %.3f, want %.3f–%.3f", c.name, gross, k, maxModelError)
 		}
 	}
 }
@@ -77,5 +81,42 @@ func TestStudentQuantile(t *testing.T) {
 		if got := studentQuantile(c.dof); math.Abs(got-c.want) > 0.0015 {
 			t.Errorf("t(0.95, %d) = %.4f, want %.3f", c.dof, got, c.want)
 		}
+	}
+}
+
+// The backtest's misses already hold the refitted heads' parameter error, which the
+// final interval carries again through the covariance: a non-handling target's
+// interval takes the net model-form term and is narrower, while a handling target's
+// (its late end plans when a part may be touched) keeps the gross term and the interval
+// it had before the correction, as does any "not before" bound. Same clean curve as
+// TestAnalyzeBacktestInterval (common practice: a crossing's interval is narrower
+// once a variance counted twice is counted once; no outside source).
+func TestBacktestNetTermNarrowsOnlyNonHandling(t *testing.T) {
+	rng := rand.New(rand.NewPCG(43, 44))
+	p := synth(rng, 300, 1500, 22, 60, 900, 0.05, 0.1)
+	truth := t0.Add(seconds(900 * math.Log(60/10.0))) // crossing of 32 °C
+	f := Analyze(p, t0, []Target{{Name: "plain", Celsius: 32}, {Name: "touch", Celsius: 32, Handling: true}}, AnalyzeOptions{})
+	plain, touch := f.Targets[0], f.Targets[1]
+	lr, err := FitLumped(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	k, gross, _ := backtestModelError(p, lumpedFitted{&lr}, AnalyzeOptions{})
+	if !(k < gross) {
+		t.Fatalf("net term %.4f not below the gross %.4f", k, gross)
+	}
+	for _, tf := range []TargetForecast{plain, touch} {
+		if tf.State != StatePredicted || truth.Before(tf.Earliest) || truth.After(tf.Latest) {
+			t.Errorf("%s: state %s, interval %v–%v does not hold the true crossing %v", tf.Target.Name, tf.State, tf.Earliest, tf.Latest, truth)
+		}
+	}
+	if !touch.Latest.After(plain.Latest) || !touch.Earliest.Before(plain.Earliest) {
+		t.Errorf("handling interval %v–%v not wider on both sides than the plain target's %v–%v", touch.Earliest, touch.Latest, plain.Earliest, plain.Latest)
+	}
+	// The handling target's interval is the one the gross term alone gives.
+	s := IntervalSettings{ModelError: gross, Z: studentQuantile(len(p.Times) - 3)}
+	old := Analyze(p, t0, []Target{{Name: "touch", Celsius: 32, Handling: true}}, AnalyzeOptions{Interval: s})
+	if d := old.Targets[0].Latest.Sub(touch.Latest); d < -time.Second || d > time.Second {
+		t.Errorf("handling late end %v, the gross term's %v", touch.Latest, old.Targets[0].Latest)
 	}
 }

@@ -35,6 +35,12 @@ type IntervalSettings struct {
 	// ambientOffsetSD; negative means none. A fitted ambient carries its own
 	// uncertainty instead.
 	AmbientOffset float64
+	// bound is the model-form coefficient for the ends that must never err on the
+	// unsafe side: a handling target's interval and every open-ended "not before"
+	// bound (predictedFrom, profileBound). Zero means ModelError. Analyze sets it to
+	// the backtest's gross coefficient, whose misses still hold the refitted heads'
+	// parameter error (backtestModelError).
+	bound float64
 }
 
 func (s IntervalSettings) withDefaults() IntervalSettings {
@@ -49,6 +55,9 @@ func (s IntervalSettings) withDefaults() IntervalSettings {
 	}
 	if s.AmbientOffset == 0 {
 		s.AmbientOffset = ambientOffsetSD
+	}
+	if s.bound == 0 {
+		s.bound = s.ModelError
 	}
 	return s
 }
@@ -653,11 +662,14 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		level = math.Hypot(level, f.s.AmbientOffset/rate)
 	}
 	last := f.p.Times[len(f.p.Times)-1]
-	form := 0.0
-	if span := last - f.p.Times[0]; f.s.ModelError > 0 && span > 0 && tStar > last {
-		h := tStar - last
-		form = f.s.ModelError * h * math.Sqrt(h/span)
+	// A handling target's interval keeps the gross model-form term (IntervalSettings'
+	// bound): its late end plans when a part may be touched, and never comes sooner
+	// for the backtest's correction.
+	k := f.s.ModelError
+	if out.Target.Handling {
+		k = f.s.bound
 	}
+	form := f.form(k, tStar)
 	half := f.s.Z * math.Sqrt(sd*sd+level*level+form*form)
 	hold := out.Target.Hold
 	out.State = StatePredicted
@@ -665,6 +677,9 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
 	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
 	if u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit; f.profiled(out) && math.Abs(out.Celsius-f.fit.ambient()) <= u {
+		// A "not before" must never be late: its early end takes the gross term.
+		gross := f.form(f.s.bound, tStar)
+		out.Earliest = f.abs(max(tStar-f.s.Z*math.Sqrt(sd*sd+level*level+gross*gross), last)).Add(hold)
 		// The early end is the sooner of the closed interval's and the profile's
 		// (notBefore), unless the closed one's is the last reading itself: "not
 		// before now" says nothing, and the profile's bound, taken over the settling
@@ -795,7 +810,7 @@ const profileMinPoints = 4
 // profileBound returns the crossing of level by the lumped exponential fitted with its
 // settling temperature held at far, less its interval's half-width (the parameter
 // covariance widened for correlated residuals, the misfit through the slope and the
-// model-form term, as predictedFrom sizes it); ok is false when the fit fails, runs
+// model-form term, as predictedFrom sizes it, at the gross coefficient); ok is false when the fit fails, runs
 // the other way or never reaches level.
 func (f *forecaster) profileBound(level, far float64) (lo float64, ok bool) {
 	amb := make([]float64, len(f.p.Times))
@@ -813,16 +828,24 @@ func (f *forecaster) profileBound(level, far float64) (lo float64, ok bool) {
 	}
 	rho, misfit := g.residuals()
 	sd := math.Sqrt(max(v, 0)) * Inflation(rho, f.s.MaxInflation)
-	form := 0.0
-	last := f.p.Times[len(f.p.Times)-1]
-	if span := last - f.p.Times[0]; f.s.ModelError > 0 && span > 0 && tStar > last {
-		h := tStar - last
-		form = f.s.ModelError * h * math.Sqrt(h/span)
-	}
+	form := f.form(f.s.bound, tStar)
 	// Student's t on the refit's own degrees of freedom where that is wider than the
 	// forecast's (a sparse record with no fit of its own: profileMinPoints).
 	z := max(f.s.Z, studentQuantile(r.N-r.Free))
 	return tStar - z*math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form), true
+}
+
+// form is the model-form standard deviation k·h·sqrt(h/span) of a crossing at tStar,
+// h after the last reading, span the readings' (zero for a crossing not after the last
+// reading or a k that is not positive).
+func (f *forecaster) form(k, tStar float64) float64 {
+	last := f.p.Times[len(f.p.Times)-1]
+	span := last - f.p.Times[0]
+	if !(k > 0) || !(span > 0) || tStar <= last {
+		return 0
+	}
+	h := tStar - last
+	return k * h * math.Sqrt(h/span)
 }
 
 // noteNotBefore explains an open-ended forecast of level from lo (s into the segment)

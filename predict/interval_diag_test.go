@@ -54,7 +54,7 @@ func TestIntervalDiagnosis(t *testing.T) {
 		r := row{group: group(c), width: tr.width, covered: tr.covered, raw: math.NaN(), prior: math.NaN()}
 		k, n := defaultModelError, 0
 		if m != nil {
-			k, n = backtestModelError(p, m, AnalyzeOptions{})
+			k, _, n = backtestModelError(p, m, AnalyzeOptions{})
 		}
 		if n > 0 && k < maxModelError {
 			w := priorWindows
