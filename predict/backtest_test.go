@@ -36,7 +36,8 @@ func TestBacktestModelError(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
-		k, gross, n := backtestModelError(c.p, lumpedFitted{&lr}, AnalyzeOptions{})
+		bt := backtestModelError(c.p, lumpedFitted{&lr}, AnalyzeOptions{})
+		k, gross, n := bt.k, bt.gross, bt.n
 		if k < c.lo || k > c.hi || (n == 0) != c.windows0 {
 			t.Errorf("%s: model-form term %.3f from %d windows, want %.3f–%.3f (no windows: %v)", c.name, k, n, c.lo, c.hi, c.windows0)
 		}
@@ -101,7 +102,8 @@ func TestBacktestNetTermNarrowsOnlyNonHandling(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	k, gross, _ := backtestModelError(p, lumpedFitted{&lr}, AnalyzeOptions{})
+	bt := backtestModelError(p, lumpedFitted{&lr}, AnalyzeOptions{})
+	k, gross := bt.k, bt.gross
 	if !(k < gross) {
 		t.Fatalf("net term %.4f not below the gross %.4f", k, gross)
 	}
@@ -118,5 +120,40 @@ func TestBacktestNetTermNarrowsOnlyNonHandling(t *testing.T) {
 	old := Analyze(p, t0, []Target{{Name: "touch", Celsius: 32, Handling: true}}, AnalyzeOptions{Interval: s})
 	if d := old.Targets[0].Latest.Sub(touch.Latest); d < -time.Second || d > time.Second {
 		t.Errorf("handling late end %v, the gross term's %v", touch.Latest, old.Targets[0].Latest)
+	}
+}
+
+// The settling temperature's model-form term is the crossing's sensitivity to the
+// settling temperature with the curve held through its last reading, times the
+// backtest's standard deviation: checked against a central finite difference of the
+// exponential's crossing t* = t_last + τ·ln((T_last − T∞)/(T − T∞)) (the derivative
+// 1/r − 1/r_last is worked here by hand; no outside source). A target 1 K from the
+// settling temperature takes a term many times that of one 28 K from it.
+func TestAmbientTermIsTheCrossingsSensitivity(t *testing.T) {
+	r := &LumpedResult{Status: FitSuccess, Ambient: 23, Excess: -30, Tau: 3000}
+	p := &LumpedProblem{Times: []float64{0, 2500, 5000}, Celsius: []float64{-7, 0, 5}}
+	f := newForecaster(lumpedFitted{r}, p, t0, IntervalSettings{ambientForm: 0.5}.withDefaults())
+	last := 5000.0
+	tl := r.Value(last)
+	cross := func(amb, level float64) float64 {
+		return last + r.Tau*math.Log((tl-amb)/(level-amb))
+	}
+	for _, level := range []float64{22, 20, 18} { // the last reading is 17.3 °C
+		tStar := cross(r.Ambient, level)
+		rate := math.Abs(level-r.Ambient) / r.Tau
+		h := 1e-4
+		want := 0.5 * math.Abs(cross(r.Ambient+h, level)-cross(r.Ambient-h, level)) / (2 * h)
+		if got := f.ambientTerm(tStar, rate); math.Abs(got-want) > 1e-3*want {
+			t.Errorf("target %.1f °C: ambient term %.2f s, finite difference %.2f s", level, got, want)
+		}
+	}
+	near := f.ambientTerm(cross(23, 22), 1/r.Tau)
+	far := f.ambientTerm(cross(23, 10), 13/r.Tau)
+	if !(near > 5*far) {
+		t.Errorf("ambient term 1 K from the settling temperature %.0f s, 13 K from it %.0f s", near, far)
+	}
+	f.p.Ambient = []float64{23, 23, 23}
+	if got := f.ambientTerm(cross(23, 22), 1/r.Tau); got != 0 {
+		t.Errorf("measured ambient: ambient term %.1f s, want none", got)
 	}
 }

@@ -41,6 +41,10 @@ type IntervalSettings struct {
 	// the backtest's gross coefficient, whose misses still hold the refitted heads'
 	// parameter error (backtestModelError).
 	bound float64
+	// ambientForm is the model-form standard deviation of a fitted settling
+	// temperature (K), beyond its covariance: Analyze sets it from the backtest
+	// (backtestTerms), zero means none.
+	ambientForm float64
 }
 
 func (s IntervalSettings) withDefaults() IntervalSettings {
@@ -670,7 +674,8 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		k = f.s.bound
 	}
 	form := f.form(k, tStar)
-	half := f.s.Z * math.Sqrt(sd*sd+level*level+form*form)
+	amb := f.ambientTerm(tStar, rate)
+	half := f.s.Z * math.Sqrt(sd*sd+level*level+form*form+amb*amb)
 	hold := out.Target.Hold
 	out.State = StatePredicted
 	out.At = f.abs(max(tStar, last)).Add(hold)
@@ -833,6 +838,24 @@ func (f *forecaster) profileBound(level, far float64) (lo float64, ok bool) {
 	// forecast's (a sparse record with no fit of its own: profileMinPoints).
 	z := max(f.s.Z, studentQuantile(r.N-r.Free))
 	return tStar - z*math.Sqrt(sd*sd+(misfit/rate)*(misfit/rate)+form*form), true
+}
+
+// ambientTerm is the crossing time's standard deviation from the fitted settling
+// temperature's model-form error (IntervalSettings' ambientForm, zero with a measured
+// ambient): for the exponential t* = τ·ln((T_last − T∞)/(T − T∞)) the derivative by T∞
+// is τ/(T − T∞) − τ/(T_last − T∞) = 1/r − 1/r_last, the reciprocal slopes at the
+// crossing (rate) and at the last reading, so a target near the settling temperature,
+// where the curve is slow, takes most of it.
+func (f *forecaster) ambientTerm(tStar, rate float64) float64 {
+	last := f.p.Times[len(f.p.Times)-1]
+	if !(f.s.ambientForm > 0) || f.p.Ambient != nil || tStar <= last || !(rate > 0) {
+		return 0
+	}
+	rl := math.Abs(f.fit.value(last+1)-f.fit.value(last-1)) / 2
+	if !(rl > 0) {
+		return 0
+	}
+	return f.s.ambientForm * max(1/rate-1/rl, 0)
 }
 
 // form is the model-form standard deviation k·h·sqrt(h/span) of a crossing at tStar,

@@ -54,7 +54,8 @@ func TestIntervalDiagnosis(t *testing.T) {
 		r := row{group: group(c), width: tr.width, covered: tr.covered, raw: math.NaN(), prior: math.NaN()}
 		k, n := defaultModelError, 0
 		if m != nil {
-			k, _, n = backtestModelError(p, m, AnalyzeOptions{})
+			bt := backtestModelError(p, m, AnalyzeOptions{})
+			k, n = bt.k, bt.n
 		}
 		if n > 0 && k < maxModelError {
 			w := priorWindows
