@@ -8,13 +8,18 @@ import (
 	"testing"
 )
 
-var realDiag = flag.Bool("realdiag", false, "run TestRealTrials (prints every real-curve trial: the engine's answer beside the linear trend's)")
+var (
+	realDiag   = flag.Bool("realdiag", false, "run TestRealTrials (prints every real-curve trial: the engine's answer beside the baselines')")
+	realFamily = flag.String("realfamily", "", "TestRealTrials prints only this family's segments (all when empty; the tallies stay over all)")
+)
 
 // TestRealTrials prints every scored trial of the measured curves (go test ./predict
 // -run TestRealTrials -realdiag -v), segment by segment: for each target and elapsed
 // fraction, the readings up to the cutoff, the engine's answer (closed interval,
 // "not before" beside a central estimate or alone, "not before now", or none), its
-// relative error and whether it held the truth, beside the linear trend's error. Then,
+// relative error, its interval's ends as signed shares of the time left to the true
+// crossing ("∞" for no late end) and whether it held the truth, beside the linear
+// trend's and the free exponential's errors. Then,
 // per fraction, how many trials over all families are at or under 15 % and covered
 // against what the goals (median ≤ 15 %, coverage ≥ 85 %) need. It is the
 // per-target view behind TestAccuracyReal's table and asserts nothing.
@@ -29,8 +34,11 @@ func TestRealTrials(t *testing.T) {
 	}
 	var b strings.Builder
 	for _, seg := range realSegments(t) {
-		fmt.Fprintf(&b, "%s, %s: %d readings over %.0f s, %.2f → %.2f °C\n", seg.family, seg.name,
-			len(seg.curve.Times), seg.curve.Times[len(seg.curve.Times)-1], seg.curve.Celsius[0], seg.curve.Celsius[len(seg.curve.Celsius)-1])
+		show := *realFamily == "" || seg.family == *realFamily
+		if show {
+			fmt.Fprintf(&b, "%s, %s: %d readings over %.0f s, %.2f → %.2f °C\n", seg.family, seg.name,
+				len(seg.curve.Times), seg.curve.Times[len(seg.curve.Times)-1], seg.curve.Celsius[0], seg.curve.Celsius[len(seg.curve.Celsius)-1])
+		}
 		for _, tg := range targetsOf(seg.curve) {
 			for _, fr := range fractions {
 				part := seg.curve.Until(fr * tg.crossing)
@@ -48,9 +56,13 @@ func TestRealTrials(t *testing.T) {
 				if tr.covered {
 					ty.covered++
 				}
-				fmt.Fprintf(&b, "  %6.2f °C at %4.0f s, %2.0f %%: %4d readings, %-22s error %s%s, linear %s\n",
+				if !show {
+					continue
+				}
+				exp := judgeAt(exponential3, part, tg.level, tg.crossing)
+				fmt.Fprintf(&b, "  %6.2f °C at %4.0f s, %2.0f %%: %4d readings, %-24s error %s%s %s, linear %s, exp3 %s\n",
 					tg.level, tg.crossing, 100*fr, n, answerKind(engine, part, tg.level, tr), percent(tr.rel),
-					map[bool]string{true: " held", false: "     "}[tr.covered], percent(lin.rel))
+					map[bool]string{true: " held", false: "     "}[tr.covered], interval(part, tg), percent(lin.rel), percent(exp.rel))
 			}
 		}
 	}
@@ -79,6 +91,23 @@ func answerKind(m method, part CurveFile, level float64, tr trial) string {
 		return "estimate and not before"
 	}
 	return "closed interval"
+}
+
+// interval is the engine's interval for tg on part, its ends as signed shares of the
+// time left to the true crossing ("∞" for no late end, "none" for no answer).
+func interval(part CurveFile, tg realTarget) string {
+	_, lo, hi, ok := engine(part, tg.level)
+	if !ok {
+		return "[none]"
+	}
+	horizon := tg.crossing - part.Times[len(part.Times)-1]
+	end := func(x float64) string {
+		if math.IsInf(x, 1) {
+			return "∞"
+		}
+		return fmt.Sprintf("%+.0f%%", 100*(x-tg.crossing)/horizon)
+	}
+	return "[" + end(lo) + ", " + end(hi) + "]"
 }
 
 // percent formats a relative error as a percentage, "none" when infinite.
