@@ -334,7 +334,8 @@ func group(c benchgen.Case) string {
 // 6 % (the ovens whose air is not measured forecast from the level their readings
 // resolve, enclosureForecast);
 // ~90 % interval coverage over all fractions at least 91 % without the description
-// (94.0 % measured, 91.7 % with it; 88.7 % and 90.5 % before peakFloor also raised a
+// (92.9 % measured since the net term weighs the default as one window, priorWindowsNet,
+// 94.0 % before; 91.7 % with it; 88.7 % and 90.5 % before peakFloor also raised a
 // "not before now" beside a central estimate, for a fixed target within the fitted
 // settling temperature's uncertainty, to the soonest the readings' own speed allows;
 // 86.9 % with the readings' own speed after a step bounding "not
@@ -379,8 +380,10 @@ func TestAccuracyTable(t *testing.T) {
 	// a measured ambient, went from a 16 % miss at width 0.19 to 0.2 % at 0.33, past
 	// the median; the floor has 0.01 of room for such a move). Since the backtest's term
 	// is net of the heads' parameter error (backtestModelError) 0.43 and 0.279: the
-	// floor with the description is raised 0.31 → 0.29, the same 0.01 of room.
-	for key, max := range map[string]float64{"engine/0.25/all": 0.5, "engine+spec/0.25/all": 0.29} {
+	// floor with the description is raised 0.31 → 0.29, the same 0.01 of room. Without
+	// it 0.254 since the net term weighs the default as 1 window (priorWindowsNet): the
+	// floor is raised 0.5 → 0.28.
+	for key, max := range map[string]float64{"engine/0.25/all": 0.28, "engine+spec/0.25/all": 0.29} {
 		if w := quantile(sc[key].widths, 0.5); w > max {
 			t.Errorf("%s: median interval width %.2f of the remaining time, floor %.2f", key, w, max)
 		}
