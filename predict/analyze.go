@@ -3,6 +3,8 @@ package predict
 import (
 	"fmt"
 	"math"
+	"slices"
+	"strings"
 	"time"
 )
 
@@ -69,9 +71,19 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	}
 	f, m := analyze(p, start, targets, opt)
 	if g := afterTransient(p, start, targets, opt, m); g != nil {
+		fromWhole := false
 		for i, tf := range g.Targets {
 			if tf.Target.Handling {
-				g.Targets[i] = noSooner(tf, f.Targets[i])
+				var w bool
+				g.Targets[i], w = noSooner(tf, f.Targets[i])
+				fromWhole = fromWhole || w
+			}
+		}
+		if fromWhole {
+			for _, n := range handlingNotes(f.Notes) {
+				if !slices.Contains(g.Notes, n) {
+					g.Notes = append(g.Notes, n)
+				}
 			}
 		}
 		return g
@@ -837,19 +849,46 @@ func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt Anal
 	return g
 }
 
-// noSooner returns a handling target's forecast after a start transient, tail, only
-// when it and the forecast of every reading, whole, are both predicted and it is no
-// sooner in its central estimate and at either end; else whole. Leaving readings out
-// is a judgement on the curve, not a measurement: it never brings "ready to handle"
-// sooner.
-func noSooner(tail, whole TargetForecast) TargetForecast {
+// noSooner merges a handling target's forecast after a start transient, tail, with
+// the forecast of every reading, whole, the cautious way: leaving readings out is a
+// judgement on the curve, not a measurement, so it never brings "ready to handle"
+// sooner. Unless both are predicted, whole stands. Else the later early end is
+// kept; if either answer is open-ended ("not before" only: a guessed model leaves
+// handling so), the merged one is too, with no central estimate; else the later
+// central estimate and the later late end. fromWhole reports whether anything of
+// whole's answer was kept, so its notes can go with it.
+func noSooner(tail, whole TargetForecast) (merged TargetForecast, fromWhole bool) {
 	if tail.State != StatePredicted || whole.State != StatePredicted {
-		return whole
+		return whole, true
 	}
-	later := func(a, b time.Time) bool { return !a.Before(b) }
-	if later(tail.At, whole.At) && later(tail.Earliest, whole.Earliest) &&
-		(tail.Latest.IsZero() || !whole.Latest.IsZero() && later(tail.Latest, whole.Latest)) {
-		return tail
+	m := tail
+	if whole.Earliest.After(m.Earliest) {
+		m.Earliest, fromWhole = whole.Earliest, true
 	}
-	return whole
+	switch {
+	case tail.Latest.IsZero():
+		m.At, m.Latest = time.Time{}, time.Time{}
+	case whole.Latest.IsZero():
+		m.At, m.Latest, fromWhole = time.Time{}, time.Time{}, true
+	default:
+		if whole.At.After(m.At) {
+			m.At, fromWhole = whole.At, true
+		}
+		if whole.Latest.After(m.Latest) {
+			m.Latest, fromWhole = whole.Latest, true
+		}
+	}
+	return m, fromWhole
+}
+
+// handlingNotes returns the notes of notes that say why handling limits are left
+// open or held back (the whole fit's, when noSooner keeps its answer).
+func handlingNotes(notes []string) []string {
+	var out []string
+	for _, n := range notes {
+		if strings.Contains(n, "andling") {
+			out = append(out, n)
+		}
+	}
+	return out
 }
