@@ -682,9 +682,11 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 	out.Earliest = f.abs(max(tStar-half, last)).Add(hold)
 	out.Latest = f.abs(max(tStar+half, last)).Add(hold)
 	if u := f.s.Z*f.fit.ambientErr()*Inflation(rho, f.s.MaxInflation) + misfit; f.profiled(out) && math.Abs(out.Celsius-f.fit.ambient()) <= u {
-		// A "not before" must never be late: its early end takes the gross term.
+		// A "not before" must never be late: its early end takes the gross term, and
+		// the settling temperature's model-form term as the closed interval does
+		// (both can only make it sooner).
 		gross := f.form(f.s.bound, tStar)
-		out.Earliest = f.abs(max(tStar-f.s.Z*math.Sqrt(sd*sd+level*level+gross*gross), last)).Add(hold)
+		out.Earliest = f.abs(max(tStar-f.s.Z*math.Sqrt(sd*sd+level*level+gross*gross+amb*amb), last)).Add(hold)
 		// The early end is the sooner of the closed interval's and the profile's
 		// (notBefore), unless the closed one's is the last reading itself: "not
 		// before now" says nothing, and the profile's bound, taken over the settling
