@@ -244,7 +244,8 @@ const (
 // fit of |miss| = k·g, so the short horizons just past a cutoff, whose misses are
 // mostly the level misfit the interval already carries, weigh little), pooled with
 // the default 0.14 at weight priorWindows (priorWindowsSpecimen with a described
-// specimen) against the n windows. The default alone
+// specimen) against the n windows for gross, priorWindowsNet (the same as with a
+// description) for k, and gross is never less than k. The default alone
 // when the segment is too short to backtest or the refit fails.
 //
 // k is net of the parameter error: each window's miss holds the refitted head's own
@@ -258,7 +259,7 @@ const (
 // (go test ./predict -run TestIntervalCoverage -intervalcov -v) the net term moved
 // coverage 95 / 98 / 89 → 95 / 98 / 88 % without a description and 88 / 93 / 95 →
 // 88 / 93 / 91 % with one, the median width at 25 % 0.450 → 0.432 and 0.300 → 0.279
-// (the 0.3 met with a description). The cases the net term loses at 50 %:
+// (the 0.3 met with a description; without one since priorWindowsNet, 0.25). The cases the net term loses at 50 %:
 // run50 without and with the description (a sphere warming from −7 °C to a target
 // 1 K under a 23 °C room, a draught mid-record; early ends −0.017 → +0.015 and −0.034 →
 // +0.007 of the remaining time) and run36 described (a draught after the cutoff
