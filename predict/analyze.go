@@ -786,9 +786,11 @@ func (s *Specimen) law() SurfaceLaw {
 // inside by its current), a holder or a vessel's wall taking up or giving back heat.
 // Each decays faster than the slowest mode — the second conduction mode of a plane
 // wall, cylinder or sphere at least 9, 5.3 and 4 times faster than the first, whatever
-// the Biot number (ratios of the squared eigenvalues ζ₂²/ζ₁², least as Bi → ∞: 2π/π
-// for a sphere, 5.520/2.405 for a cylinder, 3π/π for a wall; Incropera et al.,
-// Fundamentals of Heat and Mass Transfer, Table 5.1, from memory) — so their share of
+// the Biot number (ratios of the squared eigenvalues ζ₂²/ζ₁², least as Bi → ∞, where
+// the eigenvalues are the roots of sin ζ = 0 for a sphere, ζ = π, 2π; of J₀(ζ) = 0 for
+// a cylinder, 2.405, 5.520 (Abramowitz and Stegun, Table 9.5, from memory); of
+// cos ζ = 0 for a wall, π/2, 3π/2; the eigenvalue equations as in Incropera et al.,
+// Fundamentals of Heat and Mass Transfer, section 5.6, from memory) — so their share of
 // the readings shrinks with time, and a fit of every reading bends toward them: its
 // time constant comes out too long when the start is slow, too short when it is fast.
 // afterTransient fits the readings after the first transientShare of their span alone

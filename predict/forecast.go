@@ -88,6 +88,11 @@ func (s IntervalSettings) withDefaults() IntervalSettings {
 // 0.1–0.45 K above the chamber's reading, coverage at 25 / 50 % went 88 / 71 → 92 / 92 %
 // and width 1.28 / 0.34 → 1.34 / 1.05 (0.05 K: 92 / 79 %; 0.29 K: 100 / 100 %, width
 // 2.2); over all real families at 50 % 83 → 92 %.
+//
+// A chamber's set point standing for its air (no room channel) is a weaker stand-in:
+// the control's own offset and swing add to the sensors' (a chamber's air often sits a
+// few tenths of a kelvin from its set point; common practice, no source). That is not
+// counted yet; the 0.1 K is a floor there.
 const ambientOffsetSD = 0.1
 
 // Inflation returns the factor sqrt((1+ρ)/(1−ρ)) by which a standard error computed

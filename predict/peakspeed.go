@@ -154,8 +154,10 @@ func (f *forecaster) peakBound(out TargetForecast) TargetForecast {
 		at = max(at, lo)
 		out.At = f.abs(at).Add(out.Target.Hold)
 		f.note(fmt.Sprintf("%s Central estimate %s into the segment, from a first-order step response after a dead time fitted to the readings (an estimate only: where they show no slowing, it is their straight stretch after the lag carried on).", bound, seconds(at).Round(time.Second)))
-	default:
+	case ok && ramp:
 		// A ramp sooner than the bound runs faster than the readings' speed allows.
+		f.note(bound + " No central estimate: a first-order step response after a dead time fitted to the readings settles short of it, and their straight stretch carried on would reach it sooner than their speed allows.")
+	default:
 		f.note(bound + " No central estimate: a first-order step response after a dead time fitted to the readings does not reach it.")
 	}
 	return out
