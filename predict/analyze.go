@@ -193,17 +193,17 @@ func analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 	if vr != nil {
 		m, backP, backM = hFitted{vr}, vtail, hFitted{vr.unshifted()}
 		f.Notes = append(f.Notes, "Model: lumped with h(T) from the readings after the vessel's first minutes.")
-		describeH(f, vr, start, nil)
+		describeH(f, vr, start, p.Ambient != nil, nil)
 		f.Notes = append(f.Notes, vnote)
 	} else if err != nil {
 		f.Notes = append(f.Notes, fmt.Sprintf(
 			"Model: lumped with h(T) from natural convection and radiation; the exponential alone is not resolved yet (%v).", err))
 		m = hFitted{hr}
-		describeH(f, hr, start, opt.Specimen)
+		describeH(f, hr, start, p.Ambient != nil, opt.Specimen)
 		f.Notes = append(f.Notes, airNote)
 	} else if hr != nil && chooseH(&lr, hr, f) {
 		m = hFitted{hr}
-		describeH(f, hr, start, opt.Specimen)
+		describeH(f, hr, start, p.Ambient != nil, opt.Specimen)
 		f.Notes = append(f.Notes, airNote)
 	} else {
 		describeLumped(f, &lr, start, p.Ambient != nil, opt.Specimen)
@@ -710,7 +710,7 @@ func describeLumped(f *Forecast, r *LumpedResult, start time.Time, measured bool
 }
 
 // describeH fills the forecast fields of an h(T) fit.
-func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
+func describeH(f *Forecast, r *HResult, start time.Time, measured bool, sp *Specimen) {
 	f.Model, f.Ambient, f.RMSE = ModelLumpedH, r.Ambient, r.RMSE
 	r.table.complete() // f.Curve may be called from any goroutine
 	last := r.Value(f.FittedAt.Sub(start).Seconds())
@@ -733,9 +733,13 @@ func describeH(f *Forecast, r *HResult, start time.Time, sp *Specimen) {
 		noteNoSpecimen(f)
 	} else {
 		f.Params = append(f.Params, Param{Name: "capacity_j_m2k", Value: r.Capacity, StdErr: r.CapacityErr, Unit: "J/(m²·K)"})
+		prior := "; the fitted ambient leans on a room prior of 22 ± 8 °C"
+		if measured {
+			prior = ""
+		}
 		f.Notes = append(f.Notes, fmt.Sprintf(
-			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g (of 0.1, 0.4 and 0.8 the best fit, refined over a span of %.0f K or more or with a measured ambient), and the heat capacity per unit area ρcV/A is fitted instead of a scale on h; the fitted ambient leans on a room prior of 22 ± 8 °C.",
-			r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity, float64(wideSpanK)))
+			"Specimen unknown: h(T) assumes a %v %.2g m with emissivity %.2g (of 0.1, 0.4 and 0.8 the best fit, refined over a span of %.0f K or more or with a measured ambient), and the heat capacity per unit area ρcV/A is fitted instead of a scale on h%s.",
+			r.Law.Geometry, r.Law.LengthM, r.Law.Emissivity, float64(wideSpanK), prior))
 		noteNoSpecimen(f)
 	}
 	f.Curve = func(t time.Time) float64 { return r.Value(t.Sub(start).Seconds()) }

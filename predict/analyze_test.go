@@ -8,6 +8,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/settle-lab/settle/predict/benchgen"
 	"github.com/settle-lab/settle/predict/surface"
 )
 
@@ -341,5 +342,27 @@ func TestGuessedHandlingStaysOpen(t *testing.T) {
 	t.Logf("%d forecasts carry a note leaving handling \"not before\" only", seen)
 	if seen == 0 {
 		t.Error("no benchmark forecast leaves handling open: the check checked nothing")
+	}
+}
+
+// TestMeasuredAmbientNotesNoRoomPrior reads the notes of an unknown specimen fitted
+// with h(T) against a measured ambient (benchmark run40, a steel slab under a fan with
+// its room logged, at 1,528 s): no note may say the ambient leans on the room prior,
+// which only a fitted ambient does (a review read both "the ambient is measured" and
+// "the fitted ambient leans on a room prior" in one forecast).
+func TestMeasuredAmbientNotesNoRoomPrior(t *testing.T) {
+	curve := readBenchCase(t, benchgen.Case{File: "run40.csv"}).Until(1528)
+	p, onset, _ := Prepare(curve.Times, curve.Celsius, curve.FilledAmbient())
+	if p.Ambient == nil {
+		t.Fatal("run40 has no measured ambient")
+	}
+	f := Analyze(p, origin.Add(seconds(onset)), []Target{{Name: "handle", Celsius: 50, Handling: true}}, AnalyzeOptions{})
+	if f.Model != ModelLumpedH {
+		t.Fatalf("model %s, want %s (the note under test is h(T)'s)", f.Model, ModelLumpedH)
+	}
+	for _, n := range f.Notes {
+		if strings.Contains(n, "room prior") {
+			t.Errorf("note %q, with the ambient measured", n)
+		}
 	}
 }

@@ -3,6 +3,7 @@ package predict
 import (
 	"fmt"
 	"math"
+	"strings"
 )
 
 // The moving-air laws are a constant convective coefficient plus radiation, and the
@@ -95,8 +96,8 @@ func refineMovingShare(p LumpedProblem, start *LumpedResult, r *HResult, like *h
 		return r, ""
 	}
 	h.shareFitted = true
-	return h, fmt.Sprintf("Radiation's share fitted from the curve's shape: constant convection about %.0f W/(m²·K) beside emissivity %.2g (%.0f W/(m²·K) was the best of %v); only their ratio shows in the curve.",
-		law.ForcedH, law.Emissivity, r.Law.ForcedH, movingH)
+	return h, fmt.Sprintf("Radiation's share fitted from the curve's shape: constant convection about %.0f W/(m²·K) beside emissivity %.2g (%.0f W/(m²·K) was the best of %s); only their ratio shows in the curve.",
+		law.ForcedH, law.Emissivity, r.Law.ForcedH, joinFloats(movingH, "%.0f", ", "))
 }
 
 // guessedAirHandling leaves every predicted handling target open-ended ("not before"
@@ -114,4 +115,14 @@ func guessedAirHandling(tfs []TargetForecast, m fitted, guessed bool) string {
 		return ""
 	}
 	return "Handling limits: \"not before\" only, with no time to plan with: moving air is only guessed for this unknown specimen (its fit beats still air's by a narrow margin). Describe the specimen and its convection for a handling time."
+}
+
+// joinFloats formats each of xs with format and joins them with sep ("15, 40, 100"),
+// for notes a technician reads.
+func joinFloats(xs []float64, format, sep string) string {
+	parts := make([]string, len(xs))
+	for i, x := range xs {
+		parts[i] = fmt.Sprintf(format, x)
+	}
+	return strings.Join(parts, sep)
 }
