@@ -70,42 +70,70 @@ func Analyze(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOpti
 		return f
 	}
 	f, m := analyze(p, start, targets, opt)
-	if g := afterTransient(p, start, targets, opt, m); g != nil {
-		fromWhole := false
-		for i, tf := range g.Targets {
-			if tf.Target.Handling {
-				var w bool
-				g.Targets[i], w = noSooner(tf, f.Targets[i])
-				fromWhole = fromWhole || w
-			}
+	if g, tail := afterTransient(p, start, targets, opt, m); g != nil {
+		// A disturbance after the transient (a door, a fan switched on) is looked
+		// for in the readings the transient's fit used.
+		if b := breakForecast(*tail, targets, opt); b != nil {
+			return b
 		}
-		if fromWhole {
-			for _, n := range handlingNotes(f.Notes) {
-				if !slices.Contains(g.Notes, n) {
-					g.Notes = append(g.Notes, n)
-				}
-			}
-		}
+		mergeHandling(g, f)
 		return g
 	}
-	if m == nil || !mismatched(m, f.RMSE) {
+	if m == nil {
 		return f
+	}
+	if b := breakForecast(brokenTail{p, start, m, f.RMSE, start}, targets, opt); b != nil {
+		return b
+	}
+	return f
+}
+
+// mergeHandling merges each handling target of g, the forecast after a start
+// transient, with f's, the forecast of every reading (noSooner), and brings f's
+// handling notes along where f's answer was kept.
+func mergeHandling(g, f *Forecast) {
+	fromWhole := false
+	for i, tf := range g.Targets {
+		if tf.Target.Handling {
+			var w bool
+			g.Targets[i], w = noSooner(tf, f.Targets[i])
+			fromWhole = fromWhole || w
+		}
+	}
+	if !fromWhole {
+		return
+	}
+	for _, n := range handlingNotes(f.Notes) {
+		if !slices.Contains(g.Notes, n) {
+			g.Notes = append(g.Notes, n)
+		}
+	}
+}
+
+// breakForecast returns the forecast of a new segment from where the readings t.p
+// left t.m's fitted curve for good (residualBreak), when the model misses them
+// (mismatched); else nil.
+func breakForecast(t brokenTail, targets []Target, opt AnalyzeOptions) *Forecast {
+	p := t.p
+	if !mismatched(t.m, t.rmse) {
+		return nil
 	}
 	b := residualBreak(p, opt)
 	if b == 0 {
-		return f
+		return nil
 	}
 	tail := LumpedProblem{Times: make([]float64, len(p.Times)-b), Celsius: p.Celsius[b:]}
-	for i, t := range p.Times[b:] {
-		tail.Times[i] = t - p.Times[b]
+	for i, s := range p.Times[b:] {
+		tail.Times[i] = s - p.Times[b]
 	}
 	if p.Ambient != nil {
 		tail.Ambient = p.Ambient[b:]
 	}
-	g, _ := analyze(tail, start.Add(seconds(p.Times[b])), targets, opt)
+	at := t.start.Add(seconds(p.Times[b]))
+	g, _ := analyze(tail, at, targets, opt)
 	g.Notes = append([]string{fmt.Sprintf(
 		"A disturbance %.0f s into the segment broke the residuals (the readings left the fitted curve and stayed off it); a new segment starts there.",
-		p.Times[b])}, g.Notes...)
+		at.Sub(t.segmentAt).Seconds())}, g.Notes...)
 	return g
 }
 
@@ -819,9 +847,9 @@ const transientShare = 0.125
 // specimen has the conduction models for a body not uniform at the start, and with no
 // measured ambient the tail alone pins the settling temperature too loosely (measured
 // on the benchmark: the fans' median at 10 / 25 % elapsed 17.5 / 6.0 → 24.5 / 7.9 %).
-func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOptions, whole fitted) *Forecast {
+func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt AnalyzeOptions, whole fitted) (*Forecast, *brokenTail) {
 	if whole == nil || opt.Specimen != nil || p.Ambient == nil || opt.chamber {
-		return nil
+		return nil, nil
 	}
 	n := len(p.Times)
 	k := 0
@@ -829,7 +857,7 @@ func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt Anal
 		k++
 	}
 	if k == 0 || n-k < minPointsH || !vesselMayWin(whole, n, k) {
-		return nil
+		return nil, nil
 	}
 	off := p.Times[k]
 	tail := LumpedProblem{Times: make([]float64, n-k), Celsius: p.Celsius[k:], Ambient: p.Ambient[k:]}
@@ -838,13 +866,13 @@ func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt Anal
 	}
 	g, m := analyze(tail, start.Add(seconds(off)), targets, opt)
 	if m == nil {
-		return nil
+		return nil, nil
 	}
 	ssWhole := float64(n) * whole.rmse() * whole.rmse()
 	ssAfter := float64(n-k) * m.rmse() * m.rmse()
 	gain := float64(n)*math.Log(max(ssWhole, 1e-300)/max(ssAfter, 1e-300)) - 2*float64(k)
 	if gain <= vesselMargin {
-		return nil
+		return nil, nil
 	}
 	// The segment is the same (a vessel's transient keeps it too); only the fit
 	// leaves its first readings out (Points counts those it used).
@@ -852,7 +880,18 @@ func afterTransient(p LumpedProblem, start time.Time, targets []Target, opt Anal
 	g.Notes = append([]string{fmt.Sprintf(
 		"The first %d readings (%.0f s) are left out of the fit: they bend away from the cooling that follows — a sensor catching up, a body not yet uniform, a holder taking up heat — and the readings after them fit alone better (Akaike's criterion lower by %.1f with each reading left out counted as a parameter).",
 		k, off, gain)}, g.Notes...)
-	return g
+	return g, &brokenTail{tail, start.Add(seconds(off)), m, g.RMSE, start}
+}
+
+// brokenTail is what the residual-break check needs of a fit: its readings, their
+// time origin, the model and its rms, and the segment's start (the same origin unless
+// the fit leaves a start transient out).
+type brokenTail struct {
+	p         LumpedProblem
+	start     time.Time
+	m         fitted
+	rmse      float64
+	segmentAt time.Time
 }
 
 // noSooner merges a handling target's forecast after a start transient, tail, with
