@@ -701,7 +701,7 @@ func (f *forecaster) predictedFrom(out TargetForecast, tStar, v, rate float64, o
 		// leaves open: a settling temperature whose own uncertainty holds the target
 		// is no firmer as an end than the fit is a model of the curve. Held only u
 		// beyond the fitted one, the bound came late in the dense benchmark (go test
-		// ./predict -run TestAccuracyDense -dense -v): run50, a sphere warming from
+		// ./predict -run TestAccuracyDense -v): run50, a sphere warming from
 		// −7 °C in a 23 °C room, described, at 50 % elapsed, fitted to settle at
 		// 22.08 ± 0.02 °C with the 22 °C target inside u = 0.10 K, got "not before
 		// 10,364 s" for a crossing at 10,155 s; now not before 6,879 s (speedFloor).
