@@ -278,15 +278,10 @@ func fitFewWater(p LumpedProblem, lr *LumpedResult, lumpedErr error) (*HResult, 
 	if first := p.Celsius[0]; first < waterMinC || first > waterMaxC {
 		return nil, ""
 	}
-	start := lr
 	if lumpedErr != nil {
-		start = roughStart(p)
+		lr = nil
 	}
-	if start == nil {
-		return nil, ""
-	}
-	still, _ := hCandidates(nil)
-	dry := fitHBest(p, start, still, sharedModels(p, start))
+	dry, start := fitDryStill(p, lr)
 	if dry == nil || dry.RMSE < fewWaterMisfit {
 		return nil, ""
 	}
@@ -295,6 +290,22 @@ func fitFewWater(p LumpedProblem, lr *LumpedResult, lumpedErr error) (*HResult, 
 		return nil, ""
 	}
 	return wet, note
+}
+
+// fitDryStill fits the still-air h(T) laws of an unknown specimen to p with the room
+// prior, starting from the lumped fit lumped, or from a rough start when that is nil;
+// it returns the best fit (nil when none succeeds) and the start it used, which the
+// open-water laws start from too (fitOpenWater).
+func fitDryStill(p LumpedProblem, lumped *LumpedResult) (*HResult, *LumpedResult) {
+	start := lumped
+	if start == nil {
+		start = roughStart(p)
+	}
+	if start == nil {
+		return nil, nil
+	}
+	still, _ := hCandidates(nil)
+	return fitHBest(p, start, still, sharedModels(p, start)), start
 }
 
 // guessedWaterHandling leaves every predicted handling target of an unknown specimen

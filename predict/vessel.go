@@ -130,16 +130,11 @@ func vesselMayWin(ref fitted, n, k int) bool {
 // (fitOpenWater), and returns the better, with fitOpenWater's note when it is open
 // water; nil when no fit succeeds.
 func fitTail(tail LumpedProblem) (*HResult, string) {
-	lr, err := FitLumped(tail, nil)
-	start := &lr
-	if err != nil {
-		start = roughStart(tail)
+	var lumped *LumpedResult
+	if lr, err := FitLumped(tail, nil); err == nil {
+		lumped = &lr
 	}
-	if start == nil {
-		return nil, ""
-	}
-	still, _ := hCandidates(nil)
-	dry := fitHBest(tail, start, still, sharedModels(tail, start))
+	dry, start := fitDryStill(tail, lumped)
 	if dry == nil {
 		return nil, ""
 	}
