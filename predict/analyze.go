@@ -645,8 +645,8 @@ func chooseAir(still, moving *HResult, sp *Specimen) (best *HResult, note string
 		// A fitted ambient leans on the room prior (fitHBest): the criterion carries its
 		// term too (−2 ln of the prior's density, up to a constant), so that of two laws
 		// that fit alike the one settling toward a plausible room wins.
-		as += math.Pow((still.Ambient-roomPrior)/roomPriorSD, 2)
-		am += math.Pow((moving.Ambient-roomPrior)/roomPriorSD, 2)
+		as += still.roomPriorTerm()
+		am += moving.roomPriorTerm()
 	}
 	margin := airMargin
 	if sp == nil {

@@ -61,11 +61,7 @@ func fitEmissivity(p LumpedProblem, start *LumpedResult, r *HResult, sp *Specime
 	nEff := float64(r.N) * (1 - rho) / (1 + rho)
 	score := func(h *HResult) float64 {
 		d := (h.Law.Emissivity - mean) / sd
-		s := nEff*math.Log(max(h.RMSE*h.RMSE, 1e-300)) + d*d
-		if h.Free == 3 {
-			s += math.Pow((h.Ambient-roomPrior)/roomPriorSD, 2)
-		}
-		return s
+		return h.priorScore(nEff) + d*d
 	}
 	best, bestScore := r, score(r)
 	for i := range emissivityGrid {

@@ -63,13 +63,7 @@ func refineMovingShare(p LumpedProblem, start *LumpedResult, r *HResult, like *h
 	if nEff <= 0 {
 		return r, ""
 	}
-	score := func(h *HResult) float64 {
-		s := nEff * math.Log(max(h.RMSE*h.RMSE, 1e-300))
-		if h.Free == 3 {
-			s += math.Pow((h.Ambient-roomPrior)/roomPriorSD, 2)
-		}
-		return s
-	}
+	score := func(h *HResult) float64 { return h.priorScore(nEff) }
 	if like == nil {
 		like = sharedModels(p, start)
 	}
@@ -115,6 +109,22 @@ func guessedAirHandling(tfs []TargetForecast, m fitted, guessed bool) string {
 		return ""
 	}
 	return "Handling limits: \"not before\" only, with no time to plan with: moving air is only guessed for this unknown specimen (its fit beats still air's by a narrow margin). Describe the specimen and its convection for a handling time."
+}
+
+// priorScore is the criterion the h(T) refinements weigh a fit by: nEff·ln(RMSE²),
+// plus the room prior's term when the ambient is fitted (roomPriorTerm).
+func (h *HResult) priorScore(nEff float64) float64 {
+	return nEff*math.Log(max(h.RMSE*h.RMSE, 1e-300)) + h.roomPriorTerm()
+}
+
+// roomPriorTerm is −2 ln of the room prior's density at a fitted ambient (up to a
+// constant), 0 when the ambient is measured: the term a fit with a fitted ambient
+// carries when laws or emissivities are compared (fitHBest leans on the same prior).
+func (h *HResult) roomPriorTerm() float64 {
+	if h.Free != 3 {
+		return 0
+	}
+	return math.Pow((h.Ambient-roomPrior)/roomPriorSD, 2)
 }
 
 // joinFloats formats each of xs with format and joins them with sep ("15, 40, 100"),
